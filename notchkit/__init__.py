@@ -1,0 +1,43 @@
+"""notchkit: coaxial stub filters for sites where several radios work side by side.
+
+Every command of the ``notchkit`` program is one function here, so a user can
+script the same job from Python::
+
+    import notchkit
+    site = notchkit.load_site("sites/ridge-eoc.yaml")
+    survey = notchkit.survey(site)
+
+Nothing happens at import time beyond importing numpy; matplotlib and
+scikit-rf are imported inside the functions that need them.
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from notchkit.errors import (
+    EXIT_BAD_INPUT,
+    EXIT_OK,
+    EXIT_UNMET,
+    CableError,
+    DesignError,
+    InputError,
+    MeasurementError,
+    NotchkitError,
+    SiteError,
+    UsageError,
+)
+
+__all__ = [
+    "__version__",
+    "EXIT_OK",
+    "EXIT_UNMET",
+    "EXIT_BAD_INPUT",
+    "NotchkitError",
+    "UsageError",
+    "InputError",
+    "SiteError",
+    "CableError",
+    "MeasurementError",
+    "DesignError",
+]

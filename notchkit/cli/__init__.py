@@ -1,0 +1,74 @@
+"""The command line: parse arguments, call one library function, format, exit.
+
+Each sub-command lives in ``notchkit/cli/<name>.py`` and provides
+``add_parser(subparsers)``; the parser it adds sets ``run`` to a function
+``run(args) -> int`` that returns the exit code. Only :class:`NotchkitError`
+is caught here; anything else is a bug and surfaces as one.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from notchkit import __version__
+from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
+
+COMMANDS = ("check", "cables", "survey", "design", "plan", "trim")
+
+EPILOG = """\
+exit codes:
+  0  done
+  1  a design was computed but cannot meet its requirements
+  2  bad input or usage (nothing was written)
+
+Work on RF equipment can hurt: open stub ends carry high voltage at high power,
+antennas expose people to RF, towers and lightning kill. Follow local codes and
+licensed practice; see the README's safety section.
+"""
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse, but a usage error is one line on stderr and exit code 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        self.exit(EXIT_BAD_INPUT, f"error: {self.prog}: {message}\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(
+        prog="notchkit",
+        description="Design coaxial stub filters for multi-radio sites.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"notchkit {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name in COMMANDS:
+        importlib.import_module(f"notchkit.cli.{name}").add_parser(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "run", None):
+        parser.print_help(sys.stderr)
+        return EXIT_BAD_INPUT
+    try:
+        return int(args.run(args))
+    except NotchkitError as exc:
+        for line in exc.lines():
+            print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("error: interrupted", file=sys.stderr)
+        return 130
+
+
+def entry() -> None:
+    sys.exit(main())
+
+
+__all__ = ["main", "build_parser", "EXIT_OK"]

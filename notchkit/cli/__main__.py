@@ -1,0 +1,3 @@
+from notchkit.cli import entry
+
+entry()

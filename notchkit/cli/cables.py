@@ -1,0 +1,12 @@
+"""`notchkit cables` (being built)."""
+
+from notchkit.errors import UsageError
+
+
+def add_parser(sub) -> None:
+    p = sub.add_parser("cables", help="(being built)")
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    raise UsageError("'cables' is not built yet")

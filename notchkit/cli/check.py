@@ -1,0 +1,12 @@
+"""`notchkit check` (being built)."""
+
+from notchkit.errors import UsageError
+
+
+def add_parser(sub) -> None:
+    p = sub.add_parser("check", help="(being built)")
+    p.set_defaults(run=run)
+
+
+def run(args) -> int:
+    raise UsageError("'check' is not built yet")

@@ -1,0 +1,47 @@
+"""What a filter must do: the hand-off from the survey to the solver.
+
+The survey produces :class:`FilterRequirement` objects from a site; the ad-hoc
+``notchkit design --pass/--notch`` command builds them directly. The solver
+knows nothing else about sites.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from notchkit.site.model import Band
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class NotchSpec:
+    """A band to reject, by at least ``required_db`` of attenuation over the whole band."""
+
+    lo_mhz: float
+    hi_mhz: float
+    required_db: float
+
+    @property
+    def band(self) -> Band:
+        return Band(lo_mhz=self.lo_mhz, hi_mhz=self.hi_mhz)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class FilterRequirement:
+    """One filter to design.
+
+    ``radio``/``side`` say where it goes (``None`` for an ad-hoc design);
+    ``pass_bands`` must see low insertion loss and SWR; every notch must be met.
+    ``power_w``/``power_mhz`` is the largest carrier that flows through the
+    filter (the radio's own transmitter for a ``tx`` filter or a transceiver),
+    used for the voltage, current and heat checks; ``None`` when none does.
+    """
+
+    radio: str | None
+    side: str | None
+    pass_bands: tuple[Band, ...]
+    notches: tuple[NotchSpec, ...]
+    cable: str
+    power_w: float | None = None
+    power_mhz: float | None = None
+    reasons: tuple[str, ...] = ()
+    """Short human-readable reasons, one per notch (which threat it removes)."""

@@ -1,0 +1,198 @@
+"""The site model: immutable value objects that the loader builds from a site file.
+
+Nothing downstream of the loader sees raw YAML dicts. All frequencies are in MHz,
+lengths in metres, powers in watts, levels in dB/dBm/dBc as the names say.
+Defaults are stated here once; docs/site-format.md repeats them for users and a
+test keeps the two in step.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+# Defaults (the loader uses these; documented in docs/site-format.md).
+DEFAULT_MAX_INSERTION_LOSS_DB = 0.5
+DEFAULT_MAX_SWR = 1.5
+DEFAULT_REJECTION_MARGIN_DB = 6.0
+DEFAULT_TEE_ALLOWANCE_M = 0.030
+"""Electrical length (in metres of the stub's cable) added to each stub's path by
+its tee and connectors: common practice for a UHF/N tee and a PL-259 or N plug,
+roughly 25-40 mm of line; users should measure their own hardware."""
+DEFAULT_TRIM_MARGIN_PCT = 3.0
+"""Cut the first piece this much long and trim on an analyser (common practice)."""
+DEFAULT_CHANNEL_BANDWIDTH_KHZ = 16.0
+"""Channel bandwidth when none is given: a 16 kHz FM voice channel (common practice)."""
+DEFAULT_NOISE_FIGURE_DB = 8.0
+DEFAULT_ANTENNA_HEIGHT_M = 10.0
+DEFAULT_MAX_HARMONIC = 5
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Band:
+    """A frequency range in MHz; a single channel has ``lo_mhz == hi_mhz``."""
+
+    lo_mhz: float
+    hi_mhz: float
+
+    @property
+    def centre_mhz(self) -> float:
+        return 0.5 * (self.lo_mhz + self.hi_mhz)
+
+    @property
+    def width_mhz(self) -> float:
+        return self.hi_mhz - self.lo_mhz
+
+    def widened(self, bandwidth_khz: float) -> Band:
+        """The band widened by half a channel bandwidth at each edge."""
+        half = 0.5e-3 * bandwidth_khz
+        return Band(lo_mhz=self.lo_mhz - half, hi_mhz=self.hi_mhz + half)
+
+    def overlaps(self, other: Band) -> bool:
+        return self.lo_mhz <= other.hi_mhz and other.lo_mhz <= self.hi_mhz
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Antenna:
+    """Where a radio's antenna stands and what gain it has toward the others."""
+
+    x_m: float = 0.0
+    y_m: float = 0.0
+    height_m: float = DEFAULT_ANTENNA_HEIGHT_M
+    gain_dbi: float = 0.0
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Feedline:
+    """The cable from a radio to its antenna."""
+
+    cable: str
+    length_m: float
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Transmit:
+    """What a radio transmits."""
+
+    band: Band
+    power_w: float
+    bandwidth_khz: float = DEFAULT_CHANNEL_BANDWIDTH_KHZ
+    harmonic_suppression_dbc: float | None = None
+    """Suppression of harmonics and spurious emissions below the carrier, in dB
+    (positive). ``None``: use the published amateur spurious-emission limit."""
+    noise_dbc_hz: float | None = None
+    """Broadband transmitter noise in dBc/Hz (negative) away from the carrier;
+    ``None``: the noise mechanism is not evaluated for this transmitter."""
+    im_conversion_db: float | None = None
+    """Loss of a signal entering the output stage when converted to an
+    intermodulation product, in dB; ``None``: the survey's documented default."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Receive:
+    """What a radio receives."""
+
+    band: Band
+    bandwidth_khz: float = DEFAULT_CHANNEL_BANDWIDTH_KHZ
+    sensitivity_dbm: float | None = None
+    """Level a product must stay below; ``None``: kTB + noise figure + bandwidth."""
+    blocking_dbm: float | None = None
+    """Off-channel level that desensitises the receiver; ``None``: survey default."""
+    noise_figure_db: float = DEFAULT_NOISE_FIGURE_DB
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Radio:
+    """One radio. A radio that transmits and receives has both ``tx`` and ``rx``."""
+
+    name: str
+    tx: Transmit | None = None
+    rx: Receive | None = None
+    antenna: Antenna = field(default_factory=Antenna)
+    feedline: Feedline | None = None
+    stub_cable: str | None = None
+    """Cable for this radio's stubs; ``None``: the site's default ``cable``."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Coupling:
+    """Measured antenna-to-antenna coupling between two radios' antennas.
+
+    ``isolation_db`` is positive: the loss from one antenna port to the other.
+    """
+
+    a: str
+    b: str
+    isolation_db: float
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Limits:
+    """What every designed filter must achieve."""
+
+    max_insertion_loss_db: float = DEFAULT_MAX_INSERTION_LOSS_DB
+    max_swr: float = DEFAULT_MAX_SWR
+    rejection_margin_db: float = DEFAULT_REJECTION_MARGIN_DB
+    max_stubs: int = 3
+    max_total_cable_m: float | None = None
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Allowances:
+    """Hardware allowances that turn electrical lengths into cut lengths."""
+
+    tee_allowance_m: float = DEFAULT_TEE_ALLOWANCE_M
+    trim_margin_pct: float = DEFAULT_TRIM_MARGIN_PCT
+    cut_tolerance_mm: float = 2.0
+    vf_spread: float | None = None
+    """Velocity-factor spread for tolerance runs; ``None``: the cable's published
+    tolerance, else 0.01."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class CableDef:
+    """A cable type defined in the site file (the cable library builds a Cable from it)."""
+
+    name: str
+    z0_ohm: float
+    velocity_factor: float
+    loss_table: tuple[tuple[float, float], ...] = ()
+    """(freq_mhz, loss_db_per_100m) pairs; empty: lossless with a warning."""
+    max_voltage_v: float | None = None
+    outer_diameter_mm: float | None = None
+    dielectric: str = ""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Site:
+    """A whole site file."""
+
+    name: str
+    cable: str
+    radios: tuple[Radio, ...]
+    couplings: tuple[Coupling, ...] = ()
+    limits: Limits = field(default_factory=Limits)
+    allowances: Allowances = field(default_factory=Allowances)
+    cables: tuple[CableDef, ...] = ()
+    max_harmonic: int = DEFAULT_MAX_HARMONIC
+    path: str = ""
+
+    @property
+    def transmitters(self) -> tuple[Radio, ...]:
+        return tuple(r for r in self.radios if r.tx is not None)
+
+    @property
+    def receivers(self) -> tuple[Radio, ...]:
+        return tuple(r for r in self.radios if r.rx is not None)
+
+    def radio(self, name: str) -> Radio:
+        for r in self.radios:
+            if r.name == name:
+                return r
+        raise KeyError(name)
+
+    def coupling(self, a: str, b: str) -> float | None:
+        """Measured isolation between two radios' antennas, in dB, or ``None``."""
+        for c in self.couplings:
+            if {c.a, c.b} == {a, b}:
+                return c.isolation_db
+        return None
