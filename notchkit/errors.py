@@ -40,6 +40,10 @@ class NotchkitError(Exception):
         return [str(self)]
 
 
+class NotchkitWarning(UserWarning):
+    """A result that is computed but less trustworthy than usual (e.g. a lossless cable)."""
+
+
 class UsageError(NotchkitError):
     """Bad command-line arguments."""
 
