@@ -202,7 +202,9 @@ def _tanh_or_coth(length, alpha, beta, coth: bool):
     Real ``exp``/``sin``/``cos`` are several times faster than numpy's complex
     ``tanh``, and the denominators stay exact near a zero-length short.
     """
-    ex = np.exp(length * alpha)
+    # tanh and coth are 1 to double precision once alpha l > 20 nepers; clipping
+    # keeps exp finite for absurdly long or lossy stubs.
+    ex = np.exp(np.minimum(length * alpha, 20.0))
     sh = 0.5 * (ex - 1.0 / ex)
     ch = 0.5 * (ex + 1.0 / ex)
     y = length * beta
@@ -247,7 +249,8 @@ def _evaluate_chunk(kinds, lengths, g, z0, zs):
         length = lengths[:, j : j + 1]
         if kind == "line":
             t = _tanh_or_coth(length, alpha, beta, coth=False)
-            ch = np.cosh(length * g[None, :])
+            gl = length * g[None, :]
+            ch = np.cosh(np.minimum(gl.real, 700.0) + 1j * gl.imag)  # S21 ~ e^-700 is zero anyway
             scale = ch if scale is None else scale * ch
             tz, ty = t * z0, t * y0
             a, b = _add(a, _mul(b, ty)), _add(_mul(a, tz), b)
