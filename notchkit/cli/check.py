@@ -1,12 +1,129 @@
-"""`notchkit check` (being built)."""
+"""`notchkit check SITE.yaml`: read a site file and print what it describes.
 
-from notchkit.errors import UsageError
+Every problem in the file is printed on stderr, one line each
+(``FILE:LINE:COL: field.path: what is wrong (what is allowed)``), and the exit
+code is 2; a clean file prints a summary and exits 0. Nothing is written.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from notchkit.errors import EXIT_OK
+from notchkit.site.loader import check
+from notchkit.site.model import Band, Radio, Site
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser("check", help="(being built)")
+    p = sub.add_parser(
+        "check",
+        help="read a site file and report every problem in it",
+        description="Read a site file, report every problem (FILE:LINE:COL: field: what is wrong), "
+        "or print a summary of the site. Exit 0 when clean, 2 on any problem.",
+    )
+    p.add_argument("site", metavar="SITE.yaml", help="the site file to check")
     p.set_defaults(run=run)
 
 
-def run(args) -> int:
-    raise UsageError("'check' is not built yet")
+def run(args: argparse.Namespace) -> int:
+    site = check(args.site)
+    print(format_site(site))
+    return EXIT_OK
+
+
+def _mhz(f: float) -> str:
+    """A frequency with the decimals it needs (at most 4, at least 1): 146.52, 446.0."""
+    text = f"{f:.4f}".rstrip("0")
+    return text + "0" if text.endswith(".") else text
+
+
+def _band(band: Band) -> str:
+    if band.lo_mhz == band.hi_mhz:
+        return _mhz(band.lo_mhz)
+    return f"{_mhz(band.lo_mhz)}-{_mhz(band.hi_mhz)}"
+
+
+def _role(r: Radio) -> str:
+    return "both" if r.tx and r.rx else ("tx" if r.tx else "rx")
+
+
+def _freq(r: Radio) -> str:
+    if r.tx and r.rx:
+        if r.tx.band == r.rx.band:
+            return _band(r.tx.band)
+        return f"tx {_band(r.tx.band)} / rx {_band(r.rx.band)}"
+    return _band((r.tx or r.rx).band)  # type: ignore[union-attr]
+
+
+def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> list[str]:
+    widths = [max(len(row[i]) for row in [header, *rows]) for i in range(len(header))]
+    out = []
+    for row in [header, *rows]:
+        out.append("  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip())
+    return out
+
+
+def format_site(site: Site) -> str:
+    """The human-readable summary that ``notchkit check`` prints."""
+    lines = [f"Site: {site.name}", f"File: {site.path}", f"Default cable: {site.cable}", ""]
+    rows = []
+    for r in site.radios:
+        a = r.antenna
+        feed = f"{r.feedline.cable}, {r.feedline.length_m:.1f} m" if r.feedline else "-"
+        rows.append(
+            (
+                r.name,
+                _role(r),
+                _freq(r),
+                f"{r.tx.power_w:g}" if r.tx else "-",
+                f"{a.x_m:.1f}, {a.y_m:.1f}, {a.height_m:.1f}",
+                f"{a.gain_dbi:g}",
+                feed,
+                r.stub_cable or site.cable,
+            )
+        )
+    lines.append(f"Radios ({len(site.radios)}):")
+    lines += _table(
+        ("name", "role", "MHz", "power W", "antenna x, y, height m", "gain dBi", "feedline", "stubs"),
+        rows,
+    )
+    lines.append("")
+    if site.couplings:
+        lines.append(f"Measured couplings ({len(site.couplings)}):")
+        lines += _table(
+            ("between", "isolation dB", "at MHz"),
+            [
+                (
+                    f"{c.a} - {c.b}",
+                    f"{c.isolation_db:g}",
+                    f"{c.freq_mhz:g}" if c.freq_mhz is not None else "-",
+                )
+                for c in site.couplings
+            ],
+        )
+    else:
+        lines.append("Measured couplings: none (isolation will be estimated from antenna positions)")
+    if site.cables:
+        lines.append("")
+        lines.append(f"Cables defined in the file ({len(site.cables)}):")
+        lines += _table(
+            ("name", "Z0 ohm", "VF", "loss points"),
+            [
+                (c.name, f"{c.z0_ohm:g}", f"{c.velocity_factor:g}", str(len(c.loss_table)))
+                for c in site.cables
+            ],
+        )
+    lim, al = site.limits, site.allowances
+    total = f"{lim.max_total_cable_m:g} m" if lim.max_total_cable_m is not None else "no limit"
+    lines += [
+        "",
+        f"Limits: pass-band insertion loss <= {lim.max_insertion_loss_db:g} dB, SWR <= "
+        f"{lim.max_swr:g}, rejection margin {lim.rejection_margin_db:g} dB, at most "
+        f"{lim.max_stubs} stubs, total cable {total}",
+        f"Allowances: tee {al.tee_allowance_m * 1000:g} mm, trim margin {al.trim_margin_pct:g} %, "
+        f"cut tolerance {al.cut_tolerance_mm:g} mm",
+        f"Harmonics considered up to order {site.max_harmonic}",
+        "",
+        f"OK: {len(site.radios)} radios, no problems found",
+    ]
+    return "\n".join(lines)

@@ -25,6 +25,15 @@ DEFAULT_CHANNEL_BANDWIDTH_KHZ = 16.0
 DEFAULT_NOISE_FIGURE_DB = 8.0
 DEFAULT_ANTENNA_HEIGHT_M = 10.0
 DEFAULT_MAX_HARMONIC = 5
+DEFAULT_MAX_STUBS = 3
+DEFAULT_CUT_TOLERANCE_MM = 2.0
+DEFAULT_CABLE = "RG-213"
+"""Stub cable when a site file names none: a common 50-ohm solid-PE cable."""
+
+MIN_FREQ_MHZ = 0.1
+"""Lowest frequency a site file may give (the loader refuses anything below)."""
+MAX_FREQ_MHZ = 6000.0
+"""Highest frequency a site file may give (the loader refuses anything above)."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -123,6 +132,8 @@ class Coupling:
     a: str
     b: str
     isolation_db: float
+    freq_mhz: float | None = None
+    """Frequency the isolation was measured at, in MHz; ``None``: not stated."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -132,7 +143,7 @@ class Limits:
     max_insertion_loss_db: float = DEFAULT_MAX_INSERTION_LOSS_DB
     max_swr: float = DEFAULT_MAX_SWR
     rejection_margin_db: float = DEFAULT_REJECTION_MARGIN_DB
-    max_stubs: int = 3
+    max_stubs: int = DEFAULT_MAX_STUBS
     max_total_cable_m: float | None = None
 
 
@@ -142,7 +153,7 @@ class Allowances:
 
     tee_allowance_m: float = DEFAULT_TEE_ALLOWANCE_M
     trim_margin_pct: float = DEFAULT_TRIM_MARGIN_PCT
-    cut_tolerance_mm: float = 2.0
+    cut_tolerance_mm: float = DEFAULT_CUT_TOLERANCE_MM
     vf_spread: float | None = None
     """Velocity-factor spread for tolerance runs; ``None``: the cable's published
     tolerance, else 0.01."""

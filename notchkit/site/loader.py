@@ -1,0 +1,1375 @@
+"""Read a site file (YAML) into a :class:`~notchkit.site.model.Site`.
+
+The file is parsed with PyYAML's safe loader only as far as the node tree
+(``yaml.compose``); this module then walks the nodes itself, so every problem
+carries the line and column where it sits and nothing but plain scalars, lists
+and mappings is ever built. Every problem found is reported in one run (up to
+:data:`MAX_PROBLEMS`), each as one line::
+
+    FILE:LINE:COL: field.path: what is wrong (what is allowed)
+
+The accepted keys, their types and ranges are declared once, in
+:data:`SECTIONS`; :func:`site_schema` turns the same declaration into the JSON
+Schema published as ``docs/site-schema.json`` (a test keeps the two equal).
+
+Safety limits: a file over :data:`MAX_FILE_BYTES` is refused before it is
+parsed; nesting deeper than :data:`MAX_DEPTH` and more than :data:`MAX_NODES`
+values visited (counting every repeat through an alias) are refused, so an
+alias bomb or a self-referring alias cannot use unbounded time or memory.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import math
+import os
+import re
+from dataclasses import dataclass
+from typing import Any
+
+import yaml
+
+from notchkit.errors import Problem, SiteError
+from notchkit.site import model as m
+
+MAX_FILE_BYTES = 2 * 1024 * 1024
+"""Largest site file read, in bytes (2 MiB); a real site file is a few kB."""
+MAX_PROBLEMS = 50
+"""Problems listed in one run; the rest are counted in a last line."""
+MAX_DEPTH = 32
+"""Deepest nesting of lists and mappings accepted (a site file needs 5)."""
+MAX_NODES = 100_000
+"""Most values visited, counting each repeat through an alias."""
+
+_YAML = "tag:yaml.org,2002:"
+_STR, _INT, _FLOAT, _BOOL, _NULL = (_YAML + t for t in ("str", "int", "float", "bool", "null"))
+_MAP, _SEQ = _YAML + "map", _YAML + "seq"
+_PLAIN_TAGS = frozenset({_STR, _INT, _FLOAT, _BOOL, _NULL, _MAP, _SEQ})
+
+_LENGTH_UNITS_M = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048, "in": 0.0254}
+"""Metres per unit; the foot and inch are exact by definition (international yard, 1959)."""
+_LENGTH_RE = re.compile(
+    r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(m|cm|mm|ft|in)\s*$"
+)
+LENGTH_PATTERN = r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?\s*(m|cm|mm|ft|in)\s*$"
+"""The text form of a length (JSON Schema pattern): a number and a unit, e.g. ``"12 ft"``."""
+_NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$")
+NAME_PATTERN = r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$"
+_NAME_ALLOWED = "1-40 letters, digits, '-', '_' or '.', starting with a letter or digit"
+
+
+# ---------------------------------------------------------------------------
+# The declaration of every key
+# ---------------------------------------------------------------------------
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Num:
+    """A number's range and unit.
+
+    ``length_unit_m`` is set for lengths, which may also be written as text with
+    a unit (``"12 ft"``): it is the size of the field's unit in metres.
+    """
+
+    lo: float
+    hi: float
+    unit: str = ""
+    lo_open: bool = False
+    integer: bool = False
+    length_unit_m: float | None = None
+
+    def allowed(self) -> str:
+        unit = f" {self.unit}" if self.unit else ""
+        kind = "a whole number" if self.integer else "a number"
+        if self.lo_open:
+            return f"{kind} greater than {self.lo:g} and at most {self.hi:g}{unit}"
+        return f"{kind} from {self.lo:g} to {self.hi:g}{unit}"
+
+    def contains(self, v: float) -> bool:
+        low_ok = v > self.lo if self.lo_open else v >= self.lo
+        return low_ok and v <= self.hi
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Field:
+    """One key of a section.
+
+    ``kind`` is one of ``number``, ``text``, ``name``, ``cable``, ``band``,
+    ``section`` (a nested mapping named by ``section``), ``list`` (a list of
+    such mappings), ``pair`` (two radio names) or ``table`` (a loss table).
+    ``default`` is for documentation only; the value objects in
+    :mod:`notchkit.site.model` hold the defaults the program uses.
+    """
+
+    kind: str
+    doc: str
+    required: bool = False
+    num: Num | None = None
+    section: str = ""
+    default: Any = None
+
+
+_FREQ = Num(lo=m.MIN_FREQ_MHZ, hi=m.MAX_FREQ_MHZ, unit="MHz")
+_POWER = Num(lo=0.0, hi=100_000.0, unit="W", lo_open=True)
+_BW = Num(lo=0.0, hi=50_000.0, unit="kHz", lo_open=True)
+_XY = Num(lo=-10_000.0, hi=10_000.0, unit="m", length_unit_m=1.0)
+_HEIGHT = Num(lo=0.0, hi=1_000.0, unit="m", length_unit_m=1.0)
+_FEED_LEN = Num(lo=0.0, hi=2_000.0, unit="m", lo_open=True, length_unit_m=1.0)
+_TABLE_FREQ = Num(lo=0.001, hi=100_000.0, unit="MHz")
+_TABLE_LOSS = Num(lo=0.0, hi=1_000.0, unit="dB/100 m", lo_open=True)
+
+
+def _d(cls: type, name: str) -> Any:
+    """The default of a model field, for the documentation and schema."""
+    for f in dataclasses.fields(cls):
+        if f.name == name:
+            return None if f.default is dataclasses.MISSING else f.default
+    raise KeyError(name)
+
+
+_FREQ_FIELDS = {
+    "freq_mhz": Field(kind="number", num=_FREQ, doc="Channel frequency in MHz."),
+    "band_mhz": Field(
+        kind="band",
+        num=_FREQ,
+        doc="[lo, hi] in MHz for a radio that tunes across a band (instead of freq_mhz).",
+    ),
+}
+_TX_FIELDS = {
+    "power_w": Field(kind="number", num=_POWER, required=True, doc="Carrier power in watts."),
+    "bandwidth_khz": Field(
+        kind="number",
+        num=_BW,
+        default=_d(m.Transmit, "bandwidth_khz"),
+        doc="Occupied channel bandwidth in kHz.",
+    ),
+    "harmonic_suppression_dbc": Field(
+        kind="number",
+        num=Num(lo=0.0, hi=150.0, unit="dB", lo_open=True),
+        default=None,
+        doc="Harmonic and spurious suppression below the carrier in dB (positive); "
+        "default: the published amateur spurious-emission limit.",
+    ),
+    "noise_dbc_hz": Field(
+        kind="number",
+        num=Num(lo=-200.0, hi=-50.0, unit="dBc/Hz"),
+        default=None,
+        doc="Broadband transmitter noise away from the carrier in dBc/Hz (negative); "
+        "default: not evaluated.",
+    ),
+    "im_conversion_db": Field(
+        kind="number",
+        num=Num(lo=0.0, hi=60.0, unit="dB"),
+        default=None,
+        doc="Conversion loss of the output stage for intermodulation in dB; "
+        "default: the survey's documented value.",
+    ),
+}
+_RX_FIELDS = {
+    "bandwidth_khz": Field(
+        kind="number",
+        num=_BW,
+        default=_d(m.Receive, "bandwidth_khz"),
+        doc="Receiver channel bandwidth in kHz.",
+    ),
+    "sensitivity_dbm": Field(
+        kind="number",
+        num=Num(lo=-170.0, hi=0.0, unit="dBm"),
+        default=None,
+        doc="Level an interfering product must stay below, in dBm; "
+        "default: kTB + noise figure over the bandwidth.",
+    ),
+    "blocking_dbm": Field(
+        kind="number",
+        num=Num(lo=-120.0, hi=30.0, unit="dBm"),
+        default=None,
+        doc="Off-channel level that desensitises the receiver, in dBm; default: the survey's value.",
+    ),
+    "noise_figure_db": Field(
+        kind="number",
+        num=Num(lo=0.0, hi=30.0, unit="dB"),
+        default=_d(m.Receive, "noise_figure_db"),
+        doc="Receiver noise figure in dB.",
+    ),
+}
+_RADIO_COMMON = {
+    "antenna": Field(kind="section", section="antenna", doc="Where the radio's antenna is."),
+    "feedline": Field(
+        kind="section", section="feedline", doc="Cable from the radio to its antenna."
+    ),
+    "stub_cable": Field(
+        kind="cable",
+        default=None,
+        doc="Cable for this radio's stubs; default: the site's cable.",
+    ),
+}
+_NAME = Field(
+    kind="name",
+    required=True,
+    doc="Unique name of the radio across transmitters, receivers and transceivers.",
+)
+
+SECTIONS: dict[str, dict[str, Field]] = {
+    "site": {
+        "site": Field(kind="text", required=True, doc="Name of the site."),
+        "cable": Field(
+            kind="cable",
+            default=m.DEFAULT_CABLE,
+            doc="Default cable for stubs and feedlines (library name or one under cables:).",
+        ),
+        "transmitters": Field(kind="list", section="transmitter", doc="Radios that transmit only."),
+        "receivers": Field(kind="list", section="receiver", doc="Radios that receive only."),
+        "transceivers": Field(
+            kind="list",
+            section="transceiver",
+            doc="Radios that transmit and receive (tx and rx may differ, as on a repeater).",
+        ),
+        "couplings": Field(
+            kind="list",
+            section="coupling",
+            doc="Measured antenna-to-antenna isolation between named radios.",
+        ),
+        "limits": Field(kind="section", section="limits", doc="What every filter must achieve."),
+        "allowances": Field(
+            kind="section", section="allowances", doc="Hardware allowances for cutting."
+        ),
+        "cables": Field(kind="list", section="cable", doc="Cable types defined in this file."),
+        "max_harmonic": Field(
+            kind="number",
+            num=Num(lo=2, hi=20, integer=True),
+            default=m.DEFAULT_MAX_HARMONIC,
+            doc="Highest harmonic order the survey considers.",
+        ),
+    },
+    "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
+    "receiver": {"name": _NAME, **_FREQ_FIELDS, **_RX_FIELDS, **_RADIO_COMMON},
+    "transceiver": {
+        "name": _NAME,
+        "freq_mhz": Field(
+            kind="number", num=_FREQ, doc="Frequency in MHz shared by tx and rx unless they give one."
+        ),
+        "band_mhz": Field(
+            kind="band", num=_FREQ, doc="[lo, hi] in MHz shared by tx and rx unless they give one."
+        ),
+        "bandwidth_khz": Field(
+            kind="number",
+            num=_BW,
+            default=m.DEFAULT_CHANNEL_BANDWIDTH_KHZ,
+            doc="Channel bandwidth in kHz shared by tx and rx unless they give one.",
+        ),
+        "tx": Field(kind="section", section="tx", required=True, doc="The transmit part."),
+        "rx": Field(
+            kind="section",
+            section="rx",
+            doc="The receive part; default: receives on the shared frequency.",
+        ),
+        **_RADIO_COMMON,
+    },
+    "tx": {**_FREQ_FIELDS, **_TX_FIELDS},
+    "rx": {**_FREQ_FIELDS, **_RX_FIELDS},
+    "antenna": {
+        "x_m": Field(kind="number", num=_XY, default=_d(m.Antenna, "x_m"), doc="East, in metres."),
+        "y_m": Field(kind="number", num=_XY, default=_d(m.Antenna, "y_m"), doc="North, in metres."),
+        "height_m": Field(
+            kind="number",
+            num=_HEIGHT,
+            default=m.DEFAULT_ANTENNA_HEIGHT_M,
+            doc="Height of the antenna's centre above ground, in metres.",
+        ),
+        "gain_dbi": Field(
+            kind="number",
+            num=Num(lo=-30.0, hi=40.0, unit="dBi"),
+            default=_d(m.Antenna, "gain_dbi"),
+            doc="Gain toward the other antennas, in dBi.",
+        ),
+    },
+    "feedline": {
+        "cable": Field(kind="cable", default="the site's cable", doc="Feedline cable type."),
+        "length_m": Field(
+            kind="number", num=_FEED_LEN, required=True, doc="Feedline length in metres."
+        ),
+    },
+    "coupling": {
+        "between": Field(kind="pair", required=True, doc="The two radios' names."),
+        "isolation_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=200.0, unit="dB", lo_open=True),
+            required=True,
+            doc="Measured loss from one antenna port to the other, in dB (positive).",
+        ),
+        "freq_mhz": Field(
+            kind="number", num=_FREQ, default=None, doc="Frequency of the measurement in MHz."
+        ),
+    },
+    "limits": {
+        "max_insertion_loss_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=10.0, unit="dB", lo_open=True),
+            default=m.DEFAULT_MAX_INSERTION_LOSS_DB,
+            doc="Largest pass-band insertion loss of a filter, in dB.",
+        ),
+        "max_swr": Field(
+            kind="number",
+            num=Num(lo=1.0, hi=10.0, lo_open=True),
+            default=m.DEFAULT_MAX_SWR,
+            doc="Largest pass-band SWR of a filter.",
+        ),
+        "rejection_margin_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=40.0, unit="dB"),
+            default=m.DEFAULT_REJECTION_MARGIN_DB,
+            doc="Extra rejection beyond what a threat needs, in dB.",
+        ),
+        "max_stubs": Field(
+            kind="number",
+            num=Num(lo=1, hi=8, integer=True),
+            default=m.DEFAULT_MAX_STUBS,
+            doc="Most stubs in one filter.",
+        ),
+        "max_total_cable_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=1_000.0, unit="m", lo_open=True, length_unit_m=1.0),
+            default=None,
+            doc="Most cable in one filter, in metres; default: no limit.",
+        ),
+    },
+    "allowances": {
+        "tee_allowance_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=0.5, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_TEE_ALLOWANCE_M,
+            doc="Electrical length of a tee and its connectors, in metres of stub cable.",
+        ),
+        "trim_margin_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=25.0, unit="%"),
+            default=m.DEFAULT_TRIM_MARGIN_PCT,
+            doc="Cut the first piece this much long, in percent, then trim.",
+        ),
+        "cut_tolerance_mm": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=50.0, unit="mm", lo_open=True, length_unit_m=0.001),
+            default=m.DEFAULT_CUT_TOLERANCE_MM,
+            doc="How close to a mark you cut, in millimetres.",
+        ),
+        "vf_spread": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=0.2),
+            default=None,
+            doc="Velocity-factor spread for tolerance runs; default: the cable's published "
+            "tolerance, else 0.01.",
+        ),
+    },
+    "cable": {
+        "name": Field(kind="text", required=True, doc="Cable type name, unique in the file."),
+        "z0_ohm": Field(
+            kind="number",
+            num=Num(lo=10.0, hi=600.0, unit="ohm"),
+            required=True,
+            doc="Characteristic impedance in ohms.",
+        ),
+        "velocity_factor": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=1.0, lo_open=True),
+            required=True,
+            doc="Velocity factor (0 to 1).",
+        ),
+        "loss_table": Field(
+            kind="table",
+            default=(),
+            doc="Matched loss as [freq_mhz, loss_db_per_100m] pairs, rising frequency; "
+            "default: none (lossless, with a warning).",
+        ),
+        "max_voltage_v": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=1e6, unit="V", lo_open=True),
+            default=None,
+            doc="Largest RMS voltage the cable is rated for, in volts.",
+        ),
+        "outer_diameter_mm": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=200.0, unit="mm", lo_open=True, length_unit_m=0.001),
+            default=None,
+            doc="Outer diameter in millimetres.",
+        ),
+        "dielectric": Field(kind="text", default="", doc="Dielectric, e.g. solid PE or foam PE."),
+    },
+}
+"""Every section of a site file and the keys it accepts, in documentation order."""
+
+_ALLOWED_KEYS_TEXT = {name: ", ".join(fields) for name, fields in SECTIONS.items()}
+
+
+# ---------------------------------------------------------------------------
+# Reading the file
+# ---------------------------------------------------------------------------
+
+
+class _TooDeep(Exception):
+    def __init__(self, mark: yaml.Mark):
+        self.mark = mark
+
+
+class _Loader(yaml.SafeLoader):
+    """The safe loader, refusing deep nesting while it composes (compose recurses)."""
+
+    def __init__(self, stream: str):
+        super().__init__(stream)
+        self._depth = 0
+
+    def compose_node(self, parent, index):  # noqa: ANN001 - PyYAML's signature
+        self._depth += 1
+        try:
+            if self._depth > MAX_DEPTH:
+                raise _TooDeep(self.peek_event().start_mark)
+            return super().compose_node(parent, index)
+        finally:
+            self._depth -= 1
+
+
+def _line_col(text: str, index: int) -> tuple[int, int]:
+    """1-based line and column of a character index in ``text``."""
+    line = text.count("\n", 0, index) + 1
+    col = index - (text.rfind("\n", 0, index) + 1) + 1
+    return line, col
+
+
+def _read_text(path: str) -> str:
+    def fail(line: int, col: int, msg: str) -> SiteError:
+        return SiteError([Problem(path, line, col, "", msg)])
+
+    if os.path.isdir(path):
+        raise fail(0, 0, "is a directory, not a site file (give the path of a .yaml file)")
+    try:
+        size = os.path.getsize(path)
+        if size > MAX_FILE_BYTES:
+            raise fail(0, 0, _too_big(size))
+        with open(path, "rb") as fh:
+            data = fh.read(MAX_FILE_BYTES + 1)
+    except FileNotFoundError:
+        raise fail(0, 0, "no such file (give the path of an existing .yaml site file)") from None
+    except PermissionError:
+        raise fail(0, 0, "permission denied (the site file must be readable)") from None
+    except OSError as exc:
+        raise fail(0, 0, f"cannot read: {exc.strerror or exc} (give a readable site file)") from None
+    if len(data) > MAX_FILE_BYTES:
+        raise fail(0, 0, _too_big(len(data)))
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        head = data[: exc.start]
+        line = head.count(b"\n") + 1
+        line_start = head.rfind(b"\n") + 1
+        col = len(head[line_start:].decode("utf-8", errors="replace")) + 1
+        byte = data[exc.start]
+        raise fail(
+            line,
+            col,
+            f"byte 0x{byte:02x} at offset {exc.start} is not UTF-8 text "
+            "(save the file as UTF-8)",
+        ) from None
+
+
+def _too_big(size: int) -> str:
+    return (
+        f"file is {size} bytes, larger than the {MAX_FILE_BYTES} byte limit "
+        "(a site file is a few kB; is this the right file?)"
+    )
+
+
+def _compose(path: str, text: str) -> yaml.Node | None:
+    try:
+        return yaml.compose(text, Loader=_Loader)
+    except _TooDeep as exc:
+        raise SiteError(
+            [
+                Problem(
+                    path,
+                    exc.mark.line + 1,
+                    exc.mark.column + 1,
+                    "",
+                    f"nested deeper than {MAX_DEPTH} levels (a site file needs at most 5)",
+                )
+            ]
+        ) from None
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line, col = (mark.line + 1, mark.column + 1) if mark else (0, 0)
+        what = exc.problem or "cannot be parsed"
+        if exc.context:
+            what = f"{exc.context}: {what}"
+            if exc.context_mark is not None and exc.context_mark is not mark:
+                what += f" (started at line {exc.context_mark.line + 1})"
+        hint = "check the indentation, quotes and brackets"
+        if "'\\t'" in what:
+            hint = "indent with spaces, never tabs"
+        elif "expected a single document" in what:
+            hint = "one site per file; remove the '---' separator"
+        raise SiteError([Problem(path, line, col, "", f"YAML syntax: {what} ({hint})")]) from None
+    except yaml.reader.ReaderError as exc:
+        line, col = _line_col(text, exc.position)
+        raise SiteError(
+            [
+                Problem(
+                    path,
+                    line,
+                    col,
+                    "",
+                    f"control character {exc.character!r} is not allowed in YAML "
+                    "(remove it; only printable text, tabs and newlines)",
+                )
+            ]
+        ) from None
+    except yaml.YAMLError as exc:  # pragma: no cover - any other PyYAML complaint
+        raise SiteError([Problem(path, 0, 0, "", f"YAML: {exc} (check the file)")]) from None
+
+
+# ---------------------------------------------------------------------------
+# Walking the nodes
+# ---------------------------------------------------------------------------
+
+_BAD = object()
+
+
+class _Stop(Exception):
+    pass
+
+
+def _fold(name: str) -> str:
+    """A cable name for lookup, folded as the cable library does (case, spaces, '-', '_', '/U')."""
+    return re.sub(r"/U$", "", re.sub(r"[\s\-_]", "", name.upper()))
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def _kind(node: yaml.Node) -> str:
+    if isinstance(node, yaml.MappingNode):
+        return "a mapping"
+    if isinstance(node, yaml.SequenceNode):
+        return "a list"
+    return {
+        _STR: "text",
+        _INT: "a number",
+        _FLOAT: "a number",
+        _BOOL: "a boolean",
+        _NULL: "nothing",
+    }.get(node.tag, f"a {_show_tag(node.tag)} value")
+
+
+def _show_tag(tag: str) -> str:
+    return "!!" + tag[len(_YAML) :] if tag.startswith(_YAML) else tag
+
+
+def _shown(node: yaml.ScalarNode) -> str:
+    """A scalar as written: text quoted, numbers and plain words like 1e12 as they are."""
+    text = node.value if len(node.value) <= 40 else node.value[:37] + "..."
+    if node.tag != _STR:
+        return text
+    if node.style is None and _looks_numeric(node.value):
+        return text
+    return repr(text)
+
+
+def _looks_numeric(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+class _Reader:
+    """Walks a composed node tree against :data:`SECTIONS`, collecting problems."""
+
+    def __init__(self, path: str):
+        self.path = path
+        self.problems: list[Problem] = []
+        self.bad_nodes: set[int] = set()
+        self.cable_refs: list[tuple[str, yaml.Node, str]] = []
+
+    def add(self, node: yaml.Node | None, field: str, message: str) -> None:
+        line, col = (node.start_mark.line + 1, node.start_mark.column + 1) if node else (0, 0)
+        self.problems.append(Problem(self.path, line, col, field, message))
+
+    # -- whole-tree checks ------------------------------------------------
+
+    def prepass(self, root: yaml.Node) -> None:
+        """Refuse alias bombs and self-referring aliases before the walk."""
+        visits = 0
+        stack: list[tuple[yaml.Node, int]] = [(root, 1)]
+        while stack:
+            node, depth = stack.pop()
+            visits += 1
+            if visits > MAX_NODES:
+                self.add(
+                    node,
+                    "",
+                    f"more than {MAX_NODES} values counting repeats through aliases "
+                    "(a site file has a few hundred; use fewer or no aliases)",
+                )
+                raise _Stop
+            if depth > MAX_DEPTH:
+                self.add(
+                    node,
+                    "",
+                    f"nested deeper than {MAX_DEPTH} levels counting through aliases "
+                    "(an alias may refer to itself; a site file needs at most 5)",
+                )
+                raise _Stop
+            if isinstance(node, yaml.MappingNode):
+                for k, v in node.value:
+                    stack.append((k, depth + 1))
+                    stack.append((v, depth + 1))
+            elif isinstance(node, yaml.SequenceNode):
+                stack.extend((item, depth + 1) for item in node.value)
+
+    def tag_bad(self, node: yaml.Node, path: str) -> bool:
+        """True (and reported once) when a node carries a tag other than plain YAML's."""
+        if node.tag in _PLAIN_TAGS:
+            return False
+        if id(node) not in self.bad_nodes:
+            self.bad_nodes.add(id(node))
+            self.add(
+                node,
+                path,
+                f"tag {_show_tag(node.tag)} is not allowed "
+                "(plain YAML only: text, numbers, lists and mappings)",
+            )
+        return True
+
+    # -- sections ---------------------------------------------------------
+
+    def section(self, node: yaml.Node, name: str, path: str) -> dict[str, tuple[Any, yaml.Node]] | None:
+        if self.tag_bad(node, path):
+            return None
+        spec = SECTIONS[name]
+        if not isinstance(node, yaml.MappingNode):
+            what = f"{_kind(node)} {_shown(node)}" if isinstance(node, yaml.ScalarNode) else _kind(node)
+            where = path or "the file"
+            self.add(
+                node,
+                path,
+                f"{where} must be a mapping of keys, got {what} (allowed keys: {_ALLOWED_KEYS_TEXT[name]})",
+            )
+            return None
+        out: dict[str, tuple[Any, yaml.Node]] = {}
+        first: dict[str, yaml.Node] = {}
+        for knode, vnode in node.value:
+            if self.tag_bad(knode, path):
+                continue
+            if not isinstance(knode, yaml.ScalarNode) or knode.tag not in (_STR, _INT, _FLOAT, _BOOL):
+                self.add(knode, path, f"a key must be a plain word, got {_kind(knode)}")
+                continue
+            key = knode.value
+            fpath = _join(path, key)
+            if knode.tag == _YAML + "merge" or key == "<<":
+                self.add(knode, path, "merge keys '<<' are not supported (write the keys out)")
+                continue
+            if key in first:
+                self.add(
+                    knode,
+                    fpath,
+                    f"duplicate key (first given at line {first[key].start_mark.line + 1}; "
+                    "give each key once)",
+                )
+                continue
+            first[key] = knode
+            fld = spec.get(key)
+            if fld is None:
+                self.add(knode, fpath, "unknown key " + self._suggest(key, spec, name))
+                continue
+            value = self.value(vnode, fld, fpath)
+            if value is not _BAD:
+                out[key] = (value, vnode)
+        for key, fld in spec.items():
+            if fld.required and key not in first:
+                self.add(node, _join(path, key), f"missing (required: {fld.doc[:1].lower()}{fld.doc[1:-1]})")
+        return out
+
+    @staticmethod
+    def _suggest(key: str, spec: dict[str, Field], name: str) -> str:
+        close = difflib.get_close_matches(key.lower(), list(spec), n=1, cutoff=0.6)
+        if close:
+            return f"(did you mean '{close[0]}'?)"
+        return f"(allowed: {_ALLOWED_KEYS_TEXT[name]})"
+
+    def value(self, node: yaml.Node, fld: Field, path: str) -> Any:
+        if self.tag_bad(node, path):
+            return _BAD
+        if fld.kind == "number":
+            return self.number(node, fld.num, path)
+        if fld.kind in ("text", "name", "cable"):
+            text = self.text(node, path, name=fld.kind == "name")
+            if fld.kind == "cable" and text is not _BAD:
+                self.cable_refs.append((text, node, path))
+            return text
+        if fld.kind == "band":
+            return self.band(node, path)
+        if fld.kind == "section":
+            got = self.section(node, fld.section, path)
+            return _BAD if got is None else got
+        if fld.kind == "list":
+            return self.items(node, fld.section, path)
+        if fld.kind == "pair":
+            return self.pair(node, path)
+        if fld.kind == "table":
+            return self.table(node, path)
+        raise ValueError(f"unknown field kind {fld.kind!r}")  # pragma: no cover - programming error
+
+    def items(self, node: yaml.Node, section: str, path: str) -> Any:
+        if not isinstance(node, yaml.SequenceNode):
+            what = "nothing" if getattr(node, "tag", "") == _NULL else _kind(node)
+            self.add(
+                node,
+                path,
+                f"expected a list of entries (each starting with '- '), got {what} "
+                "(remove the key if there are none)",
+            )
+            return _BAD
+        out = []
+        for i, item in enumerate(node.value):
+            got = self.section(item, section, f"{path}[{i}]")
+            if got is not None:
+                out.append((got, item, f"{path}[{i}]"))
+        return out
+
+    # -- scalars ----------------------------------------------------------
+
+    def number(self, node: yaml.Node, num: Num | None, path: str) -> Any:
+        assert num is not None  # noqa: S101 - the declaration above, not user input
+        if self.tag_bad(node, path):
+            return _BAD
+        allowed = num.allowed()
+        if num.length_unit_m is not None:
+            allowed += " or text with a unit, e.g. '12 ft' (m, cm, mm, ft, in)"
+        if not isinstance(node, yaml.ScalarNode):
+            self.add(node, path, f"expected a number, got {_kind(node)} (allowed: {allowed})")
+            return _BAD
+        shown = _shown(node)
+        if node.tag == _BOOL:
+            self.add(
+                node,
+                path,
+                f"{shown} is a boolean, not a number (allowed: {allowed}; YAML reads "
+                "yes/no/on/off/true/false as booleans)",
+            )
+            return _BAD
+        if node.tag == _NULL:
+            self.add(node, path, f"no value given (allowed: {allowed}; remove the key for the default)")
+            return _BAD
+        value: float | None = None
+        if node.tag == _INT:
+            value = float(_CON.construct_yaml_int(node))
+        elif node.tag == _FLOAT:
+            value = _CON.construct_yaml_float(node)
+        elif node.tag == _STR:
+            match = _LENGTH_RE.match(node.value) if num.length_unit_m is not None else None
+            if match:
+                value = float(match.group(1)) * _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
+            elif node.style is None:
+                try:  # plain 1e12 or nan: YAML 1.1 reads these as text; read them as numbers
+                    value = float(node.value)
+                except ValueError:
+                    value = None
+            if value is None:
+                self.add(node, path, f"{shown} is text, not a number (allowed: {allowed})")
+                return _BAD
+        if value is None:  # pragma: no cover - every tag handled above
+            return _BAD
+        if not math.isfinite(value):
+            self.add(node, path, f"{shown} is not a finite number (allowed: {allowed})")
+            return _BAD
+        if num.integer and value != int(value):
+            self.add(node, path, f"{shown} is not a whole number (allowed: {allowed})")
+            return _BAD
+        if not num.contains(value):
+            if value <= 0 < num.lo or (value <= 0 and num.lo == 0 and num.lo_open):
+                what = f"{shown} must be greater than 0"
+            elif value < num.lo:
+                what = f"{shown} is too low"
+            else:
+                what = f"{shown} is too high"
+            hint = ""
+            if num.unit == "MHz" and value > num.hi and num.contains(value / 1e6):
+                hint = f"; {shown} looks like Hz: give MHz, e.g. {value / 1e6:g}"
+            elif num.unit == "MHz" and value > num.hi and num.contains(value / 1e3):
+                hint = f"; {shown} looks like kHz: give MHz, e.g. {value / 1e3:g}"
+            self.add(node, path, f"{what} (allowed: {allowed}{hint})")
+            return _BAD
+        return int(value) if num.integer else value
+
+    def text(self, node: yaml.Node, path: str, *, name: bool) -> Any:
+        if self.tag_bad(node, path):
+            return _BAD
+        if not isinstance(node, yaml.ScalarNode):
+            self.add(node, path, f"expected text, got {_kind(node)}")
+            return _BAD
+        if node.tag == _NULL:
+            self.add(node, path, "no value given (allowed: text)")
+            return _BAD
+        if node.tag != _STR:
+            self.add(
+                node,
+                path,
+                f"{node.value} is {_kind(node)}, not text (put it in quotes: '{node.value}')",
+            )
+            return _BAD
+        value = node.value.strip()
+        if name and not _NAME_RE.match(value):
+            self.add(node, path, f"{_shown(node)} is not a valid name (allowed: {_NAME_ALLOWED})")
+            return _BAD
+        if not value:
+            self.add(node, path, "empty text (allowed: non-empty text)")
+            return _BAD
+        if len(value) > 200:
+            self.add(node, path, f"text is {len(value)} characters long (allowed: at most 200)")
+            return _BAD
+        return value
+
+    def band(self, node: yaml.Node, path: str) -> Any:
+        if not isinstance(node, yaml.SequenceNode) or len(node.value) != 2:
+            got = f"{len(node.value)} values" if isinstance(node, yaml.SequenceNode) else _kind(node)
+            self.add(
+                node,
+                path,
+                f"expected [lo, hi] in MHz, got {got} (allowed: two frequencies, e.g. [144.0, 148.0])",
+            )
+            return _BAD
+        lo = self.number(node.value[0], _FREQ, f"{path}[0]")
+        hi = self.number(node.value[1], _FREQ, f"{path}[1]")
+        if lo is _BAD or hi is _BAD:
+            return _BAD
+        if lo >= hi:
+            self.add(
+                node,
+                path,
+                f"[{lo:g}, {hi:g}]: the low edge must be below the high edge "
+                "(allowed: [lo, hi] with lo < hi; one channel: use freq_mhz)",
+            )
+            return _BAD
+        return m.Band(lo_mhz=lo, hi_mhz=hi)
+
+    def pair(self, node: yaml.Node, path: str) -> Any:
+        if not isinstance(node, yaml.SequenceNode) or len(node.value) != 2:
+            got = f"{len(node.value)} values" if isinstance(node, yaml.SequenceNode) else _kind(node)
+            self.add(node, path, f"expected two radio names, got {got} (allowed: [name-a, name-b])")
+            return _BAD
+        a = self.text(node.value[0], f"{path}[0]", name=True)
+        b = self.text(node.value[1], f"{path}[1]", name=True)
+        if a is _BAD or b is _BAD:
+            return _BAD
+        return ((a, node.value[0]), (b, node.value[1]))
+
+    def table(self, node: yaml.Node, path: str) -> Any:
+        if not isinstance(node, yaml.SequenceNode):
+            self.add(
+                node,
+                path,
+                f"expected a list of [freq_mhz, loss_db_per_100m] pairs, got {_kind(node)} "
+                "(allowed: e.g. [[10, 2.0], [100, 6.6]])",
+            )
+            return _BAD
+        out: list[tuple[float, float]] = []
+        ok = True
+        last: float | None = None
+        for i, row in enumerate(node.value):
+            rpath = f"{path}[{i}]"
+            if not isinstance(row, yaml.SequenceNode) or len(row.value) != 2:
+                self.add(
+                    row,
+                    rpath,
+                    f"expected [freq_mhz, loss_db_per_100m], got {_kind(row)} "
+                    "(allowed: e.g. [100, 6.6])",
+                )
+                ok = False
+                continue
+            f = self.number(row.value[0], _TABLE_FREQ, f"{rpath}[0]")
+            loss = self.number(row.value[1], _TABLE_LOSS, f"{rpath}[1]")
+            if f is _BAD or loss is _BAD:
+                ok = False
+                continue
+            if last is not None and f <= last:
+                self.add(
+                    row,
+                    rpath,
+                    f"frequency {f:g} MHz does not rise above {last:g} MHz "
+                    "(allowed: rows in rising frequency, each once)",
+                )
+                ok = False
+            last = f
+            out.append((f, loss))
+        return tuple(out) if ok else _BAD
+
+
+_CON = yaml.constructor.SafeConstructor()
+
+
+# ---------------------------------------------------------------------------
+# Building the value objects
+# ---------------------------------------------------------------------------
+
+
+def _val(d: dict[str, tuple[Any, yaml.Node]], key: str, default: Any = None) -> Any:
+    got = d.get(key)
+    return default if got is None else got[0]
+
+
+def _opt(d: dict[str, tuple[Any, yaml.Node]], keys: tuple[str, ...]) -> dict[str, Any]:
+    return {k: d[k][0] for k in keys if k in d}
+
+
+_TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db")
+_RX_KEYS = ("bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db")
+
+
+class _Builder:
+    def __init__(self, reader: _Reader, root: yaml.Node):
+        self.r = reader
+        self.root = root
+        self.names: dict[str, yaml.Node] = {}
+
+    def freq(self, d: dict, node: yaml.Node, path: str) -> tuple[m.Band | None, bool]:
+        """The band from freq_mhz / band_mhz and whether either key was given.
+
+        The band is ``None`` when neither is given or the value was bad (reported).
+        """
+        has_f, has_b = "freq_mhz" in d, "band_mhz" in d
+        if has_f and has_b:
+            self.r.add(
+                d["band_mhz"][1], _join(path, "band_mhz"), "give freq_mhz or band_mhz, not both"
+            )
+            return None, True
+        if has_f:
+            f = d["freq_mhz"][0]
+            return m.Band(lo_mhz=f, hi_mhz=f), True
+        if has_b:
+            return d["band_mhz"][0], True
+        return None, self._bad_key(node, ("freq_mhz", "band_mhz"))
+
+    def missing_freq(self, node: yaml.Node, path: str, where: str = "") -> None:
+        self.r.add(
+            node,
+            _join(path, "freq_mhz"),
+            "missing (required: freq_mhz in MHz, or band_mhz: [lo, hi] for a radio that "
+            f"tunes across a band{where})",
+        )
+
+    @staticmethod
+    def _bad_key(node: yaml.Node, keys: tuple[str, ...]) -> bool:
+        """True when one of ``keys`` is present but its value was bad (already reported)."""
+        if not isinstance(node, yaml.MappingNode):
+            return False
+        return any(isinstance(k, yaml.ScalarNode) and k.value in keys for k, _ in node.value)
+
+    def name(self, d: dict, path: str) -> str | None:
+        if "name" not in d:
+            return None
+        name, node = d["name"]
+        key = name.lower()
+        if key in self.names:
+            first = self.names[key]
+            self.r.add(
+                node,
+                _join(path, "name"),
+                f"duplicate radio name {name!r} (first at line {first.start_mark.line + 1}; "
+                "names must differ, ignoring case, across transmitters, receivers and transceivers)",
+            )
+            return None
+        self.names[key] = node
+        return name
+
+    def common(self, d: dict, site_cable: str) -> dict[str, Any]:
+        out: dict[str, Any] = {}
+        if "antenna" in d:
+            out["antenna"] = m.Antenna(**_opt(d["antenna"][0], ("x_m", "y_m", "height_m", "gain_dbi")))
+        if "feedline" in d:
+            fd = d["feedline"][0]
+            if "length_m" in fd:
+                out["feedline"] = m.Feedline(
+                    cable=_val(fd, "cable", site_cable), length_m=fd["length_m"][0]
+                )
+        if "stub_cable" in d:
+            out["stub_cable"] = d["stub_cable"][0]
+        return out
+
+    def transmit(self, d: dict, band: m.Band | None, shared_bw: float | None) -> m.Transmit | None:
+        if band is None or "power_w" not in d:
+            return None
+        extra = _opt(d, _TX_KEYS)
+        if shared_bw is not None:
+            extra.setdefault("bandwidth_khz", shared_bw)
+        return m.Transmit(band=band, power_w=d["power_w"][0], **extra)
+
+    def receive(self, d: dict, band: m.Band | None, shared_bw: float | None) -> m.Receive | None:
+        if band is None:
+            return None
+        extra = _opt(d, _RX_KEYS)
+        if shared_bw is not None:
+            extra.setdefault("bandwidth_khz", shared_bw)
+        return m.Receive(band=band, **extra)
+
+    def radio(self, kind: str, d: dict, node: yaml.Node, path: str, site_cable: str) -> m.Radio | None:
+        name = self.name(d, path)
+        tx = rx = None
+        if kind != "transceivers":
+            band, given = self.freq(d, node, path)
+            if not given:
+                self.missing_freq(node, path)
+            if kind == "transmitters":
+                tx = self.transmit(d, band, None)
+                ok = tx is not None
+            else:
+                rx = self.receive(d, band, None)
+                ok = rx is not None
+        else:
+            shared, shared_given = self.freq(d, node, path)
+            shared_bw = _val(d, "bandwidth_khz")
+            where = " here or on the transceiver"
+            parts: dict[str, m.Band | None] = {}
+            for part in ("tx", "rx"):
+                ppath = _join(path, part)
+                if part in d:
+                    pd, pnode = d[part]
+                    band, given = self.freq(pd, pnode, ppath)
+                    if not given:
+                        if shared_given:
+                            band = shared
+                        else:
+                            self.missing_freq(pnode, ppath, where)
+                    parts[part] = band
+                elif part == "rx" and not self._bad_key(node, ("rx",)):
+                    if shared_given:
+                        parts["rx"] = shared
+                    else:
+                        self.r.add(
+                            node,
+                            ppath,
+                            "missing (required: an rx part with freq_mhz or band_mhz, or "
+                            "freq_mhz on the transceiver shared by tx and rx)",
+                        )
+            if "tx" in d:
+                tx = self.transmit(d["tx"][0], parts.get("tx"), shared_bw)
+            rx_d = d["rx"][0] if "rx" in d else {}
+            rx = self.receive(rx_d, parts.get("rx"), shared_bw)
+            ok = tx is not None and rx is not None
+        if name is None or not ok:
+            return None
+        return m.Radio(name=name, tx=tx, rx=rx, **self.common(d, site_cable))
+
+    def build(self, root: yaml.Node) -> m.Site | None:
+        r = self.r
+        top = r.section(root, "site", "")
+        if top is None:
+            return None
+        site_cable = _val(top, "cable", m.DEFAULT_CABLE)
+        radios: list[m.Radio] = []
+        n_entries = 0
+        lists_ok = True
+        for knode, _ in root.value:
+            key = getattr(knode, "value", None)
+            if key not in ("transmitters", "receivers", "transceivers"):
+                continue
+            if key not in top:
+                lists_ok = False
+                continue
+            for d, node, path in top[key][0]:
+                n_entries += 1
+                radio = self.radio(key, d, node, path, site_cable)
+                if radio is not None:
+                    radios.append(radio)
+        if n_entries == 0 and lists_ok:
+            r.add(
+                root,
+                "",
+                "no radios (allowed: at least one entry under transmitters, receivers or "
+                "transceivers)",
+            )
+        cables = self.cables(top)
+        self.resolve_cables(cables)
+        couplings = self.couplings(top)
+        if r.problems or "site" not in top:
+            return None
+        return m.Site(
+            name=top["site"][0],
+            cable=self.canon(site_cable),
+            radios=tuple(self.canon_radio(x) for x in radios),
+            couplings=couplings,
+            cables=cables,
+            path=r.path,
+            **(
+                {"limits": m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))}
+                if "limits" in top
+                else {}
+            ),
+            **(
+                {"allowances": m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))}
+                if "allowances" in top
+                else {}
+            ),
+            **({"max_harmonic": top["max_harmonic"][0]} if "max_harmonic" in top else {}),
+        )
+
+    # -- cables -----------------------------------------------------------
+
+    def cables(self, top: dict) -> tuple[m.CableDef, ...]:
+        """The site's own cable types; they take precedence over library types of the same name."""
+        from notchkit.cables import library
+
+        out: list[m.CableDef] = []
+        seen: dict[str, yaml.Node] = {}
+        self.known: dict[str, str] = {_fold(c.name): c.name for c in library()}
+        for d, _node, path in _val(top, "cables", []):
+            if not all(k in d for k in ("name", "z0_ohm", "velocity_factor")):
+                continue
+            name, nnode = d["name"]
+            key = _fold(name)
+            if key in seen:
+                self.r.add(
+                    nnode,
+                    _join(path, "name"),
+                    f"cable {name!r} is already defined at line {seen[key].start_mark.line + 1} "
+                    "(allowed: each cable name once)",
+                )
+                continue
+            seen[key] = nnode
+            extra = _opt(d, ("max_voltage_v", "outer_diameter_mm", "dielectric", "loss_table"))
+            out.append(
+                m.CableDef(
+                    name=name, z0_ohm=d["z0_ohm"][0], velocity_factor=d["velocity_factor"][0], **extra
+                )
+            )
+        for c in out:
+            self.known[_fold(c.name)] = c.name
+        return tuple(out)
+
+    def resolve_cables(self, cables: tuple[m.CableDef, ...]) -> None:
+        del cables  # already in self.known
+        for name, node, path in self.r.cable_refs:
+            if _fold(name) in self.known:
+                continue
+            close = difflib.get_close_matches(_fold(name), list(self.known), n=1, cutoff=0.6)
+            hint = f"did you mean {self.known[close[0]]!r}?; " if close else ""
+            self.r.add(
+                node,
+                path,
+                f"unknown cable {name!r} ({hint}allowed: a cable from 'notchkit cables' "
+                "or one defined under cables:)",
+            )
+
+    def canon(self, name: str) -> str:
+        return self.known.get(_fold(name), name)
+
+    def canon_radio(self, radio: m.Radio) -> m.Radio:
+        changes: dict[str, Any] = {}
+        if radio.stub_cable is not None:
+            changes["stub_cable"] = self.canon(radio.stub_cable)
+        if radio.feedline is not None:
+            changes["feedline"] = dataclasses.replace(
+                radio.feedline, cable=self.canon(radio.feedline.cable)
+            )
+        return dataclasses.replace(radio, **changes) if changes else radio
+
+    # -- couplings --------------------------------------------------------
+
+    def couplings(self, top: dict) -> tuple[m.Coupling, ...]:
+        out: list[m.Coupling] = []
+        pairs: dict[frozenset[str], yaml.Node] = {}
+        names = {k: n.value.strip() for k, n in self.names.items()}
+        for d, _node, path in _val(top, "couplings", []):
+            if "between" not in d or "isolation_db" not in d:
+                continue
+            ((a, anode), (b, bnode)), pnode = d["between"]
+            ok = True
+            for i, (x, xnode) in enumerate(((a, anode), (b, bnode))):
+                if x.lower() not in names:
+                    close = difflib.get_close_matches(x.lower(), list(names), n=1, cutoff=0.6)
+                    hint = f"did you mean {names[close[0]]!r}?; " if close else ""
+                    self.r.add(
+                        xnode,
+                        f"{path}.between[{i}]",
+                        f"no radio named {x!r} ({hint}allowed: a name given under "
+                        "transmitters, receivers or transceivers)",
+                    )
+                    ok = False
+            if not ok:
+                continue
+            a, b = names[a.lower()], names[b.lower()]
+            if a == b:
+                self.r.add(
+                    pnode,
+                    _join(path, "between"),
+                    f"a coupling needs two different radios, got {a!r} twice",
+                )
+                continue
+            key = frozenset((a, b))
+            if key in pairs:
+                self.r.add(
+                    pnode,
+                    _join(path, "between"),
+                    f"coupling between {a!r} and {b!r} given twice (first at line "
+                    f"{pairs[key].start_mark.line + 1}; give each pair once)",
+                )
+                continue
+            pairs[key] = pnode
+            out.append(
+                m.Coupling(a=a, b=b, isolation_db=d["isolation_db"][0], freq_mhz=_val(d, "freq_mhz"))
+            )
+        return tuple(out)
+
+
+def _finish(path: str, problems: list[Problem]) -> SiteError:
+    problems = sorted(problems, key=lambda p: (p.line, p.col))
+    if len(problems) > MAX_PROBLEMS:
+        more = len(problems) - MAX_PROBLEMS
+        problems = problems[:MAX_PROBLEMS] + [
+            Problem(path, 0, 0, "", f"{more} more problems not shown (fix these and run again)")
+        ]
+    return SiteError(problems)
+
+
+def load_site(path: str | os.PathLike[str]) -> m.Site:
+    """Read and validate a site file.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The YAML site file; problems name it exactly as given.
+
+    Returns
+    -------
+    Site
+        Immutable value objects; cable names are spelt as in the library.
+
+    Raises
+    ------
+    SiteError
+        Every problem found (up to :data:`MAX_PROBLEMS`), each
+        ``FILE:LINE:COL: field.path: what is wrong (what is allowed)``.
+    """
+    spath = os.fspath(path)
+    text = _read_text(spath)
+    root = _compose(spath, text)
+    if root is None:
+        raise SiteError(
+            [
+                Problem(
+                    spath,
+                    0,
+                    0,
+                    "",
+                    "the file is empty (allowed: a mapping with site:, cable: and "
+                    "transmitters:/receivers:/transceivers: lists)",
+                )
+            ]
+        )
+    reader = _Reader(spath)
+    site = None
+    try:
+        reader.prepass(root)
+        site = _Builder(reader, root).build(root)
+    except _Stop:
+        pass
+    if reader.problems or site is None:
+        raise _finish(spath, reader.problems)
+    return site
+
+
+def check(path: str | os.PathLike[str]) -> m.Site:
+    """Check a site file: the library side of ``notchkit check`` (same as :func:`load_site`)."""
+    return load_site(path)
+
+
+# ---------------------------------------------------------------------------
+# JSON Schema
+# ---------------------------------------------------------------------------
+
+
+def _num_schema(num: Num) -> dict[str, Any]:
+    s: dict[str, Any] = {"type": "integer" if num.integer else "number"}
+    s["exclusiveMinimum" if num.lo_open else "minimum"] = num.lo
+    s["maximum"] = num.hi
+    if num.length_unit_m is None:
+        return s
+    return {"oneOf": [s, {"type": "string", "pattern": LENGTH_PATTERN}]}
+
+
+def _field_schema(fld: Field) -> dict[str, Any]:
+    if fld.kind == "number":
+        s = _num_schema(fld.num)  # type: ignore[arg-type]
+    elif fld.kind == "name":
+        s = {"type": "string", "pattern": NAME_PATTERN}
+    elif fld.kind in ("text", "cable"):
+        s = {"type": "string", "minLength": 1, "maxLength": 200}
+    elif fld.kind == "band":
+        item = _num_schema(_FREQ)
+        s = {"type": "array", "items": item, "minItems": 2, "maxItems": 2}
+    elif fld.kind == "section":
+        s = {"$ref": f"#/$defs/{fld.section}"}
+    elif fld.kind == "list":
+        s = {"type": "array", "items": {"$ref": f"#/$defs/{fld.section}"}}
+    elif fld.kind == "pair":
+        s = {
+            "type": "array",
+            "items": {"type": "string", "pattern": NAME_PATTERN},
+            "minItems": 2,
+            "maxItems": 2,
+        }
+    elif fld.kind == "table":
+        row = {
+            "type": "array",
+            "prefixItems": [_num_schema(_TABLE_FREQ), _num_schema(_TABLE_LOSS)],
+            "minItems": 2,
+            "maxItems": 2,
+        }
+        s = {"type": "array", "items": row}
+    else:  # pragma: no cover - programming error
+        raise ValueError(fld.kind)
+    out = {"description": fld.doc, **s}
+    if fld.default is not None and not isinstance(fld.default, tuple) and fld.kind != "cable":
+        out["default"] = fld.default
+    elif fld.kind == "cable" and fld.default == m.DEFAULT_CABLE:
+        out["default"] = fld.default
+    return out
+
+
+def _section_schema(name: str) -> dict[str, Any]:
+    spec = SECTIONS[name]
+    s: dict[str, Any] = {
+        "type": "object",
+        "properties": {k: _field_schema(f) for k, f in spec.items()},
+        "additionalProperties": False,
+    }
+    required = [k for k, f in spec.items() if f.required]
+    if required:
+        s["required"] = required
+    return s
+
+
+def site_schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of a site file, built from :data:`SECTIONS`.
+
+    ``docs/site-schema.json`` is this, written with ``json.dumps(..., indent=2)``;
+    regenerate it with ``python -m notchkit.site.loader > docs/site-schema.json``.
+    The schema cannot say everything the loader checks (unique names, known
+    cables, lo < hi, exactly one of freq_mhz / band_mhz).
+    """
+    root = _section_schema("site")
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "$id": "https://notchkit.invalid/site-schema.json",
+        "title": "notchkit site file",
+        "description": "A radio site: transmitters, receivers and transceivers sharing one place.",
+        **root,
+        "$defs": {name: _section_schema(name) for name in SECTIONS if name != "site"},
+    }
+
+
+if __name__ == "__main__":  # pragma: no cover
+    import json
+
+    print(json.dumps(site_schema(), indent=2))
