@@ -64,7 +64,7 @@ def format_table(rows) -> str:
         line = [
             c.name,
             f"{c.z0_ohm:g}",
-            f"{c.velocity_factor:.2f}",
+            f"{c.velocity_factor:.3g}",
             c.dielectric or "-",
             _opt(c.outer_diameter_mm, ".1f"),
             _opt(c.max_voltage_v, ".0f"),
