@@ -1,12 +1,153 @@
-"""`notchkit trim` (being built)."""
+"""`notchkit trim`: how much to cut off a stub, from an analyser measurement."""
 
-from notchkit.errors import UsageError
+from __future__ import annotations
+
+import json
+import math
+
+from notchkit.errors import EXIT_OK, UsageError
+from notchkit.trim import SAFETY, inches_16ths, trim
+
+DESCRIPTION = """\
+Read an analyser sweep of a stub (Touchstone .s1p of the stub alone at its input,
+or .s2p through the tee with the stub in place), find its resonance, and with the
+present length back-compute the effective velocity factor and say how much to cut
+off to move the resonance to the target.
+
+--target-mhz is where the measured resonance should be, and --order the number of
+quarter waves of that resonance. Defaults: 1 for a .s1p; for a .s2p 1 for an open
+stub (its quarter-wave notch) and 2 for a shorted stub (a shorted quarter wave is
+transparent through a tee; its notch is the half wave, at twice the frequency).
+"""
+
+
+def _positive_float(name: str):
+    def parse(text: str) -> float:
+        try:
+            value = float(text)
+        except ValueError:
+            raise UsageError(f"{name}: {text!r} is not a number") from None
+        if not (math.isfinite(value) and value > 0):
+            raise UsageError(f"{name}: {text} must be > 0")
+        return value
+
+    return parse
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser("trim", help="(being built)")
+    p = sub.add_parser(
+        "trim",
+        help="how much to cut off a stub, from a measured .s1p/.s2p",
+        description=DESCRIPTION,
+        epilog=SAFETY,
+    )
+    p.add_argument("measurement", metavar="MEASUREMENT", help="Touchstone .s1p or .s2p file")
+    p.add_argument("--cable", required=True, metavar="TYPE",
+                   help="cable type of the stub (see `notchkit cables`)")
+    p.add_argument("--termination", choices=("open", "short"),
+                   help="far end of the stub (may come from --plan)")
+    p.add_argument("--target-mhz", required=True, metavar="F", type=str,
+                   help="where the measured resonance should be, MHz")
+    p.add_argument("--order", type=str, metavar="N",
+                   help="quarter waves of the measured resonance (see above)")
+    p.add_argument("--length-m", type=str, metavar="L",
+                   help="present physical length of the stub, m (overrides --plan)")
+    p.add_argument("--plan", metavar="PLAN.json", help="plan JSON from `notchkit plan --outdir`")
+    p.add_argument("--stub", metavar="ID", help="stub id in the plan, e.g. F1-S2")
+    p.add_argument("--plan-length", choices=("cut", "first-cut"), default="cut",
+                   help="which plan length is on the bench: cut_length_m (cut to plan, "
+                        "default) or first_cut_m (cut long with the trim margin)")
+    p.add_argument("--allowance-m", type=str, metavar="A",
+                   help="fixed electrical length inside the measurement that trimming does not "
+                        "change (tee allowance), m; default: from the plan for a .s2p, else 0")
+    p.add_argument("--json", action="store_true", help="print JSON instead of text")
+    p.add_argument("--png", metavar="FILE", help="write a plot of the measurement (PNG)")
     p.set_defaults(run=run)
 
 
+def _order(text: str | None) -> int | None:
+    if text is None:
+        return None
+    try:
+        value = int(text)
+    except ValueError:
+        raise UsageError(f"--order: {text!r} must be a whole number of quarter waves >= 1") from None
+    if value < 1:
+        raise UsageError(f"--order: {value} must be a whole number of quarter waves >= 1")
+    return value
+
+
+def _allowance(text: str | None) -> float | None:
+    if text is None:
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        raise UsageError(f"--allowance-m: {text!r} is not a number") from None
+    if not (math.isfinite(value) and value >= 0):
+        raise UsageError(f"--allowance-m: {text} must be a length in metres >= 0")
+    return value
+
+
+def format_text(result) -> str:
+    """The human report for a :class:`notchkit.trim.TrimResult`."""
+    r = result.resonance
+    kind = "notch (S21)" if r.ports == 2 else f"{r.kind} resonance"
+    lines = [
+        f"measurement  {result.measurement} ({r.ports}-port, "
+        f"{result.sweep_mhz[0]:.4g}-{result.sweep_mhz[1]:.4g} MHz)",
+        f"stub         {result.termination}, {result.cable}, order {result.order} "
+        f"(quarter waves)",
+        f"resonance    {r.freq_mhz:.4f} MHz {kind}, depth {r.depth_db:.1f} dB, "
+        + ("Q not resolved" if r.q is None else f"Q {r.q:.0f}")
+        + ("" if result.q_expected is None else f" (cable alone ~{result.q_expected:.0f})"),
+        f"target       {result.target_mhz:.4f} MHz: measured/target {result.ratio:.5f} "
+        f"({'shorten' if result.shorten_pct >= 0 else 'lengthen'} by "
+        f"{abs(result.shorten_pct):.2f} %)",
+    ]
+    if result.present_length_m is not None:
+        lines.append(
+            f"length       {result.present_length_m:.4f} m now ({result.length_source})"
+            + (f" + {result.allowance_m:.4f} m allowance" if result.allowance_m else "")
+            + f"; effective VF {result.velocity_factor:.4f} "
+            f"(nominal {result.nominal_velocity_factor:.3f})"
+        )
+        cut = result.cut_m
+        lines.append(
+            f"target len   {result.target_length_m:.4f} m "
+            f"({result.target_length_m / 0.0254:.2f} in); "
+            + (f"cut {cut * 1000:.1f} mm ({inches_16ths(cut)[1]})" if cut >= 0
+               else f"{-cut * 1000:.1f} mm ({inches_16ths(-cut)[1]}) too short")
+        )
+    lines.append(f"advice       {result.advice}")
+    for w in result.warnings:
+        lines.append(f"warning      {w}")
+    lines.append(SAFETY)
+    return "\n".join(lines)
+
+
 def run(args) -> int:
-    raise UsageError("'trim' is not built yet")
+    target = _positive_float("--target-mhz")(args.target_mhz)
+    length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
+    if (args.plan is None) != (args.stub is None):
+        raise UsageError("--plan and --stub go together: give both or neither")
+    if args.termination is None and args.plan is None:
+        raise UsageError("--termination: required (open or short) unless --plan gives it")
+    result = trim(
+        args.measurement,
+        cable=args.cable,
+        termination=args.termination,
+        target_mhz=target,
+        length_m=length,
+        plan_path=args.plan,
+        stub_id=args.stub,
+        plan_length=args.plan_length,
+        order=_order(args.order),
+        allowance_m=_allowance(args.allowance_m),
+        png_path=args.png,
+    )
+    if args.json:
+        print(json.dumps(result.to_json(), indent=2))
+    else:
+        print(format_text(result))
+    return EXIT_OK
