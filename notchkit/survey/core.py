@@ -1,0 +1,414 @@
+"""The site survey: which transmitter threatens which receiver, by how many dB.
+
+See docs/survey.md for the model. Every mechanism is evaluated with numpy over
+index arrays (transmitter x receiver x harmonic / product), and Python only
+builds the result objects.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from notchkit.site.model import Site
+from notchkit.survey import limits, products
+from notchkit.survey.locations import build_filters, too_close
+from notchkit.survey.paths import SiteArrays, check_max_harmonic
+from notchkit.survey.result import NotchFeed, SurveyResult, Threat
+
+
+def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
+    """Find every threat between the site's transmitters and receivers.
+
+    Parameters
+    ----------
+    site : notchkit.site.model.Site
+        The site.
+    max_harmonic : int, optional
+        Highest harmonic evaluated (>= 1; 1: none); default ``site.max_harmonic``.
+
+    Returns
+    -------
+    SurveyResult
+        Threats sorted by excess (worst first), filter requirements per location.
+
+    Raises
+    ------
+    SiteError
+        Values that would make the numbers meaningless (power <= 0, bad bands).
+    UsageError
+        ``max_harmonic`` not an integer >= 1.
+
+    Notes
+    -----
+    level = P_tx - suppression - feedline(tx) - isolation - feedline(rx);
+    excess = level - threshold; required notch depth = excess + rejection margin.
+    """
+    n_harm = check_max_harmonic(site.max_harmonic if max_harmonic is None else max_harmonic)
+    sa = SiteArrays(site)
+    margin = float(site.limits.rejection_margin_db)
+    tx = np.array([i for i, r in enumerate(site.radios) if r.tx is not None], dtype=int)
+    rx = np.array([i for i, r in enumerate(site.radios) if r.rx is not None], dtype=int)
+    notes = list(sa.notes)
+    for i in np.intersect1d(tx, rx):
+        notes.append(
+            f"{sa.names[i]}: its own transmitter is not evaluated against its own receiver "
+            "(shared antenna: that is the duplexer's job)"
+        )
+    ctx = _Ctx(sa, margin)
+    threats: list[Threat] = []
+    if tx.size and rx.size:
+        tt, rr = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
+        keep = tt != rr
+        tt, rr = tt[keep], rr[keep]
+        threats += _fundamental(ctx, tt, rr)
+        if n_harm >= 2:
+            threats += _harmonics(ctx, tt, rr, n_harm)
+        threats += _noise(ctx, tt, rr)
+        threats += _intermod(ctx, tx, rx)
+    threats.sort(key=lambda t: (-t.excess_db, t.victim, t.sources, t.mechanism, t.order, t.f_mhz))
+    return SurveyResult(
+        site=site.name,
+        transmitters=tuple(sa.names[i] for i in tx),
+        receivers=tuple(sa.names[i] for i in rx),
+        threats=tuple(threats),
+        filters=build_filters(site, sa, threats),
+        notes=tuple(notes),
+        max_harmonic=n_harm,
+        rejection_margin_db=margin,
+    )
+
+
+class _Ctx:
+    """Shared state of one survey run."""
+
+    def __init__(self, sa: SiteArrays, margin: float):
+        self.sa = sa
+        self.margin = margin
+        self.names = sa.names
+        self.supp = {}
+        for i, r in enumerate(sa.site.radios):
+            if r.tx is None:
+                continue
+            if r.tx.harmonic_suppression_dbc is not None:
+                self.supp[i] = (float(r.tx.harmonic_suppression_dbc), "radio's harmonic_suppression_dbc")
+            else:
+                self.supp[i] = limits.spurious_suppression_dbc(r.tx.band.centre_mhz, r.tx.power_w)
+
+    def iso_text(self, a: int, b: int, f: float, iso: float, method: int) -> str:
+        return self.sa.describe_isolation(a, b, f, iso, method)
+
+    def feed(self, radio: int, side: str, lo: float, hi: float, required: float, reason: str):
+        """A NotchFeed, or the pass band it would sit too close to."""
+        clash = too_close(lo, hi, self.sa.pass_bands(radio))
+        if clash is not None:
+            return None, clash
+        feed = NotchFeed(
+            radio=self.names[radio], side=side, lo_mhz=lo, hi_mhz=hi, required_db=required, reason=reason
+        )
+        return feed, None
+
+
+def _centre(plo: float, phi: float, olo: float, ohi: float) -> float:
+    """Frequency of a product at the victim.
+
+    The product's own centre when the whole product lies in the receiver's band
+    (a channel product), else the centre of the part that does (ranges).
+    """
+    if olo <= plo and phi <= ohi:
+        return 0.5 * (plo + phi)
+    return 0.5 * (olo + ohi)
+
+
+def _no_stub(where: str, lo: float, hi: float, clash: tuple[float, float], alternative: str) -> str:
+    return (
+        f"no stub: the notch {lo:.4f}-{hi:.4f} MHz at {where} lies within a few % of its pass band "
+        f"{clash[0]:.4f}-{clash[1]:.4f} MHz (too close for coax stubs); {alternative}"
+    )
+
+
+def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
+    sa = ctx.sa
+    f = sa.tx_lo[tt]
+    total, iso, meth = sa.path_db(tt, rr, f)
+    level = sa.p_dbm[tt] - total
+    cochannel = (sa.tx_lo[tt] <= sa.rx_hi[rr]) & (sa.rx_lo[rr] <= sa.tx_hi[tt])
+    thr = np.where(cochannel, sa.rx_threshold[rr], sa.rx_blocking[rr])
+    out = []
+    for k in range(tt.size):
+        t, r = int(tt[k]), int(rr[k])
+        lo, hi = float(sa.tx_lo[t]), float(sa.tx_hi[t])
+        excess = float(level[k] - thr[k])
+        src, vic = ctx.names[t], ctx.names[r]
+        feeds = ()
+        if cochannel[k]:
+            tsrc = sa.rx_threshold_source[r] + " (carrier inside the receiver's band)"
+            remedy = (
+                "carrier inside the receiver's band: no filter can separate them; "
+                "coordinate frequencies or time-share"
+            )
+        else:
+            tsrc = sa.rx_blocking_source[r]
+            remedy = f"rx-side filter at {vic}: notch {src}'s band, pass {vic}'s band"
+            if excess > 0:
+                fd, clash = ctx.feed(
+                    r, "rx", lo, hi, excess + ctx.margin, f"{src} fundamental overloads {vic}"
+                )
+                if fd is None:
+                    remedy = _no_stub(
+                        f"{vic}'s input", lo, hi, clash,
+                        "use cavities or a duplexer, or more antenna separation",
+                    )
+                else:
+                    feeds = (fd,)
+            else:
+                remedy = "none needed (" + remedy + " if it were)"
+        out.append(
+            Threat(
+                sources=(src,), victim=vic, mechanism="fundamental", order=1, product=src,
+                f_mhz=0.5 * (lo + hi), f_lo_mhz=lo, f_hi_mhz=hi,
+                level_dbm=float(level[k]), threshold_dbm=float(thr[k]), threshold_source=tsrc,
+                excess_db=excess, required_db=excess + ctx.margin, isolation_db=float(iso[k]),
+                isolation_method=ctx.iso_text(t, r, float(f[k]), float(iso[k]), int(meth[k])),
+                remedy=remedy, feeds=feeds,
+            )
+        )  # fmt: skip
+    return out
+
+
+def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[Threat]:
+    sa = ctx.sa
+    nh = np.arange(2, n_harm + 1, dtype=float)[:, None]
+    hlo, hhi = nh * sa.tx_lo[tt][None, :], nh * sa.tx_hi[tt][None, :]
+    olo, ohi, hit = products.intersect(hlo, hhi, sa.rx_lo[rr][None, :], sa.rx_hi[rr][None, :])
+    hi_idx, pair = np.nonzero(hit)
+    if pair.size == 0:
+        return []
+    t, r = tt[pair], rr[pair]
+    n = nh[hi_idx, 0]
+    f = olo[hi_idx, pair]
+    total, iso, meth = sa.path_db(t, r, f)
+    supp = np.array([ctx.supp[int(i)][0] for i in t])
+    level = sa.p_dbm[t] - supp - total
+    thr = sa.rx_threshold[r]
+    out = []
+    for k in range(pair.size):
+        ti, ri, order = int(t[k]), int(r[k]), int(n[k])
+        lo, hi = float(olo[hi_idx[k], pair[k]]), float(ohi[hi_idx[k], pair[k]])
+        excess = float(level[k] - thr[k])
+        src, vic = ctx.names[ti], ctx.names[ri]
+        remedy = (
+            f"tx-side filter at {src}: notch its harmonic {order} ({lo:.4f}-{hi:.4f} MHz), "
+            f"pass {src}'s fundamental (a harmonic inside {vic}'s band can only be removed "
+            "at the transmitter)"
+        )
+        feeds = ()
+        if excess > 0:
+            reason = f"{src} harmonic {order} into {vic}"
+            fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, reason)
+            if fd is None:
+                alt = "use a cavity or low-pass filter at the transmitter"
+                remedy = _no_stub(f"{src}'s output", lo, hi, clash, alt)
+            else:
+                feeds = (fd,)
+        else:
+            remedy = "none needed (" + remedy + ")"
+        out.append(
+            Threat(
+                sources=(src,), victim=vic, mechanism="harmonic", order=order, product=f"{order}*{src}",
+                f_mhz=_centre(order * float(sa.tx_lo[ti]), order * float(sa.tx_hi[ti]), lo, hi),
+                f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[k]), threshold_dbm=float(thr[k]),
+                threshold_source=sa.rx_threshold_source[ri], excess_db=excess,
+                required_db=excess + ctx.margin, isolation_db=float(iso[k]),
+                isolation_method=ctx.iso_text(ti, ri, float(f[k]), float(iso[k]), int(meth[k])),
+                remedy=remedy, details=(f"suppression {supp[k]:.1f} dB: {ctx.supp[ti][1]}",),
+                feeds=feeds,
+            )
+        )  # fmt: skip
+    return out
+
+
+def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
+    sa = ctx.sa
+    radios = sa.site.radios
+    has = np.array([radios[int(t)].tx.noise_dbc_hz is not None for t in tt], dtype=bool)
+    if not has.any():
+        return []
+    t, r = tt[has], rr[has]
+    dbc = np.array([radios[int(i)].tx.noise_dbc_hz for i in t], dtype=float)
+    f = sa.rx_lo[r]
+    total, iso, meth = sa.path_db(t, r, f)
+    level = sa.p_dbm[t] + dbc + 10.0 * np.log10(sa.rx_bandwidth_hz[r]) - total
+    thr = sa.rx_floor[r]
+    out = []
+    for k in range(t.size):
+        ti, ri = int(t[k]), int(r[k])
+        lo, hi = float(sa.rx_lo[ri]), float(sa.rx_hi[ri])
+        excess = float(level[k] - thr[k])
+        src, vic = ctx.names[ti], ctx.names[ri]
+        remedy = f"tx-side filter at {src}: notch {vic}'s band, pass {src}'s band"
+        feeds = ()
+        if excess > 0:
+            fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, f"{src} noise into {vic}")
+            if fd is None:
+                remedy = _no_stub(f"{src}'s output", lo, hi, clash,
+                                  "use a band-pass cavity at the transmitter, or more separation")
+            else:
+                feeds = (fd,)
+        else:
+            remedy = "none needed (" + remedy + ")"
+        out.append(
+            Threat(
+                sources=(src,), victim=vic, mechanism="noise", order=0, product=f"{src} noise",
+                f_mhz=0.5 * (lo + hi), f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[k]),
+                threshold_dbm=float(thr[k]),
+                threshold_source="noise floor kTB + NF + 10log B", excess_db=excess,
+                required_db=excess + ctx.margin, isolation_db=float(iso[k]),
+                isolation_method=ctx.iso_text(ti, ri, float(f[k]), float(iso[k]), int(meth[k])),
+                remedy=remedy, details=(f"transmitter noise {dbc[k]:g} dBc/Hz",), feeds=feeds,
+            )
+        )  # fmt: skip
+    return out
+
+
+def _intermod(ctx: _Ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
+    sa = ctx.sa
+    if tx.size < 2 or rx.size == 0:
+        return []
+    # Signal of transmitter o arriving at transmitter m's output stage: inc[o, m] (dBm).
+    oo, mm = (a.ravel() for a in np.meshgrid(tx, tx, indexing="ij"))
+    total, iso_in, meth_in = sa.path_db(oo, mm, sa.tx_lo[oo])
+    n = len(sa.names)
+    inc = np.full((n, n), -np.inf)
+    inc_iso = np.zeros((n, n))
+    inc_meth = np.zeros((n, n), dtype=int)
+    inc[oo, mm] = sa.p_dbm[oo] - total
+    inc_iso[oo, mm], inc_meth[oo, mm] = iso_in, meth_in
+    inc[tx, tx] = -np.inf
+    cl = {}
+    for order in (3, 5):
+        arr = np.zeros(n)
+        for i in tx:
+            arr[i] = limits.im_conversion_db(sa.site.radios[int(i)].tx.im_conversion_db, order)[0]
+        cl[order] = arr
+    out: list[Threat] = []
+    for coeffs, combos in ((products.TWO_TONE, products.pairs(tx.size)),
+                           (products.THREE_TONE, products.triples(tx.size))):  # fmt: skip
+        if combos.size == 0:
+            continue
+        radios_c = tx[combos]  # (n_comb, k) radio indices
+        plo, phi = products.combine(coeffs, sa.tx_lo[radios_c], sa.tx_hi[radios_c])
+        olo, ohi, hit = products.intersect(
+            plo[:, :, None], phi[:, :, None], sa.rx_lo[rx][None, None, :], sa.rx_hi[rx][None, None, :]
+        )
+        ci, ki, ri = np.nonzero(hit)
+        if ci.size:
+            out += _im_threats(ctx, coeffs, radios_c, ci, ki, rx[ri], plo, phi, olo, ohi, ri, inc,
+                               inc_iso, inc_meth, cl)  # fmt: skip
+    return out
+
+
+def _im_threats(ctx, coeffs, radios_c, ci, ki, victim, plo, phi, olo, ohi, ri, inc, inc_iso,
+                inc_meth, cl) -> list[Threat]:  # fmt: skip
+    sa = ctx.sa
+    src = radios_c[ci]  # (h, k)
+    h, k = src.shape
+    order = products.orders(coeffs)[ki]
+    flo = olo[ci, ki, ri]
+    fhi = ohi[ci, ki, ri]
+    thr = sa.rx_threshold[victim]
+    route = np.full((h, k), -np.inf)
+    formed = np.full((h, k), -np.inf)
+    iso_out = np.zeros((h, k))
+    meth_out = np.zeros((h, k), dtype=int)
+    conv = np.where(order == 3, 0, 1)
+    for p in range(k):  # k is 2 or 3: loop over the mixer's position in the combination
+        mixer = src[:, p]
+        others = np.delete(src, p, axis=1)
+        incoming = inc[others, mixer[:, None]].min(axis=1)
+        cl_m = np.where(conv == 0, cl[3][mixer], cl[5][mixer])
+        formed[:, p] = incoming - cl_m
+        total, iso, meth = sa.path_db(mixer, victim, flo)
+        iso_out[:, p], meth_out[:, p] = iso, meth
+        route[:, p] = np.where(mixer == victim, -np.inf, formed[:, p] - total)
+    best = np.argmax(route, axis=1)
+    rows = np.arange(h)
+    level = route[rows, best]
+    out = []
+    names = ctx.names
+    for j in range(h):
+        s = [int(v) for v in src[j]]
+        v = int(victim[j])
+        m = s[int(best[j])]
+        c = coeffs[ki[j]]
+        lo, hi = float(flo[j]), float(fhi[j])
+        excess = float(level[j] - thr[j])
+        product = _product_label(c, [names[i] for i in s])
+        feeds = []
+        clashes = []
+        for p in range(k):
+            route_excess = float(route[j, p] - thr[j])
+            if not math.isfinite(route_excess) or route_excess <= 0:
+                continue
+            mix = s[p]
+            for o in s:
+                if o == mix:
+                    continue
+                reason = f"{names[o]} into {names[mix]}'s output stage forms {product} into {names[v]}"
+                fd, clash = ctx.feed(mix, "tx", float(sa.tx_lo[o]), float(sa.tx_hi[o]),
+                                     route_excess + ctx.margin, reason)  # fmt: skip
+                if fd is None:
+                    clashes.append((names[mix], names[o], clash))
+                else:
+                    feeds.append(fd)
+        remedy = (
+            f"tx-side filter at {names[m]}: notch the other transmitters' fundamentals "
+            f"({', '.join(names[i] for i in s if i != m)}) at its output"
+        )
+        if excess <= 0:
+            remedy = "none needed (" + remedy + ")"
+        elif clashes:
+            remedy = "; ".join(
+                f"no stub at {mx} for {o}: {o}'s band lies within a few % of {mx}'s pass band "
+                f"{cl_[0]:.4f}-{cl_[1]:.4f} MHz; use a ferrite isolator/circulator or cavities "
+                "at the transmitter, or more antenna separation"
+                for mx, o, cl_ in clashes
+            ) + ("" if not feeds else "; stubs elsewhere: " + remedy)
+        mixer_txt = (
+            f"mixer {names[m]}: incoming "
+            + ", ".join(
+                f"{names[o]} {inc[o, m]:.1f} dBm via "
+                + ctx.iso_text(o, m, float(sa.tx_lo[o]), float(inc_iso[o, m]), int(inc_meth[o, m]))
+                for o in s if o != m
+            )
+            + f"; formed {formed[j, best[j]]:.1f} dBm; conversion "
+            + limits.im_conversion_db(sa.site.radios[m].tx.im_conversion_db, int(order[j]))[1]
+        )  # fmt: skip
+        out.append(
+            Threat(
+                sources=tuple(names[i] for i in s), victim=names[v], mechanism="intermod",
+                order=int(order[j]), product=product,
+                f_mhz=_centre(float(plo[ci[j], ki[j]]), float(phi[ci[j], ki[j]]), lo, hi),
+                f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[j]), threshold_dbm=float(thr[j]),
+                threshold_source=sa.rx_threshold_source[v], excess_db=excess,
+                required_db=excess + ctx.margin, isolation_db=float(iso_out[j, best[j]]),
+                isolation_method=ctx.iso_text(m, v, lo, float(iso_out[j, best[j]]),
+                                              int(meth_out[j, best[j]])),
+                remedy=remedy, mixer=names[m], details=(mixer_txt,), feeds=tuple(feeds),
+            )
+        )  # fmt: skip
+    return out
+
+
+def _product_label(c: np.ndarray, names: list[str]) -> str:
+    terms = []
+    for coef, name in zip(c, names, strict=True):
+        mag = abs(int(coef))
+        term = f"{mag}*{name}" if mag != 1 else name
+        sign = "-" if coef < 0 else "+"
+        terms.append((sign, term))
+    text = ("-" if terms[0][0] == "-" else "") + terms[0][1]
+    for sign, term in terms[1:]:
+        text += f" {sign} {term}"
+    return text

@@ -1,0 +1,106 @@
+"""Default figures the survey uses when a radio does not give its own.
+
+Each default names where it comes from; the survey marks every threat that
+rests on one.
+"""
+
+from __future__ import annotations
+
+import math
+
+K_BOLTZMANN_J_PER_K = 1.380649e-23
+"""Boltzmann constant, J/K (exact in the 2019 SI)."""
+T0_K = 290.0
+"""Standard noise temperature, K (IEEE / ITU-R reference)."""
+KTB_DBM_PER_HZ = 10.0 * math.log10(K_BOLTZMANN_J_PER_K * T0_K * 1000.0)
+"""Thermal noise power density kT at 290 K in dBm/Hz: -173.98 (often quoted as -174)."""
+
+DEFAULT_BLOCKING_DBM = -30.0
+"""Off-channel carrier level at a receiver input taken to start desensitising it,
+when ``Receive.blocking_dbm`` is not given. From memory: land-mobile receiver
+blocking requirements of about 84 dBuV e.m.f. (ETSI EN 300 086), i.e. about -29 dBm
+available power into 50 ohm, rounded to -30 dBm. A rough figure: give the
+radio's own blocking figure where known."""
+
+DEFAULT_IM_CONVERSION_DB = 10.0
+"""Loss from a signal entering a transmitter's output stage to the 3rd-order
+product it radiates ("turnaround loss"), when ``Transmit.im_conversion_db`` is
+not given. Common practice quotes 5-20 dB for solid-state output stages; 10 dB
+is the conservative side."""
+
+IM_EXTRA_PER_ORDER_DB = 10.0
+"""Extra conversion loss for each order above 3 per two orders (5th order =
+3rd + 10 dB). Common practice, rough."""
+
+SPURIOUS_RULES = (
+    "47 CFR 97.307(d): below 30 MHz, transmitters installed after 2003-01-01: 43 dB",
+    "47 CFR 97.307(e): 30-225 MHz: 60 dB; at 25 W or less: spurious <= 25 uW and >= 40 dB "
+    "below the fundamental, need not be below 10 uW",
+    "ITU-R SM.329 Category A, amateur services at 30 MHz and above (from memory): "
+    "43 + 10 log10 P(W) or 70 dBc, whichever is less stringent",
+)
+
+
+def spurious_suppression_dbc(freq_mhz: float, power_w: float) -> tuple[float, str]:
+    """Published spurious-emission limit for an amateur transmitter, as suppression in dB.
+
+    Parameters
+    ----------
+    freq_mhz : float
+        The transmitter's fundamental frequency, MHz.
+    power_w : float
+        Mean transmitter power, W (> 0).
+
+    Returns
+    -------
+    suppression_db : float
+        How far (dB, >= 0) the limit puts a spurious emission below the carrier.
+    source : str
+        The rule it comes from.
+
+    Notes
+    -----
+    Below 30 MHz: 43 dB (47 CFR 97.307(d), transmitters installed after
+    1 January 2003). 30-225 MHz: 60 dB; for 25 W or less the spurious power
+    must not exceed 25 uW and be at least 40 dB down, but need not be below
+    10 uW (47 CFR 97.307(e)), so the allowed level is
+    max(min(25 uW, P/10^4), 10 uW). At 225 MHz and above Part 97 gives no
+    figure; ITU-R SM.329 Category A for amateur services is used: the less
+    stringent of 43 + 10 log10 P and 70 dBc (from memory).
+
+    References
+    ----------
+    47 CFR 97.307(d), (e) (US amateur service emission standards);
+    Recommendation ITU-R SM.329, Table of Category A limits.
+    """
+    if freq_mhz < 30.0:
+        return 43.0, "default: 47 CFR 97.307(d), 43 dB below 30 MHz"
+    if freq_mhz < 225.0:
+        if power_w > 25.0:
+            return 60.0, "default: 47 CFR 97.307(e), 60 dB for 30-225 MHz above 25 W"
+        allowed_w = max(min(25e-6, power_w * 1e-4), 10e-6)
+        supp = max(0.0, 10.0 * math.log10(power_w / allowed_w))
+        return supp, "default: 47 CFR 97.307(e), 25 W or less: 25 uW / 40 dB / 10 uW"
+    supp = min(43.0 + 10.0 * math.log10(power_w), 70.0)
+    return max(0.0, supp), (
+        "default: ITU-R SM.329 Cat. A amateur >= 30 MHz, min(43 + 10log P, 70 dBc) (from memory)"
+    )
+
+
+def noise_floor_dbm(noise_figure_db: float, bandwidth_khz: float) -> float:
+    """Receiver noise floor kTB + NF + 10 log10(B) in dBm (B in Hz, T = 290 K)."""
+    return KTB_DBM_PER_HZ + noise_figure_db + 10.0 * math.log10(bandwidth_khz * 1e3)
+
+
+def im_conversion_db(given_db: float | None, order: int) -> tuple[float, str]:
+    """Conversion loss for an intermodulation product of ``order`` (3 or 5)."""
+    extra = IM_EXTRA_PER_ORDER_DB * (order - 3) / 2.0
+    if given_db is not None:
+        return given_db + extra, f"radio's im_conversion_db {given_db:g} dB" + (
+            f" + {extra:g} dB for order {order} (common practice)" if extra else ""
+        )
+    return DEFAULT_IM_CONVERSION_DB + extra, (
+        f"default turnaround loss {DEFAULT_IM_CONVERSION_DB:g} dB"
+        + (f" + {extra:g} dB for order {order}" if extra else "")
+        + " (common practice)"
+    )

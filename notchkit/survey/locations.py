@@ -1,0 +1,83 @@
+"""Filter locations: turn the threats' notch requests into FilterRequirements."""
+
+from __future__ import annotations
+
+from notchkit.requirements import FilterRequirement, NotchSpec
+from notchkit.site.model import Band, Site
+
+TOO_CLOSE_FRACTION = 0.03
+"""A notch closer to one of the filter's pass bands than this fraction of the pass
+band's centre frequency (gap < 3 % of f) is not asked of coax stubs: a stub's
+response is too broad to reject one and pass the other with the loss and SWR
+limits of a site filter (rule of this project, from the trade's experience that
+close spacings such as repeater splits need cavities or duplexers)."""
+
+MAX_REASONS = 3
+"""Reasons listed per merged notch before '... and N more'."""
+
+
+def too_close(lo: float, hi: float, pass_bands) -> tuple[float, float] | None:
+    """The first pass band that the notch [lo, hi] overlaps or comes within the rule of."""
+    for plo, phi in pass_bands:
+        gap = max(lo - phi, plo - hi, 0.0)
+        if gap < TOO_CLOSE_FRACTION * 0.5 * (plo + phi):
+            return (plo, phi)
+    return None
+
+
+def build_filters(site: Site, sa, threats) -> tuple[FilterRequirement, ...]:
+    """One FilterRequirement per (radio, side) that some threat with positive excess needs.
+
+    Overlapping (or touching) notch bands at one location are unioned and the
+    deeper requirement kept; pass bands are the radio's own tx and rx bands.
+    """
+    by_loc: dict[tuple[str, str], list] = {}
+    for t in threats:
+        if t.excess_db <= 0:
+            continue
+        for f in t.feeds:
+            by_loc.setdefault((f.radio, f.side), []).append(f)
+    index = {name: i for i, name in enumerate(sa.names)}
+    out = []
+    for radio in site.radios:
+        for side in ("tx", "rx"):
+            feeds = by_loc.get((radio.name, side))
+            if not feeds:
+                continue
+            notches, reasons = _merge(feeds)
+            i = index[radio.name]
+            out.append(
+                FilterRequirement(
+                    radio=radio.name,
+                    side=side,
+                    pass_bands=tuple(Band(lo_mhz=lo, hi_mhz=hi) for lo, hi in sa.pass_bands(i)),
+                    notches=notches,
+                    cable=radio.stub_cable or site.cable,
+                    power_w=None if radio.tx is None else radio.tx.power_w,
+                    power_mhz=None if radio.tx is None else radio.tx.band.centre_mhz,
+                    reasons=reasons,
+                )
+            )
+    return tuple(out)
+
+
+def _merge(feeds) -> tuple[tuple[NotchSpec, ...], tuple[str, ...]]:
+    feeds = sorted(feeds, key=lambda f: (f.lo_mhz, f.hi_mhz))
+    groups: list[list] = []
+    for f in feeds:
+        if groups and f.lo_mhz <= groups[-1][1]:
+            g = groups[-1]
+            g[1] = max(g[1], f.hi_mhz)
+            g[2] = max(g[2], f.required_db)
+            if f.reason not in g[3]:
+                g[3].append(f.reason)
+        else:
+            groups.append([f.lo_mhz, f.hi_mhz, f.required_db, [f.reason]])
+    notches = tuple(NotchSpec(lo_mhz=lo, hi_mhz=hi, required_db=req) for lo, hi, req, _ in groups)
+    reasons = []
+    for *_, rs in groups:
+        text = "; ".join(rs[:MAX_REASONS])
+        if len(rs) > MAX_REASONS:
+            text += f"; and {len(rs) - MAX_REASONS} more"
+        reasons.append(text)
+    return notches, tuple(reasons)
