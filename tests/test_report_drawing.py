@@ -1,0 +1,58 @@
+"""The arrangement drawing (notchkit.report.drawing).
+
+What the drawing must show follows the filter model's own contract (DEVELOPERS.md):
+consecutive stubs share one tee, an open end is drawn open and a shorted end
+grounded (common practice for schematic symbols), every stub and every line
+section carries its label.
+"""
+
+from __future__ import annotations
+
+from matplotlib.patches import Circle
+
+from notchkit.cables import get_cable
+from notchkit.cutlist import format_length
+from notchkit.filters import Filter, Line, Stub
+from notchkit.report.drawing import arrangement_figure, default_stub_labels
+
+CABLE = get_cable("RG-213")
+
+
+def _filter():
+    elements = (Stub(termination="open", length_m=0.50), Line(length_m=0.34),
+                Stub(termination="short", length_m=0.70), Stub(termination="open", length_m=0.30))
+    return Filter(elements=elements, cable=CABLE, tee_allowance_m=0.03)
+
+
+def _texts(fig):
+    return [t.get_text() for t in fig.axes[0].texts]
+
+
+def test_one_tee_per_stub_group_and_end_symbols_by_termination():
+    filt = _filter()
+    fig = arrangement_figure(filt)
+    circles = [p for p in fig.axes[0].patches if isinstance(p, Circle)]
+    filled = [c for c in circles if c.get_facecolor()[:3] == (0.0, 0.0, 0.0)]
+    hollow = [c for c in circles if c.get_facecolor()[:3] == (1.0, 1.0, 1.0)]
+    assert len(filled) == len(filt.tees()) == 2
+    assert len(hollow) == sum(s.termination == "open" for s in filt.stubs) == 2
+    assert _texts(fig).count("tee") == 2
+
+
+def test_every_stub_and_line_is_labelled_with_its_cut_length():
+    filt = _filter()
+    text = "\n".join(_texts(arrangement_figure(filt, units="metric")))
+    for stub in filt.stubs:
+        assert format_length(filt.cut_length_m(stub), "metric") in text
+    assert format_length(0.34, "metric") in text  # the line section
+    assert "RADIO" in text and "ANTENNA" in text
+
+
+def test_caller_labels_are_used_verbatim():
+    filt = _filter()
+    labels = ["F1-S1", "F1-S2", "F1-S3"]
+    fig = arrangement_figure(filt, stub_labels=labels, line_labels=["L1"])
+    texts = _texts(fig)
+    for lab in labels:
+        assert lab in texts
+    assert len(default_stub_labels(filt)) == 3
