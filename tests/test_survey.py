@@ -421,7 +421,7 @@ def _brute_force_products(freqs, rx_bands):
     """Independent reference: every 2- and 3-tone product by plain loops (channels only)."""
     hits = set()
     names = list(freqs)
-    for (i, a), (j, b) in itertools.combinations(enumerate(names), 2):
+    for a, b in itertools.combinations(names, 2):
         for c1, c2 in TWO_TONE:
             f = abs(c1 * freqs[a] + c2 * freqs[b])
             for v, (lo, hi) in rx_bands.items():
