@@ -49,11 +49,12 @@ _PLAIN_TAGS = frozenset({_STR, _INT, _FLOAT, _BOOL, _NULL, _MAP, _SEQ})
 
 _LENGTH_UNITS_M = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048, "in": 0.0254}
 """Metres per unit; the foot and inch are exact by definition (international yard, 1959)."""
-_LENGTH_RE = re.compile(
-    r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(m|cm|mm|ft|in)\s*$"
-)
-LENGTH_PATTERN = r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?\s*(m|cm|mm|ft|in)\s*$"
-"""The text form of a length (JSON Schema pattern): a number and a unit, e.g. ``"12 ft"``."""
+_NUMBER_TEXT = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?"
+_FRACTION_TEXT = r"(?:\d+\s+)?\d+/\d+"
+LENGTH_PATTERN = rf"^\s*(?:{_NUMBER_TEXT}|{_FRACTION_TEXT})\s*(?:m|cm|mm|ft|in)\s*$"
+"""The text form of a length (also the JSON Schema pattern): a number and a unit,
+e.g. ``"12 ft"``, ``"3.5 m"``, ``"1/16 in"``, ``"3 1/2 in"``."""
+_LENGTH_RE = re.compile(rf"^\s*({_NUMBER_TEXT}|{_FRACTION_TEXT})\s*(m|cm|mm|ft|in)\s*$")
 _NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$")
 NAME_PATTERN = r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$"
 _NAME_ALLOWED = "1-40 letters, digits, '-', '_' or '.', starting with a letter or digit"
@@ -491,7 +492,7 @@ def _compose(path: str, text: str) -> yaml.Node | None:
                     exc.mark.line + 1,
                     exc.mark.column + 1,
                     "",
-                    f"nested deeper than {MAX_DEPTH} levels (a site file needs at most 5)",
+                    f"nested deeper than {MAX_DEPTH} levels (a site file nests at most 6)",
                 )
             ]
         ) from None
@@ -499,16 +500,19 @@ def _compose(path: str, text: str) -> yaml.Node | None:
         mark = exc.problem_mark or exc.context_mark
         line, col = (mark.line + 1, mark.column + 1) if mark else (0, 0)
         what = exc.problem or "cannot be parsed"
+        context = ""
         if exc.context:
-            what = f"{exc.context}: {what}"
-            if exc.context_mark is not None and exc.context_mark is not mark:
-                what += f" (started at line {exc.context_mark.line + 1})"
+            context = exc.context
+            if exc.context_mark is not None and exc.context_mark.line != getattr(mark, "line", None):
+                context += f" from line {exc.context_mark.line + 1}"
+            context += "; "
         hint = "check the indentation, quotes and brackets"
         if "'\\t'" in what:
             hint = "indent with spaces, never tabs"
-        elif "expected a single document" in what:
-            hint = "one site per file; remove the '---' separator"
-        raise SiteError([Problem(path, line, col, "", f"YAML syntax: {what} ({hint})")]) from None
+        elif "expected a single document" in context:
+            what, context = "a second document starts here", ""
+            hint = "one site per file; split the file at the '---'"
+        raise SiteError([Problem(path, line, col, "", f"YAML syntax: {what} ({context}{hint})")]) from None
     except yaml.reader.ReaderError as exc:
         line, col = _line_col(text, exc.position)
         raise SiteError(
@@ -518,7 +522,7 @@ def _compose(path: str, text: str) -> yaml.Node | None:
                     line,
                     col,
                     "",
-                    f"control character {exc.character!r} is not allowed in YAML "
+                    f"control character U+{exc.character:04X} is not allowed in YAML "
                     "(remove it; only printable text, tabs and newlines)",
                 )
             ]
@@ -575,6 +579,17 @@ def _shown(node: yaml.ScalarNode) -> str:
     return repr(text)
 
 
+def _length_number(text: str) -> float | None:
+    """The number in a length's text: ``12``, ``3.5``, ``1/16`` or ``3 1/2``; ``None`` for x/0."""
+    if "/" not in text:
+        return float(text)
+    whole, _, frac = text.strip().rpartition(" ")
+    num, den = frac.split("/")
+    if int(den) == 0:
+        return None
+    return (int(whole) if whole.strip() else 0) + int(num) / int(den)
+
+
 def _looks_numeric(text: str) -> bool:
     try:
         float(text)
@@ -618,7 +633,7 @@ class _Reader:
                     node,
                     "",
                     f"nested deeper than {MAX_DEPTH} levels counting through aliases "
-                    "(an alias may refer to itself; a site file needs at most 5)",
+                    "(an alias may refer to itself; a site file nests at most 6)",
                 )
                 raise _Stop
             if isinstance(node, yaml.MappingNode):
@@ -660,6 +675,9 @@ class _Reader:
         out: dict[str, tuple[Any, yaml.Node]] = {}
         first: dict[str, yaml.Node] = {}
         for knode, vnode in node.value:
+            if knode.tag == _YAML + "merge":
+                self.add(knode, path, "merge keys '<<' are not supported (write the keys out in full)")
+                continue
             if self.tag_bad(knode, path):
                 continue
             if not isinstance(knode, yaml.ScalarNode) or knode.tag not in (_STR, _INT, _FLOAT, _BOOL):
@@ -667,9 +685,6 @@ class _Reader:
                 continue
             key = knode.value
             fpath = _join(path, key)
-            if knode.tag == _YAML + "merge" or key == "<<":
-                self.add(knode, path, "merge keys '<<' are not supported (write the keys out)")
-                continue
             if key in first:
                 self.add(
                     knode,
@@ -746,7 +761,7 @@ class _Reader:
             return _BAD
         allowed = num.allowed()
         if num.length_unit_m is not None:
-            allowed += " or text with a unit, e.g. '12 ft' (m, cm, mm, ft, in)"
+            allowed += " or text with a unit, e.g. '12 ft', '3 1/2 in' (m, cm, mm, ft, in)"
         if not isinstance(node, yaml.ScalarNode):
             self.add(node, path, f"expected a number, got {_kind(node)} (allowed: {allowed})")
             return _BAD
@@ -770,7 +785,9 @@ class _Reader:
         elif node.tag == _STR:
             match = _LENGTH_RE.match(node.value) if num.length_unit_m is not None else None
             if match:
-                value = float(match.group(1)) * _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
+                value = _length_number(match.group(1))
+                if value is not None:
+                    value *= _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
             elif node.style is None:
                 try:  # plain 1e12 or nan: YAML 1.1 reads these as text; read them as numbers
                     value = float(node.value)
