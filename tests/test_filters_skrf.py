@@ -1,0 +1,137 @@
+"""Every filter equals the same network built independently with scikit-rf's own media.
+
+The reference is scikit-rf 2.x: ``skrf.media.DefinedGammaZ0`` with the cable's
+propagation constant and characteristic impedance (``z0``, the line's own
+impedance) and the port reference ``z0_port`` = the system impedance, then
+``shunt_delay_open`` / ``shunt_delay_short`` / ``line`` cascaded with ``**``.
+Nothing from notchkit.lines or notchkit.filters is used to build the reference:
+only the medium's ``alpha_np_per_m``, ``velocity_factor`` and ``z0_ohm``.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import skrf
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from notchkit.cables import Cable, library
+from notchkit.filters import Filter, Line, Stub, evaluate, evaluate_batch, to_network
+
+C0 = 299_792_458.0  # m/s, SI definition
+FREQ_HZ = np.linspace(1e6, 1.2e9, 97)
+SETTINGS = settings(max_examples=200, derandomize=True, deadline=None,
+                    suppress_health_check=[HealthCheck.too_slow])
+
+
+def skrf_reference(kinds, lengths_m, cable, freq_hz, z_system):
+    """The filter built from scikit-rf media only."""
+    freq = skrf.Frequency.from_f(freq_hz, unit="hz")
+    alpha = cable.alpha_np_per_m(freq_hz)
+    gam = alpha + 1j * 2 * np.pi * freq_hz / (C0 * cable.velocity_factor)
+    media = skrf.media.DefinedGammaZ0(frequency=freq, z0_port=z_system, z0=cable.z0_ohm,
+                                      gamma=gam)
+    parts = []
+    for kind, length in zip(kinds, lengths_m, strict=True):
+        if kind == "open":
+            parts.append(media.shunt_delay_open(length, unit="m"))
+        elif kind == "short":
+            parts.append(media.shunt_delay_short(length, unit="m"))
+        else:
+            parts.append(media.line(length, unit="m"))
+    net = parts[0]
+    for p in parts[1:]:
+        net = net**p
+    return net.s
+
+
+def build(kinds, lengths_m, cable):
+    elements = tuple(
+        Line(length_m=x) if k == "line" else Stub(termination=k, length_m=x)
+        for k, x in zip(kinds, lengths_m, strict=True)
+    )
+    return Filter(elements=elements, cable=cable)
+
+
+CABLES = list(library()) + [
+    Cable(name="lossless 75", z0_ohm=75.0, velocity_factor=0.83),
+    Cable.from_table(name="lossy 93", z0_ohm=93.0, velocity_factor=0.84,
+                     loss_table=((10, 3.0), (100, 11.0), (1000, 40.0))),
+]
+
+
+@st.composite
+def topologies(draw):
+    n = draw(st.integers(min_value=1, max_value=5))
+    kinds = draw(st.lists(st.sampled_from(["open", "short", "line"]), min_size=n, max_size=n))
+    if "line" in kinds and all(k == "line" for k in kinds):
+        kinds[0] = "open"
+    if not any(k != "line" for k in kinds):
+        kinds.append("short")
+    lengths = draw(st.lists(st.floats(min_value=0.01, max_value=4.0), min_size=len(kinds),
+                            max_size=len(kinds)))
+    cable = draw(st.sampled_from(CABLES))
+    z_system = draw(st.sampled_from([50.0, 75.0]))
+    return tuple(kinds), tuple(lengths), cable, z_system
+
+
+def assert_close(actual, expected):
+    # 1e-9 relative to the size of S (|S| <= 1 for these passive networks).
+    np.testing.assert_allclose(actual, expected, rtol=0, atol=1e-9)
+
+
+@SETTINGS
+@given(topologies())
+def test_evaluate_equals_skrf(case):
+    kinds, lengths, cable, z_system = case
+    ref = skrf_reference(kinds, lengths, cable, FREQ_HZ, z_system)
+    s = evaluate(build(kinds, lengths, cable), FREQ_HZ, z_system)
+    assert_close(s, ref)
+
+
+@SETTINGS
+@given(topologies())
+def test_evaluate_batch_equals_skrf(case):
+    kinds, lengths, cable, z_system = case
+    ref = skrf_reference(kinds, lengths, cable, FREQ_HZ, z_system)
+    s21, s11 = evaluate_batch(kinds, np.array([lengths]), cable, FREQ_HZ, z_system)
+    assert_close(s21[0], ref[:, 1, 0])
+    assert_close(s11[0], ref[:, 0, 0])
+
+
+def test_batch_of_many_candidates_equals_skrf_one_by_one():
+    # Many candidates in one call (crosses the internal chunking) against skrf per row.
+    rng = np.random.default_rng(2024)
+    cable = library()[0]
+    kinds = ("open", "line", "short", "open")
+    lengths = rng.uniform(0.02, 3.0, size=(40, len(kinds)))
+    f = np.linspace(2e6, 900e6, 1800)  # 40 x 1800 points > one chunk
+    s21, s11 = evaluate_batch(kinds, lengths, cable, f)
+    for i in range(0, 40, 7):
+        ref = skrf_reference(kinds, lengths[i], cable, f, 50.0)
+        assert_close(s21[i], ref[:, 1, 0])
+        assert_close(s11[i], ref[:, 0, 0])
+
+
+def test_to_network_is_an_skrf_network_with_the_same_s():
+    cable = library()[1]
+    kinds, lengths = ("short", "line", "open"), (0.7, 0.25, 1.1)
+    net = to_network(build(kinds, lengths, cable), FREQ_HZ)
+    assert isinstance(net, skrf.Network)
+    np.testing.assert_allclose(net.f, FREQ_HZ)
+    np.testing.assert_allclose(net.z0, 50.0)
+    assert_close(net.s, skrf_reference(kinds, lengths, cable, FREQ_HZ, 50.0))
+
+
+@pytest.mark.parametrize("kind", ["open", "short"])
+def test_single_stub_equals_skrf_at_resonance(kind):
+    # The hardest points numerically: the stub's own resonances (tanh near 0 or pole).
+    cable = library()[0]
+    f0 = 146e6
+    q = C0 * cable.velocity_factor / (4 * f0)
+    f = np.array([f0, 2 * f0, 3 * f0, 4 * f0])
+    ref = skrf_reference((kind,), (q,), cable, f, 50.0)
+    s21, s11 = evaluate_batch((kind,), [[q]], cable, f)
+    assert_close(s21[0], ref[:, 1, 0])
+    assert_close(s11[0], ref[:, 0, 0])
