@@ -61,6 +61,8 @@ MIN_SIDE_POINTS = 2
 """Fewest samples the fit needs on each side of the resonance."""
 MIN_POINTS = 7
 """Fewest frequency points a sweep must have."""
+NOISE_SIGMAS = 3.0
+"""A resonance depth within this many standard errors of the noise marks Q as a lower bound."""
 ON_TARGET_MM = 0.5
 """A computed cut smaller than this (mm) counts as on target."""
 VF_WARN = 0.03
@@ -101,6 +103,10 @@ class Resonance:
         below what the measurement resolves.
     bandwidth_hz : float or None
         That 3 dB width, Hz.
+    q_noise_limited : bool
+        The resonance's resistive part (its depth) is within ``NOISE_SIGMAS``
+        standard errors of zero: the measurement's noise sets the depth, and
+        ``q`` is then a lower bound.
     """
 
     freq_hz: float
@@ -109,6 +115,7 @@ class Resonance:
     depth_db: float
     q: float | None
     bandwidth_hz: float | None
+    q_noise_limited: bool = False
 
     @property
     def freq_mhz(self) -> float:
@@ -187,6 +194,7 @@ class TrimResult:
             "depth_db": r.depth_db,
             "q": r.q,
             "bandwidth_mhz": None if r.bandwidth_hz is None else r.bandwidth_hz / 1e6,
+            "q_lower_bound": r.q_noise_limited,
             "q_expected": self.q_expected,
             "ratio": self.ratio,
             "shorten_pct": self.shorten_pct,
@@ -365,14 +373,18 @@ def _fit_crossing(f, w, center_hz):
             break
     lo, hi = _window(f, center_hz) or (lo, hi)
     t = (f[lo:hi] - center_hz) / center_hz
-    r0 = float(np.polyval(np.polyfit(t, w[lo:hi].real, 1), 0.0))
-    return center_hz, slope / center_hz, r0
+    coef, cov = _polyfit_cov(t, w[lo:hi].real, 1)
+    r0 = float(coef[1])  # value at t = 0, the root
+    r0_std = math.sqrt(max(cov[1, 1], 0.0)) if cov is not None else 0.0
+    return center_hz, slope / center_hz, r0, r0_std
 
 
 def _fit_notch(f, u, center_hz):
-    """Parabola through ``u = |S21|^2 / (1 - |S21|^2)`` around ``center_hz``.
+    """Weighted parabola through ``u = |S21|^2 / (1 - |S21|^2)`` around ``center_hz``.
 
-    Returns (f0, u_min, curvature_per_hz2).
+    The weights follow the noise of ``u`` for a constant noise on ``S21``:
+    ``sigma_u ~ 2 |S21| sigma (1 + u)^2``, with the smallest ``|S21|`` of the
+    window as a floor. Returns (f0, u_min, curvature_per_hz2, u_min_std).
     """
     for _ in range(3):
         win = _window(f, center_hz)
@@ -380,7 +392,10 @@ def _fit_notch(f, u, center_hz):
             raise _NoResonance("edge")
         lo, hi = win
         t = (f[lo:hi] - center_hz) / center_hz
-        a2, a1, a0 = np.polyfit(t, u[lo:hi], 2)
+        uw = u[lo:hi]
+        mag = np.sqrt(uw / (1.0 + uw))
+        weight = 1.0 / ((mag + mag.min()) * (1.0 + uw) ** 2)
+        (a2, a1, a0), cov = _polyfit_cov(t, uw, 2, weight)
         if not a2 > 0:
             raise _NoResonance("curvature")
         t0 = -a1 / (2.0 * a2)
@@ -392,8 +407,21 @@ def _fit_notch(f, u, center_hz):
         if moved < 0.25 * np.min(np.diff(f[lo:hi])):
             break
     u_min = a0 - a1 * a1 / (4.0 * a2)
-    # curvature refers to the last window's centre; t shift by t0 keeps a2
-    return center_hz, float(u_min), float(a2) / (center_hz * center_hz)
+    # standard error of the vertex value (first-order propagation of the fit covariance)
+    u_std = 0.0
+    if cov is not None:
+        jac = np.array([a1 * a1 / (4.0 * a2 * a2), -a1 / (2.0 * a2), 1.0])
+        u_std = math.sqrt(max(float(jac @ cov @ jac), 0.0))
+    # a2 is per (t = df / f_centre)^2 of the last window; the final re-centring is sub-sample
+    return center_hz, float(u_min), float(a2) / (center_hz * center_hz), u_std
+
+
+def _polyfit_cov(t, y, deg, weight=None):
+    """np.polyfit with the coefficient covariance when there are enough points."""
+    if t.size > deg + 2:
+        coef, cov = np.polyfit(t, y, deg, w=weight, cov=True)
+        return coef, cov
+    return np.polyfit(t, y, deg, w=weight), None
 
 
 # ------------------------------------------------------------------ the work
@@ -511,7 +539,8 @@ def find_resonance(
             continue
         try:
             if ports == 1:
-                f0, slope, r0 = _fit_crossing(f, w, float(f[i]))
+                f0, slope, r0, r_std = _fit_crossing(f, w, float(f[i]))
+                limited = r0 <= NOISE_SIGMAS * r_std
                 if r0 > 0:
                     bw = 2.0 * r0 / slope
                     q = f0 / bw
@@ -520,7 +549,8 @@ def find_resonance(
                     bw = q = None
                     depth = float(contrast[i])
             else:
-                f0, u_min, curv = _fit_notch(f, u, float(f[i]))
+                f0, u_min, curv, u_std = _fit_notch(f, u, float(f[i]))
+                limited = u_min <= NOISE_SIGMAS * u_std
                 if u_min > 0:
                     bw = 2.0 * math.sqrt(u_min / curv)
                     q = f0 / bw
@@ -534,6 +564,7 @@ def find_resonance(
         return Resonance(
             freq_hz=float(f0), kind=kind, ports=ports, depth_db=float(depth),
             q=None if q is None else float(q), bandwidth_hz=None if bw is None else float(bw),
+            q_noise_limited=bool(limited),
         )
     why, i = problems[0]
     at = f"{f[i] / 1e6:.4g} MHz"
@@ -742,6 +773,11 @@ def trim(
             f"the resonance is {abs(ratio - 1) * 100:.0f} % from the target: check --order "
             f"({n} quarter waves) and that this is the right stub"
         )
+    if res.q_noise_limited:
+        warnings.append(
+            "the resonance depth is at the measurement's noise floor: Q is a lower bound "
+            "(average more sweeps or lower the analyser's IF bandwidth)"
+        )
     q_expected = None
     alpha_fn = getattr(cable_obj, "alpha_np_per_m", None)
     if callable(alpha_fn):
@@ -749,7 +785,7 @@ def trim(
         if alpha > 0:
             beta = 2.0 * math.pi * res.freq_hz / (C0 * vf_nominal)
             q_expected = beta / (2.0 * alpha)  # Pozar eq. 6.33: Q = beta / (2 alpha)
-            if res.q is not None and res.q < 0.5 * q_expected:
+            if res.q is not None and not res.q_noise_limited and res.q < 0.5 * q_expected:
                 warnings.append(
                     f"Q {res.q:.0f} is well below the {q_expected:.0f} expected of {cable_name}: "
                     f"check connectors, the short, water in the cable"
@@ -863,7 +899,9 @@ def plot_measurement(network, result: TrimResult, path: str | os.PathLike[str]) 
     ax.axvline(result.target_mhz, color="tab:green", lw=1.0, ls="--",
                label=f"target {result.target_mhz:.4f} MHz")
     ax.set_xlabel("Frequency (MHz)")
-    title = f"{Path(result.measurement).name}: {result.termination} stub, {result.cable}"
+    end = "open" if result.termination == "open" else "shorted"
+    title = (f"{Path(result.measurement).name}: {end} stub, {result.cable}, "
+             f"order {result.order}")
     if result.cut_mm is not None:
         title += (f" - cut {result.cut_mm:.1f} mm" if not result.too_short
                   else f" - {-result.cut_mm:.1f} mm too short")
