@@ -1371,7 +1371,11 @@ def site_schema() -> dict[str, Any]:
     """The JSON Schema (draft 2020-12) of a site file, built from :data:`SECTIONS`.
 
     ``docs/site-schema.json`` is this, written with ``json.dumps(..., indent=2)``;
-    regenerate it with ``python -m notchkit.site.loader > docs/site-schema.json``.
+    regenerate it with::
+
+        python -c "import json, notchkit.site as s; print(json.dumps(s.site_schema(), indent=2))" \\
+            > docs/site-schema.json
+
     The schema cannot say everything the loader checks (unique names, known
     cables, lo < hi, exactly one of freq_mhz / band_mhz).
     """
@@ -1385,8 +1389,3 @@ def site_schema() -> dict[str, Any]:
         "$defs": {name: _section_schema(name) for name in SECTIONS if name != "site"},
     }
 
-
-if __name__ == "__main__":  # pragma: no cover
-    import json
-
-    print(json.dumps(site_schema(), indent=2))
