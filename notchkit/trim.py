@@ -137,6 +137,7 @@ class TrimResult:
     termination: Termination
     order: int
     target_mhz: float
+    target_source: str
     sweep_mhz: tuple[float, float]
     z_system_ohm: float
     resonance: Resonance
@@ -188,6 +189,7 @@ class TrimResult:
             "termination": self.termination,
             "order": self.order,
             "target_mhz": self.target_mhz,
+            "target_source": self.target_source,
             "sweep_mhz": list(self.sweep_mhz),
             "resonance_mhz": r.freq_mhz,
             "resonance_kind": r.kind,
@@ -223,6 +225,18 @@ class PlanStub:
     length_m: float | None
     cut_length_m: float | None
     first_cut_m: float | None
+    tee_allowance_m: float | None = None
+    resonance_mhz: float | None = None
+    quarter_waves: int | None = None
+
+    @property
+    def allowance_m(self) -> float | None:
+        """The tee allowance: ``tee_allowance_m``, else ``length_m - cut_length_m``."""
+        if self.tee_allowance_m is not None:
+            return self.tee_allowance_m
+        if self.length_m is not None and self.cut_length_m is not None:
+            return max(self.length_m - self.cut_length_m, 0.0)
+        return None
 
 
 # ------------------------------------------------------------------ helpers
@@ -617,13 +631,20 @@ def load_plan_stub(plan_path: str | os.PathLike[str], stub_id: str) -> PlanStub:
                 continue
             where = f"{p}: filters[{fi}].elements[{ej}]"
             values = {}
-            for key in ("length_m", "cut_length_m", "first_cut_m"):
+            for key in ("length_m", "cut_length_m", "first_cut_m", "resonance_mhz",
+                        "tee_allowance_m"):
                 v = el.get(key)
-                if v is not None and not (
+                zero_ok = key == "tee_allowance_m" and v == 0
+                if v is not None and not zero_ok and not (
                     isinstance(v, int | float) and not isinstance(v, bool) and _finite_positive(v)
                 ):
-                    raise InputError(f"{where}.{key}: {v!r} must be a length in metres > 0")
+                    unit = "a frequency in MHz" if key == "resonance_mhz" else "a length in metres"
+                    raise InputError(f"{where}.{key}: {v!r} must be {unit} > 0")
                 values[key] = None if v is None else float(v)
+            qw = el.get("quarter_waves")
+            if qw is not None and (isinstance(qw, bool) or not isinstance(qw, int) or qw < 1):
+                raise InputError(f"{where}.quarter_waves: {qw!r} must be a whole number >= 1")
+            values["quarter_waves"] = qw
             term = el.get("termination")
             if term not in (None, "open", "short"):
                 raise InputError(f"{where}.termination: {term!r} must be 'open' or 'short'")
@@ -637,7 +658,7 @@ def trim(
     *,
     cable: Any,
     termination: Termination | None,
-    target_mhz: float,
+    target_mhz: float | None,
     length_m: float | None = None,
     plan_path: str | os.PathLike[str] | None = None,
     stub_id: str | None = None,
@@ -659,8 +680,11 @@ def trim(
         ``alpha_np_per_m(freq_hz)``; gives the nominal VF to compare against.
     termination : {"open", "short"} or None
         The stub's far end; ``None`` takes it from the plan.
-    target_mhz : float
+    target_mhz : float or None
         Where the measured resonance should be, MHz (> 0, inside the sweep).
+        ``None`` takes the plan stub's ``resonance_mhz`` (at the tee): as is
+        for an ``.s2p``; for an ``.s1p`` of the stub alone, scaled to the path
+        without the tee, ``resonance_mhz * length_m / (length_m - allowance)``.
     length_m : float, optional
         Present physical length of the stub, m; overrides the plan.
     plan_path, stub_id : optional
@@ -669,12 +693,13 @@ def trim(
         Which plan length is on the bench: ``cut_length_m`` (cut to plan, the
         default) or ``first_cut_m`` (cut long with the trim margin).
     order : int, optional
-        Quarter waves of the measured resonance (default 1; 2 for a shorted
-        stub through a tee).
+        Quarter waves of the measured resonance. Default: the plan stub's
+        ``quarter_waves``, else 1, or 2 for a shorted stub through a tee.
     allowance_m : float, optional
         Electrical length in series with the stub inside the measurement that
         trimming does not change (the tee allowance), m. Default: for an
-        ``.s2p`` with a plan, the plan's ``length_m - cut_length_m``; else 0.
+        ``.s2p`` with a plan, the plan's ``tee_allowance_m`` (or
+        ``length_m - cut_length_m``); else 0.
     png_path : path, optional
         Write a plot of the measurement there (atomically).
 
@@ -693,9 +718,10 @@ def trim(
     resonates at a frequency inversely proportional to its length), and
     ``cut = Le (1 - f_res / f_target)``.
     """
-    if not _finite_positive(target_mhz):
+    if target_mhz is not None and not _finite_positive(target_mhz):
         raise UsageError(f"--target-mhz: {target_mhz!r} must be a frequency in MHz > 0")
-    target_mhz = float(target_mhz)
+    if target_mhz is None and plan_path is None:
+        raise UsageError("--target-mhz: required unless --plan gives the stub's resonance_mhz")
     if length_m is not None and not _finite_positive(length_m):
         raise UsageError(f"--length-m: {length_m!r} must be the present stub length in metres > 0")
     if allowance_m is not None:
@@ -734,8 +760,29 @@ def trim(
 
     ntwk = read_measurement(measurement_path)
     label = str(measurement_path)
+    ports = int(ntwk.nports)
     f = np.asarray(ntwk.f, dtype=float)
     sweep = (float(f[0] / 1e6), float(f[-1] / 1e6))
+
+    if order is None and plan_stub is not None and plan_stub.quarter_waves is not None:
+        order = plan_stub.quarter_waves
+    if allowance_m is None:
+        allowance_m = 0.0
+        if ports == 2 and plan_stub is not None and plan_stub.allowance_m is not None:
+            allowance_m = plan_stub.allowance_m
+    allowance_m = float(allowance_m)
+    target_source = "--target-mhz"
+    if target_mhz is None:
+        if plan_stub is None or plan_stub.resonance_mhz is None:
+            raise UsageError(f"--target-mhz: required (plan stub {stub_id} has no resonance_mhz)")
+        target_mhz = plan_stub.resonance_mhz
+        target_source = f"plan {stub_id} resonance_mhz"
+        plan_allow = plan_stub.allowance_m
+        if ports == 1 and plan_allow and plan_stub.length_m:
+            # the stub alone lacks the tee's path: same cable, shorter line, higher resonance
+            target_mhz *= plan_stub.length_m / (plan_stub.length_m - plan_allow)
+            target_source += " without the tee allowance"
+    target_mhz = float(target_mhz)
     if not (f[0] <= target_mhz * 1e6 <= f[-1]):
         raise MeasurementError(
             f"{label}: the sweep {sweep[0]:.4g}-{sweep[1]:.4g} MHz does not cover the target "
@@ -759,12 +806,6 @@ def trim(
             raise InputError(f"{plan_path}: stub {stub_id} has no {key} (try the other "
                              f"--plan-length, or give --length-m)")
         source = f"plan {stub_id} {key}"
-    if allowance_m is None:
-        allowance_m = 0.0
-        if res.ports == 2 and plan_stub is not None and plan_stub.length_m is not None \
-                and plan_stub.cut_length_m is not None:
-            allowance_m = max(plan_stub.length_m - plan_stub.cut_length_m, 0.0)
-    allowance_m = float(allowance_m)
 
     warnings: list[str] = []
     ratio = res.freq_mhz / target_mhz
@@ -819,7 +860,8 @@ def trim(
     advice = _advice(termination, ratio, present, target_len, cut, vf)
     result = TrimResult(
         measurement=label, cable=cable_name, termination=termination, order=n,
-        target_mhz=target_mhz, sweep_mhz=sweep, z_system_ohm=float(np.real(ntwk.z0[0, 0])),
+        target_mhz=target_mhz, target_source=target_source, sweep_mhz=sweep,
+        z_system_ohm=float(np.real(ntwk.z0[0, 0])),
         resonance=res, present_length_m=present, length_source=source,
         allowance_m=allowance_m, nominal_velocity_factor=vf_nominal, velocity_factor=vf,
         target_length_m=target_len, cut_m=cut, q_expected=q_expected, advice=advice,

@@ -225,6 +225,35 @@ def test_plan_lengths_and_allowance(tmp_path, capsys):
     assert code == 2 and "F9-S9" in err and "F1-S2" in err
 
 
+def test_plan_target_and_order_for_stub_alone(tmp_path, capsys):
+    # The plan designs an open stub of 3 quarter waves on a 0.975 m path (0.030 m of it in
+    # the tee). Measured alone (.s1p), the stub has only its cut cable, so its resonance
+    # sits higher than the plan's figure at the tee by length_m / cut_length_m.
+    vf, path_len, allowance = 0.66, 0.975, 0.030
+    plan_f = quarter_wave_hz(3, vf, path_len) / 1e6  # textbook, at the tee
+    cut_now = 0.960  # cut a little long: 15 mm of trim margin
+    f_alone = quarter_wave_hz(3, vf, cut_now)
+    ntwk = stub_network(termination="open", ports=1, length_m=cut_now, vf=vf,
+                        start_mhz=f_alone / 1e6 * 0.85, stop_mhz=f_alone / 1e6 * 1.15, seed=9)
+    path = write(ntwk, tmp_path, "alone")
+    plan = {"filters": [{"elements": [
+        {"kind": "stub", "id": "F2-S1", "termination": "open", "length_m": path_len,
+         "tee_allowance_m": allowance, "cut_length_m": path_len - allowance,
+         "first_cut_m": cut_now, "resonance_mhz": plan_f, "quarter_waves": 3},
+    ]}]}
+    plan_path = tmp_path / "plan.json"
+    plan_path.write_text(json.dumps(plan))
+    got = run_json(capsys, path, "--cable", "RG-213", "--plan", str(plan_path),
+                   "--stub", "F2-S1", "--plan-length", "first-cut")
+    assert got["order"] == 3
+    assert got["allowance_m"] == 0.0  # the tee is not in an .s1p
+    assert got["target_mhz"] == pytest.approx(plan_f * path_len / (path_len - allowance))
+    assert got["velocity_factor"] == pytest.approx(vf, rel=2e-3)
+    # trimmed to plan: the cut cable the plan asks for
+    assert got["target_length_m"] == pytest.approx(path_len - allowance, abs=1e-3)
+    assert got["cut_mm"] == pytest.approx((cut_now - (path_len - allowance)) * 1000, abs=1.0)
+
+
 def test_picks_resonance_nearest_target():
     # physical property: an open stub has series resonances at 1, 3, 5 quarter waves
     vf, length_m = 0.66, 0.5

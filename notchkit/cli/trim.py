@@ -46,10 +46,12 @@ def add_parser(sub) -> None:
                    help="cable type of the stub (see `notchkit cables`)")
     p.add_argument("--termination", choices=("open", "short"),
                    help="far end of the stub (may come from --plan)")
-    p.add_argument("--target-mhz", required=True, metavar="F", type=str,
-                   help="where the measured resonance should be, MHz")
+    p.add_argument("--target-mhz", metavar="F", type=str,
+                   help="where the measured resonance should be, MHz (default with --plan: "
+                        "the stub's resonance_mhz, moved to the stub alone for a .s1p)")
     p.add_argument("--order", type=str, metavar="N",
-                   help="quarter waves of the measured resonance (see above)")
+                   help="quarter waves of the measured resonance (see above; with --plan: "
+                        "the stub's quarter_waves)")
     p.add_argument("--length-m", type=str, metavar="L",
                    help="present physical length of the stub, m (overrides --plan)")
     p.add_argument("--plan", metavar="PLAN.json", help="plan JSON from `notchkit plan --outdir`")
@@ -101,7 +103,9 @@ def format_text(result) -> str:
         f"resonance    {r.freq_mhz:.4f} MHz {kind}, depth {r.depth_db:.1f} dB, "
         + ("Q not resolved" if r.q is None else f"Q {r.q:.0f}")
         + ("" if result.q_expected is None else f" (cable alone ~{result.q_expected:.0f})"),
-        f"target       {result.target_mhz:.4f} MHz: measured/target {result.ratio:.5f} "
+        f"target       {result.target_mhz:.4f} MHz"
+        + ("" if result.target_source == "--target-mhz" else f" ({result.target_source})")
+        + f": measured/target {result.ratio:.5f} "
         f"({'shorten' if result.shorten_pct >= 0 else 'lengthen'} by "
         f"{abs(result.shorten_pct):.2f} %)",
     ]
@@ -127,7 +131,7 @@ def format_text(result) -> str:
 
 
 def run(args) -> int:
-    target = _positive_float("--target-mhz")(args.target_mhz)
+    target = None if args.target_mhz is None else _positive_float("--target-mhz")(args.target_mhz)
     length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
     if (args.plan is None) != (args.stub is None):
         raise UsageError("--plan and --stub go together: give both or neither")
