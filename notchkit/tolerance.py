@@ -1,0 +1,360 @@
+"""Monte Carlo tolerance of a filter: will it still notch when cut by hand?
+
+:func:`tolerance` draws ``samples`` filters around the nominal one and asks,
+for each notch band, how often the worst attenuation over the band still meets
+its requirement, and how many dB per mm each element's length is worth.
+
+Model
+-----
+Cut error
+    Each element (every stub and every line section) independently gets an
+    error drawn **uniformly** within ``+-cut_tolerance_mm``: "cut within 2 mm"
+    says nothing about a bell shape, so every error in the range is taken as
+    equally likely (a harsher assumption than a normal of the same width).
+Velocity factor
+    One draw per sample, uniform within ``+-vf_spread`` (the same reel of
+    cable for every piece of one filter). ``vf_spread=None`` takes the cable's
+    published ``vf_tolerance``, else 0.01.
+    The draws are sorted into ``VF_BINS`` equal bins across the spread; each
+    bin is evaluated on the cable with the bin's centre velocity factor (same
+    impedance and loss per metre), and the small rest of each draw
+    (``VF'`` against the bin centre) is applied by scaling the sample's
+    lengths by ``VF_bin / VF'``, since electrical length goes as ``l / VF``.
+    That scaling keeps the attenuation per metre and so changes a piece's loss
+    by the same tiny ratio (at most half a bin, under 0.03 % for a 0.01
+    spread on VF 0.66: a few thousandths of a dB at a notch bottom). Scaling
+    all the way from the nominal VF instead would change the loss by about
+    1.5 %, about 0.13 dB at a loss-limited notch bottom, which is why the bins.
+Attenuation
+    ``-20 log10 |S21|`` (mismatch included), on a grid of ``band_points``
+    frequencies from each notch band's lower to upper edge; a sample meets a
+    notch when its minimum over the grid is at least ``required_db``.
+Sensitivity
+    Central difference of the nominal worst attenuation for +-0.5 mm on one
+    element at a time, in dB per mm (positive: a longer piece helps).
+
+Everything is one :func:`notchkit.filters.evaluate_batch` call over
+(samples + sensitivity probes) x (grid points): no Python loop over samples.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from notchkit.errors import DesignError
+from notchkit.filters import Filter, Stub, evaluate_batch
+from notchkit.lines import db20, swr_from_s11
+from notchkit.requirements import NotchSpec
+from notchkit.site.model import DEFAULT_MAX_INSERTION_LOSS_DB, DEFAULT_MAX_SWR, Band
+
+DEFAULT_VF_SPREAD = 0.01
+"""Velocity-factor spread when the cable publishes none (absolute, +-)."""
+SENSITIVITY_STEP_MM = 0.5
+VF_BINS = 24
+"""Velocity-factor bins of a tolerance run (one batched evaluation each)."""
+
+
+@dataclass(frozen=True, slots=True)
+class _Medium:
+    """The filter's cable with another velocity factor (impedance and loss per metre kept)."""
+
+    base: Any
+    velocity_factor: float
+
+    @property
+    def z0_ohm(self) -> float:
+        return self.base.z0_ohm
+
+    def alpha_np_per_m(self, freq_hz):
+        return self.base.alpha_np_per_m(freq_hz)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class ElementSensitivity:
+    """dB of worst notch attenuation per mm of one element's length."""
+
+    element_id: str
+    element_index: int
+    db_per_mm: float
+
+    def to_json(self) -> dict[str, Any]:
+        return {"id": self.element_id, "element_index": self.element_index,
+                "db_per_mm": _f(self.db_per_mm)}
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class NotchTolerance:
+    """How one notch band fares over the Monte Carlo samples."""
+
+    lo_mhz: float
+    hi_mhz: float
+    required_db: float
+    nominal_worst_db: float
+    probability: float
+    """Fraction of samples whose worst attenuation over the band meets ``required_db``."""
+    p05_worst_db: float
+    """5th percentile of the worst attenuation: 95 % of builds do at least this well."""
+    median_worst_db: float
+    sensitivity: tuple[ElementSensitivity, ...]
+
+    @property
+    def nominal_meets(self) -> bool:
+        return self.nominal_worst_db >= self.required_db
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "lo_mhz": _f(self.lo_mhz), "hi_mhz": _f(self.hi_mhz), "required_db": _f(self.required_db),
+            "nominal_worst_db": _f(self.nominal_worst_db), "probability": _f(self.probability),
+            "p05_worst_db": _f(self.p05_worst_db), "median_worst_db": _f(self.median_worst_db),
+            "sensitivity_db_per_mm": [s.to_json() for s in self.sensitivity],
+        }
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PassTolerance:
+    """How one pass band fares: insertion loss and SWR both within limits."""
+
+    lo_mhz: float
+    hi_mhz: float
+    max_insertion_loss_db: float
+    max_swr: float
+    nominal_worst_insertion_loss_db: float
+    nominal_worst_swr: float
+    probability: float
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "lo_mhz": _f(self.lo_mhz), "hi_mhz": _f(self.hi_mhz),
+            "max_insertion_loss_db": _f(self.max_insertion_loss_db), "max_swr": _f(self.max_swr),
+            "nominal_worst_insertion_loss_db": _f(self.nominal_worst_insertion_loss_db),
+            "nominal_worst_swr": _f(self.nominal_worst_swr), "probability": _f(self.probability),
+        }
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Tolerance:
+    """Result of :func:`tolerance`."""
+
+    samples: int
+    seed: int
+    cut_tolerance_mm: float
+    cut_distribution: str
+    vf_nominal: float
+    vf_spread: float
+    vf_distribution: str
+    notches: tuple[NotchTolerance, ...]
+    passes: tuple[PassTolerance, ...]
+    probability_all: float
+    """Fraction of samples meeting every notch and every pass band at once."""
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "samples": self.samples, "seed": self.seed,
+            "cut_tolerance_mm": _f(self.cut_tolerance_mm), "cut_distribution": self.cut_distribution,
+            "vf_nominal": _f(self.vf_nominal), "vf_spread": _f(self.vf_spread),
+            "vf_distribution": self.vf_distribution,
+            "notch": [n.to_json() for n in self.notches],
+            "pass": [p.to_json() for p in self.passes],
+            "probability_all": _f(self.probability_all),
+        }
+
+
+def _f(x: float) -> float:
+    x = float(x)
+    if math.isnan(x):
+        raise DesignError("internal: NaN in a tolerance result")
+    # attenuation can be huge but finite (db20 floors at -400 dB); clip to stay finite
+    return float(np.clip(x, -1e300, 1e300))
+
+
+def element_ids(filt: Filter, filter_id: str = "F1") -> tuple[str, ...]:
+    """``F1-S1``, ``F1-L1``, ...: stubs and line sections numbered separately."""
+    ids, ns, nl = [], 0, 0
+    for e in filt.elements:
+        if isinstance(e, Stub):
+            ns += 1
+            ids.append(f"{filter_id}-S{ns}")
+        else:
+            nl += 1
+            ids.append(f"{filter_id}-L{nl}")
+    return tuple(ids)
+
+
+def _check(value: float, name: str, lo: float, hi: float) -> float:
+    v = float(value)
+    if not (math.isfinite(v) and lo <= v <= hi):
+        raise DesignError(f"{name} {value!r} must be between {lo:g} and {hi:g}")
+    return v
+
+
+def tolerance(
+    filt: Filter,
+    notches: Sequence[NotchSpec],
+    *,
+    cut_tolerance_mm: float = 2.0,
+    vf_spread: float | None = None,
+    samples: int = 10_000,
+    seed: int = 0,
+    z_system: float = 50.0,
+    pass_bands: Sequence[Band] = (),
+    max_insertion_loss_db: float = DEFAULT_MAX_INSERTION_LOSS_DB,
+    max_swr: float = DEFAULT_MAX_SWR,
+    band_points: int = 15,
+    filter_id: str = "F1",
+) -> Tolerance:
+    """Monte Carlo over cut-length error and velocity-factor spread.
+
+    Parameters
+    ----------
+    filt : Filter
+    notches : sequence of NotchSpec
+        Bands to reject and by how much (dB).
+    cut_tolerance_mm : float
+        Half-width of the uniform cut error of every element, mm.
+    vf_spread : float or None
+        Half-width of the uniform velocity-factor error (absolute); ``None``:
+        the cable's ``vf_tolerance`` if published, else 0.01.
+    samples : int
+        Number of Monte Carlo builds (1 to 1,000,000).
+    seed : int
+        Seed of the ``numpy.random.default_rng`` generator (deterministic).
+    z_system : float
+        Port reference impedance, ohms.
+    pass_bands : sequence of Band
+        Pass bands to check too (insertion loss <= ``max_insertion_loss_db``
+        and SWR <= ``max_swr`` over the band).
+    band_points : int
+        Grid points across each band, edges included (3 to 201).
+    filter_id : str
+        Prefix of the element ids in the sensitivities.
+
+    Returns
+    -------
+    Tolerance
+
+    Notes
+    -----
+    See the module docstring for the model. With ``cut_tolerance_mm=0`` and
+    ``vf_spread=0`` every sample is the nominal filter, so each probability is
+    exactly 0 or 1.
+    """
+    n_samples = int(_check(samples, "samples", 1, 1_000_000))
+    tol_mm = _check(cut_tolerance_mm, "cut_tolerance_mm", 0.0, 1000.0)
+    vf0 = float(filt.cable.velocity_factor)
+    if vf_spread is None:
+        published = getattr(filt.cable, "vf_tolerance", None)
+        vf_spread = DEFAULT_VF_SPREAD if published is None else float(published)
+    spread = _check(vf_spread, "vf_spread", 0.0, 0.5 * vf0)
+    npts = int(_check(band_points, "band_points", 3, 201))
+    zs = _check(z_system, "z_system", 1e-3, 1e6)
+    notches = tuple(notches)
+    pass_bands = tuple(pass_bands)
+    if not notches and not pass_bands:
+        raise DesignError("tolerance needs at least one notch or pass band (got none)")
+    for k, b in enumerate((*notches, *pass_bands)):
+        if not (0 < b.lo_mhz <= b.hi_mhz and math.isfinite(b.hi_mhz)):
+            raise DesignError(f"band {k + 1}: {b.lo_mhz!r}-{b.hi_mhz!r} MHz must have 0 < lo <= hi")
+
+    grids = [np.linspace(b.lo_mhz, b.hi_mhz, npts) for b in (*notches, *pass_bands)]
+    freq_hz = np.concatenate(grids) * 1e6
+
+    kinds = filt.kinds
+    nominal = filt.lengths_m
+    n_el = nominal.size
+    rng = np.random.default_rng(seed)
+    cut_err = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (tol_mm * 1e-3)
+    u = rng.uniform(-1.0, 1.0, size=n_samples)
+    vf = vf0 + u * spread
+    n_bins = VF_BINS if spread > 0 else 1
+    bin_of = np.minimum(((u + 1.0) * 0.5 * n_bins).astype(int), n_bins - 1)
+    vf_bin = vf0 + ((bin_of + 0.5) * 2.0 / n_bins - 1.0) * spread if spread > 0 else np.full(n_samples, vf0)
+    drawn = np.maximum(nominal[None, :] + cut_err, 0.0) * (vf_bin / vf)[:, None]
+
+    # Sensitivity probes: nominal +- h on one element at a time, and the nominal itself.
+    h = SENSITIVITY_STEP_MM * 1e-3
+    probes = np.repeat(nominal[None, :], 2 * n_el + 1, axis=0)
+    for j in range(n_el):
+        probes[2 * j, j] += h
+        probes[2 * j + 1, j] = max(probes[2 * j + 1, j] - h, 0.0)
+    step_mm = (probes[0::2, :].diagonal()[:n_el] - probes[1::2, :].diagonal()[:n_el]) * 1e3
+    s21 = np.empty((n_samples + probes.shape[0], freq_hz.size), dtype=complex)
+    s11 = np.empty_like(s21)
+    for b in range(n_bins):
+        rows = np.flatnonzero(bin_of == b)
+        if rows.size:
+            medium = _Medium(filt.cable, float(vf_bin[rows[0]])) if spread > 0 else filt.cable
+            s21[rows], s11[rows] = evaluate_batch(kinds, drawn[rows], medium, freq_hz, zs)
+    s21[n_samples:], s11[n_samples:] = evaluate_batch(kinds, probes, filt.cable, freq_hz, zs)
+    att = -db20(s21)  # (rows, n_freq)
+    nb = len(notches)
+
+    ids = element_ids(filt, filter_id)
+    ok_all = np.ones(n_samples, dtype=bool)
+    notch_results = []
+    for k, spec in enumerate(notches):
+        worst = att[:, k * npts : (k + 1) * npts].min(axis=1)
+        ws, wp = worst[:n_samples], worst[n_samples:]
+        ok = ws >= spec.required_db
+        ok_all &= ok
+        sens = tuple(
+            ElementSensitivity(
+                element_id=ids[j], element_index=j,
+                db_per_mm=float((wp[2 * j] - wp[2 * j + 1]) / (step_mm[j])),
+            )
+            for j in range(n_el)
+        )
+        notch_results.append(
+            NotchTolerance(
+                lo_mhz=spec.lo_mhz, hi_mhz=spec.hi_mhz, required_db=spec.required_db,
+                nominal_worst_db=float(wp[-1]), probability=float(ok.mean()),
+                p05_worst_db=float(np.percentile(ws, 5)), median_worst_db=float(np.median(ws)),
+                sensitivity=sens,
+            )
+        )
+    pass_results = []
+    for k, band in enumerate(pass_bands):
+        sl = slice((nb + k) * npts, (nb + k + 1) * npts)
+        il = att[:, sl].max(axis=1)
+        swr = swr_from_s11(s11[:, sl]).max(axis=1)
+        ok = (il[:n_samples] <= max_insertion_loss_db) & (swr[:n_samples] <= max_swr)
+        ok_all &= ok
+        pass_results.append(
+            PassTolerance(
+                lo_mhz=band.lo_mhz, hi_mhz=band.hi_mhz, max_insertion_loss_db=float(max_insertion_loss_db),
+                max_swr=float(max_swr), nominal_worst_insertion_loss_db=float(il[-1]),
+                nominal_worst_swr=float(swr[-1]), probability=float(ok.mean()),
+            )
+        )
+    return Tolerance(
+        samples=n_samples, seed=int(seed), cut_tolerance_mm=tol_mm, cut_distribution="uniform",
+        vf_nominal=vf0, vf_spread=spread, vf_distribution="uniform, one draw per sample",
+        notches=tuple(notch_results), passes=tuple(pass_results),
+        probability_all=float(ok_all.mean()),
+    )
+
+
+def format_tolerance(t: Tolerance) -> str:
+    """A few plain-text lines: probability per band and the most sensitive element."""
+    lines = [
+        f"tolerance: {t.samples} builds, cut +-{t.cut_tolerance_mm:g} mm ({t.cut_distribution}), "
+        f"VF {t.vf_nominal:g} +-{t.vf_spread:g}"
+    ]
+    for n in t.notches:
+        top = max(n.sensitivity, key=lambda s: abs(s.db_per_mm), default=None)
+        sens = f"; most sensitive {top.element_id} {top.db_per_mm:+.2f} dB/mm" if top else ""
+        lines.append(
+            f"  notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz >= {n.required_db:g} dB: {100 * n.probability:.1f} % "
+            f"of builds meet it (nominal {n.nominal_worst_db:.1f} dB, 95 % >= {n.p05_worst_db:.1f} dB{sens})"
+        )
+    for p in t.passes:
+        lines.append(
+            f"  pass {p.lo_mhz:g}-{p.hi_mhz:g} MHz: {100 * p.probability:.1f} % of builds within "
+            f"{p.max_insertion_loss_db:g} dB and SWR {p.max_swr:g}"
+        )
+    lines.append(f"  all bands at once: {100 * t.probability_all:.1f} %")
+    return "\n".join(lines)

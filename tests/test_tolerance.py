@@ -1,0 +1,168 @@
+"""Monte Carlo tolerance: limits that must hold whatever the random draws."""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+
+import numpy as np
+import pytest
+
+from notchkit.cables import get_cable
+from notchkit.errors import DesignError
+from notchkit.filters import Filter, Line, Stub, evaluate
+from notchkit.lines import db20
+from notchkit.requirements import NotchSpec
+from notchkit.site.model import Band
+from notchkit.tolerance import format_tolerance, tolerance
+
+C = 299_792_458.0  # m/s, exact (SI)
+VF = 0.66
+Q40 = C * VF / (4 * 7.15e6)  # open quarter wave at 7.15 MHz (textbook l = c VF / 4 f)
+
+
+def _single(length=Q40, kind="open", cable=None):
+    return Filter(elements=(Stub(termination=kind, length_m=length),), cable=cable or get_cable("RG-213"),
+                  tee_allowance_m=0.03)
+
+
+def _worst_db(filt, lo, hi, n=15):
+    """Independent nominal: the ABCD path (filters.evaluate), not the batched one."""
+    s = evaluate(filt, np.linspace(lo, hi, n) * 1e6)
+    return float((-db20(s[:, 1, 0])).min())
+
+
+def test_zero_tolerance_is_exactly_the_nominal():
+    f = _single()
+    nominal = _worst_db(f, 7.0, 7.3)
+    notches = [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=nominal - 0.5),
+               NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=nominal + 0.5)]
+    t = tolerance(f, notches, cut_tolerance_mm=0.0, vf_spread=0.0, samples=500,
+                  pass_bands=[Band(lo_mhz=14.0, hi_mhz=14.35)])
+    assert t.notches[0].nominal_worst_db == pytest.approx(nominal, abs=1e-6)
+    assert t.notches[0].probability == 1.0 and t.notches[1].probability == 0.0
+    assert t.notches[0].p05_worst_db == pytest.approx(nominal, abs=1e-6)
+    # an open quarter wave at 40 m is a half wave at 20 m: transparent (textbook)
+    assert t.passes[0].probability == 1.0 and t.passes[0].nominal_worst_swr < 1.1
+    assert t.probability_all == 0.0
+
+
+def test_larger_tolerance_never_helps_a_centred_notch():
+    # Common random numbers (same seed): scaling every cut error up can only move the
+    # notch further from the band it is centred on.
+    f = _single()
+    spec = [NotchSpec(lo_mhz=7.1, hi_mhz=7.2, required_db=_worst_db(f, 7.1, 7.2) - 1.0)]
+    probs = [tolerance(f, spec, cut_tolerance_mm=tol, vf_spread=0.0, samples=2000, seed=3)
+             .notches[0].probability for tol in (5, 20, 40, 80, 160)]
+    assert probs[0] == 1.0
+    assert all(a >= b for a, b in zip(probs, probs[1:], strict=False))
+    assert probs[-1] < 0.9
+
+
+def test_vf_spread_reduces_probability_statistically():
+    f = _single()
+    spec = [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=_worst_db(f, 7.0, 7.3) - 3.0)]
+    probs = [tolerance(f, spec, vf_spread=s, samples=4000, seed=11).notches[0].probability
+             for s in (0.0, 0.005, 0.01, 0.02)]
+    assert all(a >= b - 0.02 for a, b in zip(probs, probs[1:], strict=False))
+    assert probs[0] == 1.0 and probs[-1] < probs[0]
+
+
+def test_wide_margin_gives_about_one():
+    f = _single()
+    nominal = _worst_db(f, 7.0, 7.3)
+    t = tolerance(f, [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=nominal - 15.0)], samples=10_000)
+    assert t.notches[0].probability >= 0.999
+
+
+def test_knife_edge_gives_about_half():
+    # Band well below the stub's resonance: the worst attenuation (at the band's low edge)
+    # rises monotonically as the stub gets electrically longer, so a requirement equal to
+    # the nominal is met by the half of the symmetric draws that lengthen it.
+    f = _single()
+    nominal = _worst_db(f, 6.5, 6.6)
+    t = tolerance(f, [NotchSpec(lo_mhz=6.5, hi_mhz=6.6, required_db=nominal)], samples=10_000, seed=5)
+    assert 0.45 < t.notches[0].probability < 0.55
+    # and the sensitivity says so: a longer stub helps (positive dB per mm)
+    (s,) = t.notches[0].sensitivity
+    assert s.element_id == "F1-S1" and s.db_per_mm > 0
+
+
+def test_sensitivity_against_independent_finite_difference():
+    cable = get_cable("RG-213")
+    f = Filter(elements=(Stub(termination="open", length_m=Q40), Line(length_m=2.0),
+                         Stub(termination="short", length_m=2 * Q40)), cable=cable, tee_allowance_m=0.03)
+    t = tolerance(f, [NotchSpec(lo_mhz=6.6, hi_mhz=6.7, required_db=5.0)], samples=100)
+    h = 1e-3
+    for j, sens in enumerate(t.notches[0].sensitivity):
+        el = list(f.elements)
+        up = [dataclasses.replace(e, length_m=e.length_m + (h if i == j else 0)) for i, e in enumerate(el)]
+        dn = [dataclasses.replace(e, length_m=e.length_m - (h if i == j else 0)) for i, e in enumerate(el)]
+        fd = (_worst_db(dataclasses.replace(f, elements=tuple(up)), 6.6, 6.7)
+              - _worst_db(dataclasses.replace(f, elements=tuple(dn)), 6.6, 6.7)) / 2.0
+        assert sens.db_per_mm == pytest.approx(fd, rel=0.05, abs=1e-4)
+    assert [s.element_id for s in t.notches[0].sensitivity] == ["F1-S1", "F1-L1", "F1-S2"]
+
+
+def test_length_scaling_is_only_used_for_a_small_rest():
+    # The documented model: within a VF bin, VF' is the bin's cable with lengths x VF_bin/VF'.
+    # Check against a cable whose VF really is VF' (exact; same loss per metre): a change
+    # of half a bin (0.01 / 24) must be below 0.01 dB; scaling all the way from VF 0.66 to
+    # 0.67 is about 20 log10(0.67 / 0.66) = 0.13 dB off at the loss-limited notch bottom,
+    # which is why the run uses bins.
+    cable = get_cable("RG-213")
+    freqs = np.linspace(6.5, 7.5, 41) * 1e6
+    for vf_to, bound in ((0.66 + 0.01 / 48, 0.01), (0.67, 0.2)):
+        exact = evaluate(_single(cable=dataclasses.replace(cable, velocity_factor=vf_to)), freqs)[:, 1, 0]
+        scaled = evaluate(_single(length=Q40 * 0.66 / vf_to, cable=cable), freqs)[:, 1, 0]
+        assert np.max(np.abs(db20(exact) - db20(scaled))) < bound
+
+
+def test_vf_draws_match_a_direct_evaluation():
+    # One sample, no cut error, VF spread on: the run's worst attenuation must lie between
+    # the independent nominal evaluations at VF0 - spread and VF0 + spread (monotone here).
+    cable = get_cable("RG-213")
+    f = _single()
+    spec = [NotchSpec(lo_mhz=6.5, hi_mhz=6.6, required_db=0.0)]
+    t = tolerance(f, spec, cut_tolerance_mm=0.0, vf_spread=0.01, samples=2000, seed=4)
+    lo = _worst_db(_single(cable=dataclasses.replace(cable, velocity_factor=0.67)), 6.5, 6.6)
+    hi = _worst_db(_single(cable=dataclasses.replace(cable, velocity_factor=0.65)), 6.5, 6.6)
+    n = t.notches[0]
+    assert lo - 1e-3 <= n.p05_worst_db <= n.median_worst_db <= hi + 1e-3
+    # the median build is the nominal one (symmetric uniform VF draw, monotone response)
+    assert n.median_worst_db == pytest.approx(_worst_db(f, 6.5, 6.6), abs=0.05)
+
+
+def test_vf_spread_default_follows_the_cable():
+    cable = get_cable("RG-213")
+    spec = [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=10)]
+    published = dataclasses.replace(cable, vf_tolerance=0.02)
+    assert tolerance(_single(cable=published), spec, samples=10).vf_spread == 0.02
+    unpublished = dataclasses.replace(cable, vf_tolerance=None)
+    assert tolerance(_single(cable=unpublished), spec, samples=10).vf_spread == 0.01
+
+
+def test_seeded_and_deterministic():
+    f = _single()
+    spec = [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=_worst_db(f, 7.0, 7.3) - 2)]
+    a = tolerance(f, spec, samples=3000, seed=1)
+    b = tolerance(f, spec, samples=3000, seed=1)
+    c = tolerance(f, spec, samples=3000, seed=2)
+    assert a == b
+    assert a.notches[0].median_worst_db != c.notches[0].median_worst_db
+    doc = json.dumps(a.to_json(), allow_nan=False)
+    assert json.loads(doc)["cut_distribution"] == "uniform"
+    assert "builds" in format_tolerance(a)
+
+
+def test_bad_inputs():
+    f = _single()
+    spec = [NotchSpec(lo_mhz=7.0, hi_mhz=7.3, required_db=10)]
+    with pytest.raises(DesignError, match="samples 0 must be between 1 and 1e"):
+        tolerance(f, spec, samples=0)
+    with pytest.raises(DesignError, match="cut_tolerance_mm -2"):
+        tolerance(f, spec, cut_tolerance_mm=-2)
+    with pytest.raises(DesignError, match="needs at least one notch or pass band"):
+        tolerance(f, [])
+    with pytest.raises(DesignError, match="band 1: 7.3-7.0 MHz"):
+        tolerance(f, [NotchSpec(lo_mhz=7.3, hi_mhz=7.0, required_db=10)])
