@@ -1240,7 +1240,7 @@ class _Builder:
 
 
 def _finish(path: str, problems: list[Problem]) -> SiteError:
-    problems = sorted(problems, key=lambda p: (p.line, p.col))
+    problems = sorted(problems, key=lambda p: (p.line, p.col, p.field))
     if len(problems) > MAX_PROBLEMS:
         more = len(problems) - MAX_PROBLEMS
         problems = problems[:MAX_PROBLEMS] + [
