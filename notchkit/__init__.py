@@ -27,6 +27,7 @@ from notchkit.errors import (
     SiteError,
     UsageError,
 )
+from notchkit.trim import Resonance, TrimResult, find_resonance, trim
 
 __all__ = [
     "__version__",
@@ -40,4 +41,8 @@ __all__ = [
     "CableError",
     "MeasurementError",
     "DesignError",
+    "trim",
+    "find_resonance",
+    "TrimResult",
+    "Resonance",
 ]
