@@ -1,0 +1,211 @@
+"""Voltage, current and heat against textbook line solutions and scikit-rf."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+from notchkit.cables import get_cable
+from notchkit.errors import DesignError
+from notchkit.filters import Filter, Line, Stub, evaluate, to_network
+from notchkit.power import format_power, power_check
+
+C = 299_792_458.0  # m/s, exact (SI)
+
+
+class Lossless:
+    """A lossless 50-ohm medium (the Medium protocol of notchkit.filters)."""
+
+    name = "ideal"
+    z0_ohm = 50.0
+    velocity_factor = 0.66
+    max_voltage_v = None
+
+    def alpha_np_per_m(self, freq_hz):
+        return np.zeros_like(np.asarray(freq_hz, dtype=float))
+
+
+def _wl(f_mhz, vf=0.66):
+    return C * vf / (f_mhz * 1e6)
+
+
+def _filter(*elements, cable=None):
+    return Filter(elements=tuple(elements), cable=cable or Lossless(), tee_allowance_m=0.03)
+
+
+@pytest.mark.parametrize("power_w, v_peak", [(100.0, 100.0), (1500.0, 387.298)])
+def test_matched_line_peak_voltage(power_w, v_peak):
+    # P = V^2 / (2 R) for peak phasors (textbook): 100 W into 50 ohm is 100 V peak,
+    # 1500 W is sqrt(2 * 1500 * 50) = 387.3 V peak. A shorted quarter wave is an open
+    # circuit at its frequency (Pozar sec. 2.3), so the line stays matched.
+    f = _filter(Stub(termination="short", length_m=_wl(14.2) / 4), Line(length_m=3.7))
+    pc = power_check(f, power_w=power_w, freq_mhz=14.2)
+    assert pc.delivered_w == pytest.approx(power_w, rel=1e-9)
+    for node in pc.nodes:
+        assert node.voltage_peak_v == pytest.approx(v_peak, rel=1e-4)
+        assert node.ratio_to_matched == pytest.approx(1.0, rel=1e-6)
+    assert pc.lines[0].max_voltage_peak_v == pytest.approx(v_peak, rel=1e-4)
+    assert pc.total_dissipated_w == pytest.approx(0.0, abs=1e-9)
+
+
+def test_shorted_quarter_wave_end_current():
+    # Lossless shorted stub: V(d) = j I_end Z0 sin(beta d), so |I_end| = |V_tee| / (Z0 sin beta l)
+    # (standing-wave solution, Pozar sec. 2.3). At a quarter wave: 100 V / 50 ohm = 2 A at 100 W,
+    # and the stub's own largest voltage is the tee voltage (sin is largest at the input).
+    f = _filter(Stub(termination="short", length_m=_wl(14.2) / 4))
+    (s,) = power_check(f, power_w=100.0, freq_mhz=14.2).stubs
+    assert s.end_current_peak_a == pytest.approx(2.0, rel=1e-4)
+    assert s.max_current_peak_a == pytest.approx(2.0, rel=1e-4)
+    assert s.end_voltage_peak_v == 0.0
+    assert s.max_voltage_peak_v == pytest.approx(s.tee_voltage_peak_v, rel=1e-6)
+    # off the quarter wave: 60 degrees long at 10 MHz
+    g = _filter(Stub(termination="short", length_m=_wl(10.0) / 6))
+    (s,) = power_check(g, power_w=100.0, freq_mhz=10.0).stubs
+    assert s.end_current_peak_a == pytest.approx(s.tee_voltage_peak_v / (50.0 * math.sin(math.pi / 3)))
+
+
+@pytest.mark.parametrize("degrees", [30.0, 45.0, 60.0, 80.0])
+def test_open_stub_end_voltage(degrees):
+    # Lossless open stub shorter than a quarter wave: V_end = V_tee / cos(beta l) and the
+    # end is the largest voltage on it (textbook standing wave, Pozar sec. 2.3).
+    beta_l = math.radians(degrees)
+    length = _wl(7.1) * degrees / 360.0
+    (s,) = power_check(_filter(Stub(termination="open", length_m=length)), power_w=500.0,
+                       freq_mhz=7.1).stubs
+    assert s.end_voltage_peak_v == pytest.approx(s.tee_voltage_peak_v / math.cos(beta_l), rel=1e-9)
+    assert s.max_voltage_peak_v == pytest.approx(s.end_voltage_peak_v, rel=1e-9)
+    assert s.max_voltage_at_m == pytest.approx(length)
+    assert s.end_current_peak_a == 0.0
+
+
+def test_open_stub_longer_than_quarter_wave_has_interior_maximum():
+    # 216-degree open stub: lossless |V(d)| = |V_end| |cos beta d| (Pozar sec. 2.3) passes
+    # a null 90 degrees from the end and peaks again at 180; the largest value is |V_end|
+    # and |V_tee| = |V_end| |cos 216 deg|.
+    length = _wl(7.1) * 0.6  # 216 degrees: passes a voltage null at 90 degrees from the end
+    (s,) = power_check(_filter(Stub(termination="open", length_m=length)), power_w=100.0,
+                       freq_mhz=7.1).stubs
+    assert s.max_voltage_peak_v == pytest.approx(s.end_voltage_peak_v, rel=1e-9)
+    assert s.end_voltage_peak_v == pytest.approx(s.tee_voltage_peak_v / abs(math.cos(math.radians(216))))
+
+
+def test_stub_heat_by_the_perturbation_method():
+    # Low-loss line (Pozar sec. 2.7, perturbation method): the power lost per metre is
+    # 2 alpha P(z); on a shorted quarter wave at its pass frequency the lossless current is
+    # I_end cos(beta d), so the stub dissipates about |I_end|^2 alpha Z0 lambda / 8.
+    cable = get_cable("RG-213")
+    f_mhz = 14.2
+    lam = _wl(f_mhz)
+    f = _filter(Stub(termination="short", length_m=lam / 4), cable=cable)
+    pc = power_check(f, power_w=1000.0, freq_mhz=f_mhz)
+    (s,) = pc.stubs
+    alpha = float(cable.alpha_np_per_m(f_mhz * 1e6))
+    assert s.dissipated_w == pytest.approx(s.end_current_peak_a**2 * alpha * 50.0 * lam / 8, rel=0.02)
+    assert s.peak_heat_w_per_m >= s.heat_w_per_m > 0
+    # the default thermal flag: 1 W/m per mm of outer diameter (rule of thumb, from memory)
+    if cable.outer_diameter_mm:
+        assert pc.heat_limit_w_per_m == pytest.approx(cable.outer_diameter_mm)
+
+
+def _skrf_filter(filt, freq_hz):
+    """The same filter built from scikit-rf's own media (DefinedGammaZ0), independently."""
+    import skrf
+    from skrf.media import DefinedGammaZ0
+
+    cable = filt.cable
+    freq = skrf.Frequency.from_f(freq_hz, unit="hz")
+    beta = 2 * np.pi * np.asarray(freq_hz) / (C * cable.velocity_factor)
+    gam = cable.alpha_np_per_m(np.asarray(freq_hz)) + 1j * beta
+    m = DefinedGammaZ0(frequency=freq, z0_port=50.0, z0=cable.z0_ohm, gamma=gam)
+    net = None
+    for e in filt.elements:
+        if isinstance(e, Line):
+            part = m.line(e.length_m, unit="m")
+        elif e.termination == "open":
+            part = m.shunt_delay_open(e.length_m, unit="m")
+        else:
+            part = m.shunt_delay_short(e.length_m, unit="m")
+        net = part if net is None else net ** part
+    return net
+
+
+@pytest.mark.parametrize("f_mhz", [7.15, 9.0, 14.2, 21.2])
+def test_dissipation_conserves_energy_against_scikit_rf(f_mhz):
+    # Power absorbed by a two-port driven from a matched source of available power P:
+    # P (1 - |S11|^2 - |S21|^2). S from scikit-rf's media (independent of our ABCD code)
+    # and from filters.to_network; the sum of the stubs' and lines' dissipation must agree.
+    cable = get_cable("RG-213")
+    q = _wl(7.15) / 4
+    f = _filter(Stub(termination="open", length_m=q), Line(length_m=2.3),
+                Stub(termination="short", length_m=q), Stub(termination="open", length_m=1.1), cable=cable)
+    pc = power_check(f, power_w=1000.0, freq_mhz=f_mhz)
+    fr = np.array([f_mhz * 1e6])
+    for net in (_skrf_filter(f, fr), to_network(f, fr)):
+        s = net.s[0]
+        absorbed = 1000.0 * (1 - abs(s[0, 0]) ** 2 - abs(s[1, 0]) ** 2)
+        assert pc.total_dissipated_w == pytest.approx(absorbed, rel=0.01)
+        assert pc.output_w == pytest.approx(1000.0 * abs(s[1, 0]) ** 2, rel=0.01)
+        assert pc.delivered_w == pytest.approx(1000.0 * (1 - abs(s[0, 0]) ** 2), rel=0.01)
+    assert all(s.dissipated_w >= 0 for s in pc.stubs)
+
+
+def test_delivered_power_option():
+    cable = get_cable("RG-213")
+    f = _filter(Stub(termination="open", length_m=_wl(7.15) / 4), cable=cable)
+    s11 = evaluate(f, [10e6])[0, 0, 0]
+    a = power_check(f, power_w=100.0, freq_mhz=10.0)
+    d = power_check(f, power_w=100.0, freq_mhz=10.0, power_is="delivered")
+    assert a.delivered_w == pytest.approx(100.0 * (1 - abs(s11) ** 2), rel=1e-6)
+    assert d.delivered_w == pytest.approx(100.0, rel=1e-9)
+    # voltages scale with the square root of the power
+    ratio = math.sqrt(100.0 / a.delivered_w)
+    assert d.stubs[0].max_voltage_peak_v == pytest.approx(a.stubs[0].max_voltage_peak_v * ratio)
+
+
+def test_voltage_rating_warning_and_kilovolt_caution():
+    # RG-58 engineering working voltage 1400 V RMS (MIL-C-17/28C via cables.yaml): 1980 V peak.
+    # An open quarter wave notching a 1500 W carrier takes it across its open end.
+    cable = get_cable("RG-58")
+    assert cable.max_voltage_v == 1400
+    f = _filter(Stub(termination="open", length_m=_wl(7.15) / 4), cable=cable)
+    pc = power_check(f, power_w=1500.0, freq_mhz=7.15)
+    s = pc.stubs[0]
+    assert pc.rating_peak_v == pytest.approx(1400 * math.sqrt(2))
+    assert s.voltage_margin == pytest.approx(1400 * math.sqrt(2) / s.max_voltage_peak_v)
+    thin = s.voltage_margin < 2.0
+    assert thin == any("F1-S1" in w and "V RMS" in w for w in pc.warnings)
+    assert (s.max_voltage_peak_v >= 1000.0) == any("CAUTION" in c for c in pc.cautions)
+    assert s.max_voltage_peak_v > 500.0  # the notching stub's end is far above the line voltage
+    # low power: no voltage warning at all
+    low = power_check(f, power_w=5.0, freq_mhz=7.15)
+    assert not any("V RMS" in w for w in low.warnings) and not low.cautions
+    text = format_power(pc)
+    assert "F1-S1" in text and "note:" in text
+    assert json.loads(json.dumps(pc.to_json(), allow_nan=False))["stubs"][0]["termination"] == "open"
+
+
+def test_kilovolts_at_a_high_power_notch():
+    # A 5 kW carrier notched by an RG-213 open quarter wave: the end voltage must exceed the
+    # matched-line 707 V peak (sqrt(2 * 5000 * 50)) and the caution must be shown.
+    cable = get_cable("RG-213")
+    f = _filter(Stub(termination="open", length_m=_wl(7.15) / 4), cable=cable)
+    pc = power_check(f, power_w=5000.0, freq_mhz=7.15)
+    assert pc.stubs[0].end_voltage_peak_v > math.sqrt(2 * 5000 * 50)
+    assert any("CAUTION" in c and "licensed practice" in c for c in pc.cautions)
+
+
+def test_unrated_cable_and_bad_inputs():
+    f = _filter(Stub(termination="short", length_m=1.0))
+    pc = power_check(f, power_w=10.0, freq_mhz=20.0, vswr_note=False)
+    assert pc.rating_peak_v is None and pc.stubs[0].voltage_margin is None
+    assert any("no published voltage rating" in n for n in pc.notes)
+    assert not any("SWR" in n for n in pc.notes)
+    with pytest.raises(DesignError, match="power_w -5 must be a finite power > 0 W"):
+        power_check(f, power_w=-5, freq_mhz=20.0)
+    with pytest.raises(DesignError, match="freq_mhz 0 must be"):
+        power_check(f, power_w=5, freq_mhz=0)
+    with pytest.raises(DesignError, match="power_is 'peak' must be 'available' or 'delivered'"):
+        power_check(f, power_w=5, freq_mhz=20.0, power_is="peak")
