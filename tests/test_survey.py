@@ -329,7 +329,7 @@ def test_too_close_gives_no_notch_and_says_so():
     s = site(radio("V", t=tx(146.52, power_w=50)), radio("W", r=rx(147.0), x=3.0))
     (f,) = find(survey(s), "fundamental", "W")
     assert f.excess_db > 0
-    assert f.feeds == () and f.remedy.startswith("no stub") and "cavities" in f.remedy
+    assert f.filters == () and f.remedy.startswith("no stub") and "cavities" in f.remedy
     assert survey(s).filters == ()
 
 
@@ -388,7 +388,7 @@ def test_intermod_worked_examples():
     (d,) = find(res, "intermod", "R4", 3, ["A", "B", "C"])
     assert d.f_mhz == pytest.approx(146.22, abs=1e-9)
     # all of these are 2 m products in 2 m transmitters: too close for stubs at the mixer
-    assert all(t.feeds == () for t in (a, b, c, d))
+    assert all(t.filters == () for t in (a, b, c, d))
     out = res.to_json()["threats"]
     assert any(isinstance(t["source"], list) and t["mechanism"] == "intermod" for t in out)
 
@@ -405,7 +405,8 @@ def test_intermod_level_model():
             Coupling(a="A", b="R", isolation_db=50.0),
         ),
     )
-    (t,) = find(survey(s), "intermod", "R", 3)
+    res = survey(s)
+    (t,) = find(res, "intermod", "R", 3)
     p = 10 * math.log10(50e3)
     # mixer B: A arrives at p - 30, converts with 12 dB, leaves through 35 dB to R
     # mixer A: B arrives at p - 30, converts with 12 dB, leaves through 50 dB: weaker
@@ -413,8 +414,10 @@ def test_intermod_level_model():
     assert t.level_dbm == pytest.approx(p - 30 - 12 - 35, abs=1e-9)
     # a stub at B's output notching A's 2 m fundamental (3x away from B's 447 MHz)
     assert ("B", "tx") in t.filters
-    feed = next(f for f in t.feeds if f.radio == "B")
-    assert (feed.lo_mhz, feed.hi_mhz) == pytest.approx((146.512, 146.528))
+    req = next(r for r in res.filters if (r.radio, r.side) == ("B", "tx"))
+    assert [x for n in req.notches for x in (n.lo_mhz, n.hi_mhz)] == pytest.approx([146.512, 146.528])
+    # depth: the route through mixer B's excess plus the 6 dB margin (site default)
+    assert req.notches[0].required_db == pytest.approx(t.excess_db + 6.0, abs=1e-9)
 
 
 def _brute_force_products(freqs, rx_bands):

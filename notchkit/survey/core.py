@@ -13,6 +13,7 @@ import numpy as np
 
 from notchkit.site.model import Site
 from notchkit.survey import limits, products
+from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
 from notchkit.survey.locations import build_filters, too_close
 from notchkit.survey.paths import SiteArrays, check_max_harmonic
 from notchkit.survey.result import NotchFeed, SurveyResult, Threat
@@ -73,7 +74,7 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         transmitters=tuple(sa.names[i] for i in tx),
         receivers=tuple(sa.names[i] for i in rx),
         threats=tuple(threats),
-        filters=build_filters(site, sa, threats),
+        filters=build_filters(site, sa, ctx.all_feeds()),
         notes=tuple(notes),
         max_harmonic=n_harm,
         rejection_margin_db=margin,
@@ -87,6 +88,15 @@ class _Ctx:
         self.sa = sa
         self.margin = margin
         self.names = sa.names
+        self.d = np.hypot(
+            np.hypot(sa.x[:, None] - sa.x[None, :], sa.y[:, None] - sa.y[None, :]),
+            sa.h[:, None] - sa.h[None, :],
+        ).tolist()
+        self.pass_bands = [sa.pass_bands(i) for i in range(len(sa.names))]
+        self._iso_cache: dict[tuple, str] = {}
+        self._clash_cache: dict[tuple, tuple[float, float] | None] = {}
+        self._feeds: dict[tuple, list] = {}
+        self._im: dict[tuple[int, int], list] = {}
         self.supp = {}
         for i, r in enumerate(sa.site.radios):
             if r.tx is None:
@@ -97,17 +107,61 @@ class _Ctx:
                 self.supp[i] = limits.spurious_suppression_dbc(r.tx.band.centre_mhz, r.tx.power_w)
 
     def iso_text(self, a: int, b: int, f: float, iso: float, method: int) -> str:
-        return self.sa.describe_isolation(a, b, f, iso, method)
+        """Isolation description, cached on what changes its wording."""
+        key = (a, b, method, iso <= ISOLATION_FLOOR_DB, self.d[a][b] < C0_M_PER_S / (f * 1e6))
+        text = self._iso_cache.get(key)
+        if text is None:
+            text = self._iso_cache[key] = self.sa.describe_isolation(a, b, f, iso, method)
+        return text
+
+    def clash(self, radio: int, lo: float, hi: float):
+        """The pass band of radio's filter that a notch [lo, hi] is too close to, or None."""
+        key = (radio, lo, hi)
+        if key not in self._clash_cache:
+            self._clash_cache[key] = too_close(lo, hi, self.pass_bands[radio])
+        return self._clash_cache[key]
 
     def feed(self, radio: int, side: str, lo: float, hi: float, required: float, reason: str):
-        """A NotchFeed, or the pass band it would sit too close to."""
-        clash = too_close(lo, hi, self.sa.pass_bands(radio))
+        """Ask radio's filter for a notch; returns its location, or the pass band it clashes with."""
+        clash = self.clash(radio, lo, hi)
         if clash is not None:
             return None, clash
-        feed = NotchFeed(
-            radio=self.names[radio], side=side, lo_mhz=lo, hi_mhz=hi, required_db=required, reason=reason
-        )
-        return feed, None
+        entry = self._feeds.get((radio, side, lo, hi))
+        if entry is None:
+            self._feeds[(radio, side, lo, hi)] = [required, {reason: None}]
+        else:
+            entry[0] = max(entry[0], required)
+            entry[1].setdefault(reason, None)
+        return (self.names[radio], side), None
+
+    def feed_im(self, mixer: int, other: int, required: float, product: str, victim: int) -> None:
+        """IM notches are aggregated per (mixer, other transmitter): worst depth and a count."""
+        entry = self._im.get((mixer, other))
+        if entry is None:
+            self._im[(mixer, other)] = [required, 1, product, victim]
+        else:
+            entry[1] += 1
+            if required > entry[0]:
+                entry[0], entry[2], entry[3] = required, product, victim
+
+    def all_feeds(self) -> list[NotchFeed]:
+        names = self.names
+        out = [
+            NotchFeed(radio=names[r], side=side, lo_mhz=lo, hi_mhz=hi, required_db=req,
+                      reason="; ".join(reasons))
+            for (r, side, lo, hi), (req, reasons) in self._feeds.items()
+        ]  # fmt: skip
+        for (m, o), (req, count, product, v) in self._im.items():
+            more = f" and {count - 1} more" if count > 1 else ""
+            out.append(
+                NotchFeed(
+                    radio=names[m], side="tx", lo_mhz=float(self.sa.tx_lo[o]),
+                    hi_mhz=float(self.sa.tx_hi[o]), required_db=req,
+                    reason=f"{names[o]} entering {names[m]}'s output stage: IM {product} "
+                    f"into {names[v]}{more}",
+                )
+            )  # fmt: skip
+        return out
 
 
 def _centre(plo: float, phi: float, olo: float, ohi: float) -> float:
@@ -141,7 +195,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         lo, hi = float(sa.tx_lo[t]), float(sa.tx_hi[t])
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[t], ctx.names[r]
-        feeds = ()
+        where = ()
         if cochannel[k]:
             tsrc = sa.rx_threshold_source[r] + " (carrier inside the receiver's band)"
             remedy = (
@@ -161,7 +215,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
                         "use cavities or a duplexer, or more antenna separation",
                     )
                 else:
-                    feeds = (fd,)
+                    where = (fd,)
             else:
                 remedy = "none needed (" + remedy + " if it were)"
         out.append(
@@ -171,7 +225,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
                 level_dbm=float(level[k]), threshold_dbm=float(thr[k]), threshold_source=tsrc,
                 excess_db=excess, required_db=excess + ctx.margin, isolation_db=float(iso[k]),
                 isolation_method=ctx.iso_text(t, r, float(f[k]), float(iso[k]), int(meth[k])),
-                remedy=remedy, feeds=feeds,
+                remedy=remedy, filters=where,
             )
         )  # fmt: skip
     return out
@@ -203,7 +257,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
             f"pass {src}'s fundamental (a harmonic inside {vic}'s band can only be removed "
             "at the transmitter)"
         )
-        feeds = ()
+        where = ()
         if excess > 0:
             reason = f"{src} harmonic {order} into {vic}"
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, reason)
@@ -211,7 +265,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
                 alt = "use a cavity or low-pass filter at the transmitter"
                 remedy = _no_stub(f"{src}'s output", lo, hi, clash, alt)
             else:
-                feeds = (fd,)
+                where = (fd,)
         else:
             remedy = "none needed (" + remedy + ")"
         out.append(
@@ -223,7 +277,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
                 required_db=excess + ctx.margin, isolation_db=float(iso[k]),
                 isolation_method=ctx.iso_text(ti, ri, float(f[k]), float(iso[k]), int(meth[k])),
                 remedy=remedy, details=(f"suppression {supp[k]:.1f} dB: {ctx.supp[ti][1]}",),
-                feeds=feeds,
+                filters=where,
             )
         )  # fmt: skip
     return out
@@ -248,14 +302,14 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[ti], ctx.names[ri]
         remedy = f"tx-side filter at {src}: notch {vic}'s band, pass {src}'s band"
-        feeds = ()
+        where = ()
         if excess > 0:
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, f"{src} noise into {vic}")
             if fd is None:
                 remedy = _no_stub(f"{src}'s output", lo, hi, clash,
                                   "use a band-pass cavity at the transmitter, or more separation")
             else:
-                feeds = (fd,)
+                where = (fd,)
         else:
             remedy = "none needed (" + remedy + ")"
         out.append(
@@ -266,7 +320,7 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
                 threshold_source="noise floor kTB + NF + 10log B", excess_db=excess,
                 required_db=excess + ctx.margin, isolation_db=float(iso[k]),
                 isolation_method=ctx.iso_text(ti, ri, float(f[k]), float(iso[k]), int(meth[k])),
-                remedy=remedy, details=(f"transmitter noise {dbc[k]:g} dBc/Hz",), feeds=feeds,
+                remedy=remedy, details=(f"transmitter noise {dbc[k]:g} dBc/Hz",), filters=where,
             )
         )  # fmt: skip
     return out
@@ -322,12 +376,11 @@ def _im_threats(ctx, coeffs, radios_c, ci, ki, victim, plo, phi, olo, ohi, ri, i
     formed = np.full((h, k), -np.inf)
     iso_out = np.zeros((h, k))
     meth_out = np.zeros((h, k), dtype=int)
-    conv = np.where(order == 3, 0, 1)
     for p in range(k):  # k is 2 or 3: loop over the mixer's position in the combination
         mixer = src[:, p]
         others = np.delete(src, p, axis=1)
         incoming = inc[others, mixer[:, None]].min(axis=1)
-        cl_m = np.where(conv == 0, cl[3][mixer], cl[5][mixer])
+        cl_m = np.where(order == 3, cl[3][mixer], cl[5][mixer])
         formed[:, p] = incoming - cl_m
         total, iso, meth = sa.path_db(mixer, victim, flo)
         iso_out[:, p], meth_out[:, p] = iso, meth
@@ -335,33 +388,50 @@ def _im_threats(ctx, coeffs, radios_c, ci, ki, victim, plo, phi, olo, ohi, ri, i
     best = np.argmax(route, axis=1)
     rows = np.arange(h)
     level = route[rows, best]
-    out = []
+    route_excess = (route - thr[:, None]).tolist()
+    # Python lists: element access in the loop below is much cheaper than numpy scalars.
+    src_l, victim_l, best_l, ki_l = src.tolist(), victim.tolist(), best.tolist(), ki.tolist()
+    flo_l, fhi_l, thr_l, level_l = flo.tolist(), fhi.tolist(), thr.tolist(), level.tolist()
+    order_l = order.tolist()
+    pc_lo, pc_hi = plo[ci, ki].tolist(), phi[ci, ki].tolist()
+    formed_b = formed[rows, best].tolist()
+    iso_b, meth_b = iso_out[rows, best].tolist(), meth_out[rows, best].tolist()
     names = ctx.names
+    margin = ctx.margin
+    tx_lo, tx_hi = sa.tx_lo.tolist(), sa.tx_hi.tolist()
+    labels: dict[tuple, str] = {}
+    incoming_text: dict[tuple[int, int], str] = {}
+    conv_text: dict[tuple[int, int], str] = {}
+    out = []
     for j in range(h):
-        s = [int(v) for v in src[j]]
-        v = int(victim[j])
-        m = s[int(best[j])]
-        c = coeffs[ki[j]]
-        lo, hi = float(flo[j]), float(fhi[j])
-        excess = float(level[j] - thr[j])
-        product = _product_label(c, [names[i] for i in s])
-        feeds = []
+        s = src_l[j]
+        v = victim_l[j]
+        m = s[best_l[j]]
+        lo, hi = flo_l[j], fhi_l[j]
+        excess = level_l[j] - thr_l[j]
+        key = (ki_l[j], tuple(s))
+        product = labels.get(key)
+        if product is None:
+            product = labels[key] = _product_label(coeffs[ki_l[j]], [names[i] for i in s])
+        where = []
         clashes = []
         for p in range(k):
-            route_excess = float(route[j, p] - thr[j])
-            if not math.isfinite(route_excess) or route_excess <= 0:
+            rex = route_excess[j][p]
+            if not rex > 0 or rex == math.inf:
                 continue
             mix = s[p]
+            fed = False
             for o in s:
                 if o == mix:
                     continue
-                reason = f"{names[o]} into {names[mix]}'s output stage forms {product} into {names[v]}"
-                fd, clash = ctx.feed(mix, "tx", float(sa.tx_lo[o]), float(sa.tx_hi[o]),
-                                     route_excess + ctx.margin, reason)  # fmt: skip
-                if fd is None:
+                clash = ctx.clash(mix, tx_lo[o], tx_hi[o])
+                if clash is not None:
                     clashes.append((names[mix], names[o], clash))
-                else:
-                    feeds.append(fd)
+                    continue
+                ctx.feed_im(mix, o, rex + margin, product, v)
+                fed = True
+            if fed:
+                where.append((names[mix], "tx"))
         remedy = (
             f"tx-side filter at {names[m]}: notch the other transmitters' fundamentals "
             f"({', '.join(names[i] for i in s if i != m)}) at its output"
@@ -374,28 +444,36 @@ def _im_threats(ctx, coeffs, radios_c, ci, ki, victim, plo, phi, olo, ohi, ri, i
                 f"{cl_[0]:.4f}-{cl_[1]:.4f} MHz; use a ferrite isolator/circulator or cavities "
                 "at the transmitter, or more antenna separation"
                 for mx, o, cl_ in clashes
-            ) + ("" if not feeds else "; stubs elsewhere: " + remedy)
+            ) + ("" if not where else "; stubs elsewhere: " + remedy)
+        parts = []
+        for o in s:
+            if o == m:
+                continue
+            t = incoming_text.get((o, m))
+            if t is None:
+                t = incoming_text[(o, m)] = f"{names[o]} {inc[o, m]:.1f} dBm via " + ctx.iso_text(
+                    o, m, tx_lo[o], float(inc_iso[o, m]), int(inc_meth[o, m])
+                )
+            parts.append(t)
+        ck = (m, order_l[j])
+        conv = conv_text.get(ck)
+        if conv is None:
+            conv = conv_text[ck] = limits.im_conversion_db(
+                sa.site.radios[m].tx.im_conversion_db, order_l[j]
+            )[1]
         mixer_txt = (
-            f"mixer {names[m]}: incoming "
-            + ", ".join(
-                f"{names[o]} {inc[o, m]:.1f} dBm via "
-                + ctx.iso_text(o, m, float(sa.tx_lo[o]), float(inc_iso[o, m]), int(inc_meth[o, m]))
-                for o in s if o != m
-            )
-            + f"; formed {formed[j, best[j]]:.1f} dBm; conversion "
-            + limits.im_conversion_db(sa.site.radios[m].tx.im_conversion_db, int(order[j]))[1]
+            f"mixer {names[m]}: incoming " + ", ".join(parts)
+            + f"; formed {formed_b[j]:.1f} dBm; conversion " + conv
         )  # fmt: skip
         out.append(
             Threat(
                 sources=tuple(names[i] for i in s), victim=names[v], mechanism="intermod",
-                order=int(order[j]), product=product,
-                f_mhz=_centre(float(plo[ci[j], ki[j]]), float(phi[ci[j], ki[j]]), lo, hi),
-                f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[j]), threshold_dbm=float(thr[j]),
+                order=order_l[j], product=product, f_mhz=_centre(pc_lo[j], pc_hi[j], lo, hi),
+                f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=level_l[j], threshold_dbm=thr_l[j],
                 threshold_source=sa.rx_threshold_source[v], excess_db=excess,
-                required_db=excess + ctx.margin, isolation_db=float(iso_out[j, best[j]]),
-                isolation_method=ctx.iso_text(m, v, lo, float(iso_out[j, best[j]]),
-                                              int(meth_out[j, best[j]])),
-                remedy=remedy, mixer=names[m], details=(mixer_txt,), feeds=tuple(feeds),
+                required_db=excess + margin, isolation_db=iso_b[j],
+                isolation_method=ctx.iso_text(m, v, lo, iso_b[j], meth_b[j]),
+                remedy=remedy, mixer=names[m], details=(mixer_txt,), filters=tuple(where),
             )
         )  # fmt: skip
     return out

@@ -25,18 +25,18 @@ def too_close(lo: float, hi: float, pass_bands) -> tuple[float, float] | None:
     return None
 
 
-def build_filters(site: Site, sa, threats) -> tuple[FilterRequirement, ...]:
+def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
     """One FilterRequirement per (radio, side) that some threat with positive excess needs.
+
+    ``feeds`` are :class:`~notchkit.survey.result.NotchFeed` requests (only threats with
+    positive excess make them).
 
     Overlapping (or touching) notch bands at one location are unioned and the
     deeper requirement kept; pass bands are the radio's own tx and rx bands.
     """
     by_loc: dict[tuple[str, str], list] = {}
-    for t in threats:
-        if t.excess_db <= 0:
-            continue
-        for f in t.feeds:
-            by_loc.setdefault((f.radio, f.side), []).append(f)
+    for f in feeds:
+        by_loc.setdefault((f.radio, f.side), []).append(f)
     index = {name: i for i, name in enumerate(sa.names)}
     out = []
     for radio in site.radios:
@@ -69,13 +69,13 @@ def _merge(feeds) -> tuple[tuple[NotchSpec, ...], tuple[str, ...]]:
             g = groups[-1]
             g[1] = max(g[1], f.hi_mhz)
             g[2] = max(g[2], f.required_db)
-            if f.reason not in g[3]:
-                g[3].append(f.reason)
+            g[3].setdefault(f.reason, None)
         else:
-            groups.append([f.lo_mhz, f.hi_mhz, f.required_db, [f.reason]])
+            groups.append([f.lo_mhz, f.hi_mhz, f.required_db, {f.reason: None}])
     notches = tuple(NotchSpec(lo_mhz=lo, hi_mhz=hi, required_db=req) for lo, hi, req, _ in groups)
     reasons = []
-    for *_, rs in groups:
+    for *_, found in groups:
+        rs = list(found)
         text = "; ".join(rs[:MAX_REASONS])
         if len(rs) > MAX_REASONS:
             text += f"; and {len(rs) - MAX_REASONS} more"

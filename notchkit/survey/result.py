@@ -13,10 +13,10 @@ MECHANISMS = ("fundamental", "harmonic", "intermod", "noise")
 
 @dataclass(frozen=True, slots=True, kw_only=True)
 class NotchFeed:
-    """One notch a threat asks of one filter location.
+    """One notch that threats ask of one filter location (aggregated over threats).
 
     ``side`` is ``"tx"`` (at the transmitter's output) or ``"rx"`` (at the
-    receiver's input); ``required_db`` = excess + the site's rejection margin.
+    receiver's input); ``required_db`` = the worst excess + the site's rejection margin.
     """
 
     radio: str
@@ -54,15 +54,9 @@ class Threat:
     remedy: str
     mixer: str | None = None
     details: tuple[str, ...] = ()
-    feeds: tuple[NotchFeed, ...] = ()
-
-    @property
-    def filters(self) -> tuple[tuple[str, str], ...]:
-        """The filter locations (radio, side) this threat feeds a notch to."""
-        seen: dict[tuple[str, str], None] = {}
-        for f in self.feeds:
-            seen.setdefault((f.radio, f.side), None)
-        return tuple(seen)
+    filters: tuple[tuple[str, str], ...] = ()
+    """The filter locations (radio, side) this threat feeds a notch to (positive excess
+    only; empty when no stub can help, see ``remedy``)."""
 
     def to_json(self) -> dict[str, Any]:
         return {
