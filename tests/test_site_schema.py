@@ -1,0 +1,277 @@
+"""The published schema and format page stay in step with the loader and the model.
+
+- docs/site-schema.json is exactly what the loader's declaration produces, and
+  its properties, section by section, are the keys the loader accepts;
+- every example site, and the complete example in docs/site-format.md, is valid
+  under the schema, checked by a small validator written here from the JSON
+  Schema 2020-12 validation vocabulary (json-schema.org, "JSON Schema
+  Validation", sections 6.1-6.5: type, minimum, exclusiveMinimum, maximum,
+  minLength, maxLength, pattern, minItems, maxItems, required,
+  additionalProperties; core sections 10.3.1-10.3.2: prefixItems, items,
+  properties; 10.2.1.3: oneOf); in JSON Schema a boolean is not a number;
+- docs/site-format.md documents every key with an example, and the defaults it
+  states are the model's.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import re
+from pathlib import Path
+from typing import Any
+
+import pytest
+import yaml
+
+from notchkit.site import load_site, model
+from notchkit.site.loader import SECTIONS, site_schema
+
+ROOT = Path(__file__).resolve().parent.parent
+SCHEMA_FILE = ROOT / "docs" / "site-schema.json"
+FORMAT_FILE = ROOT / "docs" / "site-format.md"
+
+
+def _schema() -> dict[str, Any]:
+    return json.loads(SCHEMA_FILE.read_text(encoding="utf-8"))
+
+
+# ---------------------------------------------------------------- a small validator
+
+
+def validate(value: Any, schema: dict[str, Any], root: dict[str, Any], path: str = "$") -> list[str]:
+    """Errors of ``value`` under ``schema`` (the subset of JSON Schema 2020-12 the file uses)."""
+    if "$ref" in schema:
+        name = schema["$ref"].removeprefix("#/$defs/")
+        return validate(value, root["$defs"][name], root, path)
+    if "oneOf" in schema:
+        passing = [s for s in schema["oneOf"] if not validate(value, s, root, path)]
+        return [] if len(passing) == 1 else [f"{path}: matches {len(passing)} of oneOf"]
+    errors: list[str] = []
+    kind = schema.get("type")
+    checks = {
+        "object": lambda v: isinstance(v, dict),
+        "array": lambda v: isinstance(v, list),
+        "string": lambda v: isinstance(v, str),
+        "number": lambda v: isinstance(v, int | float) and not isinstance(v, bool),
+        "integer": lambda v: isinstance(v, int) and not isinstance(v, bool),
+    }
+    if kind is not None and not checks[kind](value):
+        return [f"{path}: {value!r} is not of type {kind}"]
+    if kind in ("number", "integer"):
+        if "minimum" in schema and value < schema["minimum"]:
+            errors.append(f"{path}: {value} < minimum")
+        if "exclusiveMinimum" in schema and value <= schema["exclusiveMinimum"]:
+            errors.append(f"{path}: {value} <= exclusiveMinimum")
+        if "maximum" in schema and value > schema["maximum"]:
+            errors.append(f"{path}: {value} > maximum")
+    if kind == "string":
+        if len(value) < schema.get("minLength", 0) or len(value) > schema.get("maxLength", 1 << 30):
+            errors.append(f"{path}: length {len(value)} out of bounds")
+        if "pattern" in schema and not re.search(schema["pattern"], value):
+            errors.append(f"{path}: {value!r} does not match pattern")
+    if kind == "array":
+        if not schema.get("minItems", 0) <= len(value) <= schema.get("maxItems", 1 << 30):
+            errors.append(f"{path}: {len(value)} items out of bounds")
+        prefix = schema.get("prefixItems", [])
+        for i, item in enumerate(value):
+            sub = prefix[i] if i < len(prefix) else schema.get("items")
+            if sub is not None:
+                errors += validate(item, sub, root, f"{path}[{i}]")
+    if kind == "object":
+        props = schema.get("properties", {})
+        for key in schema.get("required", []):
+            if key not in value:
+                errors.append(f"{path}: missing {key}")
+        for key, item in value.items():
+            if key in props:
+                errors += validate(item, props[key], root, f"{path}.{key}")
+            elif schema.get("additionalProperties") is False:
+                errors.append(f"{path}: unknown key {key}")
+    return errors
+
+
+def _complete_example() -> str:
+    text = FORMAT_FILE.read_text(encoding="utf-8")
+    section = text.split("## Complete example", 1)[1]
+    return section.split("```yaml\n", 1)[1].split("```", 1)[0]
+
+
+EXAMPLES = sorted((ROOT / "sites").glob("*.yaml"))
+
+
+# ---------------------------------------------------------------- schema == loader
+
+
+def test_published_schema_is_what_the_loader_declares():
+    assert _schema() == site_schema(), (
+        "docs/site-schema.json is stale; regenerate it as the site_schema() docstring says"
+    )
+
+
+def test_schema_properties_are_the_keys_the_loader_accepts():
+    schema = _schema()
+    assert set(schema["properties"]) == set(SECTIONS["site"])
+    assert set(schema["$defs"]) == set(SECTIONS) - {"site"}
+    for name, fields in SECTIONS.items():
+        node = schema if name == "site" else schema["$defs"][name]
+        assert set(node["properties"]) == set(fields), name
+        assert set(node.get("required", [])) == {k for k, f in fields.items() if f.required}, name
+        assert node["additionalProperties"] is False
+
+
+def test_loader_refuses_every_key_outside_the_schema(tmp_path):
+    # each section of the schema, given one extra key, makes the loader complain about that key
+    text = _complete_example().replace("  max_stubs: 3\n", "  max_stubs: 3\n  max_stubz: 3\n")
+    p = tmp_path / "x.yaml"
+    p.write_text(text, encoding="utf-8")
+    with pytest.raises(Exception) as info:
+        load_site(p)
+    assert "limits.max_stubz: unknown key (did you mean 'max_stubs'?)" in str(info.value)
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
+def test_example_sites_are_valid_under_the_schema(path):
+    schema = _schema()
+    data = yaml.safe_load(path.read_text(encoding="utf-8"))
+    assert validate(data, schema, schema) == []
+
+
+def test_the_validator_can_fail():
+    schema = _schema()
+    bad = {"site": "x", "transmitters": [{"name": "a", "freq_mhz": True, "power_w": 5, "colour": 1}]}
+    errors = validate(bad, schema, schema)
+    assert "$.transmitters[0].freq_mhz: True is not of type number" in errors
+    assert "$.transmitters[0]: unknown key colour" in errors
+    assert validate({"site": "x", "limits": {"max_swr": 1.0}}, schema, schema) == [
+        "$.limits.max_swr: 1.0 <= exclusiveMinimum"
+    ]
+    assert validate({"allowances": {"tee_allowance_m": "3 furlongs"}}, schema, schema) == [
+        "$: missing site",
+        "$.allowances.tee_allowance_m: matches 0 of oneOf",
+    ]
+
+
+# ---------------------------------------------------------------- the format page
+
+
+def _keys_used(data: Any, section: str, used: dict[str, set[str]]) -> None:
+    """Record which keys the YAML uses in each section of SECTIONS."""
+    if not isinstance(data, dict):
+        return
+    used.setdefault(section, set()).update(data)
+    for key, value in data.items():
+        fld = SECTIONS[section].get(key)
+        if fld is None:
+            continue
+        if fld.kind == "section":
+            _keys_used(value, fld.section, used)
+        elif fld.kind == "list":
+            for item in value:
+                _keys_used(item, fld.section, used)
+
+
+def test_complete_example_loads_and_uses_every_key(tmp_path):
+    text = _complete_example()
+    p = tmp_path / "complete.yaml"
+    p.write_text(text, encoding="utf-8")
+    site = load_site(p)
+    assert site.name
+    schema = _schema()
+    data = yaml.safe_load(text)
+    assert validate(data, schema, schema) == []
+    used: dict[str, set[str]] = {}
+    _keys_used(data, "site", used)
+    for name, fields in SECTIONS.items():
+        assert used.get(name, set()) == set(fields), f"complete example lacks keys of {name}"
+
+
+def _doc_rows() -> dict[str, dict[str, list[str]]]:
+    """{section heading: {key: [meaning, value, default, example]}} from the key tables."""
+    rows: dict[str, dict[str, list[str]]] = {}
+    heading = ""
+    for line in FORMAT_FILE.read_text(encoding="utf-8").splitlines():
+        if line.startswith("### "):
+            heading = line[4:]
+            rows[heading] = {}
+        m = re.match(r"^\| `([a-z0-9_]+)` \|(.*)\|$", line)
+        if m and heading:
+            rows[heading][m.group(1)] = [c.strip() for c in m.group(2).split(" | ")]
+    return rows
+
+
+# Where each section's defaults live in the model (the single source of defaults).
+_MODEL = {
+    "site": model.Site,
+    "transmitter": model.Transmit,
+    "receiver": model.Receive,
+    "transceiver": model.Transmit,
+    "tx": model.Transmit,
+    "rx": model.Receive,
+    "antenna": model.Antenna,
+    "feedline": model.Feedline,
+    "coupling": model.Coupling,
+    "limits": model.Limits,
+    "allowances": model.Allowances,
+    "cable": model.CableDef,
+}
+
+
+def _heading_for(section: str, rows: dict[str, dict[str, list[str]]]) -> str:
+    wanted = {
+        "site": "Top level",
+        "transmitter": "`transmitters:`",
+        "receiver": "`receivers:`",
+        "transceiver": "`transceivers:`",
+        "tx": "`tx:`",
+        "rx": "`rx:`",
+        "antenna": "`antenna:`",
+        "feedline": "`feedline:`",
+        "coupling": "`couplings:`",
+        "limits": "`limits:`",
+        "allowances": "`allowances:`",
+        "cable": "`cables:`",
+    }[section]
+    (heading,) = [h for h in rows if wanted in h]
+    return heading
+
+
+def test_format_page_documents_every_key_with_an_example():
+    rows = _doc_rows()
+    for section, fields in SECTIONS.items():
+        table = rows[_heading_for(section, rows)]
+        assert set(table) == set(fields), section
+        for key, cells in table.items():
+            example = cells[-1].strip("`")
+            assert example.startswith(f"{key}:"), (section, key)
+            # the example is valid YAML for that key
+            assert key in yaml.safe_load(example.split("  or  ")[0]), (section, key)
+
+
+def test_format_page_defaults_are_the_models():
+    rows = _doc_rows()
+    checked = 0
+    for section, fields in SECTIONS.items():
+        table = rows[_heading_for(section, rows)]
+        model_defaults = {
+            f.name: f.default
+            for f in dataclasses.fields(_MODEL[section])
+            if f.default is not dataclasses.MISSING
+        }
+        for key, cells in table.items():
+            stated = cells[-2]
+            if fields[key].required:
+                assert stated == "required", (section, key)
+                continue
+            if key == "cable" and section == "site":
+                assert stated == f"`{model.DEFAULT_CABLE}`"
+                checked += 1
+            elif stated == "empty":
+                assert model_defaults[key] == "", (section, key)
+                checked += 1
+            elif key in model_defaults and stated.startswith("`"):
+                assert yaml.safe_load(stated.strip("`")) == model_defaults[key], (section, key)
+                checked += 1
+            elif key in model_defaults and model_defaults[key] is None:
+                assert stated == "-", (section, key)
+    assert checked >= 15
