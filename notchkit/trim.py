@@ -345,6 +345,17 @@ def _regions(mask: NDArray[np.bool_]) -> list[tuple[int, int]]:
     return [(int(a), int(b)) for a, b in zip(edges[0::2], edges[1::2], strict=True)]
 
 
+def _merge_close(f, regions):
+    """Join regions whose gap is under FIT_SPAN of the frequency (noise splitting one)."""
+    merged: list[tuple[int, int]] = []
+    for a, b in regions:
+        if merged and f[a] - f[merged[-1][1] - 1] <= FIT_SPAN * f[a]:
+            merged[-1] = (merged[-1][0], b)
+        else:
+            merged.append((a, b))
+    return merged
+
+
 def _window(f: NDArray[np.float64], center_hz: float) -> tuple[int, int] | None:
     """Sample window of +/- FIT_SPAN around ``center_hz``, >= MIN_SIDE_POINTS a side."""
     k = int(np.searchsorted(f, center_hz))  # f[k-1] < center <= f[k]
@@ -533,12 +544,13 @@ def find_resonance(
     contrast = np.where(np.isfinite(contrast), contrast, 300.0)
 
     strongest = int(np.argmax(contrast))
-    regions = _regions(contrast >= MIN_DEPTH_DB)
+    regions = _merge_close(f, _regions(contrast >= MIN_DEPTH_DB))
     what = "notch" if ports == 2 else f"{kind} resonance"
     if not regions:
         raise MeasurementError(
             f"no clear {what}: the strongest contrast is {contrast[strongest]:.1f} dB at "
-            f"{f[strongest] / 1e6:.4g} MHz (need >= {MIN_DEPTH_DB:g} dB)"
+            f"{f[strongest] / 1e6:.4g} MHz (need >= {MIN_DEPTH_DB:g} dB; check --termination "
+            f"and --order)"
         )
     centres = [a + int(np.argmax(contrast[a:b])) for a, b in regions]
     if near_hz is not None:
@@ -547,9 +559,11 @@ def find_resonance(
         centres.sort(key=lambda i: -contrast[i])
 
     problems = []
-    for i in centres:
+    for rank, i in enumerate(centres):
         if i < MIN_SIDE_POINTS or i > f.size - 1 - MIN_SIDE_POINTS:
             problems.append(("edge", i))
+            if rank == 0:
+                break  # never fall back to another resonance when the wanted one is cut off
             continue
         try:
             if ports == 1:

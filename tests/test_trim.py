@@ -27,6 +27,7 @@ import skrf
 from skrf.media import DefinedGammaZ0
 
 from notchkit.cli import main
+from notchkit.errors import MeasurementError
 from notchkit.trim import find_resonance, inches_16ths, read_measurement, trim
 
 C = 299_792_458.0  # speed of light, m/s (exact, SI definition)
@@ -383,6 +384,11 @@ def test_resonance_at_sweep_edge(tmp_path, capsys):
     p = write(ntwk, tmp_path, "edge")
     line = _bad(tmp_path, capsys, p, target=f"{f1 - 1:.3f}")
     assert "edge.s1p" in line and "edge of the sweep" in line
+    # the wanted (1st) resonance cut off by the sweep start: no silent fall-back to the 3rd
+    wide = stub_network(termination="open", ports=1, length_m=length_m, vf=vf,
+                        start_mhz=f1, stop_mhz=3.5 * f1, points=801)
+    with pytest.raises(MeasurementError, match="edge of the sweep"):
+        find_resonance(wide, "open", near_hz=1.02 * f1 * 1e6)
 
 
 def test_shorted_quarter_wave_has_no_notch_through_tee(tmp_path, capsys):
