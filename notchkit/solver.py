@@ -1,0 +1,942 @@
+"""The stub solver: topology search, seeds from the rules of the trade, refinement, verification.
+
+Given one :class:`~notchkit.requirements.FilterRequirement` and a cable, find
+shunt stubs (open or shorted, at one tee or at several tees joined by line
+sections) that pass every wanted band and notch every interferer on the real
+lossy cable. Pure: no printing, no YAML, no randomness (the same input gives
+the same design).
+
+How it searches, simplest topology first:
+
+1. **One stub.** A dense 1-D scan of every length from the shortest stub that
+   can be cut (tee allowance + :data:`MIN_CUT_M`) up to about a wavelength at
+   the lowest band, for an open and for a shorted end, in one
+   :func:`~notchkit.filters.evaluate_batch` call each. The quarter- and
+   half-wave families (open lambda/4 notches f, 3f, 5f and passes 2f, 4f;
+   shorted lambda/4 passes f, 3f and notches 2f, 4f; the longer odd and even
+   multiples) are added as explicit seeds; the scan finds them and anything
+   between them.
+2. **Two or more stubs.** Each promising design with one stub fewer is extended
+   on its antenna side by a stub at the same tee or behind a line section.
+   The new stub's length comes from the notch resonances found by the scan, a
+   coarse grid, and analytic reactance compensation: the susceptance ``B`` that
+   the rest of the filter shows at a pass-band centre is cancelled by a stub
+   with ``tan(beta l) = -B Z0`` (open) or ``cot(beta l) = B Z0`` (shorted). The
+   line sections start from a quarter wave at each notch, a quarter and a half
+   wave at each pass band, and a coarse grid. (The classic "triple frequency"
+   pair, an open lambda/12 plus a shorted lambda/6 at one tee, which passes f
+   and notches 3f, comes out of the compensation step.)
+3. **Refinement.** The best distinct candidates of each level are refined with
+   :func:`scipy.optimize.minimize` (L-BFGS-B, bounded lengths; the gradient by
+   forward differences evaluated in one batched call) on a smooth penalty of
+   the lossy model over a moderate grid: each band's edges plus interior points.
+4. **Verification.** Every refined candidate is evaluated on a dense sweep of
+   each band, edge to edge (at least :data:`VERIFY_POINTS` points per band).
+   ``meets`` is true only when that sweep meets every requirement.
+
+Among designs that meet: fewest stubs, then least cable (designs within
+:data:`CABLE_TIE_FRACTION` of the shortest count as equal), then most margin.
+When none meets, the one with the least violation is returned with
+``meets=False``, what is missing per band, and advice.
+
+Limits
+------
+``limits.max_stubs`` caps the number of stubs. ``limits.max_total_cable_m``
+caps the cable (stub cut lengths plus line sections); when it is ``None`` the
+cap is :data:`DEFAULT_CABLE_WAVELENGTHS` wavelengths in the cable at the lowest
+band frequency. Every stub's electrical path is at least the tee allowance
+plus :data:`MIN_CUT_M`; every line section is at least :data:`MIN_LINE_M`.
+
+References
+----------
+.. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley, 2012, sec. 2.7
+       (lossy lines) and sec. 5.2 (single-stub tuning: the stub's susceptance
+       cancels the line's).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.typing import NDArray
+
+from notchkit.errors import DesignError
+from notchkit.filters import Filter, Line, Medium, Stub, evaluate_batch
+from notchkit.lines import C0, db20, swr_from_s11
+from notchkit.requirements import FilterRequirement, NotchSpec
+from notchkit.site.model import Band, Limits
+
+MIN_CUT_M = 0.020
+"""Shortest cable that can be cut for a stub, beyond the tee allowance, m."""
+MIN_LINE_M = 0.050
+"""Shortest line section between two tees (two connectors and some cable), m."""
+DEFAULT_CABLE_WAVELENGTHS = 3.0
+"""Default cap on the filter's total cable, in wavelengths in the cable at the
+lowest band frequency (used when ``limits.max_total_cable_m`` is ``None``)."""
+STUB_SCAN_WAVELENGTHS = 1.1
+"""The 1-D scan covers stub paths up to this many wavelengths at the lowest band."""
+VERIFY_POINTS = 201
+"""Points per band (edges included) of the dense verification sweep, at least."""
+CABLE_TIE_FRACTION = 0.10
+"""Designs whose cable is within this fraction of the shortest meeting design
+(with the same number of stubs) are ranked by margin instead of by cable."""
+IL_WEIGHT = 10.0
+"""Weight of pass-band insertion loss against notch depth in the penalty:
+0.1 dB of excess insertion loss counts as 1 dB of missing rejection."""
+MAX_FREQ_RANGE = (1e3, 1e11)
+
+_SOFT_K = 2.0  # sharpness of the smooth minimum, 1/dB
+_MARGIN_WEIGHT = 0.1
+_SCAN_MAX = 6000
+_BEAM = 5
+_REFINE_WINDOW = 8.0  # dB of penalty
+_FD_STEP = 1e-4  # radians at the highest frequency
+
+
+# ---------------------------------------------------------------- results
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PassResult:
+    """Verified figures of one pass band (dense sweep, edge to edge)."""
+
+    lo_mhz: float
+    hi_mhz: float
+    worst_insertion_loss_db: float
+    worst_insertion_loss_mhz: float
+    worst_swr: float
+    worst_swr_mhz: float
+    max_insertion_loss_db: float
+    max_swr: float
+    meets: bool
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class NotchResult:
+    """Verified figures of one notch band (dense sweep, edge to edge)."""
+
+    lo_mhz: float
+    hi_mhz: float
+    required_db: float
+    worst_attenuation_db: float
+    worst_mhz: float
+    margin_db: float
+    """``worst_attenuation_db - required_db`` (negative: short by that much)."""
+    met_lo_mhz: float | None
+    met_hi_mhz: float | None
+    """The widest stretch of the band where the requirement is met (``None``: nowhere)."""
+    meets: bool
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Shortfall:
+    """What is missing in one band: ``missing_db`` more is needed."""
+
+    band: str
+    """``"pass"`` or ``"notch"``."""
+    lo_mhz: float
+    hi_mhz: float
+    quantity: str
+    """``"attenuation"`` (dB), ``"insertion_loss"`` (dB) or ``"swr"``."""
+    required: float
+    achieved: float
+    missing_db: float
+    """Rejection missing (attenuation), insertion loss in excess, or return loss
+    missing for the SWR limit, in dB."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Solution:
+    """The solver's answer for one requirement.
+
+    ``verify_freq_hz``, ``s21`` and ``s11`` are the dense verification sweep the
+    figures come from (bands concatenated in order: pass bands, then notches).
+    """
+
+    filter: Filter
+    meets: bool
+    passes: tuple[PassResult, ...]
+    notches: tuple[NotchResult, ...]
+    margin_db: float
+    """Smallest notch margin in dB (negative: the largest shortfall); ``inf``
+    when there is no notch."""
+    shortfall: tuple[Shortfall, ...]
+    advice: tuple[str, ...]
+    verify_freq_hz: NDArray[np.float64] = field(compare=False, repr=False)
+    s21: NDArray[np.complex128] = field(compare=False, repr=False)
+    s11: NDArray[np.complex128] = field(compare=False, repr=False)
+    z_system: float = 50.0
+    max_total_cable_m: float = 0.0
+    candidates_evaluated: int = 0
+
+    @property
+    def n_stubs(self) -> int:
+        return len(self.filter.stubs)
+
+    @property
+    def total_cable_m(self) -> float:
+        return self.filter.total_cable_m
+
+
+# ---------------------------------------------------------------- the problem
+
+
+@dataclass(frozen=True, slots=True)
+class _Grid:
+    """Frequencies and, per margin column, what it checks (see :func:`_margins`)."""
+
+    freq_hz: np.ndarray
+    notch_idx: np.ndarray  # columns into freq_hz
+    notch_req: np.ndarray
+    pass_idx: np.ndarray
+    starts: np.ndarray  # reduceat starts of each criterion over the margin columns
+    n_notch_cols: int
+    pass_bounds: np.ndarray  # pass columns of band i: pass_idx[pass_bounds[i]:pass_bounds[i+1]]
+
+
+def _band_points(lo_mhz: float, hi_mhz: float, base: int, rel_step: float, cap: int) -> np.ndarray:
+    if hi_mhz <= lo_mhz:
+        return np.array([lo_mhz * 1e6])
+    centre = 0.5 * (lo_mhz + hi_mhz)
+    n = max(base, int(math.ceil((hi_mhz - lo_mhz) / (rel_step * centre))) + 1)
+    return np.linspace(lo_mhz, hi_mhz, min(n, cap)) * 1e6
+
+
+class _Problem:
+    """Everything the search needs about one requirement, precomputed."""
+
+    def __init__(self, req: FilterRequirement, cable: Medium, limits: Limits,
+                 tee_allowance_m: float, z_system: float):
+        self.req = req
+        self.cable = cable
+        self.limits = limits
+        self.tee = float(tee_allowance_m)
+        self.z_system = float(z_system)
+        self.passes: tuple[Band, ...] = tuple(req.pass_bands)
+        self.notches: tuple[NotchSpec, ...] = tuple(req.notches)
+        self.il_max = float(limits.max_insertion_loss_db)
+        self.swr_max = float(limits.max_swr)
+        self.rl_req = -20.0 * math.log10((self.swr_max - 1.0) / (self.swr_max + 1.0))
+        edges = [b.lo_mhz for b in self.passes] + [n.lo_mhz for n in self.notches]
+        tops = [b.hi_mhz for b in self.passes] + [n.hi_mhz for n in self.notches]
+        self.f_low_hz = min(edges) * 1e6
+        self.f_high_hz = max(tops) * 1e6
+        vf = cable.velocity_factor
+        self.lam_low = C0 * vf / self.f_low_hz
+        self.lam_high = C0 * vf / self.f_high_hz
+        self.scale = self.lam_high / (2.0 * math.pi)  # metres per radian at f_high
+        if limits.max_total_cable_m is None:
+            self.cable_cap = DEFAULT_CABLE_WAVELENGTHS * self.lam_low
+        else:
+            self.cable_cap = float(limits.max_total_cable_m)
+        self.stub_min = self.tee + MIN_CUT_M
+        scan_top = STUB_SCAN_WAVELENGTHS * self.lam_low + self.stub_min
+        self.stub_max = max(self.stub_min + 1e-3, min(self.cable_cap + self.tee, scan_top))
+        self.line_max = max(MIN_LINE_M + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
+        self.scan = self._grid(base_pass=3, base_notch=5, rel=0.02, cap=25)
+        self.fine = self._grid(base_pass=7, base_notch=11, rel=0.01, cap=61)
+        self.evaluated = 0
+
+    def _grid(self, *, base_pass: int, base_notch: int, rel: float, cap: int) -> _Grid:
+        freqs: list[np.ndarray] = []
+        pass_cols: list[np.ndarray] = []
+        notch_cols: list[np.ndarray] = []
+        notch_req: list[np.ndarray] = []
+        n = 0
+        for b in self.passes:
+            pts = _band_points(b.lo_mhz, b.hi_mhz, base_pass, rel, cap)
+            freqs.append(pts)
+            pass_cols.append(np.arange(n, n + pts.size))
+            n += pts.size
+        for s in self.notches:
+            pts = _band_points(s.lo_mhz, s.hi_mhz, base_notch, rel, cap)
+            freqs.append(pts)
+            notch_cols.append(np.arange(n, n + pts.size))
+            notch_req.append(np.full(pts.size, float(s.required_db)))
+            n += pts.size
+        # Margin columns: every notch point, then every pass point twice (IL, RL).
+        starts = []
+        pos = 0
+        for cols in notch_cols:
+            starts.append(pos)
+            pos += cols.size
+        n_notch_cols = pos
+        for cols in pass_cols:
+            starts.append(pos)
+            pos += cols.size
+            starts.append(pos)
+            pos += cols.size
+        empty = np.zeros(0, dtype=int)
+        return _Grid(
+            freq_hz=np.concatenate(freqs),
+            notch_idx=np.concatenate(notch_cols) if notch_cols else empty,
+            notch_req=np.concatenate(notch_req) if notch_req else np.zeros(0),
+            pass_idx=np.concatenate(pass_cols) if pass_cols else empty,
+            starts=np.array(starts, dtype=int),
+            n_notch_cols=n_notch_cols,
+            pass_bounds=np.cumsum([0] + [c.size for c in pass_cols]),
+        )
+
+    # ---- evaluation
+
+    def evaluate(self, kinds: tuple[str, ...], lengths: np.ndarray, grid: _Grid):
+        lengths = np.atleast_2d(lengths)
+        self.evaluated += lengths.shape[0]
+        return evaluate_batch(kinds, lengths, self.cable, grid.freq_hz, self.z_system)
+
+    def margins(self, s21: np.ndarray, s11: np.ndarray, grid: _Grid) -> np.ndarray:
+        """Normalised margins (dB of rejection equivalent), one column per check."""
+        att = -db20(s21)
+        parts = [att[:, grid.notch_idx] - grid.notch_req[None, :]]
+        if grid.pass_idx.size:
+            rl = -db20(s11)
+            p_att = att[:, grid.pass_idx]
+            p_rl = rl[:, grid.pass_idx]
+            # per pass band: its IL columns, then its RL columns
+            bounds = grid.pass_bounds
+            for i in range(len(self.passes)):
+                sl = slice(bounds[i], bounds[i + 1])
+                parts.append(IL_WEIGHT * (self.il_max - p_att[:, sl]))
+                parts.append(p_rl[:, sl] - self.rl_req)
+        return np.concatenate(parts, axis=1)
+
+    def cable_used(self, kinds: tuple[str, ...], lengths: np.ndarray) -> np.ndarray:
+        lengths = np.atleast_2d(lengths)
+        allow = np.array([0.0 if k == "line" else self.tee for k in kinds])
+        return np.sum(lengths - allow[None, :], axis=1)
+
+    def objective(self, kinds, lengths, grid: _Grid, s21=None, s11=None):
+        """Smooth penalty J, violation V, smallest margin, and each criterion's worst margin.
+
+        ``V`` is the total shortfall: the sum over criteria (each notch; each pass
+        band's insertion loss and return loss) of the worst margin's deficit, in
+        normalised dB, plus any cable over the cap in metres. ``J`` is its smooth
+        version (a soft minimum over each criterion's points and a softplus of the
+        deficit) plus a tenth of a soft maximum of minus every margin, so that
+        among designs that meet, the one with the most margin has the lowest J.
+        """
+        if s21 is None:
+            s21, s11 = self.evaluate(kinds, lengths, grid)
+        m = self.margins(s21, s11, grid)
+        k = _SOFT_K
+        z = -k * m
+        zmax = np.max(z, axis=1, keepdims=True)
+        e = np.exp(z - zmax)
+        lse_all = (zmax[:, 0] + np.log(np.sum(e, axis=1))) / k
+        per = np.add.reduceat(e, grid.starts, axis=1)
+        soft_worst = -(zmax + np.log(np.maximum(per, 1e-300))) / k
+        j = np.sum(np.logaddexp(0.0, -k * soft_worst), axis=1) / k + _MARGIN_WEIGHT * lse_all
+        over = self.cable_used(kinds, lengths) - self.cable_cap
+        j = j + 10.0 * np.logaddexp(0.0, k * over) / k
+        worst = np.minimum.reduceat(m, grid.starts, axis=1)
+        viol = np.sum(np.maximum(0.0, -worst), axis=1) + np.maximum(0.0, over)
+        return j, viol, np.min(worst, axis=1), worst
+
+    # ---- bounds
+
+    def bounds(self, kinds: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
+        lo = np.array([MIN_LINE_M if k == "line" else self.stub_min for k in kinds])
+        hi = np.array([self.line_max if k == "line" else self.stub_max for k in kinds])
+        return lo, hi
+
+
+# ---------------------------------------------------------------- seeds
+
+
+def _rule_seeds(p: _Problem) -> dict[str, list[float]]:
+    """Stub paths from the quarter- and half-wave families (common practice)."""
+    vf = p.cable.velocity_factor
+    seeds: dict[str, list[float]] = {"open": [], "short": []}
+    for n in p.notches:
+        lam = C0 * vf / (0.5e6 * (n.lo_mhz + n.hi_mhz))
+        seeds["open"] += [(2 * k + 1) * lam / 4 for k in range(4)]  # open odd quarter waves notch
+        seeds["short"] += [k * lam / 2 for k in range(1, 4)]  # shorted half waves notch
+    for b in p.passes:
+        lam = C0 * vf / (b.centre_mhz * 1e6)
+        seeds["short"] += [(2 * k + 1) * lam / 4 for k in range(3)]  # shorted odd quarter waves pass
+        seeds["open"] += [k * lam / 2 for k in range(1, 3)]  # open half waves pass
+    return {k: [x for x in v if p.stub_min <= x <= p.stub_max] for k, v in seeds.items()}
+
+
+def _compensation_lengths(p: _Problem, b_siemens: float, kind: str, freq_hz: float) -> list[float]:
+    """Stub paths whose susceptance at ``freq_hz`` is ``-b_siemens`` (lossless closed form).
+
+    Open: ``tan(beta l) = -B Z0``; shorted: ``cot(beta l) = B Z0``.
+    """
+    beta = 2.0 * math.pi * freq_hz / (C0 * p.cable.velocity_factor)
+    x = b_siemens * p.cable.z0_ohm
+    if kind == "open":
+        theta = math.atan(-x) % math.pi
+    else:
+        theta = (0.5 * math.pi - math.atan(x)) % math.pi
+    out = []
+    for m in range(3):
+        length = (theta + m * math.pi) / beta
+        if p.stub_min <= length <= p.stub_max:
+            out.append(length)
+    return out[:2]
+
+
+def _local_minima(values: np.ndarray) -> np.ndarray:
+    if values.size < 3:
+        return np.arange(values.size)
+    left = np.r_[True, values[1:] <= values[:-1]]
+    right = np.r_[values[:-1] <= values[1:], True]
+    return np.flatnonzero(left & right)
+
+
+# ---------------------------------------------------------------- candidates
+
+
+@dataclass(slots=True)
+class _Cand:
+    kinds: tuple[str, ...]
+    lengths: np.ndarray
+    j: float
+    viol: float
+    margin: float
+
+
+def _distinct(cands: list[_Cand], p: _Problem, n: int) -> list[_Cand]:
+    """The first ``n`` candidates (already sorted) that are not near-duplicates."""
+    out: list[_Cand] = []
+    for c in cands:
+        dup = any(o.kinds == c.kinds and np.max(np.abs(o.lengths - c.lengths)) < 0.3 * p.scale
+                  for o in out)
+        if not dup:
+            out.append(c)
+        if len(out) >= n:
+            break
+    return out
+
+
+def _pick(kinds, lengths, j, viol, margin, p: _Problem, n: int) -> list[_Cand]:
+    """Best ``n`` distinct by penalty, plus the shortest coarse-feasible one."""
+    order = np.lexsort((np.arange(j.size), j))
+    cands = [_Cand(kinds[i] if isinstance(kinds, list) else kinds, lengths[i].copy(),
+                   float(j[i]), float(viol[i]), float(margin[i])) for i in order[: 40 * n]]
+    chosen = _distinct(cands, p, n)
+    feasible = np.flatnonzero(viol <= 0)
+    if feasible.size:
+        ks = kinds if isinstance(kinds, list) else [kinds] * j.size
+        used = np.array([float(p.cable_used(ks[i], lengths[i])[0]) for i in feasible])
+        i = int(feasible[int(np.argmin(used))])
+        extra = _Cand(ks[i], lengths[i].copy(), float(j[i]), float(viol[i]), float(margin[i]))
+        chosen = _distinct(chosen + [extra], p, n + 1)
+    return chosen
+
+
+def _scan_one_stub(p: _Problem):
+    """The dense 1-D scan for a single stub; returns candidates and the per-notch resonances."""
+    n = int(math.ceil((p.stub_max - p.stub_min) / (p.lam_high / 120.0))) + 1
+    n = min(max(n, 200), _SCAN_MAX)
+    grid_l = np.linspace(p.stub_min, p.stub_max, n)
+    seeds = _rule_seeds(p)
+    cands: list[_Cand] = []
+    pool: dict[str, list[float]] = {"open": [], "short": []}
+    best_single: list[tuple[str, float]] = []  # the best resonance of each kind for each notch
+    for kind in ("open", "short"):
+        lengths = np.unique(np.r_[grid_l, seeds[kind]])
+        s21, s11 = p.evaluate((kind,), lengths[:, None], p.scan)
+        j, viol, margin, worst = p.objective((kind,), lengths[:, None], p.scan, s21, s11)
+        idx = _local_minima(j)
+        sub = _pick((kind,), lengths[idx, None], j[idx], viol[idx], margin[idx], p, _BEAM)
+        cands += sub
+        # Resonances per notch: local maxima of that notch's worst attenuation.
+        for jn in range(len(p.notches)):
+            w = worst[:, jn]
+            peaks = _local_minima(-w)
+            peaks = peaks[np.argsort(-w[peaks], kind="stable")][:2].tolist()
+            if peaks:
+                best_single.append((kind, float(lengths[peaks[0]])))
+            first = _local_minima(-w)[:2].tolist()
+            for i in sorted(set(peaks + first)):
+                pool[kind].append(float(lengths[i]))
+        pool[kind] = _dedupe(pool[kind] + seeds[kind], 0.1 * p.scale)
+    return cands, pool, best_single
+
+
+def _dedupe(values: list[float], tol: float) -> list[float]:
+    out: list[float] = []
+    for v in sorted(values):
+        if not out or v - out[-1] > tol:
+            out.append(v)
+    return out
+
+
+def _back_susceptance(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray,
+                      freq_hz: np.ndarray) -> np.ndarray:
+    """Susceptance seen from the antenna-side port of networks (radio side in Z_system).
+
+    ``lengths`` is (n_cand, len(kinds)); returns (n_cand, n_freq) siemens. The
+    network is reversed so that its antenna-side port becomes port 1 (a stub
+    network is reciprocal and each element symmetric).
+    """
+    rev_kinds = tuple(reversed(kinds))
+    rev = np.atleast_2d(np.asarray(lengths, dtype=float))[:, ::-1]
+    _, s11 = evaluate_batch(rev_kinds, rev, p.cable, freq_hz, p.z_system)
+    y = (1.0 - s11) / (1.0 + s11) / p.z_system
+    return y.imag
+
+
+def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -> list[_Cand]:
+    """Extend each parent by one stub at its last tee or behind a line section."""
+    vf = p.cable.velocity_factor
+    d_pool = []
+    for n in p.notches:
+        d_pool.append(C0 * vf / (0.5e6 * (n.lo_mhz + n.hi_mhz)) / 4)
+    for b in p.passes:
+        lam = C0 * vf / (b.centre_mhz * 1e6)
+        d_pool += [lam / 4, lam / 2]
+    d_pool += list(np.linspace(MIN_LINE_M, 0.5 * p.lam_low, 4))
+    d_pool = sorted({round(d, 6) for d in d_pool if MIN_LINE_M <= d <= p.line_max})
+    coarse = list(np.linspace(p.stub_min, p.stub_max, 12))
+    f_pass = np.array([b.centre_mhz * 1e6 for b in p.passes])
+    by_topology: dict[tuple[str, ...], list[np.ndarray]] = {}
+    for parent in parents:
+        # (topology, lengths) of each placement: at the parent's last tee, or behind a line
+        places = [(parent.kinds, parent.lengths[None, :])]
+        if d_pool:
+            rows = np.repeat(parent.lengths[None, :], len(d_pool), axis=0)
+            places.append(((*parent.kinds, "line"), np.column_stack([rows, d_pool])))
+        for base_kinds, base_rows in places:
+            b_back = (_back_susceptance(p, base_kinds, base_rows, f_pass) if f_pass.size
+                      else np.zeros((base_rows.shape[0], 0)))
+            for kind in ("open", "short"):
+                for row, b_row in zip(base_rows, b_back, strict=True):
+                    new = list(pool[kind]) + coarse
+                    for b, f in zip(b_row, f_pass, strict=True):
+                        new += _compensation_lengths(p, float(b), kind, float(f))
+                    new_arr = np.unique(np.round(np.asarray(new), 6))
+                    rows = np.column_stack([np.repeat(row[None, :], new_arr.size, axis=0), new_arr])
+                    by_topology.setdefault((*base_kinds, kind), []).append(rows)
+    out_k: list[tuple[str, ...]] = []
+    out_l: list[np.ndarray] = []
+    out_j, out_v, out_m = [], [], []
+    for kinds in sorted(by_topology):
+        lengths = np.unique(np.concatenate(by_topology[kinds]), axis=0)
+        ok = p.cable_used(kinds, lengths) <= p.cable_cap
+        lengths = lengths[ok]
+        if not lengths.size:
+            continue
+        j, viol, margin, _ = p.objective(kinds, lengths, p.scan)
+        out_k += [kinds] * lengths.shape[0]
+        out_l += list(lengths)
+        out_j.append(j)
+        out_v.append(viol)
+        out_m.append(margin)
+    if not out_k:
+        return []
+    return _pick(out_k, out_l, np.concatenate(out_j), np.concatenate(out_v), np.concatenate(out_m),
+                 p, _BEAM)
+
+
+# ---------------------------------------------------------------- refinement
+
+
+def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
+    """Local refinement of one candidate: a bounded pattern search on the fine grid.
+
+    Each iteration evaluates, in one batched call, a step up and down every
+    length at two step sizes and the last successful move extended; the step
+    shrinks when nothing improves. Lengths are in radians at the highest band
+    frequency, so one step means the same phase for every element. (A pattern
+    search rather than a quasi-Newton method: it needs no linear algebra, whose
+    threaded BLAS slows everything down on a busy machine, and each step is one
+    batched evaluation.)
+    """
+    grid = grid or p.fine
+    kinds = cand.kinds
+    lo, hi = p.bounds(kinds)
+    s = p.scale
+    lo_u, hi_u = lo / s, hi / s
+    n = len(kinds)
+    eye = np.eye(n)
+    x = np.clip(cand.lengths / s, lo_u, hi_u)
+    jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
+    step, last = 0.25, np.zeros(n)
+    for _ in range(60):
+        moves = np.vstack([eye * step, -eye * step, eye * (0.3 * step), -eye * (0.3 * step), last, 2 * last])
+        trial = np.clip(x[None, :] + moves, lo_u, hi_u)
+        j = p.objective(kinds, trial * s, grid)[0]
+        i = int(np.argmin(j))
+        if j[i] < jx - 1e-12:
+            last = trial[i] - x
+            x, jx = trial[i], float(j[i])
+        else:
+            step *= 0.35
+            last = np.zeros(n)
+            if step < 2e-4:
+                break
+    j, viol, margin, _ = p.objective(kinds, x[None, :] * s, grid)
+    return _Cand(kinds, x * s, float(j[0]), float(viol[0]), float(margin[0]))
+
+
+def _polish(p: _Problem, cand: _Cand) -> _Cand:
+    """Final polish of the chosen design with scipy's Nelder-Mead on the fine grid."""
+    from scipy.optimize import minimize
+
+    kinds = cand.kinds
+    lo, hi = p.bounds(kinds)
+    s = p.scale
+
+    def fun(u):
+        return float(p.objective(kinds, np.clip(u * s, lo, hi)[None, :], p.fine)[0][0])
+
+    x0 = cand.lengths / s
+    n = x0.size
+    simplex = np.vstack([x0, x0[None, :] + 0.02 * np.eye(n)])
+    res = minimize(fun, x0, method="Nelder-Mead",
+                   options={"initial_simplex": simplex, "xatol": 1e-4, "fatol": 1e-6, "maxfev": 60 * n})
+    lengths = np.clip(res.x * s, lo, hi)
+    j, viol, margin, _ = p.objective(kinds, lengths[None, :], p.fine)
+    return _Cand(kinds, lengths, float(j[0]), float(viol[0]), float(margin[0]))
+
+
+# ---------------------------------------------------------------- verification
+
+
+def _filter_of(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray) -> Filter:
+    elements = tuple(Line(length_m=float(x)) if k == "line" else Stub(termination=k, length_m=float(x))
+                     for k, x in zip(kinds, lengths, strict=True))
+    return Filter(elements=elements, cable=p.cable, tee_allowance_m=p.tee)
+
+
+def verify_sweep_hz(req: FilterRequirement) -> tuple[np.ndarray, list[slice]]:
+    """The dense verification sweep: every pass band, then every notch, edge to edge.
+
+    Returns the frequencies (Hz) and one slice per band into them.
+    """
+    freqs, slices, n = [], [], 0
+    bands = [(b.lo_mhz, b.hi_mhz) for b in req.pass_bands] + [(s.lo_mhz, s.hi_mhz) for s in req.notches]
+    for lo, hi in bands:
+        pts = _band_points(lo, hi, VERIFY_POINTS, 0.0005, 2001)
+        freqs.append(pts)
+        slices.append(slice(n, n + pts.size))
+        n += pts.size
+    return np.concatenate(freqs), slices
+
+
+def _widest_met(f_mhz: np.ndarray, ok: np.ndarray) -> tuple[float | None, float | None]:
+    if not ok.any():
+        return None, None
+    best, best_len, start = (0, 0), -1, None
+    for i, v in enumerate(np.r_[ok, False]):
+        if v and start is None:
+            start = i
+        elif not v and start is not None:
+            if i - 1 - start > best_len:
+                best, best_len = (start, i - 1), i - 1 - start
+            start = None
+    return float(f_mhz[best[0]]), float(f_mhz[best[1]])
+
+
+@dataclass(slots=True)
+class _Verified:
+    cand: _Cand
+    filt: Filter
+    passes: tuple[PassResult, ...]
+    notches: tuple[NotchResult, ...]
+    meets: bool
+    viol: float
+    score: float  # smallest normalised margin
+    freq: np.ndarray
+    s21: np.ndarray
+    s11: np.ndarray
+
+
+def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) -> _Verified:
+    filt = _filter_of(p, cand.kinds, cand.lengths)
+    s21, s11 = evaluate_batch(cand.kinds, cand.lengths[None, :], p.cable, sweep, p.z_system)
+    s21, s11 = s21[0], s11[0]
+    att = -db20(s21)
+    swr = swr_from_s11(s11)
+    f_mhz = sweep * 1e-6
+    passes, notches = [], []
+    viol, scores = 0.0, []
+    for b, sl in zip(p.passes, slices[: len(p.passes)], strict=True):
+        il = att[sl]
+        i_il, i_swr = int(np.argmax(il)), int(np.argmax(swr[sl]))
+        ok = bool(il[i_il] <= p.il_max and swr[sl][i_swr] <= p.swr_max)
+        rl = float(np.min(-db20(s11[sl])))
+        m_il, m_rl = IL_WEIGHT * (p.il_max - float(il[i_il])), rl - p.rl_req
+        viol += max(0.0, -m_il) + max(0.0, -m_rl)
+        scores += [m_il, m_rl]
+        passes.append(PassResult(lo_mhz=b.lo_mhz, hi_mhz=b.hi_mhz,
+                                 worst_insertion_loss_db=float(il[i_il]),
+                                 worst_insertion_loss_mhz=float(f_mhz[sl][i_il]),
+                                 worst_swr=float(swr[sl][i_swr]), worst_swr_mhz=float(f_mhz[sl][i_swr]),
+                                 max_insertion_loss_db=p.il_max, max_swr=p.swr_max, meets=ok))
+    for n, sl in zip(p.notches, slices[len(p.passes):], strict=True):
+        a = att[sl]
+        i = int(np.argmin(a))
+        margin = float(a[i]) - float(n.required_db)
+        lo, hi = _widest_met(f_mhz[sl], a >= n.required_db)
+        viol += max(0.0, -margin)
+        scores.append(margin)
+        notches.append(NotchResult(lo_mhz=n.lo_mhz, hi_mhz=n.hi_mhz, required_db=float(n.required_db),
+                                   worst_attenuation_db=float(a[i]), worst_mhz=float(f_mhz[sl][i]),
+                                   margin_db=margin, met_lo_mhz=lo, met_hi_mhz=hi, meets=margin >= 0.0))
+    over = filt.total_cable_m - p.cable_cap
+    viol += max(0.0, over)
+    meets = all(r.meets for r in passes) and all(r.meets for r in notches) and over <= 1e-9
+    return _Verified(cand=cand, filt=filt, passes=tuple(passes), notches=tuple(notches), meets=meets,
+                     viol=viol, score=min(scores) if scores else 0.0, freq=sweep, s21=s21, s11=s11)
+
+
+def _best(found: list[_Verified]) -> _Verified:
+    meeting = [v for v in found if v.meets]
+    if meeting:
+        fewest = min(len(v.filt.stubs) for v in meeting)
+        group = [v for v in meeting if len(v.filt.stubs) == fewest]
+        shortest = min(v.filt.total_cable_m for v in group)
+        near = [v for v in group if v.filt.total_cable_m <= shortest * (1 + CABLE_TIE_FRACTION) + 1e-6]
+        return max(near, key=lambda v: (v.score, -v.filt.total_cable_m))
+    return min(found, key=lambda v: (round(v.viol, 9), len(v.filt.stubs), v.filt.total_cable_m))
+
+
+# ---------------------------------------------------------------- advice
+
+
+def _shortfalls(v: _Verified, p: _Problem) -> tuple[Shortfall, ...]:
+    out = []
+    for r in v.passes:
+        if r.worst_insertion_loss_db > r.max_insertion_loss_db:
+            out.append(Shortfall(band="pass", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="insertion_loss",
+                                 required=r.max_insertion_loss_db, achieved=r.worst_insertion_loss_db,
+                                 missing_db=r.worst_insertion_loss_db - r.max_insertion_loss_db))
+        if r.worst_swr > r.max_swr:
+            rl = -20.0 * math.log10((r.worst_swr - 1.0) / (r.worst_swr + 1.0))
+            out.append(Shortfall(band="pass", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="swr",
+                                 required=r.max_swr, achieved=r.worst_swr, missing_db=p.rl_req - rl))
+    for r in v.notches:
+        if not r.meets:
+            out.append(Shortfall(band="notch", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="attenuation",
+                                 required=r.required_db, achieved=r.worst_attenuation_db,
+                                 missing_db=-r.margin_db))
+    return tuple(out)
+
+
+def _lower_loss_cable(cable: Medium, freq_hz: float) -> tuple[str, float, float] | None:
+    """The library cable of the same impedance with the lowest loss at ``freq_hz``, if lower."""
+    from notchkit.cables import library
+
+    own = float(np.asarray(cable.alpha_np_per_m(np.array([freq_hz])))[0])
+    best = None
+    for c in library():
+        if abs(c.z0_ohm - cable.z0_ohm) > 0.05 * cable.z0_ohm or c.lossless:
+            continue
+        a = float(c.alpha_np_per_m(np.array([freq_hz]))[0])
+        if a < 0.95 * own and (best is None or a < best[1]):
+            best = (c.name, a)
+    if best is None:
+        return None
+    to_db100 = 100.0 * 20.0 / math.log(10.0)
+    return best[0], best[1] * to_db100, own * to_db100
+
+
+def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
+    if v.meets:
+        return ()
+    out = []
+    n_stubs = len(v.filt.stubs)
+    if stubs_tried >= p.limits.max_stubs:
+        out.append(f"allow another stub: no design with up to {p.limits.max_stubs} stub(s) meets every "
+                   f"requirement (raise max_stubs to {p.limits.max_stubs + 1})")
+    if v.filt.total_cable_m > 0.9 * p.cable_cap:
+        out.append(f"allow more cable: the design uses {v.filt.total_cable_m:.2f} m of the "
+                   f"{p.cable_cap:.2f} m allowed (max_total_cable_m)")
+    for r in v.notches:
+        if r.meets:
+            continue
+        f = 0.5e6 * (r.lo_mhz + r.hi_mhz)
+        name = getattr(p.cable, "name", "this cable")
+        alt = _lower_loss_cable(p.cable, f)
+        if alt is not None:
+            out.append(f"use a lower-loss cable for the stubs: {alt[0]} has {alt[1]:.1f} dB/100 m at "
+                       f"{f / 1e6:g} MHz against {alt[2]:.1f} for {name} (a deeper notch)")
+        if r.hi_mhz > r.lo_mhz:
+            if r.met_lo_mhz is not None:
+                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz: {r.required_db:g} dB is reached "
+                           f"only over {r.met_lo_mhz:.3f}-{r.met_hi_mhz:.3f} MHz")
+            else:
+                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz or relax its requirement: the "
+                           f"best reaches {r.worst_attenuation_db:.1f} dB of the {r.required_db:g} dB asked")
+        else:
+            out.append(f"relax the notch at {r.lo_mhz:g} MHz to {max(r.worst_attenuation_db, 0):.0f} dB or "
+                       f"add isolation elsewhere (antenna spacing, a cavity filter)")
+    for r in v.passes:
+        if not r.meets:
+            out.append(f"pass band {r.lo_mhz:g}-{r.hi_mhz:g} MHz: insertion loss "
+                       f"{r.worst_insertion_loss_db:.2f} dB, SWR {r.worst_swr:.2f}; widen the gap to the "
+                       f"notches or allow another stub")
+    if n_stubs < stubs_tried and not out:
+        out.append("allow another stub")
+    return tuple(dict.fromkeys(out))
+
+
+# ---------------------------------------------------------------- entry point
+
+
+def check_requirement(req: FilterRequirement) -> None:
+    """Refuse a request that no filter can satisfy by construction.
+
+    Raises
+    ------
+    DesignError
+        Bad band edges, no notch, or a pass band overlapping a notch.
+    """
+    where = f"filter for {req.radio}" if req.radio else "design request"
+    if not req.notches:
+        raise DesignError(f"{where}: nothing to notch (give at least one notch band)")
+    for kind, lo, hi in ([("pass", b.lo_mhz, b.hi_mhz) for b in req.pass_bands]
+                         + [("notch", n.lo_mhz, n.hi_mhz) for n in req.notches]):
+        if not (math.isfinite(lo) and math.isfinite(hi) and lo > 0 and hi >= lo):
+            raise DesignError(f"{where}: {kind} band {lo:g}-{hi:g} MHz must have 0 < lo <= hi")
+    for n in req.notches:
+        if not (math.isfinite(n.required_db) and n.required_db > 0):
+            raise DesignError(f"{where}: notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz required_db "
+                              f"{n.required_db!r} must be > 0 dB")
+    for b in req.pass_bands:
+        for n in req.notches:
+            if b.overlaps(n.band):
+                raise DesignError(f"cannot pass and notch the same frequency: pass {b.lo_mhz:g}-{b.hi_mhz:g} "
+                                  f"overlaps notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz")
+
+
+def solve(
+    req: FilterRequirement,
+    *,
+    cable: Medium,
+    limits: Limits,
+    tee_allowance_m: float,
+    z_system: float = 50.0,
+    progress: Callable[[str], None] | None = None,
+) -> Solution:
+    """Design the simplest stub filter that meets ``req`` on ``cable``.
+
+    Parameters
+    ----------
+    req : FilterRequirement
+        Pass bands (insertion loss and SWR limits from ``limits``) and notches
+        (``required_db`` of attenuation over the whole band).
+    cable : Medium
+        The stubs' and line sections' cable (``z0_ohm``, ``velocity_factor``,
+        ``alpha_np_per_m``).
+    limits : Limits
+        ``max_insertion_loss_db``, ``max_swr``, ``max_stubs``, ``max_total_cable_m``.
+    tee_allowance_m : float
+        Electrical length of each tee and connector, metres of the stub's cable,
+        included in each stub's path.
+    z_system : float
+        Port reference impedance, ohms.
+    progress : callable(str), optional
+        Called with a short message at each stage.
+
+    Returns
+    -------
+    Solution
+        ``meets`` is true only when the dense verification sweep meets every
+        requirement.
+
+    Raises
+    ------
+    DesignError
+        The request cannot be satisfied by any filter (see :func:`check_requirement`),
+        or the limits are unusable.
+    """
+    check_requirement(req)
+    if not (isinstance(limits.max_stubs, int) and limits.max_stubs >= 1):
+        raise DesignError(f"max_stubs {limits.max_stubs!r} must be an integer >= 1")
+    if not (math.isfinite(tee_allowance_m) and tee_allowance_m >= 0):
+        raise DesignError(f"tee_allowance_m {tee_allowance_m!r} must be finite and >= 0 m")
+    if limits.max_total_cable_m is not None and not (limits.max_total_cable_m > MIN_CUT_M):
+        raise DesignError(f"max_total_cable_m {limits.max_total_cable_m!r} must be > {MIN_CUT_M} m")
+    if not (limits.max_swr > 1.0 and limits.max_insertion_loss_db > 0):
+        raise DesignError(f"limits: max_swr {limits.max_swr!r} must be > 1 and max_insertion_loss_db "
+                          f"{limits.max_insertion_loss_db!r} must be > 0 dB")
+    p = _Problem(req, cable, limits, tee_allowance_m, z_system)
+    sweep, slices = verify_sweep_hz(req)
+    say = progress or (lambda _msg: None)
+
+    say("1 stub: scanning lengths")
+    level, pool, best_single = _scan_one_stub(p)
+    found: list[_Verified] = []
+    stubs_tried = 1
+    for n_stubs in range(1, limits.max_stubs + 1):
+        if n_stubs > 1:
+            say(f"{n_stubs} stubs: extending the best {n_stubs - 1}-stub designs")
+            parents = _distinct(sorted(level, key=lambda c: c.j), p, _BEAM)
+            if n_stubs == 2:
+                # single stubs that each notch one band well are parents too
+                singles = [_Cand((k,), np.array([x]), 0.0, 0.0, 0.0) for k, x in best_single]
+                parents = _distinct(parents + singles, p, _BEAM + len(singles))
+            level = _children(p, parents, pool)
+            stubs_tried = n_stubs
+        # Refine the candidates within reach of the best (their penalty within
+        # _REFINE_WINDOW dB); the others cannot win.
+        j_best = min((c.j for c in level), default=0.0)
+        level = [c for c in level if c.j <= j_best + _REFINE_WINDOW]
+        say(f"{n_stubs} stub(s): refining {len(level)} candidates")
+        refined = [_refine(p, c) for c in level]
+        level = refined
+        verified = [_verify(p, c, sweep, slices) for c in refined]
+        found += verified
+        if any(v.meets for v in verified):
+            break
+    best = _best(found)
+    say("polishing the chosen design")
+    polished = _verify(p, _polish(p, best.cand), sweep, slices)
+    if _best([best, polished]) is polished:
+        best = polished
+    return Solution(
+        filter=best.filt,
+        meets=best.meets,
+        passes=best.passes,
+        notches=best.notches,
+        margin_db=min((r.margin_db for r in best.notches), default=math.inf),
+        shortfall=_shortfalls(best, p),
+        advice=_advice(best, p, stubs_tried),
+        verify_freq_hz=best.freq,
+        s21=best.s21,
+        s11=best.s11,
+        z_system=p.z_system,
+        max_total_cable_m=p.cable_cap,
+        candidates_evaluated=p.evaluated,
+    )
+
+
+def describe(filt: Filter) -> str:
+    """One-line arrangement from the radio side to the antenna side."""
+    parts = ["radio"]
+    for group_start, e in enumerate(filt.elements):
+        if isinstance(e, Line):
+            parts.append(f"line {e.length_m:.3f} m")
+        else:
+            prev = filt.elements[group_start - 1] if group_start else None
+            text = f"{e.termination} stub {e.length_m:.3f} m"
+            if isinstance(prev, Stub):
+                parts[-1] = parts[-1][:-1] + f" + {text}]"
+            else:
+                parts.append(f"tee[{text}]")
+    parts.append("antenna")
+    return " -> ".join(parts)
+
+
+__all__: Sequence[str] = [
+    "solve",
+    "check_requirement",
+    "verify_sweep_hz",
+    "describe",
+    "Solution",
+    "PassResult",
+    "NotchResult",
+    "Shortfall",
+    "MIN_CUT_M",
+    "MIN_LINE_M",
+    "DEFAULT_CABLE_WAVELENGTHS",
+    "VERIFY_POINTS",
+]
