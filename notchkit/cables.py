@@ -371,15 +371,17 @@ def get_cable(name: str, site_cables: Iterable[Any] = ()) -> Cable:
         Unknown name; the message lists the closest known names.
     """
     key = _normalise(name)
-    candidates: dict[str, Cable] = {}
+    # Site definitions first (they override the library); only the match is built,
+    # so a lossless definition warns when it is used, not on every lookup.
+    site = list(site_cables)
+    for item in reversed(site):
+        if _normalise(item.name) == key:
+            return item if isinstance(item, Cable) else cable_from_def(item)
     for c in library():
-        candidates.setdefault(_normalise(c.name), c)
-    for item in site_cables:
-        cable = item if isinstance(item, Cable) else cable_from_def(item)
-        candidates[_normalise(cable.name)] = cable
-    if key in candidates:
-        return candidates[key]
-    names = {_normalise(c.name): c.name for c in candidates.values()}
+        if _normalise(c.name) == key:
+            return c
+    names = {_normalise(c.name): c.name for c in library()}
+    names.update({_normalise(item.name): item.name for item in site})
     close = difflib.get_close_matches(key, list(names), n=3, cutoff=0.5)
     hint = (
         f"did you mean {', '.join(names[k] for k in close)}?"

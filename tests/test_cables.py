@@ -222,3 +222,20 @@ def test_cli_bad_at(capsys, bad):
     assert main(["cables", "--at", bad]) == 2
     err = capsys.readouterr().err
     assert err.startswith("error: --at:") and err.count("\n") == 1
+
+
+def test_site_cables_override_and_warn_only_when_used():
+    from notchkit.site.model import CableDef
+
+    lossless_def = CableDef(name="Ladder-450", z0_ohm=450.0, velocity_factor=0.91)
+    own_213 = CableDef(name="RG-213", z0_ohm=50.0, velocity_factor=0.66,
+                       loss_table=((10.0, 2.0), (100.0, 7.0)), max_voltage_v=5000.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        c = get_cable("rg 213", (lossless_def, own_213))
+    assert c.max_voltage_v == 5000.0 and c.sources == ("site file",)
+    assert c.loss_db_per_100m(10) == pytest.approx(2.0, rel=0.05)
+    with pytest.warns(LosslessCableWarning):
+        assert get_cable("ladder-450", (lossless_def,)).lossless
+    with pytest.raises(CableError, match="did you mean Ladder-450"):
+        get_cable("Ladder-405", (lossless_def,))
