@@ -15,6 +15,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.errors import (
     EXIT_BAD_INPUT,
     EXIT_OK,
@@ -45,4 +46,8 @@ __all__ = [
     "find_resonance",
     "TrimResult",
     "Resonance",
+    "Cable",
+    "cable_table",
+    "get_cable",
+    "library",
 ]
