@@ -7,6 +7,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from notchkit.cables import get_cable
 from notchkit.errors import DesignError
@@ -209,3 +211,29 @@ def test_unrated_cable_and_bad_inputs():
         power_check(f, power_w=5, freq_mhz=0)
     with pytest.raises(DesignError, match="power_is 'peak' must be 'available' or 'delivered'"):
         power_check(f, power_w=5, freq_mhz=20.0, power_is="peak")
+
+
+_element = st.one_of(
+    st.builds(lambda t, m: Stub(termination=t, length_m=m), st.sampled_from(["open", "short"]),
+              st.floats(0.05, 12.0)),
+    st.builds(lambda m: Line(length_m=m), st.floats(0.0, 12.0)),
+)
+
+
+@settings(max_examples=30, deadline=None)
+@given(elements=st.lists(_element, min_size=1, max_size=4), f_mhz=st.floats(1.0, 500.0),
+       cable=st.sampled_from(["RG-58", "RG-213"]))
+def test_energy_conservation_property(elements, f_mhz, cable):
+    # Energy conservation on any filter: heat in stubs and lines = P (1 - |S11|^2 - |S21|^2)
+    # with S from the independent ABCD path (filters.evaluate); output = P |S21|^2.
+    if not any(isinstance(e, Stub) for e in elements):
+        elements.append(Stub(termination="open", length_m=1.0))
+    f = _filter(*elements, cable=get_cable(cable))
+    pc = power_check(f, power_w=100.0, freq_mhz=f_mhz)
+    s = evaluate(f, [f_mhz * 1e6])[0]
+    absorbed = 100.0 * (1 - abs(s[0, 0]) ** 2 - abs(s[1, 0]) ** 2)
+    assert pc.total_dissipated_w == pytest.approx(absorbed, rel=0.01, abs=1e-6)
+    assert pc.output_w == pytest.approx(100.0 * abs(s[1, 0]) ** 2, rel=1e-6, abs=1e-9)
+    for st_ in pc.stubs:
+        assert st_.max_voltage_peak_v >= st_.tee_voltage_peak_v * (1 - 1e-9)
+        assert st_.dissipated_w >= -1e-9
