@@ -551,6 +551,14 @@ def _join(path: str, key: str) -> str:
     return f"{path}.{key}" if path else key
 
 
+def _count(node: yaml.Node) -> str:
+    """What a node holds, for 'expected two values, got ...'."""
+    if isinstance(node, yaml.SequenceNode):
+        n = len(node.value)
+        return f"{n} value" if n == 1 else f"{n} values"
+    return _kind(node)
+
+
 def _kind(node: yaml.Node) -> str:
     if isinstance(node, yaml.MappingNode):
         return "a mapping"
@@ -665,11 +673,11 @@ class _Reader:
         spec = SECTIONS[name]
         if not isinstance(node, yaml.MappingNode):
             what = f"{_kind(node)} {_shown(node)}" if isinstance(node, yaml.ScalarNode) else _kind(node)
-            where = path or "the file"
+            where = "must be" if path else "the file must be"
             self.add(
                 node,
                 path,
-                f"{where} must be a mapping of keys, got {what} (allowed keys: {_ALLOWED_KEYS_TEXT[name]})",
+                f"{where} a mapping of keys, got {what} (allowed keys: {_ALLOWED_KEYS_TEXT[name]})",
             )
             return None
         out: dict[str, tuple[Any, yaml.Node]] = {}
@@ -850,11 +858,11 @@ class _Reader:
 
     def band(self, node: yaml.Node, path: str) -> Any:
         if not isinstance(node, yaml.SequenceNode) or len(node.value) != 2:
-            got = f"{len(node.value)} values" if isinstance(node, yaml.SequenceNode) else _kind(node)
             self.add(
                 node,
                 path,
-                f"expected [lo, hi] in MHz, got {got} (allowed: two frequencies, e.g. [144.0, 148.0])",
+                f"expected [lo, hi] in MHz, got {_count(node)} "
+                "(allowed: two frequencies, e.g. [144.0, 148.0])",
             )
             return _BAD
         lo = self.number(node.value[0], _FREQ, f"{path}[0]")
@@ -873,8 +881,9 @@ class _Reader:
 
     def pair(self, node: yaml.Node, path: str) -> Any:
         if not isinstance(node, yaml.SequenceNode) or len(node.value) != 2:
-            got = f"{len(node.value)} values" if isinstance(node, yaml.SequenceNode) else _kind(node)
-            self.add(node, path, f"expected two radio names, got {got} (allowed: [name-a, name-b])")
+            self.add(
+                node, path, f"expected two radio names, got {_count(node)} (allowed: [name-a, name-b])"
+            )
             return _BAD
         a = self.text(node.value[0], f"{path}[0]", name=True)
         b = self.text(node.value[1], f"{path}[1]", name=True)
@@ -900,7 +909,7 @@ class _Reader:
                 self.add(
                     row,
                     rpath,
-                    f"expected [freq_mhz, loss_db_per_100m], got {_kind(row)} "
+                    f"expected [freq_mhz, loss_db_per_100m], got {_count(row)} "
                     "(allowed: e.g. [100, 6.6])",
                 )
                 ok = False
