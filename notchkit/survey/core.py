@@ -7,12 +7,11 @@ builds the result objects.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from notchkit.site.model import Site
 from notchkit.survey import limits, products
+from notchkit.survey.intermod import intermod_threats
 from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
 from notchkit.survey.locations import build_filters, too_close
 from notchkit.survey.paths import SiteArrays, check_max_harmonic
@@ -67,7 +66,7 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         if n_harm >= 2:
             threats += _harmonics(ctx, tt, rr, n_harm)
         threats += _noise(ctx, tt, rr)
-        threats += _intermod(ctx, tx, rx)
+        threats += intermod_threats(ctx, tx, rx)
     threats.sort(key=lambda t: (-t.excess_db, t.victim, t.sources, t.mechanism, t.order, t.f_mhz))
     return SurveyResult(
         site=site.name,
@@ -134,13 +133,15 @@ class _Ctx:
             entry[1].setdefault(reason, None)
         return (self.names[radio], side), None
 
-    def feed_im(self, mixer: int, other: int, required: float, product: str, victim: int) -> None:
+    def feed_im(
+        self, mixer: int, other: int, required: float, product: str, victim: int, count: int = 1
+    ) -> None:
         """IM notches are aggregated per (mixer, other transmitter): worst depth and a count."""
         entry = self._im.get((mixer, other))
         if entry is None:
-            self._im[(mixer, other)] = [required, 1, product, victim]
+            self._im[(mixer, other)] = [required, count, product, victim]
         else:
-            entry[1] += 1
+            entry[1] += count
             if required > entry[0]:
                 entry[0], entry[2], entry[3] = required, product, victim
 
@@ -162,17 +163,6 @@ class _Ctx:
                 )
             )  # fmt: skip
         return out
-
-
-def _centre(plo: float, phi: float, olo: float, ohi: float) -> float:
-    """Frequency of a product at the victim.
-
-    The product's own centre when the whole product lies in the receiver's band
-    (a channel product), else the centre of the part that does (ranges).
-    """
-    if olo <= plo and phi <= ohi:
-        return 0.5 * (plo + phi)
-    return 0.5 * (olo + ohi)
 
 
 def _no_stub(where: str, lo: float, hi: float, clash: tuple[float, float], alternative: str) -> str:
@@ -271,7 +261,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
         out.append(
             Threat(
                 sources=(src,), victim=vic, mechanism="harmonic", order=order, product=f"{order}*{src}",
-                f_mhz=_centre(order * float(sa.tx_lo[ti]), order * float(sa.tx_hi[ti]), lo, hi),
+                f_mhz=products.product_centre(order * sa.tx_lo[ti], order * sa.tx_hi[ti], lo, hi),
                 f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[k]), threshold_dbm=float(thr[k]),
                 threshold_source=sa.rx_threshold_source[ri], excess_db=excess,
                 required_db=excess + ctx.margin, isolation_db=float(iso[k]),
@@ -324,169 +314,3 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
             )
         )  # fmt: skip
     return out
-
-
-def _intermod(ctx: _Ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
-    sa = ctx.sa
-    if tx.size < 2 or rx.size == 0:
-        return []
-    # Signal of transmitter o arriving at transmitter m's output stage: inc[o, m] (dBm).
-    oo, mm = (a.ravel() for a in np.meshgrid(tx, tx, indexing="ij"))
-    total, iso_in, meth_in = sa.path_db(oo, mm, sa.tx_lo[oo])
-    n = len(sa.names)
-    inc = np.full((n, n), -np.inf)
-    inc_iso = np.zeros((n, n))
-    inc_meth = np.zeros((n, n), dtype=int)
-    inc[oo, mm] = sa.p_dbm[oo] - total
-    inc_iso[oo, mm], inc_meth[oo, mm] = iso_in, meth_in
-    inc[tx, tx] = -np.inf
-    cl = {}
-    for order in (3, 5):
-        arr = np.zeros(n)
-        for i in tx:
-            arr[i] = limits.im_conversion_db(sa.site.radios[int(i)].tx.im_conversion_db, order)[0]
-        cl[order] = arr
-    out: list[Threat] = []
-    for coeffs, combos in ((products.TWO_TONE, products.pairs(tx.size)),
-                           (products.THREE_TONE, products.triples(tx.size))):  # fmt: skip
-        if combos.size == 0:
-            continue
-        radios_c = tx[combos]  # (n_comb, k) radio indices
-        plo, phi = products.combine(coeffs, sa.tx_lo[radios_c], sa.tx_hi[radios_c])
-        olo, ohi, hit = products.intersect(
-            plo[:, :, None], phi[:, :, None], sa.rx_lo[rx][None, None, :], sa.rx_hi[rx][None, None, :]
-        )
-        ci, ki, ri = np.nonzero(hit)
-        if ci.size:
-            out += _im_threats(ctx, coeffs, radios_c, ci, ki, rx[ri], plo, phi, olo, ohi, ri, inc,
-                               inc_iso, inc_meth, cl)  # fmt: skip
-    return out
-
-
-def _im_threats(ctx, coeffs, radios_c, ci, ki, victim, plo, phi, olo, ohi, ri, inc, inc_iso,
-                inc_meth, cl) -> list[Threat]:  # fmt: skip
-    sa = ctx.sa
-    src = radios_c[ci]  # (h, k)
-    h, k = src.shape
-    order = products.orders(coeffs)[ki]
-    flo = olo[ci, ki, ri]
-    fhi = ohi[ci, ki, ri]
-    thr = sa.rx_threshold[victim]
-    route = np.full((h, k), -np.inf)
-    formed = np.full((h, k), -np.inf)
-    iso_out = np.zeros((h, k))
-    meth_out = np.zeros((h, k), dtype=int)
-    for p in range(k):  # k is 2 or 3: loop over the mixer's position in the combination
-        mixer = src[:, p]
-        others = np.delete(src, p, axis=1)
-        incoming = inc[others, mixer[:, None]].min(axis=1)
-        cl_m = np.where(order == 3, cl[3][mixer], cl[5][mixer])
-        formed[:, p] = incoming - cl_m
-        total, iso, meth = sa.path_db(mixer, victim, flo)
-        iso_out[:, p], meth_out[:, p] = iso, meth
-        route[:, p] = np.where(mixer == victim, -np.inf, formed[:, p] - total)
-    best = np.argmax(route, axis=1)
-    rows = np.arange(h)
-    level = route[rows, best]
-    route_excess = (route - thr[:, None]).tolist()
-    # Python lists: element access in the loop below is much cheaper than numpy scalars.
-    src_l, victim_l, best_l, ki_l = src.tolist(), victim.tolist(), best.tolist(), ki.tolist()
-    flo_l, fhi_l, thr_l, level_l = flo.tolist(), fhi.tolist(), thr.tolist(), level.tolist()
-    order_l = order.tolist()
-    pc_lo, pc_hi = plo[ci, ki].tolist(), phi[ci, ki].tolist()
-    formed_b = formed[rows, best].tolist()
-    iso_b, meth_b = iso_out[rows, best].tolist(), meth_out[rows, best].tolist()
-    names = ctx.names
-    margin = ctx.margin
-    tx_lo, tx_hi = sa.tx_lo.tolist(), sa.tx_hi.tolist()
-    labels: dict[tuple, str] = {}
-    incoming_text: dict[tuple[int, int], str] = {}
-    conv_text: dict[tuple[int, int], str] = {}
-    out = []
-    for j in range(h):
-        s = src_l[j]
-        v = victim_l[j]
-        m = s[best_l[j]]
-        lo, hi = flo_l[j], fhi_l[j]
-        excess = level_l[j] - thr_l[j]
-        key = (ki_l[j], tuple(s))
-        product = labels.get(key)
-        if product is None:
-            product = labels[key] = _product_label(coeffs[ki_l[j]], [names[i] for i in s])
-        where = []
-        clashes = []
-        for p in range(k):
-            rex = route_excess[j][p]
-            if not rex > 0 or rex == math.inf:
-                continue
-            mix = s[p]
-            fed = False
-            for o in s:
-                if o == mix:
-                    continue
-                clash = ctx.clash(mix, tx_lo[o], tx_hi[o])
-                if clash is not None:
-                    clashes.append((names[mix], names[o], clash))
-                    continue
-                ctx.feed_im(mix, o, rex + margin, product, v)
-                fed = True
-            if fed:
-                where.append((names[mix], "tx"))
-        remedy = (
-            f"tx-side filter at {names[m]}: notch the other transmitters' fundamentals "
-            f"({', '.join(names[i] for i in s if i != m)}) at its output"
-        )
-        if excess <= 0:
-            remedy = "none needed (" + remedy + ")"
-        elif clashes:
-            remedy = "; ".join(
-                f"no stub at {mx} for {o}: {o}'s band lies within a few % of {mx}'s pass band "
-                f"{cl_[0]:.4f}-{cl_[1]:.4f} MHz; use a ferrite isolator/circulator or cavities "
-                "at the transmitter, or more antenna separation"
-                for mx, o, cl_ in clashes
-            ) + ("" if not where else "; stubs elsewhere: " + remedy)
-        parts = []
-        for o in s:
-            if o == m:
-                continue
-            t = incoming_text.get((o, m))
-            if t is None:
-                t = incoming_text[(o, m)] = f"{names[o]} {inc[o, m]:.1f} dBm via " + ctx.iso_text(
-                    o, m, tx_lo[o], float(inc_iso[o, m]), int(inc_meth[o, m])
-                )
-            parts.append(t)
-        ck = (m, order_l[j])
-        conv = conv_text.get(ck)
-        if conv is None:
-            conv = conv_text[ck] = limits.im_conversion_db(
-                sa.site.radios[m].tx.im_conversion_db, order_l[j]
-            )[1]
-        mixer_txt = (
-            f"mixer {names[m]}: incoming " + ", ".join(parts)
-            + f"; formed {formed_b[j]:.1f} dBm; conversion " + conv
-        )  # fmt: skip
-        out.append(
-            Threat(
-                sources=tuple(names[i] for i in s), victim=names[v], mechanism="intermod",
-                order=order_l[j], product=product, f_mhz=_centre(pc_lo[j], pc_hi[j], lo, hi),
-                f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=level_l[j], threshold_dbm=thr_l[j],
-                threshold_source=sa.rx_threshold_source[v], excess_db=excess,
-                required_db=excess + margin, isolation_db=iso_b[j],
-                isolation_method=ctx.iso_text(m, v, lo, iso_b[j], meth_b[j]),
-                remedy=remedy, mixer=names[m], details=(mixer_txt,), filters=tuple(where),
-            )
-        )  # fmt: skip
-    return out
-
-
-def _product_label(c: np.ndarray, names: list[str]) -> str:
-    terms = []
-    for coef, name in zip(c, names, strict=True):
-        mag = abs(int(coef))
-        term = f"{mag}*{name}" if mag != 1 else name
-        sign = "-" if coef < 0 else "+"
-        terms.append((sign, term))
-    text = ("-" if terms[0][0] == "-" else "") + terms[0][1]
-    for sign, term in terms[1:]:
-        text += f" {sign} {term}"
-    return text

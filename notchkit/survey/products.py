@@ -85,3 +85,27 @@ def intersect(
     lo = np.maximum(alo, blo)
     hi = np.minimum(ahi, bhi)
     return lo, hi, lo <= hi
+
+
+def product_centre(plo: float, phi: float, olo: float, ohi: float) -> float:
+    """Frequency of a product at the victim.
+
+    The product's own centre when the whole product lies in the receiver's band
+    (a channel product), else the centre of the part that does (ranges).
+    """
+    if olo <= plo and phi <= ohi:
+        return 0.5 * (plo + phi)
+    return 0.5 * (olo + ohi)
+
+
+def product_label(coeffs, names) -> str:
+    """A product as text, e.g. ``2*A - B`` or ``A + B - C``."""
+    text = ""
+    for k, (coef, name) in enumerate(zip(coeffs, names, strict=True)):
+        mag = abs(int(coef))
+        term = name if mag == 1 else f"{mag}*{name}"
+        if k == 0:
+            text = ("-" if coef < 0 else "") + term
+        else:
+            text += (" - " if coef < 0 else " + ") + term
+    return text
