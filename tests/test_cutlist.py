@@ -114,8 +114,10 @@ def test_two_stubs_one_tee_and_line_numbering():
     text = format_cut_list(cuts)
     # cut 3.0 m - 30 mm = 2970 mm = 116.929 in -> 116 15/16 in (25.4 mm/in, NIST SP 811)
     assert "F7-S3" in text and "cut 2970 mm (116 15/16 in)" in text
-    doc = json.dumps([c.to_json() for c in cuts], allow_nan=False)
-    assert json.loads(doc)[1]["termination"] == "short"
+    doc = json.loads(json.dumps([c.to_json() for c in cuts], allow_nan=False))
+    assert doc[1]["termination"] == "short"
+    assert doc[0]["cut_length_in"] == pytest.approx(2970 / 25.4)  # NIST SP 811: 25.4 mm/in
+    assert doc[0]["cut_length_text"] == "2970 mm (116 15/16 in)"
 
 
 def test_stub_shorter_than_allowance_is_refused():
