@@ -33,8 +33,11 @@ Sensitivity
     Central difference of the nominal worst attenuation for +-0.5 mm on one
     element at a time, in dB per mm (positive: a longer piece helps).
 
-Everything is one :func:`notchkit.filters.evaluate_batch` call over
-(samples + sensitivity probes) x (grid points): no Python loop over samples.
+The work is one :func:`notchkit.filters.evaluate_batch` call per velocity-factor
+bin over (builds in the bin) x (grid points), plus one for the sensitivity
+probes, each reduced at once to the worst figure per band: no Python loop over
+samples or frequencies. 10,000 builds of a three-element filter take about
+0.2 s of CPU (``benchmarks/tolerance.py``).
 """
 
 from __future__ import annotations
