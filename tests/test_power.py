@@ -94,6 +94,26 @@ def test_open_stub_longer_than_quarter_wave_has_interior_maximum():
     assert s.end_voltage_peak_v == pytest.approx(s.tee_voltage_peak_v / abs(math.cos(math.radians(216))))
 
 
+def test_notching_open_quarter_wave_against_a_lumped_circuit():
+    # At its exact quarter-wave frequency an open lossy stub is Zin = Z0 coth(alpha l + j pi/2)
+    # = Z0 tanh(alpha l), a small resistor (Pozar sec. 2.7). Source EMF E = sqrt(8 P R) with
+    # 50 ohm inside (available power P), 50 ohm load: V_tee = E Rp / (50 + Rp), Rp = Rin || 50;
+    # and V_end = V_tee / cosh(gamma l) = V_tee / (j sinh(alpha l)).
+    cable = get_cable("RG-213")
+    f_mhz = 7.15
+    length = _wl(f_mhz) / 4
+    alpha = float(cable.alpha_np_per_m(f_mhz * 1e6))
+    pc = power_check(_filter(Stub(termination="open", length_m=length), cable=cable), power_w=1000.0,
+                     freq_mhz=f_mhz)
+    r_in = 50.0 * math.tanh(alpha * length)
+    rp = r_in * 50.0 / (r_in + 50.0)
+    v_tee = math.sqrt(8 * 1000.0 * 50.0) * rp / (50.0 + rp)
+    (s,) = pc.stubs
+    assert s.tee_voltage_peak_v == pytest.approx(v_tee, rel=1e-6)
+    assert s.end_voltage_peak_v == pytest.approx(v_tee / math.sinh(alpha * length), rel=1e-6)
+    assert s.dissipated_w == pytest.approx(v_tee**2 / (2 * r_in), rel=1e-6)
+
+
 def test_stub_heat_by_the_perturbation_method():
     # Low-loss line (Pozar sec. 2.7, perturbation method): the power lost per metre is
     # 2 alpha P(z); on a shorted quarter wave at its pass frequency the lossless current is
