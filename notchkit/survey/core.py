@@ -7,6 +7,8 @@ builds the result objects.
 
 from __future__ import annotations
 
+from operator import attrgetter
+
 import numpy as np
 
 from notchkit.site.model import Site
@@ -67,7 +69,8 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
             threats += _harmonics(ctx, tt, rr, n_harm)
         threats += _noise(ctx, tt, rr)
         threats += intermod_threats(ctx, tx, rx)
-    threats.sort(key=lambda t: (-t.excess_db, t.victim, t.sources, t.mechanism, t.order, t.f_mhz))
+    # Stable sort on excess only: ties keep the (deterministic) order of generation.
+    threats.sort(key=attrgetter("excess_db"), reverse=True)
     return SurveyResult(
         site=site.name,
         transmitters=tuple(sa.names[i] for i in tx),

@@ -233,7 +233,7 @@ class _State:
             ctx = self.ctx
             names = ctx.names
             parts = [
-                f"{names[o]} {self.inc[o, m]:.1f} dBm via "
+                f"{names[o]} {float(self.inc[o, m]):.1f} dBm via "
                 + ctx.iso_text(o, m, float(ctx.sa.tx_lo[o]), float(self.inc_iso[o, m]),
                                int(self.inc_meth[o, m]))
                 for o in s if o != m
