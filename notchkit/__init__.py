@@ -28,6 +28,7 @@ from notchkit.errors import (
     SiteError,
     UsageError,
 )
+from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
 
 __all__ = [
@@ -50,4 +51,7 @@ __all__ = [
     "cable_table",
     "get_cable",
     "library",
+    "survey",
+    "SurveyResult",
+    "Threat",
 ]
