@@ -489,3 +489,36 @@ def test_bad_values_raise_site_error_naming_the_field():
     s = site(radio("V", t=tx(146.52, power_w=0.0)), radio("U", r=rx(440.0), x=4.0))
     with pytest.raises(SiteError, match=r"radios\[0\]\.tx\.power_w: 0\.0 must be > 0 W"):
         survey(s)
+
+
+def test_non_finite_figures_refused():
+    s = site(radio("V", t=tx(146.52)), radio("U", r=rx(440.0, sensitivity_dbm=float("inf")), x=4.0))
+    with pytest.raises(SiteError, match=r"radios\[1\]\.rx\.sensitivity_dbm: inf must be a finite"):
+        survey(s)
+
+
+def test_random_sites_stay_finite_and_consistent():
+    # Property check over seeded random sites: co-located and stacked antennas, ranges and
+    # channels, transceivers; every number finite, excess = level - threshold, sorted.
+    rng = np.random.default_rng(4242)
+    bands = [(3.5, 4.0), (7.0, 7.3), (14.0, 14.35), (50.0, 54.0), (144.0, 148.0), (420.0, 450.0)]
+    for _ in range(5):
+        radios = []
+        for i in range(8):
+            lo, hi = bands[int(rng.integers(len(bands)))]
+            if rng.random() < 0.5:
+                lo = hi = round(float(rng.uniform(lo, hi)), 3)
+            t = tx(lo, hi, power_w=float(rng.choice([5, 50, 100, 1500])),
+                   noise_dbc_hz=-145.0) if rng.random() < 0.7 else None  # fmt: skip
+            r = rx(lo, hi) if (t is None or rng.random() < 0.5) else None
+            xy = float(rng.choice([0.0, 3.0, 25.0]))
+            radios.append(radio(f"N{i}", t=t, r=r, x=xy, h=float(rng.choice([10.0, 10.0, 14.0]))))
+        res = survey(site(*radios))
+        json.dumps(res.to_json(), allow_nan=False)
+        ex = [t.excess_db for t in res.threats]
+        assert ex == sorted(ex, reverse=True)
+        for t in res.threats:
+            assert math.isfinite(t.level_dbm) and math.isfinite(t.isolation_db)
+            assert t.excess_db == pytest.approx(t.level_dbm - t.threshold_dbm, abs=1e-9)
+            assert t.isolation_db >= 0.0  # passive floor
+            assert (t.excess_db > 0) or not t.filters

@@ -199,6 +199,15 @@ def validate(site: Site) -> None:
                 bad(f"{where}.{side}.bandwidth_khz", part.bandwidth_khz, "must be > 0")
         if r.tx is not None and not (finite(r.tx.power_w) and r.tx.power_w > 0):
             bad(f"{where}.tx.power_w", r.tx.power_w, "must be > 0 W")
+        optional = []
+        if r.tx is not None:
+            optional += [("tx", k) for k in ("harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db")]
+        if r.rx is not None:
+            optional += [("rx", k) for k in ("sensitivity_dbm", "blocking_dbm", "noise_figure_db")]
+        for side, key in optional:
+            value = getattr(getattr(r, side), key)
+            if value is not None and not finite(value):
+                bad(f"{where}.{side}.{key}", value, "must be a finite number")
         a = r.antenna
         for key in ("x_m", "y_m", "height_m", "gain_dbi"):
             if not finite(getattr(a, key)):
