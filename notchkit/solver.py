@@ -92,6 +92,7 @@ _SOFT_K = 2.0  # sharpness of the smooth minimum, 1/dB
 _MARGIN_WEIGHT = 0.1
 _SCAN_MAX = 6000
 _BEAM = 5
+_POOL_MAX = 16  # new-stub lengths per kind taken from the scan
 _REFINE_WINDOW = 8.0  # dB of penalty
 _FD_STEP = 1e-4  # radians at the highest frequency
 
@@ -198,6 +199,8 @@ class _Grid:
 
 
 def _band_points(lo_mhz: float, hi_mhz: float, base: int, rel_step: float, cap: int) -> np.ndarray:
+    """Frequencies (Hz) across a band, edges included: at least ``base`` points and
+    no further apart than ``rel_step`` of the centre frequency, at most ``cap``."""
     if hi_mhz <= lo_mhz:
         return np.array([lo_mhz * 1e6])
     centre = 0.5 * (lo_mhz + hi_mhz)
@@ -236,23 +239,23 @@ class _Problem:
         scan_top = STUB_SCAN_WAVELENGTHS * self.lam_low + self.stub_min
         self.stub_max = max(self.stub_min + 1e-3, min(self.cable_cap + self.tee, scan_top))
         self.line_max = max(MIN_LINE_M + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
-        self.scan = self._grid(base_pass=3, base_notch=5, rel=0.02, cap=25)
-        self.fine = self._grid(base_pass=7, base_notch=11, rel=0.01, cap=61)
+        self.scan = self._grid(base=2, rel=0.01, cap=12)
+        self.fine = self._grid(base=3, rel=0.004, cap=31)
         self.evaluated = 0
 
-    def _grid(self, *, base_pass: int, base_notch: int, rel: float, cap: int) -> _Grid:
+    def _grid(self, *, base: int, rel: float, cap: int) -> _Grid:
         freqs: list[np.ndarray] = []
         pass_cols: list[np.ndarray] = []
         notch_cols: list[np.ndarray] = []
         notch_req: list[np.ndarray] = []
         n = 0
         for b in self.passes:
-            pts = _band_points(b.lo_mhz, b.hi_mhz, base_pass, rel, cap)
+            pts = _band_points(b.lo_mhz, b.hi_mhz, base, rel, cap)
             freqs.append(pts)
             pass_cols.append(np.arange(n, n + pts.size))
             n += pts.size
         for s in self.notches:
-            pts = _band_points(s.lo_mhz, s.hi_mhz, base_notch, rel, cap)
+            pts = _band_points(s.lo_mhz, s.hi_mhz, base, rel, cap)
             freqs.append(pts)
             notch_cols.append(np.arange(n, n + pts.size))
             notch_req.append(np.full(pts.size, float(s.required_db)))
@@ -451,12 +454,19 @@ def _scan_one_stub(p: _Problem):
             peaks = _local_minima(-w)
             peaks = peaks[np.argsort(-w[peaks], kind="stable")][:2].tolist()
             if peaks:
-                best_single.append((kind, float(lengths[peaks[0]])))
-            first = _local_minima(-w)[:2].tolist()
+                best_single.append((float(-w[peaks[0]]), jn, kind, float(lengths[peaks[0]])))
+            first = _local_minima(-w)[:1].tolist()
             for i in sorted(set(peaks + first)):
                 pool[kind].append(float(lengths[i]))
-        pool[kind] = _dedupe(pool[kind] + seeds[kind], 0.1 * p.scale)
-    return cands, pool, best_single
+        pool[kind] = _dedupe(pool[kind] + seeds[kind], 0.1 * p.scale)[:_POOL_MAX]
+    # for each notch, the single stub (either kind) that notches it best
+    best_single.sort()
+    chosen, seen = [], set()
+    for _, jn, kind, length in best_single:
+        if jn not in seen:
+            seen.add(jn)
+            chosen.append((kind, length))
+    return cands, pool, chosen[:_BEAM]
 
 
 def _dedupe(values: list[float], tol: float) -> list[float]:
@@ -558,7 +568,7 @@ def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
     x = np.clip(cand.lengths / s, lo_u, hi_u)
     jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
     step, last = 0.25, np.zeros(n)
-    for _ in range(60):
+    for _ in range(40):
         moves = np.vstack([eye * step, -eye * step, eye * (0.3 * step), -eye * (0.3 * step), last, 2 * last])
         trial = np.clip(x[None, :] + moves, lo_u, hi_u)
         j = p.objective(kinds, trial * s, grid)[0]
@@ -781,6 +791,12 @@ def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
 # ---------------------------------------------------------------- entry point
 
 
+def _mhz(x: float) -> str:
+    """A frequency in MHz with at least one decimal: 14.0, 14.35, 146.52."""
+    text = f"{x:.6f}".rstrip("0")
+    return text + "0" if text.endswith(".") else text
+
+
 def check_requirement(req: FilterRequirement) -> None:
     """Refuse a request that no filter can satisfy by construction.
 
@@ -803,8 +819,8 @@ def check_requirement(req: FilterRequirement) -> None:
     for b in req.pass_bands:
         for n in req.notches:
             if b.overlaps(n.band):
-                raise DesignError(f"cannot pass and notch the same frequency: pass {b.lo_mhz:g}-{b.hi_mhz:g} "
-                                  f"overlaps notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz")
+                raise DesignError(f"cannot pass and notch the same frequency: pass {_mhz(b.lo_mhz)}-"
+                                  f"{_mhz(b.hi_mhz)} overlaps notch {_mhz(n.lo_mhz)}-{_mhz(n.hi_mhz)} MHz")
 
 
 def solve(

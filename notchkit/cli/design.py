@@ -1,12 +1,209 @@
-"""`notchkit design` (being built)."""
+"""`notchkit design`: design the stub filters a site needs, or one ad-hoc filter."""
 
-from notchkit.errors import UsageError
+from __future__ import annotations
+
+import json
+import math
+import re
+import sys
+
+from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+
+CAUTION = (
+    "Safety: open stub ends carry the highest voltage of the filter (kilovolts at high power); "
+    "insulate and seal them, keep them out of reach while transmitting, and never trim a stub "
+    "with the transmitter on. Follow local codes and licensed practice for RF exposure, grounding "
+    "and tower work."
+)
+
+_NUM = r"([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)"
+_BAND = re.compile(rf"^\s*{_NUM}\s*-\s*{_NUM}\s*$")
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser("design", help="(being built)")
+    p = sub.add_parser(
+        "design",
+        help="design the stub filters a site needs (or one filter from --pass/--notch)",
+        description=(
+            "Design coaxial stub filters on the real lossy cable. With a site file: every filter the "
+            "survey asks for. Without one: a single filter that passes every --pass band and notches "
+            "every --notch band. Prints the arrangement, the verified figures of every band, the cut "
+            "list (mm and inches), the tolerance run and the power check. Exit code 0 when every "
+            "filter meets its requirements, 1 when one does not (the best design is shown with what "
+            "is missing), 2 for bad input."
+        ),
+    )
+    p.add_argument("site", metavar="SITE.yaml", nargs="?", default=None, help="the site file")
+    p.add_argument("--pass", dest="pass_bands", metavar="LO-HI", action="append", default=[],
+                   help="a band to pass, MHz (repeatable; without a site file)")
+    p.add_argument("--notch", dest="notches", metavar="LO-HI[:DB]", action="append", default=[],
+                   help="a band to notch, MHz, with the rejection needed in dB (default 30; repeatable)")
+    p.add_argument("--cable", metavar="TYPE", default=None,
+                   help="stub cable type for --pass/--notch designs (see `notchkit cables`; default RG-213)")
+    p.add_argument("--max-stubs", metavar="N", type=int, default=None,
+                   help="largest number of stubs to try (default: 3)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of text")
+    p.add_argument("--touchstone", metavar="DIR", default=None,
+                   help="also write one .s2p file per filter into DIR (created if missing)")
     p.set_defaults(run=run)
 
 
+def _number(text: str, what: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise UsageError(f"{what}: {text!r} is not a number") from None
+    if not math.isfinite(value):
+        raise UsageError(f"{what}: {text!r} must be finite")
+    return value
+
+
+def parse_band(text: str, option: str = "--pass") -> tuple[float, float]:
+    """``"14.0-14.35"`` -> ``(14.0, 14.35)`` MHz, checked against 0.1-6000 MHz."""
+    from notchkit.site.model import MAX_FREQ_MHZ, MIN_FREQ_MHZ
+
+    m = _BAND.match(text)
+    if not m:
+        raise UsageError(f"{option} {text!r}: give a band as LO-HI in MHz, e.g. 14.0-14.35")
+    lo, hi = _number(m.group(1), option), _number(m.group(2), option)
+    for v in (lo, hi):
+        if not MIN_FREQ_MHZ <= v <= MAX_FREQ_MHZ:
+            raise UsageError(f"{option} {text!r}: {v:g} MHz is outside {MIN_FREQ_MHZ:g}-{MAX_FREQ_MHZ:g} MHz")
+    if not lo < hi:
+        raise UsageError(f"{option} {text!r}: the low edge {lo:g} must be below the high edge {hi:g} MHz")
+    return lo, hi
+
+
+def parse_notch(text: str) -> tuple[float, float, float]:
+    """``"21.0-21.45:30"`` -> ``(21.0, 21.45, 30.0)``; the dB part defaults to 30."""
+    from notchkit.design import DEFAULT_NOTCH_DB
+
+    band, sep, db_text = text.partition(":")
+    lo, hi = parse_band(band, "--notch")
+    db = DEFAULT_NOTCH_DB
+    if sep:
+        db = _number(db_text.strip(), f"--notch {text!r} rejection")
+        if not 0 < db <= 200:
+            raise UsageError(f"--notch {text!r}: rejection {db:g} dB must be > 0 and <= 200 dB")
+    return lo, hi, db
+
+
 def run(args) -> int:
-    raise UsageError("'design' is not built yet")
+    from notchkit.design import design, design_request, write_touchstones
+
+    progress = _progress(args)
+    if args.site is not None:
+        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None:
+            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs, not both")
+        from notchkit.site import load_site
+
+        report = design(load_site(args.site), progress=progress)
+    else:
+        if not args.notches:
+            raise UsageError("give SITE.yaml, or at least one --notch LO-HI[:DB] (with --pass bands)")
+        if args.max_stubs is not None and not 1 <= args.max_stubs <= 8:
+            raise UsageError(f"--max-stubs {args.max_stubs}: must be from 1 to 8")
+        passes = [parse_band(t) for t in args.pass_bands]
+        notches = [parse_notch(t) for t in args.notches]
+        from notchkit.cables import get_cable
+        from notchkit.site.model import DEFAULT_CABLE
+
+        cable = get_cable(args.cable or DEFAULT_CABLE)
+        report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress)
+    if progress is not None:
+        print("", file=sys.stderr)
+    written = ()
+    if args.touchstone is not None:
+        written = write_touchstones(report, args.touchstone)
+    if args.json:
+        print(json.dumps(report.to_json(), indent=2, allow_nan=False))
+    else:
+        print(format_report(report))
+        for path in written:
+            print(f"wrote {path}")
+    return EXIT_OK if report.meets else EXIT_UNMET
+
+
+def _progress(args):
+    if args.json or not sys.stderr.isatty():
+        return None
+
+    def show(message: str) -> None:
+        sys.stderr.write("\r\x1b[K" + message[:100])
+        sys.stderr.flush()
+
+    return show
+
+
+# ---------------------------------------------------------------- formatting
+
+
+def _ok(flag: bool) -> str:
+    return "ok" if flag else "FAILS"
+
+
+def format_design(d) -> str:
+    """The human text of one designed filter."""
+    from notchkit.cutlist import format_cut_list
+    from notchkit.power import format_power
+    from notchkit.solver import describe
+    from notchkit.tolerance import format_tolerance
+
+    s = d.solution
+    cab = d.cable
+    status = "meets every requirement" if s.meets else "DOES NOT MEET its requirements (best design shown)"
+    lines = [
+        f"{d.id}: {d.where} on {getattr(cab, 'name', '?')} ({cab.z0_ohm:g} ohm, VF {cab.velocity_factor:g})"
+        f" - {status}",
+    ]
+    for why in d.requirement.reasons:
+        lines.append(f"  why: {why}")
+    lines.append(f"  arrangement: {describe(d.filter)}")
+    lines.append(f"  {len(d.filter.stubs)} stub(s), {s.total_cable_m:.2f} m of cable in all "
+                 f"(cap {s.max_total_cable_m:.1f} m)")
+    lines.append("  verified on a dense sweep of every band, edge to edge:")
+    for p in s.passes:
+        lines.append(f"    pass  {p.lo_mhz:g}-{p.hi_mhz:g} MHz: insertion loss "
+                     f"{p.worst_insertion_loss_db:.2f} dB "
+                     f"(max {p.max_insertion_loss_db:g}), SWR {p.worst_swr:.2f} (max {p.max_swr:g})  "
+                     f"{_ok(p.meets)}")
+    for n in s.notches:
+        tail = "ok" if n.meets else f"FAILS: {-n.margin_db:.1f} dB missing"
+        lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
+                     f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
+    if d.cuts:
+        lines.append("  cut list:")
+        lines += ["    " + x for x in format_cut_list(d.cuts).splitlines()]
+    if d.tolerance is not None:
+        lines += ["  " + x for x in format_tolerance(d.tolerance).splitlines()]
+    if d.power is not None:
+        lines += ["  " + x for x in format_power(d.power).splitlines()]
+    if not s.meets:
+        lines.append("  what is missing:")
+        for x in s.shortfall:
+            if x.quantity == "attenuation":
+                lines.append(f"    notch {x.lo_mhz:g}-{x.hi_mhz:g} MHz: best {x.achieved:.1f} dB of "
+                             f"{x.required:.1f} dB, {x.missing_db:.1f} dB short")
+            elif x.quantity == "insertion_loss":
+                lines.append(f"    pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: insertion loss {x.achieved:.2f} dB, "
+                             f"{x.missing_db:.2f} dB over {x.required:g} dB")
+            else:
+                lines.append(f"    pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: SWR {x.achieved:.2f} over "
+                             f"{x.required:g} "
+                             f"({x.missing_db:.1f} dB of return loss short)")
+        for a in s.advice:
+            lines.append(f"  advice: {a}")
+    return "\n".join(lines)
+
+
+def format_report(report) -> str:
+    """The human text of a whole design report."""
+    head = (f"Design for {report.site_name}: {len(report.designs)} filter(s)" if report.site_name
+            else "Design: 1 ad-hoc filter")
+    met = sum(1 for d in report.designs if d.meets)
+    blocks = [head, ""]
+    for d in report.designs:
+        blocks += [format_design(d), ""]
+    blocks.append(f"{met} of {len(report.designs)} filter(s) meet every requirement.")
+    blocks.append(CAUTION)
+    return "\n".join(blocks)

@@ -1,0 +1,448 @@
+"""Design every filter a site needs: survey, solver, cut list, tolerance and power check.
+
+:func:`design` is the library face of ``notchkit design SITE.yaml``;
+:func:`design_request` of the ad-hoc ``notchkit design --pass ... --notch ...``.
+Both return a :class:`DesignReport` of plain frozen result objects that the
+command line, the plan and the reports format; :meth:`DesignReport.to_json`
+is the JSON document (keys ``filters``, ``meets``, ``site`` fixed).
+
+Nothing here prints. The physics is in :mod:`notchkit.solver`,
+:mod:`notchkit.cutlist`, :mod:`notchkit.tolerance` and :mod:`notchkit.power`.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from notchkit.errors import DesignError, InputError
+from notchkit.filters import Filter, Line, write_touchstone
+from notchkit.requirements import FilterRequirement, NotchSpec
+from notchkit.site.model import (
+    DEFAULT_CABLE,
+    MAX_FREQ_MHZ,
+    MIN_FREQ_MHZ,
+    Allowances,
+    Band,
+    Limits,
+)
+from notchkit.solver import Solution, describe, solve, verify_sweep_hz
+
+DEFAULT_NOTCH_DB = 30.0
+"""Required rejection of an ad-hoc notch when none is given, dB."""
+TOLERANCE_SAMPLES = 4000
+"""Monte Carlo builds per filter in the tolerance run (standard error of a
+probability at most 0.8 %, and fast enough to keep each filter within a second)."""
+TOUCHSTONE_POINTS = 2001
+"""Points of the Touchstone sweep (plus each band's verification points)."""
+
+Progress = Callable[[str], None]
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Design:
+    """One designed filter with everything needed to build it.
+
+    ``cuts`` is the cut list (one :class:`notchkit.cutlist.StubCut` per stub),
+    ``tolerance`` the Monte Carlo result (:class:`notchkit.tolerance.Tolerance`),
+    ``power`` the voltage/current/heat check (:class:`notchkit.power.PowerCheck`)
+    or ``None`` when no transmitter's power flows through the filter.
+    """
+
+    id: str
+    requirement: FilterRequirement
+    solution: Solution
+    cable: Any
+    cuts: tuple[Any, ...] = ()
+    tolerance: Any = None
+    power: Any = None
+
+    @property
+    def meets(self) -> bool:
+        return self.solution.meets
+
+    @property
+    def filter(self) -> Filter:
+        return self.solution.filter
+
+    @property
+    def where(self) -> str:
+        """Where the filter goes, e.g. ``"rx filter at wx-alert"``."""
+        r = self.requirement
+        if r.radio is None:
+            return "ad-hoc filter"
+        return f"{r.side} filter at {r.radio}" if r.side else f"filter at {r.radio}"
+
+    def to_json(self) -> dict[str, Any]:
+        """This filter as JSON-ready data (one entry of the report's ``filters``)."""
+        return _design_json(self)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class DesignReport:
+    """Every filter designed for a site (or one ad-hoc request)."""
+
+    site_name: str | None
+    survey: Any
+    designs: tuple[Design, ...]
+
+    @property
+    def meets(self) -> bool:
+        """True when every filter meets every requirement (true for no filter)."""
+        return all(d.meets for d in self.designs)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "site": self.site_name,
+            "meets": self.meets,
+            "filters": [d.to_json() for d in self.designs],
+        }
+
+
+# ---------------------------------------------------------------- design
+
+
+def design_one(
+    req: FilterRequirement,
+    *,
+    cable: Any,
+    limits: Limits,
+    allowances: Allowances,
+    filter_id: str = "F1",
+    z_system: float = 50.0,
+    tolerance_samples: int = TOLERANCE_SAMPLES,
+    progress: Progress | None = None,
+) -> Design:
+    """Solve one requirement and add its cut list, tolerance run and power check."""
+    say = progress or (lambda _m: None)
+    sol = solve(req, cable=cable, limits=limits, tee_allowance_m=allowances.tee_allowance_m,
+                z_system=z_system, progress=lambda m: say(f"{filter_id}: {m}"))
+    cuts, tol, power = _build_checks(req, sol, limits, allowances, filter_id, z_system, tolerance_samples)
+    return Design(id=filter_id, requirement=req, solution=sol, cable=cable, cuts=cuts, tolerance=tol,
+                  power=power)
+
+
+def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
+    from notchkit.cutlist import cut_list
+    from notchkit.power import power_check
+    from notchkit.tolerance import tolerance
+
+    filt = sol.filter
+    cuts = cut_list(
+        filt,
+        notch_mhz=[0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches],
+        pass_mhz=[b.centre_mhz for b in req.pass_bands],
+        trim_margin_pct=allowances.trim_margin_pct,
+        filter_id=filter_id,
+    )
+    tol = tolerance(
+        filt,
+        req.notches,
+        cut_tolerance_mm=allowances.cut_tolerance_mm,
+        vf_spread=allowances.vf_spread,
+        samples=samples,
+        seed=0,
+        z_system=z_system,
+        pass_bands=req.pass_bands,
+        max_insertion_loss_db=limits.max_insertion_loss_db,
+        max_swr=limits.max_swr,
+        filter_id=filter_id,
+    )
+    power = None
+    if req.power_w is not None and req.power_mhz is not None:
+        power = power_check(filt, power_w=req.power_w, freq_mhz=req.power_mhz, z_system=z_system,
+                            filter_id=filter_id)
+    return tuple(cuts), tol, power
+
+
+def design(site: Any, *, progress: Progress | None = None) -> DesignReport:
+    """Survey a site and design every filter the survey asks for.
+
+    Parameters
+    ----------
+    site : notchkit.site.model.Site
+    progress : callable(str), optional
+        Called with a short message as each filter is designed.
+
+    Returns
+    -------
+    DesignReport
+        Filters ``F1``, ``F2``, ... in the survey's order.
+
+    Raises
+    ------
+    CableError
+        A requirement names a cable neither the library nor the site defines.
+    DesignError
+        A requirement no filter can satisfy (a pass band overlapping a notch).
+    """
+    from notchkit.cables import get_cable
+    from notchkit.survey import survey
+
+    say = progress or (lambda _m: None)
+    sv = survey(site)
+    designs = []
+    n = len(sv.filters)
+    for i, req in enumerate(sv.filters, start=1):
+        fid = f"F{i}"
+        say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
+        cable = get_cable(req.cable, site.cables)
+        designs.append(design_one(req, cable=cable, limits=site.limits, allowances=site.allowances,
+                                  filter_id=fid, progress=say))
+    return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
+
+
+def _band(item: Any, what: str) -> Band:
+    if isinstance(item, Band):
+        band = item
+    else:
+        try:
+            lo, hi = item
+        except (TypeError, ValueError):
+            raise DesignError(f"{what} {item!r} must be a (lo_mhz, hi_mhz) pair") from None
+        band = Band(lo_mhz=float(lo), hi_mhz=float(hi))
+    _check_range(band.lo_mhz, band.hi_mhz, what)
+    return band
+
+
+def _notch(item: Any) -> NotchSpec:
+    if isinstance(item, NotchSpec):
+        spec = item
+    else:
+        try:
+            parts = tuple(item)
+        except TypeError:
+            raise DesignError(f"notch {item!r} must be (lo_mhz, hi_mhz[, required_db])") from None
+        if len(parts) == 2:
+            parts = (*parts, DEFAULT_NOTCH_DB)
+        if len(parts) != 3:
+            raise DesignError(f"notch {item!r} must be (lo_mhz, hi_mhz[, required_db])")
+        spec = NotchSpec(lo_mhz=float(parts[0]), hi_mhz=float(parts[1]), required_db=float(parts[2]))
+    _check_range(spec.lo_mhz, spec.hi_mhz, "notch")
+    if not (math.isfinite(spec.required_db) and 0 < spec.required_db <= 200):
+        raise DesignError(f"notch {spec.lo_mhz:g}-{spec.hi_mhz:g} MHz: required {spec.required_db!r} dB "
+                          f"must be > 0 and <= 200 dB")
+    return spec
+
+
+def _check_range(lo: float, hi: float, what: str) -> None:
+    for v in (lo, hi):
+        if not (math.isfinite(v) and MIN_FREQ_MHZ <= v <= MAX_FREQ_MHZ):
+            raise DesignError(f"{what} {lo:g}-{hi:g} MHz: {v:g} MHz is outside {MIN_FREQ_MHZ:g}-"
+                              f"{MAX_FREQ_MHZ:g} MHz")
+    if not lo < hi:
+        raise DesignError(f"{what} {lo:g}-{hi:g} MHz: the low edge must be below the high edge")
+
+
+def design_request(
+    pass_bands: Sequence[Any],
+    notches: Sequence[Any],
+    *,
+    cable: str | Any = DEFAULT_CABLE,
+    max_stubs: int | None = None,
+    limits: Limits | None = None,
+    allowances: Allowances | None = None,
+    power_w: float | None = None,
+    power_mhz: float | None = None,
+    z_system: float = 50.0,
+    progress: Progress | None = None,
+) -> DesignReport:
+    """Design one ad-hoc filter: pass these bands, notch those.
+
+    Parameters
+    ----------
+    pass_bands : sequence of Band or (lo_mhz, hi_mhz)
+    notches : sequence of NotchSpec or (lo_mhz, hi_mhz[, required_db])
+        ``required_db`` defaults to :data:`DEFAULT_NOTCH_DB`.
+    cable : str or Cable
+        Cable type name from the library (or a cable object).
+    max_stubs : int, optional
+        Overrides ``limits.max_stubs``.
+    limits, allowances : optional
+        Defaults of :class:`~notchkit.site.model.Limits` / ``Allowances``.
+    power_w, power_mhz : float, optional
+        A carrier through the filter for the power check.
+
+    Returns
+    -------
+    DesignReport
+        One design, ``F1``, with ``radio`` and ``side`` ``None``.
+
+    Examples
+    --------
+    >>> r = design_request([(14.0, 14.35), (28.0, 29.7)], [(7.0, 7.3, 15), (21.0, 21.45, 15)],
+    ...                    cable="RG-213")  # doctest: +SKIP
+    """
+    from notchkit.cables import get_cable
+
+    limits = limits or Limits()
+    allowances = allowances or Allowances()
+    if max_stubs is not None:
+        if not (isinstance(max_stubs, int) and not isinstance(max_stubs, bool) and 1 <= max_stubs <= 8):
+            raise DesignError(f"max_stubs {max_stubs!r} must be an integer from 1 to 8")
+        limits = Limits(max_insertion_loss_db=limits.max_insertion_loss_db, max_swr=limits.max_swr,
+                        rejection_margin_db=limits.rejection_margin_db, max_stubs=max_stubs,
+                        max_total_cable_m=limits.max_total_cable_m)
+    bands = tuple(_band(b, "pass") for b in pass_bands)
+    specs = tuple(_notch(n) for n in notches)
+    cab = get_cable(cable) if isinstance(cable, str) else cable
+    req = FilterRequirement(radio=None, side=None, pass_bands=bands, notches=specs,
+                            cable=getattr(cab, "name", str(cable)), power_w=power_w, power_mhz=power_mhz)
+    d = design_one(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
+                   progress=progress)
+    return DesignReport(site_name=None, survey=None, designs=(d,))
+
+
+# ---------------------------------------------------------------- Touchstone
+
+
+def touchstone_sweep_hz(req: FilterRequirement) -> np.ndarray:
+    """A sweep covering every band of ``req``: 0.8x the lowest to 1.2x the highest edge,
+    plus every band's verification points, increasing and unique (Hz)."""
+    edges = [b.lo_mhz for b in req.pass_bands] + [n.lo_mhz for n in req.notches]
+    tops = [b.hi_mhz for b in req.pass_bands] + [n.hi_mhz for n in req.notches]
+    lo, hi = 0.8 * min(edges) * 1e6, 1.2 * max(tops) * 1e6
+    dense, _ = verify_sweep_hz(req)
+    return np.unique(np.r_[np.linspace(lo, hi, TOUCHSTONE_POINTS), dense])
+
+
+def touchstone_name(d: Design) -> str:
+    """File name of a design's Touchstone file, e.g. ``F1-wx-alert-rx.s2p``."""
+    r = d.requirement
+    parts = [d.id] + [p for p in (r.radio, r.side) if p]
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "_", "-".join(parts))
+    return f"{stem}.s2p"
+
+
+def write_touchstones(report: DesignReport, folder: str | os.PathLike) -> tuple[Path, ...]:
+    """Write one ``.s2p`` per filter into ``folder`` (created if missing), atomically each.
+
+    Raises
+    ------
+    InputError
+        The folder cannot be created or written (checked before any file is written).
+    """
+    folder = Path(folder)
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(f"--touchstone {folder}: cannot create the folder ({exc.strerror or exc})") from exc
+    if not folder.is_dir():
+        raise InputError(f"--touchstone {folder}: not a folder")
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise InputError(f"--touchstone {folder}: folder is not writable")
+    out = []
+    for d in report.designs:
+        comment = (f"notchkit design {d.id}: {d.where}\n{describe(d.filter)}\n"
+                   f"cable {getattr(d.cable, 'name', '?')}, meets: {d.meets}")
+        out.append(write_touchstone(d.filter, touchstone_sweep_hz(d.requirement), folder / touchstone_name(d),
+                                    z_system=d.solution.z_system, comment=comment))
+    return tuple(out)
+
+
+# ---------------------------------------------------------------- JSON
+
+
+def _f(x: float, digits: int | None = None) -> float:
+    x = float(x)
+    if not math.isfinite(x):
+        if math.isnan(x):
+            raise DesignError("internal: NaN in a design result")
+        x = math.copysign(1e300, x)
+    return round(x, digits) if digits is not None else x
+
+
+def _elements_json(d: Design) -> list[dict[str, Any]]:
+    filt = d.filter
+    cuts = {c.element_index: c for c in d.cuts}
+    out = []
+    n_line = 0
+    n_stub = 0
+    tee_of = {}
+    for t, idx in enumerate(filt.tees(), start=1):
+        for i in idx:
+            tee_of[i] = t
+    for i, e in enumerate(filt.elements):
+        if isinstance(e, Line):
+            n_line += 1
+            out.append({"kind": "line", "id": f"{d.id}-L{n_line}", "length_m": _f(e.length_m)})
+            continue
+        n_stub += 1
+        item: dict[str, Any] = {
+            "kind": "stub",
+            "id": f"{d.id}-S{n_stub}",
+            "tee": tee_of[i],
+            "termination": e.termination,
+            "length_m": _f(e.length_m),
+            "cut_length_m": _f(filt.cut_length_m(e)),
+        }
+        c = cuts.get(i)
+        if c is not None:
+            item["first_cut_m"] = _f(c.first_cut_m)
+            item["trim_rate_mm_per_mhz"] = _f(c.trim_rate_mm_per_mhz)
+            item["resonance_mhz"] = _f(c.resonance_mhz)
+        out.append(item)
+    return out
+
+
+def _design_json(d: Design) -> dict[str, Any]:
+    r = d.requirement
+    s = d.solution
+    cab = d.cable
+    out: dict[str, Any] = {"id": d.id}
+    if r.radio is not None:
+        out["radio"] = r.radio
+    out["side"] = r.side
+    out["cable"] = {"type": str(getattr(cab, "name", r.cable)), "z0_ohm": _f(cab.z0_ohm),
+                    "velocity_factor": _f(cab.velocity_factor)}
+    out["arrangement"] = describe(d.filter)
+    out["elements"] = _elements_json(d)
+    out["pass"] = [
+        {"lo_mhz": _f(p.lo_mhz), "hi_mhz": _f(p.hi_mhz),
+         "worst_insertion_loss_db": _f(p.worst_insertion_loss_db),
+         "worst_swr": _f(p.worst_swr), "max_insertion_loss_db": _f(p.max_insertion_loss_db),
+         "max_swr": _f(p.max_swr), "meets": p.meets}
+        for p in s.passes
+    ]
+    out["notch"] = [
+        {"lo_mhz": _f(n.lo_mhz), "hi_mhz": _f(n.hi_mhz), "required_db": _f(n.required_db),
+         "worst_attenuation_db": _f(n.worst_attenuation_db), "margin_db": _f(n.margin_db),
+         "worst_mhz": _f(n.worst_mhz), "meets": n.meets}
+        for n in s.notches
+    ]
+    out["meets"] = s.meets
+    out["margin_db"] = _f(s.margin_db)
+    out["total_cable_m"] = _f(s.total_cable_m)
+    out["max_total_cable_m"] = _f(s.max_total_cable_m)
+    out["shortfall"] = [
+        {"band": x.band, "lo_mhz": _f(x.lo_mhz), "hi_mhz": _f(x.hi_mhz), "quantity": x.quantity,
+         "required": _f(x.required), "achieved": _f(x.achieved), "missing_db": _f(x.missing_db)}
+        for x in s.shortfall
+    ]
+    out["advice"] = list(s.advice)
+    if r.reasons:
+        out["reasons"] = list(r.reasons)
+    out["cut_list"] = [c.to_json() for c in d.cuts]
+    out["tolerance"] = d.tolerance.to_json() if d.tolerance is not None else None
+    out["power"] = d.power.to_json() if d.power is not None else None
+    return out
+
+
+__all__ = [
+    "design",
+    "design_request",
+    "design_one",
+    "write_touchstones",
+    "touchstone_sweep_hz",
+    "touchstone_name",
+    "Design",
+    "DesignReport",
+    "DEFAULT_NOTCH_DB",
+]
