@@ -135,3 +135,18 @@ def test_single_stub_equals_skrf_at_resonance(kind):
     s21, s11 = evaluate_batch((kind,), [[q]], cable, f)
     assert_close(s21[0], ref[:, 1, 0])
     assert_close(s11[0], ref[:, 0, 0])
+
+
+def test_touchstone_file_reads_back_in_skrf(tmp_path):
+    # scikit-rf's own Touchstone reader is the reference for the file format.
+    from notchkit.filters import write_touchstone
+
+    cable = library()[0]
+    kinds, lengths = ("short", "line", "open"), (0.5, 0.2, 0.33)
+    path = write_touchstone(build(kinds, lengths, cable), FREQ_HZ, tmp_path / "stub.s2p",
+                            comment="fictional test filter")
+    net = skrf.Network(str(path))
+    np.testing.assert_allclose(net.f, FREQ_HZ)
+    np.testing.assert_allclose(net.z0, 50.0)
+    assert_close(net.s, skrf_reference(kinds, lengths, cable, FREQ_HZ, 50.0))
+    assert path.read_text().startswith("! fictional test filter\n")
