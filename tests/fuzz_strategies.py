@@ -18,6 +18,8 @@ random text.
 from __future__ import annotations
 
 import copy
+import importlib
+import inspect
 import json
 import math
 import string
@@ -493,3 +495,29 @@ def broken_touchstone(draw) -> dict[str, Any]:
         lines[i] = lines[i] + " 1 2 3"
         text = "\n".join(lines) + "\n"
     return {**good, "text": text}
+
+
+# ---------------------------------------------------------------------------
+# Which commands are built (the placeholders say "not built yet")
+# ---------------------------------------------------------------------------
+
+
+def built(command: str) -> bool:
+    """Whether ``notchkit <command>`` is built (its placeholder raises 'not built yet')."""
+    mod = importlib.import_module(f"notchkit.cli.{command}")
+    return "not built yet" not in inspect.getsource(mod)
+
+
+def site_commands(*, include_check: bool = True) -> list[str]:
+    """The built commands that read a site file."""
+    names = ("check", "survey", "design", "plan") if include_check else ("survey", "design", "plan")
+    return [c for c in names if built(c)]
+
+
+def has_option(command: str, option: str) -> bool:
+    """Whether the command's parser accepts ``option`` (e.g. ``--touchstone``)."""
+    from notchkit.cli import build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")
+    return option in sub.choices[command]._option_string_actions

@@ -13,8 +13,6 @@ an unbounded expansion, not a slow computer.
 
 from __future__ import annotations
 
-import importlib
-import inspect
 import os
 import resource
 import subprocess
@@ -25,6 +23,7 @@ from pathlib import Path
 
 import pytest
 import yaml
+from fuzz_strategies import site_commands
 
 from notchkit.cli import main
 from notchkit.errors import EXIT_BAD_INPUT, SiteError
@@ -34,16 +33,6 @@ TIME_LIMIT_S = 10.0
 """Loose bound on one refusal (the real ones take well under a second)."""
 MEMORY_LIMIT_B = 100 * 1024 * 1024
 """Loose bound on Python allocations while refusing one file (tracemalloc peak)."""
-
-
-def site_commands() -> list[str]:
-    """The commands that read a site file and are built (a placeholder says 'not built yet')."""
-    out = []
-    for name in ("check", "survey", "design", "plan"):
-        mod = importlib.import_module(f"notchkit.cli.{name}")
-        if "not built yet" not in inspect.getsource(mod):
-            out.append(name)
-    return out
 
 
 def refuse(path: Path) -> tuple[list[str], float, int]:
