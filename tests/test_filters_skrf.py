@@ -20,7 +20,7 @@ from notchkit.cables import Cable, library
 from notchkit.filters import Filter, Line, Stub, evaluate, evaluate_batch, to_network
 
 C0 = 299_792_458.0  # m/s, SI definition
-FREQ_HZ = np.linspace(1e6, 1.2e9, 97)
+FREQ_HZ = np.linspace(1e6, 1.2e9, 61)
 SETTINGS = settings(max_examples=200, derandomize=True, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
 
