@@ -20,6 +20,7 @@ from __future__ import annotations
 import numpy as np
 
 from notchkit.survey import limits, products
+from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
 from notchkit.survey.result import Threat
 
 
@@ -87,6 +88,8 @@ class _State:
         self.conv = conv
         self.labels: dict[tuple, str] = {}
         self.mixer_text: dict[tuple, str] = {}
+        self.incoming: dict[tuple[int, int], str] = {}
+        self.conv_text: dict[tuple[int, int], str] = {}
         self.remedies: dict[tuple, tuple[tuple[tuple[str, str], ...], str]] = {}
 
     def threats(self, coeffs, src, ki, victim, plo, phi, flo, fhi) -> list[Threat]:
@@ -120,29 +123,49 @@ class _State:
         src_l, victim_l, best_l, ki_l = src.tolist(), victim.tolist(), best.tolist(), ki.tolist()
         flo_l, fhi_l, thr_l, level_l = flo.tolist(), fhi.tolist(), thr.tolist(), level.tolist()
         order_l, pos_l = order.tolist(), positive.tolist()
-        plo_l, phi_l = plo.tolist(), phi.tolist()
-        iso_b, meth_b = iso_out[rows, best].tolist(), meth_out[rows, best].tolist()
+        # f_mhz: the product's centre when the whole product lies in the band, else the overlap's
+        inside = (flo <= plo) & (phi <= fhi)
+        f_l = np.where(inside, 0.5 * (plo + phi), 0.5 * (flo + fhi)).tolist()
+        iso_bv, meth_bv = iso_out[rows, best], meth_out[rows, best]
+        mixer_v = src[rows, best]
+        dist = np.asarray(ctx.d)[mixer_v, victim]
+        near = (dist < C0_M_PER_S / (flo * 1e6)).tolist()
+        floored = (iso_bv <= ISOLATION_FLOOR_DB).tolist()
+        iso_b, meth_b = iso_bv.tolist(), meth_bv.tolist()
         formed_b = formed[rows, best].tolist()
+        labels, remedies, mixer_texts = self.labels, self.remedies, self.mixer_text
+        iso_cache = ctx._iso_cache
+        src_names: dict[tuple[int, ...], tuple[str, ...]] = {}
+        th_src = sa.rx_threshold_source
         out = []
+        append = out.append
         for j in range(h):
             s = tuple(src_l[j])
             v = victim_l[j]
             m = s[best_l[j]]
             excess = level_l[j] - thr_l[j]
-            product = self._label(coef_l[ki_l[j]], ki_l[j], s)
-            where, remedy = self._remedy(s, m, excess > 0, tuple(pos_l[j]))
-            lo, hi = flo_l[j], fhi_l[j]
-            out.append(
+            product = labels.get((k, ki_l[j], s)) or self._label(coef_l[ki_l[j]], ki_l[j], s)
+            above = excess > 0
+            rem = remedies.get((s, m, above, tuple(pos_l[j]))) or self._remedy(
+                s, m, above, tuple(pos_l[j])
+            )
+            detail = mixer_texts.get((m, s, order_l[j])) or self._mixer_text(
+                m, s, order_l[j], formed_b[j]
+            )
+            iso_text = iso_cache.get((m, v, meth_b[j], floored[j], near[j])) or ctx.iso_text(
+                m, v, flo_l[j], iso_b[j], meth_b[j]
+            )
+            sn = src_names.get(s)
+            if sn is None:
+                sn = src_names[s] = tuple(names[i] for i in s)
+            append(
                 Threat(
-                    sources=tuple(names[i] for i in s), victim=names[v], mechanism="intermod",
-                    order=order_l[j], product=product,
-                    f_mhz=products.product_centre(plo_l[j], phi_l[j], lo, hi),
-                    f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=level_l[j], threshold_dbm=thr_l[j],
-                    threshold_source=sa.rx_threshold_source[v], excess_db=excess,
-                    required_db=excess + margin, isolation_db=iso_b[j],
-                    isolation_method=ctx.iso_text(m, v, lo, iso_b[j], meth_b[j]),
-                    remedy=remedy, mixer=names[m],
-                    details=(self._mixer_text(m, s, order_l[j], formed_b[j]),), filters=where,
+                    sources=sn, victim=names[v], mechanism="intermod", order=order_l[j],
+                    product=product, f_mhz=f_l[j], f_lo_mhz=flo_l[j], f_hi_mhz=fhi_l[j],
+                    level_dbm=level_l[j], threshold_dbm=thr_l[j], threshold_source=th_src[v],
+                    excess_db=excess, required_db=excess + margin, isolation_db=iso_b[j],
+                    isolation_method=iso_text, remedy=rem[1], mixer=names[m],
+                    details=(detail,), filters=rem[0],
                 )
             )  # fmt: skip
         return out
@@ -180,7 +203,7 @@ class _State:
                         int(victim[j]), count)  # fmt: skip
 
     def _label(self, coef: list[int], ki: int, s: tuple[int, ...]) -> str:
-        key = (len(s), ki, s)
+        key = (len(s), ki, s)  # the same key the loop in threats() looks up
         text = self.labels.get(key)
         if text is None:
             text = self.labels[key] = products.product_label(coef, [self.ctx.names[i] for i in s])
@@ -230,17 +253,26 @@ class _State:
         key = (m, s, order)
         text = self.mixer_text.get(key)
         if text is None:
+            parts = [self._incoming_text(o, m) for o in s if o != m]
+            conv = self.conv_text.get((m, order))
+            if conv is None:
+                radio = self.ctx.sa.site.radios[m]
+                conv = self.conv_text[(m, order)] = limits.im_conversion_db(
+                    radio.tx.im_conversion_db, order
+                )[1]
+            text = self.mixer_text[key] = (
+                f"mixer {self.ctx.names[m]}: incoming " + ", ".join(parts)
+                + f"; formed {formed:.1f} dBm; conversion " + conv
+            )  # fmt: skip
+        return text
+
+    def _incoming_text(self, o: int, m: int) -> str:
+        text = self.incoming.get((o, m))
+        if text is None:
             ctx = self.ctx
-            names = ctx.names
-            parts = [
-                f"{names[o]} {float(self.inc[o, m]):.1f} dBm via "
+            text = self.incoming[(o, m)] = (
+                f"{ctx.names[o]} {float(self.inc[o, m]):.1f} dBm via "
                 + ctx.iso_text(o, m, float(ctx.sa.tx_lo[o]), float(self.inc_iso[o, m]),
                                int(self.inc_meth[o, m]))
-                for o in s if o != m
-            ]  # fmt: skip
-            conv = limits.im_conversion_db(ctx.sa.site.radios[m].tx.im_conversion_db, order)[1]
-            text = self.mixer_text[key] = (
-                f"mixer {names[m]}: incoming " + ", ".join(parts)
-                + f"; formed {formed:.1f} dBm; conversion " + conv
             )  # fmt: skip
         return text
