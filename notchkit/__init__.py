@@ -16,6 +16,7 @@ from __future__ import annotations
 __version__ = "0.1.0"
 
 from notchkit.cables import Cable, cable_table, get_cable, library
+from notchkit.design import Design, DesignReport, design, design_request
 from notchkit.errors import (
     EXIT_BAD_INPUT,
     EXIT_OK,
@@ -54,4 +55,8 @@ __all__ = [
     "survey",
     "SurveyResult",
     "Threat",
+    "design",
+    "design_request",
+    "Design",
+    "DesignReport",
 ]
