@@ -150,3 +150,20 @@ def test_touchstone_file_reads_back_in_skrf(tmp_path):
     np.testing.assert_allclose(net.z0, 50.0)
     assert_close(net.s, skrf_reference(kinds, lengths, cable, FREQ_HZ, 50.0))
     assert path.read_text().startswith("! fictional test filter\n")
+
+
+def test_abcd_to_s_equals_skrf_a2s_for_complex_references():
+    # scikit-rf's skrf.network.a2s (power waves, complex port impedances) is the
+    # reference for notchkit.lines.abcd_to_s (Frickey's table I).
+    from skrf.network import a2s
+
+    from notchkit import lines
+
+    rng = np.random.default_rng(5)
+    n = 50
+    abcd = rng.normal(size=(n, 2, 2)) + 1j * rng.normal(size=(n, 2, 2))
+    zs = rng.uniform(10, 100, n) + 1j * rng.uniform(-40, 40, n)
+    zl = rng.uniform(10, 100, n) + 1j * rng.uniform(-40, 40, n)
+    ours = lines.abcd_to_s(abcd, zs, zl)
+    ref = a2s(abcd, np.stack([zs, zl], axis=-1))
+    np.testing.assert_allclose(ours, ref, rtol=1e-12, atol=1e-12)
