@@ -522,3 +522,42 @@ def test_random_sites_stay_finite_and_consistent():
             assert t.excess_db == pytest.approx(t.level_dbm - t.threshold_dbm, abs=1e-9)
             assert t.isolation_db >= 0.0  # passive floor
             assert (t.excess_db > 0) or not t.filters
+
+
+def test_intermod_of_tuning_ranges_by_interval_arithmetic():
+    # 2 x [14.0, 14.35] - [21.0, 21.45] = [28.0 - 21.45, 28.7 - 21.0] = [6.55, 7.7] MHz,
+    # which overlaps 40 m (7.0-7.3). With 2.7 kHz SSB widening (1.35 kHz each edge):
+    # 2 x [13.99865, 14.35135] - [20.99865, 21.45135] = [6.54595, 7.70405]; the part in the
+    # widened receiver band [6.99865, 7.30135] is the whole receiver band.
+    ssb = {"bandwidth_khz": 2.7}
+    s = site(
+        radio("T20", t=tx(14.0, 14.35, 100, **ssb)),
+        radio("T15", t=tx(21.0, 21.45, 100, **ssb), x=40.0),
+        radio("R40", r=rx(7.0, 7.3, **ssb), x=80.0),
+    )
+    res = survey(s)
+    got = [t for t in find(res, "intermod", "R40", 3) if t.product == "2*T20 - T15"]
+    assert len(got) == 1
+    t = got[0]
+    assert (t.f_lo_mhz, t.f_hi_mhz) == pytest.approx((6.99865, 7.30135), abs=1e-9)
+    assert t.f_mhz == pytest.approx(7.15, abs=1e-9)  # band centre for ranges
+
+
+def test_too_close_rule_boundary():
+    from notchkit.survey.locations import TOO_CLOSE_FRACTION, too_close
+
+    # pass 100 MHz (a point): a notch 2.9 MHz away is too close, 3.1 MHz away is not (3 % rule)
+    assert TOO_CLOSE_FRACTION == 0.03
+    assert too_close(102.9, 103.0, [(100.0, 100.0)]) == (100.0, 100.0)
+    assert too_close(103.1, 104.0, [(100.0, 100.0)]) is None
+    assert too_close(99.0, 101.0, [(100.0, 100.0)]) == (100.0, 100.0)  # overlapping
+
+
+def test_carrier_inside_receiver_band_uses_sensitivity_and_no_filter():
+    s = site(
+        radio("T", t=tx(146.52, power_w=5)),
+        radio("R", r=rx(144.0, 148.0, sensitivity_dbm=-118.0), x=50.0),
+    )
+    (f,) = find(survey(s), "fundamental", "R")
+    assert f.threshold_dbm == -118.0 and "inside" in f.threshold_source
+    assert f.filters == () and "no filter can separate" in f.remedy

@@ -99,9 +99,10 @@ def product_centre(plo: float, phi: float, olo: float, ohi: float) -> float:
 
 
 def product_label(coeffs, names) -> str:
-    """A product as text, e.g. ``2*A - B`` or ``A + B - C``."""
+    """A product as text, positive terms first, e.g. ``2*A - B`` or ``A + B - C``."""
+    terms = sorted(zip(coeffs, names, strict=True), key=lambda t: t[0] < 0)
     text = ""
-    for k, (coef, name) in enumerate(zip(coeffs, names, strict=True)):
+    for k, (coef, name) in enumerate(terms):
         mag = abs(int(coef))
         term = name if mag == 1 else f"{mag}*{name}"
         if k == 0:
