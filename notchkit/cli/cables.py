@@ -54,10 +54,10 @@ def _opt(value: float | None, fmt: str) -> str:
 def format_table(rows) -> str:
     """The human table for ``rows`` (CableRow objects)."""
     at = rows[0].at_mhz if rows else ()
-    head = ["type", "Z0", "VF", "dielectric", "OD mm", "max V"]
+    head = ["type", "Z0", "VF", "dielectric", "OD mm", "max V rms"]
     for f in at:
         head.append(f"{f:g} MHz dB/100m (/100ft)")
-    head.append("fit %")
+    head.append("fit % (points)")
     body = []
     for r in rows:
         c = r.cable
@@ -71,7 +71,8 @@ def format_table(rows) -> str:
         ]
         for m, ft in zip(r.loss_db_per_100m, r.loss_db_per_100ft, strict=True):
             line.append(f"{m:.2f} ({ft:.2f})")
-        line.append("lossless" if c.lossless else f"{c.fit_residual_pct:.1f}")
+        line.append("lossless" if c.lossless
+                    else f"{c.fit_residual_pct:.1f} ({len(c.loss_table)})")
         body.append(line)
     widths = [max(len(x[i]) for x in [head, *body]) for i in range(len(head))]
     lines = ["  ".join(x.ljust(w) for x, w in zip(row, widths, strict=True)).rstrip()
@@ -79,7 +80,9 @@ def format_table(rows) -> str:
     lines.insert(1, "  ".join("-" * w for w in widths))
     lines.append("")
     lines.append("Loss: matched line, fitted a*sqrt(f) + b*f to the published table; "
-                 "fit % = largest error over that table.")
+                 "fit % = largest error over its points.")
+    lines.append("max V rms: the cable's published working voltage. Open stub ends carry high "
+                 "RF voltage at high power; follow local codes and licensed practice.")
     return "\n".join(lines)
 
 
