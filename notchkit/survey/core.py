@@ -53,12 +53,14 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
     tx = np.array([i for i, r in enumerate(site.radios) if r.tx is not None], dtype=int)
     rx = np.array([i for i, r in enumerate(site.radios) if r.rx is not None], dtype=int)
     notes = list(sa.notes)
-    for i in np.intersect1d(tx, rx):
+    both = [sa.names[i] for i in np.intersect1d(tx, rx)]
+    if both:
         notes.append(
-            f"{sa.names[i]}: its own transmitter is not evaluated against its own receiver "
-            "(shared antenna: that is the duplexer's job)"
+            "transceivers not evaluated against their own receivers (shared antenna: "
+            "that is the duplexer's job): " + ", ".join(both)
         )
     ctx = _Ctx(sa, margin)
+    notes += _default_notes(site, ctx)
     threats: list[Threat] = []
     if tx.size and rx.size:
         tt, rr = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
@@ -81,6 +83,28 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         max_harmonic=n_harm,
         rejection_margin_db=margin,
     )
+
+
+def _default_notes(site: Site, ctx) -> list[str]:
+    """Which radios rest on the survey's documented defaults."""
+    out = []
+    supp = sorted({src for i, (_, src) in ctx.supp.items() if src.startswith("default")})
+    for src in supp:
+        who = [ctx.names[i] for i, (_, s) in ctx.supp.items() if s == src]
+        out.append(f"harmonic suppression {src} for: " + ", ".join(who))
+    blocking = [r.name for r in site.radios if r.rx is not None and r.rx.blocking_dbm is None]
+    if blocking:
+        out.append(
+            f"default blocking level {limits.DEFAULT_BLOCKING_DBM:g} dBm (documented default, "
+            "from memory: ETSI EN 300 086 order of magnitude) for: " + ", ".join(blocking)
+        )
+    conv = [r.name for r in site.radios if r.tx is not None and r.tx.im_conversion_db is None]
+    if conv:
+        out.append(
+            f"default IM conversion loss {limits.DEFAULT_IM_CONVERSION_DB:g} dB (3rd order, "
+            "common practice) for: " + ", ".join(conv)
+        )
+    return out
 
 
 class _Ctx:
