@@ -69,3 +69,29 @@ def test_bad_input_exit_2(tmp_path, site_file, capsys):
     captured = capsys.readouterr()
     assert "max_harmonic: 0" in captured.err and "Traceback" not in captured.err
     assert captured.out == ""
+
+
+CLOSE = """\
+site: Close Call (fictional)
+cable: RG-213
+transmitters:
+  - name: tx-a
+    freq_mhz: 146.52
+    power_w: 50
+    antenna: {x_m: 0.0, y_m: 0.0, height_m: 10.0}
+receivers:
+  - name: rx-b
+    freq_mhz: 147.0
+    antenna: {x_m: 3.0, y_m: 0.0, height_m: 10.0}
+"""
+
+
+def test_table_matrix_and_remedies(tmp_path, capsys):
+    path = tmp_path / "close.yaml"
+    path.write_text(CLOSE)
+    assert main(["survey", str(path)]) == 0
+    out = capsys.readouterr().out
+    # 146.52 vs 147.00 MHz: 0.33 % apart, inside the 3 % rule: no stub, a remedy instead
+    assert "no stub (see remedies)" in out
+    assert "Remedies where no stub" in out and "cavities" in out
+    assert "tx \\ rx" in out and "R1 = rx-b" in out
