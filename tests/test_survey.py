@@ -561,3 +561,26 @@ def test_carrier_inside_receiver_band_uses_sensitivity_and_no_filter():
     (f,) = find(survey(s), "fundamental", "R")
     assert f.threshold_dbm == -118.0 and "inside" in f.threshold_source
     assert f.filters == () and "no filter can separate" in f.remedy
+
+
+def test_interval_arithmetic_bounds_every_point_product():
+    # Property (interval arithmetic, textbook): for f_i in [lo_i, hi_i], |sum c_i f_i| lies in
+    # the computed interval, and the interval's ends are reached at band corners.
+    from notchkit.survey.products import combine
+
+    rng = np.random.default_rng(99)
+    lo = rng.uniform(1.0, 500.0, size=(50, 3))
+    hi = lo + rng.uniform(0.0, 30.0, size=(50, 3))
+    plo, phi = combine(THREE_TONE, lo, hi)
+    f = lo[:, None, :] + (hi - lo)[:, None, :] * rng.random((50, 200, 3))
+    for c in range(len(THREE_TONE)):
+        vals = np.abs(f @ THREE_TONE[c])  # (50, 200)
+        assert np.all(vals >= plo[:, c, None] - 1e-9) and np.all(vals <= phi[:, c, None] + 1e-9)
+    corners = np.array(list(itertools.product((0, 1), repeat=3)))
+    pts = np.where(corners[None, :, :] == 0, lo[:, None, :], hi[:, None, :])  # (50, 8, 3)
+    for c in range(len(THREE_TONE)):
+        raw = pts @ THREE_TONE[c]
+        straddles = (raw.min(axis=1) < 0) & (raw.max(axis=1) > 0)
+        top = np.abs(raw).max(axis=1)
+        bottom = np.where(straddles, 0.0, np.abs(raw).min(axis=1))
+        assert np.allclose(phi[:, c], top) and np.allclose(plo[:, c], bottom)
