@@ -37,9 +37,9 @@ from notchkit.solver import Solution, describe, solve, verify_sweep_hz
 
 DEFAULT_NOTCH_DB = 30.0
 """Required rejection of an ad-hoc notch when none is given, dB."""
-TOLERANCE_SAMPLES = 4000
+TOLERANCE_SAMPLES = 2000
 """Monte Carlo builds per filter in the tolerance run (standard error of a
-probability at most 0.8 %, and fast enough to keep each filter within a second)."""
+probability at most 1.1 %, and fast enough to keep each filter within a second)."""
 TOUCHSTONE_POINTS = 2001
 """Points of the Touchstone sweep (plus each band's verification points)."""
 

@@ -94,6 +94,8 @@ _SCAN_MAX = 6000
 _BEAM = 5
 _POOL_MAX = 16  # new-stub lengths per kind taken from the scan
 _REFINE_WINDOW = 8.0  # dB of penalty
+_REFINE_ITER = 40
+_REFINE_MAX = 4  # candidates refined per level (plus the shortest that meets on the scan grid)
 _FD_STEP = 1e-4  # radians at the highest frequency
 
 
@@ -446,7 +448,7 @@ def _scan_one_stub(p: _Problem):
         s21, s11 = p.evaluate((kind,), lengths[:, None], p.scan)
         j, viol, margin, worst = p.objective((kind,), lengths[:, None], p.scan, s21, s11)
         idx = _local_minima(j)
-        sub = _pick((kind,), lengths[idx, None], j[idx], viol[idx], margin[idx], p, _BEAM)
+        sub = _pick((kind,), lengths[idx, None], j[idx], viol[idx], margin[idx], p, 3)
         cands += sub
         # Resonances per notch: local maxima of that notch's worst attenuation.
         for jn in range(len(p.notches)):
@@ -541,13 +543,13 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
     if not out_k:
         return []
     return _pick(out_k, out_l, np.concatenate(out_j), np.concatenate(out_v), np.concatenate(out_m),
-                 p, _BEAM)
+                 p, _REFINE_MAX)
 
 
 # ---------------------------------------------------------------- refinement
 
 
-def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
+def _refine(p: _Problem, cand: _Cand) -> _Cand:
     """Local refinement of one candidate: a bounded pattern search on the fine grid.
 
     Each iteration evaluates, in one batched call, a step up and down every
@@ -558,7 +560,6 @@ def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
     threaded BLAS slows everything down on a busy machine, and each step is one
     batched evaluation.)
     """
-    grid = grid or p.fine
     kinds = cand.kinds
     lo, hi = p.bounds(kinds)
     s = p.scale
@@ -566,9 +567,11 @@ def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
     n = len(kinds)
     eye = np.eye(n)
     x = np.clip(cand.lengths / s, lo_u, hi_u)
+    # coarse steps on the scan grid, the last ones on the fine grid
+    grid = p.scan
     jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
     step, last = 0.25, np.zeros(n)
-    for _ in range(40):
+    for _ in range(_REFINE_ITER):
         moves = np.vstack([eye * step, -eye * step, eye * (0.3 * step), -eye * (0.3 * step), last, 2 * last])
         trial = np.clip(x[None, :] + moves, lo_u, hi_u)
         j = p.objective(kinds, trial * s, grid)[0]
@@ -581,7 +584,10 @@ def _refine(p: _Problem, cand: _Cand, grid: _Grid | None = None) -> _Cand:
             last = np.zeros(n)
             if step < 2e-4:
                 break
-    j, viol, margin, _ = p.objective(kinds, x[None, :] * s, grid)
+            if grid is p.scan and step < 0.02:
+                grid = p.fine
+                jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
+    j, viol, margin, _ = p.objective(kinds, x[None, :] * s, p.fine)
     return _Cand(kinds, x * s, float(j[0]), float(viol[0]), float(margin[0]))
 
 
@@ -600,7 +606,7 @@ def _polish(p: _Problem, cand: _Cand) -> _Cand:
     n = x0.size
     simplex = np.vstack([x0, x0[None, :] + 0.02 * np.eye(n)])
     res = minimize(fun, x0, method="Nelder-Mead",
-                   options={"initial_simplex": simplex, "xatol": 1e-4, "fatol": 1e-6, "maxfev": 60 * n})
+                   options={"initial_simplex": simplex, "xatol": 1e-3, "fatol": 1e-4, "maxfev": 25 * n})
     lengths = np.clip(res.x * s, lo, hi)
     j, viol, margin, _ = p.objective(kinds, lengths[None, :], p.fine)
     return _Cand(kinds, lengths, float(j[0]), float(viol[0]), float(margin[0]))
@@ -904,10 +910,11 @@ def solve(
         if any(v.meets for v in verified):
             break
     best = _best(found)
-    say("polishing the chosen design")
-    polished = _verify(p, _polish(p, best.cand), sweep, slices)
-    if _best([best, polished]) is polished:
-        best = polished
+    if best.meets or len(best.cand.kinds) <= 3:
+        say("polishing the chosen design")
+        polished = _verify(p, _polish(p, best.cand), sweep, slices)
+        if _best([best, polished]) is polished:
+            best = polished
     return Solution(
         filter=best.filt,
         meets=best.meets,

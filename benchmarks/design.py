@@ -1,0 +1,78 @@
+"""Design speed: every filter of the example sites, and the ad-hoc examples.
+
+For each filter: the solver alone and the whole design (solver, cut list,
+tolerance run, power check), wall-clock and CPU time of one run, and the ratio
+of the wall-clock time to the 1 s target. On a shared machine the wall clock
+includes time other processes took; the CPU column is this process's own.
+Not a timed test: run ``python benchmarks/design.py [SITE.yaml ...]``.
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+
+from notchkit.cables import get_cable
+from notchkit.design import design_one
+from notchkit.requirements import FilterRequirement, NotchSpec
+from notchkit.site import load_site
+from notchkit.site.model import Allowances, Band, Limits
+from notchkit.solver import solve
+from notchkit.survey import survey
+
+TARGET_S = 1.0
+ROOT = Path(__file__).resolve().parent.parent
+
+AD_HOC = (
+    ("40/15 m pass, 20 m notch 20 dB", [(7.0, 7.3), (21.0, 21.45)], [(14.0, 14.35, 20.0)], "RG-213"),
+    ("20/10 m pass, 40/15 m notch 30 dB", [(14.0, 14.35), (28.0, 29.7)],
+     [(7.0, 7.3, 30.0), (21.0, 21.45, 30.0)], "RG-213"),
+    ("2 m pass, 3rd harmonic notch", [(144.0, 148.0)], [(432.0, 444.0, 30.0)], "RG-213"),
+    ("2 m receiver, 70 cm notch", [(144.0, 148.0)], [(420.0, 450.0, 20.0)], "RG-213"),
+)
+
+
+def _time(fn):
+    t0, c0 = time.perf_counter(), time.process_time()
+    out = fn()
+    return out, time.perf_counter() - t0, time.process_time() - c0
+
+
+def _row(label, req, cable, limits, allowances, fid):
+    sol, wall_s, cpu_s = _time(lambda: solve(req, cable=cable, limits=limits,
+                                             tee_allowance_m=allowances.tee_allowance_m))
+    d, wall_d, cpu_d = _time(lambda: design_one(req, cable=cable, limits=limits, allowances=allowances,
+                                                filter_id=fid))
+    print(f"{label[:44]:44s} {len(sol.filter.stubs):5d} {'yes' if sol.meets else 'no':>5s} "
+          f"{wall_s:8.3f} {cpu_s:8.3f} {wall_d:8.3f} {cpu_d:8.3f} {wall_d / TARGET_S:7.2f}")
+    return wall_d
+
+
+def main(argv: list[str]) -> None:
+    import scipy.optimize  # noqa: F401  (import once, outside the timings)
+
+    sites = [Path(a) for a in argv] or sorted((ROOT / "sites").glob("*.yaml"))
+    print(f"{'filter':44s} {'stubs':>5s} {'meets':>5s} {'solve s':>8s} {'cpu s':>8s} "
+          f"{'design s':>8s} {'cpu s':>8s} {'ratio':>7s}")
+    worst = 0.0
+    for path in sites:
+        site = load_site(path)
+        sv = survey(site)
+        print(f"-- {path.name}: {len(sv.filters)} filters")
+        for i, req in enumerate(sv.filters, start=1):
+            cable = get_cable(req.cable, site.cables)
+            label = f"F{i} {req.side} {req.radio} ({len(req.notches)} notches)"
+            worst = max(worst, _row(label, req, cable, site.limits, site.allowances, f"F{i}"))
+    print("-- ad-hoc examples")
+    for label, passes, notches, cable_name in AD_HOC:
+        req = FilterRequirement(
+            radio=None, side=None, pass_bands=tuple(Band(lo_mhz=a, hi_mhz=b) for a, b in passes),
+            notches=tuple(NotchSpec(lo_mhz=a, hi_mhz=b, required_db=r) for a, b, r in notches),
+            cable=cable_name)
+        worst = max(worst, _row(label, req, get_cable(cable_name), Limits(), Allowances(), "F1"))
+    print(f"worst filter: {worst:.3f} s wall = {worst / TARGET_S:.2f} x the {TARGET_S:g} s target")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
