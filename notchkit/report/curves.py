@@ -214,7 +214,11 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
         handles.append(Patch(facecolor="0.88", edgecolor="0.3", hatch="xx", label="notch band"))
         handles.append(Line2D([], [], color="black", linewidth=2.4, marker="v", markersize=4,
                               label="required attenuation"))
-    ax.legend(handles=handles, fontsize=fontsize - 1.5, loc="upper center", bbox_to_anchor=(0.5, -0.16),
+    # Below the x label: tick labels and the label take about 3.3 font sizes.
+    fig = ax.get_figure()
+    height_in = ax.get_position().height * fig.get_figheight()
+    below = 3.4 * fontsize / 72.0 / max(height_in, 1e-6)
+    ax.legend(handles=handles, fontsize=fontsize - 1.5, loc="upper center", bbox_to_anchor=(0.5, -below),
               framealpha=1.0, edgecolor="black", ncol=3)
 
 
@@ -224,8 +228,10 @@ def curve_figure(curve: CurveData, pass_bands: Sequence[Span], notches: Sequence
     """A new matplotlib Figure (no pyplot) with :func:`draw_curve` on it."""
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(width_in, height_in), layout="constrained")
-    ax = fig.add_subplot(1, 1, 1)
+    fig = Figure(figsize=(width_in, height_in))
+    left, right, bottom, top = 0.6, 0.15, 0.9, 0.3  # inches: y label; margin; x label + legend; title
+    ax = fig.add_axes((left / width_in, bottom / height_in, 1 - (left + right) / width_in,
+                       1 - (bottom + top) / height_in))
     draw_curve(ax, curve, pass_bands, notches, title=title, fontsize=fontsize, show_s11=show_s11)
     return fig
 

@@ -77,6 +77,9 @@ def write_bytes_atomic(path: str | os.PathLike, data: bytes) -> Path:
         with os.fdopen(fd, "wb") as fh:
             fd = None
             fh.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the file normal permissions
         os.replace(tmp, p)
         tmp = None
     except OSError as exc:

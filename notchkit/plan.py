@@ -1,0 +1,234 @@
+"""The site notch plan: survey, design and every printed and exported output in one call.
+
+:func:`plan` runs :func:`notchkit.survey.survey` and :func:`notchkit.design.design`
+on a site, builds every printed row once (:mod:`notchkit.report.text`) and
+writes the PDF, and optionally a self-contained HTML page and an output
+folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
+plan's JSON. Every output path is checked for writability before the long
+computation; every file is written atomically; the site file is only read.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from notchkit.errors import InputError, UsageError
+
+UNITS = ("metric", "imperial", "both")
+PAGE_SIZES = ("a4", "letter")
+PLAN_JSON = "plan.json"
+"""Name of the plan's JSON inside ``outdir``."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PlanResult:
+    """What :func:`plan` computed and wrote.
+
+    ``meets`` is true only when every designed filter meets its requirements;
+    the command line exits 1 otherwise (the plan is written all the same).
+    """
+
+    site_name: str
+    date: str
+    survey: Any
+    design: Any
+    text: Any
+    """The :class:`notchkit.report.text.PlanText` every output printed."""
+    pdf: Path
+    pages: int
+    layout: Any
+    html: Path | None = None
+    outdir: Path | None = None
+    files: tuple[Path, ...] = field(default_factory=tuple)
+    """Files written into ``outdir`` (PNG, CSV, .s2p per filter, then the JSON)."""
+    plan_json: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    @property
+    def meets(self) -> bool:
+        return bool(self.text.meets)
+
+    @property
+    def written(self) -> tuple[Path, ...]:
+        """Every path written, the PDF first."""
+        out = [self.pdf]
+        if self.html is not None:
+            out.append(self.html)
+        return (*out, *self.files)
+
+
+def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None:
+    from notchkit.report.files import check_dir_writable, check_writable
+
+    paths = [check_writable(out_pdf, "PDF")]
+    if html is not None:
+        paths.append(check_writable(html, "HTML"))
+    if outdir is not None:
+        check_dir_writable(outdir, "--outdir")
+    if site_path:
+        src = Path(site_path).resolve()
+        for p in paths:
+            if p.resolve() == src:
+                raise InputError(f"output {str(p)!r} is the site file itself (choose another output name)")
+    if html is not None and Path(html).resolve() == Path(out_pdf).resolve():
+        raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
+
+
+def _run_design(site: Any) -> Any:
+    from notchkit.design import design
+
+    return design(site)
+
+
+def _designs(report: Any) -> list[Any]:
+    return list(getattr(report, "designs", report))
+
+
+def _spans(d: Any, site: Any) -> tuple[list[Any], list[Any]]:
+    from notchkit.report.curves import notch_spans, pass_spans
+
+    req = d.requirement
+    sol = getattr(d, "solution", None)
+    il = None
+    passes = list(getattr(sol, "passes", ()) or ())
+    if passes:
+        il = passes[0].max_insertion_loss_db
+    elif site is not None:
+        il = site.limits.max_insertion_loss_db
+    return pass_spans(req.pass_bands, il), notch_spans(req.notches)
+
+
+def plan_json(site: Any, sv: Any, report: Any, *, date: str, version: str, units: str) -> dict[str, Any]:
+    """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey."""
+    doc = dict(report.to_json()) if hasattr(report, "to_json") else {"filters": []}
+    out: dict[str, Any] = {
+        "site": site.name,
+        "site_file": str(site.path),
+        "date": date,
+        "notchkit_version": version,
+        "units": units,
+        "meets": bool(all(getattr(d, "meets", False) for d in _designs(report))),
+    }
+    for k, v in doc.items():
+        out.setdefault(k, v)
+    out["survey"] = sv.to_json()
+    return out
+
+
+def plan(
+    site: Any,
+    out_pdf: str | os.PathLike[str],
+    *,
+    html: str | os.PathLike[str] | None = None,
+    outdir: str | os.PathLike[str] | None = None,
+    units: str = "both",
+    page_size: str = "a4",
+) -> PlanResult:
+    """Survey a site, design its filters and write the printed notch plan.
+
+    Parameters
+    ----------
+    site : Site or path-like
+        A loaded :class:`notchkit.site.Site`, or the path of a site file
+        (read, never written).
+    out_pdf : path-like
+        The PDF to write (A4 or US Letter pages).
+    html : path-like, optional
+        Also write one self-contained HTML page with the same content.
+    outdir : path-like, optional
+        Also write, per filter, ``F1.png`` (curve), ``F1.csv`` (``freq_mhz,
+        s21_db, s11_db``), ``F1.s2p`` (Touchstone), and ``plan.json`` (the
+        design JSON with the survey under ``"survey"``). Created if missing.
+    units : {"metric", "imperial", "both"}
+        Lengths in millimetres, inches to 1/16 in, or both.
+    page_size : {"a4", "letter"}
+
+    Returns
+    -------
+    PlanResult
+
+    Raises
+    ------
+    UsageError
+        Bad ``units`` or ``page_size``.
+    InputError
+        An output path that cannot be written (checked before any work), or
+        the site file given as an output.
+    SiteError
+        A site file with problems.
+    """
+    import notchkit
+    from notchkit.report.curves import curve_data, write_curve_csv
+    from notchkit.report.files import write_bytes_atomic
+    from notchkit.report.pdf import page_size_in, write_pdf
+    from notchkit.report.text import design_filter, design_id, plan_text
+
+    if units not in UNITS:
+        raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
+    page_size_in(page_size)
+    if isinstance(site, str | os.PathLike):
+        site_path = str(site)
+        _check_outputs(out_pdf, html, outdir, site_path)
+        from notchkit.site import load_site
+
+        site = load_site(site_path)
+    else:
+        _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
+
+    from notchkit.survey import survey
+
+    sv = survey(site)
+    report = _run_design(site)
+    designs = _designs(report)
+    date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
+    version = notchkit.__version__
+    json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
+    pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
+                   plan_json=str(json_path) if json_path is not None else "PLAN.json")
+    parts = []
+    for d in designs:
+        filt = design_filter(d)
+        spans = _spans(d, site)
+        parts.append((filt, curve_data(filt, spans[0] + spans[1]), spans))
+    footer = f"{site.name} - notch plan {date} - notchkit {version}"
+    pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer)
+
+    images: list[tuple[bytes, bytes]] = []
+    if html is not None or outdir is not None:
+        from notchkit.report.html import filter_images
+
+        images = [filter_images(filt, curve, spans, ft)
+                  for ft, (filt, curve, spans) in zip(pt.filters, parts, strict=True)]
+    html_path = None
+    if html is not None:
+        from notchkit.report.html import write_html
+
+        html_path = write_html(html, pt, images, footer=footer)
+
+    files: list[Path] = []
+    doc = plan_json(site, sv, report, date=date, version=version, units=units)
+    if outdir is not None:
+        from notchkit.filters import write_touchstone
+        from notchkit.report.files import write_text_atomic
+
+        folder = Path(outdir)
+        try:
+            folder.mkdir(parents=False, exist_ok=True)
+        except OSError as exc:
+            raise InputError(f"--outdir {str(folder)!r}: cannot create ({exc.strerror or exc})") from exc
+        for d, (filt, curve, _sp), (_draw, curve_png) in zip(designs, parts, images, strict=True):
+            fid = design_id(d)
+            files.append(write_bytes_atomic(folder / f"{fid}.png", curve_png))
+            files.append(write_curve_csv(curve, folder / f"{fid}.csv"))
+            files.append(write_touchstone(filt, curve.freq_mhz * 1e6, folder / f"{fid}.s2p",
+                                          comment=f"{fid} {site.name}, notchkit {version}"))
+        files.append(write_text_atomic(json_path, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
+
+    return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
+                      pages=layout.total, layout=layout, html=html_path,
+                      outdir=Path(outdir) if outdir is not None else None, files=tuple(files),
+                      plan_json=doc)

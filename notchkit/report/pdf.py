@@ -1,0 +1,595 @@
+"""The printed plan as PDF: matplotlib pages with real, extractable text.
+
+Pages, in order: the cover; the threat pages (transmitter x receiver matrix,
+then the threat table, continued over as many pages as it needs); one page
+per filter (drawing, curve, requirements, cut list, tolerance, power check,
+trimming steps); the cut labels (:func:`tags_per_page` tags a page); the
+cautions. Text is laid out here with a simple cursor (inches from the top)
+and drawn with ``Figure.text``, inside ``rc_context({"pdf.fonttype": 42})``
+so every number is real text a PDF reader can search and extract.
+
+matplotlib is imported inside the functions; no global style is changed.
+"""
+
+from __future__ import annotations
+
+import functools
+import io
+import math
+import os
+import textwrap
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from notchkit.report.files import write_bytes_atomic
+from notchkit.report.text import NOT_MET, FilterText, PlanText, Table, Tag
+
+PAGE_SIZES_IN = {"a4": (210.0 / 25.4, 297.0 / 25.4), "letter": (8.5, 11.0)}
+"""Page sizes in inches: ISO 216 A4 (210 x 297 mm) and ANSI US Letter (8.5 x 11 in)."""
+MARGIN_IN = 0.6
+LINE_EM = 1.25
+"""Line pitch of all text, as a multiple of the font size."""
+_TAG_W_IN, _TAG_H_IN = 3.35, 1.3
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PdfFont:
+    """A font setup for the plan and the metrics the layout needs from it."""
+
+    name: str
+    rc: dict[str, Any]
+    char_em: float
+    """Width of an average glyph (digits included, rounded up) per unit of font size."""
+    height_em: float
+    """The font's ascender + descender per unit of font size: matplotlib (>= 3.11) sets the
+    lines of a text ``linespacing x height_em x size`` apart; tests/test_report_pdf.py
+    measures it."""
+
+    @property
+    def linespacing(self) -> float:
+        """matplotlib's ``linespacing`` that puts lines :data:`LINE_EM` x size apart."""
+        return LINE_EM / self.height_em
+
+
+_COMMON_RC = {"svg.fonttype": "none", "hatch.linewidth": 0.6, "axes.linewidth": 0.8,
+              "axes.unicode_minus": False}
+CORE_FONT = PdfFont(
+    name="Helvetica (PDF standard font)",
+    rc={**_COMMON_RC, "pdf.use14corefonts": True, "font.family": "sans-serif",
+        "font.sans-serif": ["Helvetica"]},
+    char_em=0.57,  # Helvetica AFM: lower case averages 0.50 em, digits 0.556 em
+    height_em=0.925,  # Helvetica AFM: ascender 718 + descender 207, per 1000 em
+)
+"""The PDF's standard Helvetica: no embedding, about 15 times faster to lay out than an
+embedded TrueType font in matplotlib, and real text; only for text that Windows-1252
+(the standard fonts' encoding) can spell."""
+EMBEDDED_FONT = PdfFont(
+    name="DejaVu Sans (embedded, Type 42)",
+    rc={**_COMMON_RC, "pdf.fonttype": 42, "ps.fonttype": 42, "font.family": "DejaVu Sans"},
+    char_em=0.6,  # DejaVu Sans: digits 0.636 em, lower case about 0.55 em
+    height_em=1.0,  # DejaVu Sans: OS/2 typographic ascender 0.76 + descender 0.24
+)
+"""An embedded TrueType font (real text, ``pdf.fonttype`` 42) for text with characters
+outside Windows-1252."""
+RC = EMBEDDED_FONT.rc
+"""Settings the HTML images render under."""
+
+
+def choose_font(strings: Sequence[str]) -> PdfFont:
+    """:data:`CORE_FONT` when every string can be spelled in Windows-1252, else :data:`EMBEDDED_FONT`."""
+    try:
+        for s in strings:
+            s.encode("cp1252")
+    except UnicodeEncodeError:
+        return EMBEDDED_FONT
+    return CORE_FONT
+
+
+def _strings(obj: Any) -> list[str]:
+    """Every string inside a (nested) dataclass / tuple, for :func:`choose_font`."""
+    out: list[str] = []
+    stack = [obj]
+    while stack:
+        o = stack.pop()
+        if isinstance(o, str):
+            out.append(o)
+        elif isinstance(o, tuple | list):
+            stack.extend(o)
+        elif hasattr(o, "__dataclass_fields__"):
+            stack.extend(getattr(o, f) for f in o.__dataclass_fields__)
+    return out
+
+
+@functools.cache
+def _uniform_linespacing() -> bool:
+    """matplotlib >= 3.11 gives every line of a multi-line text the same height."""
+    import matplotlib
+
+    try:
+        major, minor = (int(x) for x in matplotlib.__version__.split(".")[:2])
+    except ValueError:
+        return False
+    return (major, minor) >= (3, 11)
+
+
+def page_size_in(page_size: str) -> tuple[float, float]:
+    from notchkit.errors import UsageError
+
+    try:
+        return PAGE_SIZES_IN[page_size]
+    except KeyError:
+        raise UsageError(f"page size {page_size!r} must be one of {', '.join(PAGE_SIZES_IN)}") from None
+
+
+def tags_per_page(page_size: str) -> int:
+    """How many cut labels fit on one page (two columns)."""
+    w, h = page_size_in(page_size)
+    rows = int((h - 2 * MARGIN_IN - 0.9) // (_TAG_H_IN + 0.12))
+    cols = int((w - 2 * MARGIN_IN + 0.2) // (_TAG_W_IN + 0.2))
+    return max(1, rows * cols)
+
+
+def _pt_in(size: float) -> float:
+    return size / 72.0
+
+
+def _wrap(text: str, width_in: float, size: float, char_em: float = EMBEDDED_FONT.char_em) -> list[str]:
+    chars = max(4, int(width_in / (char_em * _pt_in(size))))
+    out: list[str] = []
+    for para in str(text).split("\n"):
+        if not para:
+            out.append("")
+            continue
+        indent = len(para) - len(para.lstrip(" "))
+        out += textwrap.wrap(para, chars, subsequent_indent=" " * (indent + 2), break_on_hyphens=False,
+                             break_long_words=True) or [""]
+    return out
+
+
+class _Page:
+    """One page: a Figure and a cursor in inches from the top edge."""
+
+    def __init__(self, size_in: tuple[float, float], dry: bool = False, font: PdfFont = EMBEDDED_FONT):
+        self.font = font
+        self.w, self.h = size_in
+        self.dry = dry
+        self.fig = None
+        if not dry:
+            from matplotlib.figure import Figure
+
+            self.fig = Figure(figsize=size_in)
+        self.y = MARGIN_IN
+        self.x0 = MARGIN_IN
+        self.width = self.w - 2 * MARGIN_IN
+
+    def wrap(self, text: str, width_in: float, size: float) -> list[str]:
+        return _wrap(text, width_in, size, self.font.char_em)
+
+    @property
+    def bottom(self) -> float:
+        return self.h - MARGIN_IN - 0.25  # room for the footer
+
+    @property
+    def room(self) -> float:
+        return self.bottom - self.y
+
+    def _fx(self, x_in: float) -> float:
+        return x_in / self.w
+
+    def _fy(self, y_in: float) -> float:
+        return 1.0 - y_in / self.h
+
+    def put(self, x_in: float, y_in: float, s: str, size: float, **kw: Any) -> None:
+        if not self.dry and s:
+            self.fig.text(self._fx(x_in), self._fy(y_in), s, fontsize=size, va="top", **kw)
+
+    def block(self, x_in: float, y_in: float, lines: Sequence[str], size: float, ha: str = "left",
+              bold: bool = False) -> float:
+        """Lines :data:`LINE_EM` x size apart; returns the height in inches.
+
+        With matplotlib >= 3.11 (every line of a text with a numeric ``linespacing``
+        is exactly ``linespacing x height`` tall) all lines are one artist, which keeps
+        rendering fast; older matplotlib gets one artist per line.
+        """
+        pitch = self.pitch(size)
+        weight = "bold" if bold else "normal"
+        if _uniform_linespacing():
+            if any(lines):
+                self.put(x_in, y_in, "\n".join(lines), size, ha=ha, multialignment=ha,
+                         fontweight=weight, linespacing=self.font.linespacing)
+        else:
+            for k, line in enumerate(lines):
+                self.put(x_in, y_in + k * pitch, line, size, ha=ha, fontweight=weight)
+        return len(lines) * pitch
+
+    def pitch(self, size: float) -> float:
+        return _pt_in(size) * LINE_EM
+
+    def hline(self, y_in: float, lw: float = 0.6, x0: float | None = None, x1: float | None = None,
+              **kw: Any) -> None:
+        if not self.dry:
+            from matplotlib.lines import Line2D
+
+            a = self.x0 if x0 is None else x0
+            b = self.x0 + self.width if x1 is None else x1
+            self.fig.add_artist(Line2D([self._fx(a), self._fx(b)], [self._fy(y_in)] * 2, color="black",
+                                       linewidth=lw, transform=self.fig.transFigure, **kw))
+
+    def rect(self, x: float, y: float, w: float, h: float, lw: float = 1.0, **kw: Any) -> None:
+        if not self.dry:
+            from matplotlib.patches import Rectangle
+
+            self.fig.add_artist(Rectangle((self._fx(x), self._fy(y + h)), w / self.w, h / self.h,
+                                          transform=self.fig.transFigure, fill=False, edgecolor="black",
+                                          linewidth=lw, **kw))
+
+    # -- flowing content -------------------------------------------------
+
+    def heading(self, s: str, size: float = 13.0) -> None:
+        self.put(self.x0, self.y, s, size, fontweight="bold")
+        self.y += _pt_in(size) * 1.5
+
+    def para(self, s: str, size: float = 8.0, indent: float = 0.0, bold: bool = False,
+             gap: float = 0.04) -> None:
+        wrapped = self.wrap(s, self.width - indent, size)
+        self.y += self.block(self.x0 + indent, self.y, wrapped, size, bold=bold)
+        self.y += gap
+
+    def para_height(self, s: str, size: float = 8.0, indent: float = 0.0, gap: float = 0.04) -> float:
+        return len(self.wrap(s, self.width - indent, size)) * self.pitch(size) + gap
+
+    def boxed(self, lines: Sequence[str], size: float = 10.0) -> None:
+        """Lines in a heavy double box: stands out in black-and-white print without colour."""
+        pad = 0.08
+        wrapped = [w for s in lines for w in self.wrap(s, self.width - 2 * pad - 0.1, size)]
+        h = len(wrapped) * self.pitch(size) + 2 * pad
+        self.rect(self.x0, self.y, self.width, h, lw=2.2)
+        self.rect(self.x0 + 0.04, self.y + 0.04, self.width - 0.08, h - 0.08, lw=0.7)
+        self.block(self.x0 + pad + 0.05, self.y + pad, wrapped, size, bold=True)
+        self.y += h + 0.1
+
+    def boxed_height(self, lines: Sequence[str], size: float = 10.0) -> float:
+        n = sum(len(self.wrap(s, self.width - 0.26, size)) for s in lines)
+        return n * self.pitch(size) + 0.16 + 0.1
+
+    def table_layout(self, t: Table, size: float) -> tuple[list[float], list[list[list[str]]]]:
+        total = sum(t.widths)
+        cols = [self.width * w / total for w in t.widths]
+        header = [self.wrap(h, c - 0.08, size) for h, c in zip(t.header, cols, strict=True)]
+        rows = [[self.wrap(cell, c - 0.08, size) for cell, c in zip(r, cols, strict=True)] for r in t.rows]
+        return cols, [header, *rows]
+
+    def row_heights(self, t: Table, size: float) -> tuple[float, list[float]]:
+        _, cells = self.table_layout(t, size)
+        hs = [max(len(c) for c in row) * self.pitch(size) for row in cells]
+        return hs[0] + 0.06, hs[1:]
+
+    def table(self, t: Table, size: float = 7.5, title: bool = True) -> None:
+        """A table: bold header between rules, then rows on alternating light-grey bands.
+
+        Each column is one Text block (cells padded to their row's line count),
+        so a table costs a few artists however many rows it has.
+        """
+        if title and t.title:
+            self.para(t.title, size + 0.5, bold=True, gap=0.02)
+        cols, cells = self.table_layout(t, size)
+        pitch = self.pitch(size)
+        lift = 0.0
+        header, rows = cells[0], cells[1:]
+        self.hline(self.y, lw=1.0)
+        y = self.y + 0.03
+        n_h = max(len(c) for c in header)
+        x = self.x0
+        for c, (lines, cw) in enumerate(zip(header, cols, strict=True)):
+            right = t.align[c] == "right"
+            self.block(x + cw - 0.04 if right else x + 0.04, y, lines, size, ha="right" if right else "left",
+                       bold=True)
+            x += cw
+        y += n_h * pitch + 0.03
+        self.hline(y - 0.01, lw=0.8)
+        counts = [max(len(c) for c in row) for row in rows]
+        top = y + lift
+        yy = top
+        for r, n in enumerate(counts):
+            if r % 2 == 1 and not self.dry:
+                from matplotlib.patches import Rectangle
+
+                self.fig.add_artist(Rectangle((self._fx(self.x0), self._fy(yy - lift + n * pitch)),
+                                              self.width / self.w, n * pitch / self.h,
+                                              transform=self.fig.transFigure, facecolor="0.9",
+                                              edgecolor="none", zorder=-1))
+            yy += n * pitch
+        x = self.x0
+        for c, cw in enumerate(cols):
+            lines: list[str] = []
+            for row, n in zip(rows, counts, strict=True):
+                lines += row[c] + [""] * (n - len(row[c]))
+            right = t.align[c] == "right"
+            self.block(x + cw - 0.04 if right else x + 0.04, top, lines, size,
+                       ha="right" if right else "left")
+            x += cw
+        self.y = top - lift + sum(counts) * pitch + 0.02
+        self.hline(self.y, lw=0.8)
+        if t.note:
+            self.y += 0.03
+            self.para(t.note, size - 0.5)
+        self.y += 0.06
+
+    def table_height(self, t: Table, size: float = 7.5, title: bool = True) -> float:
+        h0, hs = self.row_heights(t, size)
+        h = h0 + sum(hs) + 0.08
+        if title and t.title:
+            h += self.para_height(t.title, size + 0.5, gap=0.02)
+        if t.note:
+            h += 0.03 + self.para_height(t.note, size - 0.5)
+        return h
+
+    def axes(self, height_in: float, left_in: float = 0.0, bottom_pad_in: float = 0.0,
+             right_in: float = 0.0):
+        ax = None
+        if not self.dry:
+            x = self.x0 + left_in
+            w = self.width - left_in - right_in
+            ax = self.fig.add_axes((self._fx(x), self._fy(self.y + height_in - bottom_pad_in),
+                                    w / self.w, (height_in - bottom_pad_in) / self.h))
+        self.y += height_in
+        return ax
+
+
+# ---------------------------------------------------------------- sections
+
+
+def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
+    page.heading(pt.title, 16.0)
+    page.para("Coaxial stub filters for a shared radio site: what to cut, where it goes, and how to "
+              "trim it.", 9.0)
+    page.y += 0.1
+    for label, value in pt.cover_facts:
+        page.put(page.x0, page.y, f"{label}:", body, fontweight="bold")
+        lines = page.wrap(value, page.width - 1.6, body)
+        for k, line in enumerate(lines):
+            page.put(page.x0 + 1.5, page.y + k * page.pitch(body), line, body)
+        page.y += len(lines) * page.pitch(body) + 0.02
+    page.y += 0.15
+    if pt.unmet:
+        page.boxed([f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:", *pt.unmet], 10.5)
+    else:
+        page.boxed(["Every filter meets its requirements on the lossy cable model."], 10.0)
+    page.table(pt.filters_table, 8.5)
+    page.y += 0.05
+    page.para("Contents: threats (matrix and table); one page per filter (arrangement, attenuation "
+              "curve, requirements, cut list, tolerance, power check, trimming steps); cut labels; "
+              "cautions.", 8.0)
+    page.para("Read the cautions page before anyone cuts, climbs or transmits.", 8.0, bold=True)
+
+
+def _threat_pages(new_page: Callable[[], _Page], pt: PlanText, size: float = 7.0) -> list[_Page]:
+    pages = [new_page()]
+    p = pages[0]
+    p.heading("Threats", 13.0)
+    msize = 8.0
+    while msize > 5.0 and p.table_height(pt.matrix, msize) > 0.45 * (p.bottom - p.y):
+        msize -= 0.5
+    p.table(pt.matrix, msize)
+    p.y += 0.05
+    t = pt.threats
+    h0, hs = p.row_heights(t, size)
+    i = 0
+    first = True
+    while True:
+        title = t.title if first else f"{t.title} (continued)"
+        avail = p.bottom - p.y - p.para_height(title, size + 0.5, gap=0.02) - h0 - 0.1
+        if t.note:
+            avail -= 0.03 + p.para_height(t.note, size - 0.5)
+        j, used = i, 0.0
+        while j < len(hs) and used + hs[j] <= avail:
+            used += hs[j]
+            j += 1
+        if j == i and len(hs) > i and p.y > MARGIN_IN + 0.5:
+            p = new_page()  # not even one row fits under the matrix: start a fresh page
+            pages.append(p)
+            continue
+        j = max(j, i + 1) if i < len(hs) else j
+        p.table(t.chunk(i, j, title), size)
+        first = False
+        i = j
+        if i >= len(hs):
+            break
+        p = new_page()
+        pages.append(p)
+        p.heading("Threats (continued)", 11.0)
+    return pages
+
+
+def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any], filt: Any,
+                 body: float, draw_h: float, curve_h: float) -> None:
+    from notchkit.report.curves import draw_curve
+    from notchkit.report.drawing import draw_arrangement
+
+    page.heading(ft.title, 13.0)
+    if ft.meets:
+        page.para(ft.verdict, body + 1, bold=True)
+    else:
+        page.boxed([ft.verdict], body + 1.5)
+    for f in ft.facts:
+        page.para(f, body, gap=0.0)
+    page.y += 0.05
+    ax = page.axes(draw_h)
+    if ax is not None:
+        draw_arrangement(ax, filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
+                         radio_label=ft.radio_label, antenna_label=ft.antenna_label,
+                         cable_label=ft.cable_label, fontsize=max(5.0, body - 0.5))
+    page.y += 0.08 + 2.0 * body / 72.0  # room for the curve's title
+    ax = page.axes(curve_h, left_in=0.55, bottom_pad_in=0.85, right_in=0.1)
+    if ax is not None:
+        draw_curve(ax, curve, spans[0], spans[1], title=f"{ft.filter_id}: attenuation (S21) and reflection "
+                   "(S11)", fontsize=body)
+    page.table(ft.requirements, body - 0.5)
+    page.table(ft.cuts, body - 0.5)
+    page.para("Tolerance", body + 0.5, bold=True, gap=0.0)
+    for s in ft.tolerance:
+        page.para(s, body - 0.5, gap=0.0)
+    page.y += 0.06
+    if ft.power is not None:
+        page.table(ft.power, body - 0.5)
+    else:
+        page.para("Power check", body + 0.5, bold=True, gap=0.0)
+    for s in ft.power_lines:
+        page.para(s, body - 0.5, gap=0.0, bold=s.startswith(("WARNING", "CAUTION")))
+    page.y += 0.06
+    page.para("Trimming steps", body + 0.5, bold=True, gap=0.0)
+    for s in ft.trim_steps:
+        page.para(s, body - 0.5, gap=0.0)
+
+
+def _tag_pages(new_page: Callable[[], _Page], tags: Sequence[Tag], per_page: int) -> list[_Page]:
+    pages = []
+    for start in range(0, max(len(tags), 1), per_page):
+        p = new_page()
+        pages.append(p)
+        p.heading("Cut labels" + (" (continued)" if start else ""), 13.0)
+        p.para("Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable "
+               "next to the connector.", 8.0)
+        p.y += 0.05
+        chunk = tags[start:start + per_page]
+        if not chunk:
+            p.para("No stubs to cut.", 9.0)
+        for k, tag in enumerate(chunk):
+            col, row = k % 2, k // 2
+            x = p.x0 + col * (_TAG_W_IN + 0.2)
+            y = p.y + row * (_TAG_H_IN + 0.12)
+            p.rect(x, y, _TAG_W_IN, _TAG_H_IN, lw=0.8, linestyle=(0, (5, 3)))
+            yy = y + 0.1
+            for i, line in enumerate(tag.lines):
+                size = 11.0 if i in (0, 2) else 8.5
+                p.put(x + 0.12, yy, line, size, fontweight="bold" if i in (0, 2) else "normal")
+                yy += _pt_in(size) * 1.35
+    return pages
+
+
+def _cautions(page: _Page, pt: PlanText) -> None:
+    page.heading("Cautions", 14.0)
+    page.boxed(["Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs "
+                "or transmits."], 10.0)
+    for head, text in pt.cautions:
+        page.para(head, 10.0, bold=True, gap=0.0)
+        page.para(text, 9.0, gap=0.12)
+
+
+def _footer(page: _Page, left: str, k: int, n: int) -> None:
+    y = page.h - MARGIN_IN + 0.05
+    page.hline(y - 0.05, lw=0.4)
+    page.put(page.x0, y, left, 6.5)
+    page.put(page.x0 + page.width, y, f"page {k} of {n}", 6.5, ha="right")
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PdfLayout:
+    """How many pages each section took."""
+
+    cover: int
+    threats: int
+    filters: int
+    labels: int
+    cautions: int
+
+    @property
+    def total(self) -> int:
+        return self.cover + self.threats + self.filters + self.labels + self.cautions
+
+
+_FIT_STEPS = ((8.0, 1.85, 2.9), (7.5, 1.75, 2.7), (7.0, 1.65, 2.5), (6.5, 1.55, 2.3), (6.0, 1.45, 2.15),
+              (5.5, 1.35, 2.0), (5.0, 1.25, 1.85))
+
+
+def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans: Any,
+                filt: Any, font: PdfFont) -> tuple[float, float, float]:
+    """The largest body size at which the filter's page fits on one page."""
+    for step in _FIT_STEPS:
+        dry = _Page(size_in, dry=True, font=font)
+        _filter_page(dry, ft, curve, spans, filt, *step)
+        if dry.y <= dry.bottom:
+            return step
+    return _FIT_STEPS[-1]
+
+
+def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
+               footer: str = "") -> tuple[bytes, PdfLayout]:
+    """Render the plan to PDF bytes.
+
+    Parameters
+    ----------
+    pt : PlanText
+        Every row to print (:func:`notchkit.report.text.plan_text`).
+    filter_parts : sequence of (filter, CurveData, (pass spans, notch spans))
+        One per filter, in the order of ``pt.filters``.
+    page_size : {"a4", "letter"}
+    footer : str
+        Left footer text of every page.
+
+    Returns
+    -------
+    bytes, PdfLayout
+    """
+    import logging
+
+    import matplotlib
+    from matplotlib.backends.backend_pdf import PdfPages
+
+    size_in = page_size_in(page_size)
+    font = choose_font(_strings(pt) + [footer])
+    fm_log = logging.getLogger("matplotlib.font_manager")
+    level = fm_log.level
+    fm_log.setLevel(logging.ERROR)  # "Helvetica: using medium" notes on every font lookup
+    try:
+        data, layout = _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfPages)
+    finally:
+        fm_log.setLevel(level)
+    return data, layout
+
+
+def _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfPages):
+    with matplotlib.rc_context(font.rc):
+        pages: list[_Page] = []
+
+        def new_page() -> _Page:
+            return _Page(size_in, font=font)
+
+        cover = new_page()
+        _cover(cover, pt)
+        pages.append(cover)
+        threat_pages = _threat_pages(new_page, pt)
+        pages += threat_pages
+        for ft, (filt, curve, spans) in zip(pt.filters, filter_parts, strict=True):
+            step = _fit_filter(size_in, ft, curve, spans, filt, font)
+            p = new_page()
+            _filter_page(p, ft, curve, spans, filt, *step)
+            pages.append(p)
+        tag_pages = _tag_pages(new_page, pt.tags, tags_per_page(page_size))
+        pages += tag_pages
+        caut = new_page()
+        _cautions(caut, pt)
+        pages.append(caut)
+        n = len(pages)
+        buf = io.BytesIO()
+        with PdfPages(buf, metadata={"Title": pt.title, "Creator": footer or "notchkit"}) as pdf:
+            for k, p in enumerate(pages, start=1):
+                _footer(p, footer or pt.title, k, n)
+                pdf.savefig(p.fig)
+    layout = PdfLayout(cover=1, threats=len(threat_pages), filters=len(pt.filters), labels=len(tag_pages),
+                       cautions=1)
+    return buf.getvalue(), layout
+
+
+def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *,
+              page_size: str = "a4", footer: str = "") -> tuple[Path, PdfLayout]:
+    """Render with :func:`render_pdf` and write the file atomically."""
+    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer)
+    return write_bytes_atomic(path, data), layout
+
+
+def expected_label_pages(n_stubs: int, page_size: str) -> int:
+    """Pages the cut labels take for ``n_stubs`` stubs (one page even with none)."""
+    return max(1, math.ceil(n_stubs / tags_per_page(page_size)))

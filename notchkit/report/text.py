@@ -1,0 +1,506 @@
+"""Every row of text the printed plan shows, built once from the result objects.
+
+The PDF, the HTML page and the terminal summary all print these rows, so a
+number appears in one spelling everywhere and is never typed twice. Nothing
+here computes physics: it formats :class:`notchkit.survey.SurveyResult`,
+the design report's designs (their filter, cut list, tolerance and power
+check) and the site.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from notchkit.cutlist import format_length
+from notchkit.tolerance import element_ids
+
+NOT_MET = "NOT MET"
+MET = "met"
+DASH = "-"
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Table:
+    """A table to print: header, rows of strings, alignment and relative widths per column."""
+
+    title: str
+    header: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    align: tuple[str, ...]
+    """``"left"`` or ``"right"`` per column."""
+    widths: tuple[float, ...]
+    """Relative column widths (the PDF scales them to the text width)."""
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        n = len(self.header)
+        if len(self.align) != n or len(self.widths) != n or any(len(r) != n for r in self.rows):
+            raise ValueError(f"table {self.title!r}: every row needs {n} cells")
+
+    def chunk(self, start: int, stop: int, title: str | None = None) -> Table:
+        return Table(title=self.title if title is None else title, header=self.header,
+                     rows=self.rows[start:stop], align=self.align, widths=self.widths, note=self.note)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Tag:
+    """One cut label: a few lines to print on a tag taped to the stub's cable."""
+
+    stub_id: str
+    lines: tuple[str, ...]
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class FilterText:
+    """Everything printed on one filter's page."""
+
+    filter_id: str
+    title: str
+    meets: bool
+    verdict: str
+    facts: tuple[str, ...]
+    requirements: Table
+    cuts: Table
+    tolerance: tuple[str, ...]
+    power: Table | None
+    power_lines: tuple[str, ...]
+    trim_steps: tuple[str, ...]
+    stub_labels: tuple[str, ...]
+    line_labels: tuple[str, ...]
+    cable_label: str
+    radio_label: str
+    antenna_label: str
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PlanText:
+    """All text of a plan, section by section."""
+
+    site_name: str
+    title: str
+    cover_facts: tuple[tuple[str, str], ...]
+    unmet: tuple[str, ...]
+    summary: tuple[str, ...]
+    filters_table: Table
+    matrix: Table
+    threats: Table
+    filters: tuple[FilterText, ...]
+    tags: tuple[Tag, ...]
+    cautions: tuple[tuple[str, str], ...]
+    meets: bool
+
+
+CAUTIONS = (
+    ("RF exposure",
+     "Keep people out of the antennas' near field while transmitting and check the station against the "
+     "RF exposure limits that apply where you operate. Never adjust, touch or measure a stub, tee or "
+     "feedline while any transmitter on the site can key up: lock out the transmitters first."),
+    ("High voltage at open stub ends",
+     "At high power the open end of a stub, and points a quarter wave from a shorted end, carry the "
+     "highest voltage of the filter: hundreds to thousands of volts peak. The power check on each filter "
+     "page gives the figure. Insulate and seal every open end, keep stubs out of reach, and use cable and "
+     "connectors rated for the voltage. RF burns are deep and slow to heal."),
+    ("Lightning and static (DC grounding)",
+     "A shorted stub gives the feedline a DC path to ground; an open stub does not. Either way, bond the "
+     "coax shields and the filter's tees to the station's single-point ground, fit lightning protection "
+     "where the feedline enters the building, and do not rely on a stub as a lightning arrester. A shorted "
+     "stub also shorts any DC sent up the coax (masthead preamplifiers, remote switches)."),
+    ("Working at height",
+     "Tower and roof work needs a trained climber, fall protection and a ground crew. Mount filters at "
+     "ground level where possible. Keep clear of power lines."),
+    ("Local codes and licensed practice",
+     "This plan is an engineering aid, not a certification. Follow your local electrical and building "
+     "codes, your licence conditions and licensed practice; where they differ from this plan, they win. "
+     "Measure every stub on an analyser before it goes into service."),
+)
+
+
+# ---------------------------------------------------------------- numbers
+
+
+def mhz(x: float) -> str:
+    """A frequency in MHz to 1 Hz resolution, trailing zeros dropped (``146.52``, ``155.475``)."""
+    s = f"{float(x):.6f}".rstrip("0").rstrip(".")
+    return s if s not in ("", "-0") else "0"
+
+
+def band_text(lo: float, hi: float) -> str:
+    return f"{mhz(lo)}-{mhz(hi)} MHz" if abs(hi - lo) > 1e-9 else f"{mhz(lo)} MHz"
+
+
+def db(x: float | None, digits: int = 1) -> str:
+    return DASH if x is None else f"{float(x):.{digits}f}"
+
+
+def pct(p: float) -> str:
+    return f"{100.0 * float(p):.1f} %"
+
+
+def volts(v: float) -> str:
+    return f"{v / 1000.0:.2f} kV" if abs(v) >= 1000.0 else f"{v:.0f} V"
+
+
+# ---------------------------------------------------------------- designs (read, never computed)
+
+
+def design_id(d: Any) -> str:
+    return str(getattr(d, "id", None) or getattr(d, "filter_id", "F?"))
+
+
+def design_filter(d: Any):
+    sol = getattr(d, "solution", None)
+    filt = getattr(sol, "filter", None) if sol is not None else None
+    return filt if filt is not None else getattr(d, "filter", None)
+
+
+def design_meets(d: Any) -> bool:
+    sol = getattr(d, "solution", None)
+    if hasattr(d, "meets"):
+        return bool(d.meets)
+    return bool(getattr(sol, "meets", False))
+
+
+def design_cable_name(d: Any) -> str:
+    cab = getattr(d, "cable", None)
+    if cab is None:
+        filt = design_filter(d)
+        cab = getattr(filt, "cable", None)
+    return str(getattr(cab, "name", cab) or getattr(d.requirement, "cable", ""))
+
+
+def _location(req: Any) -> str:
+    if getattr(req, "radio", None):
+        side = {"rx": "receiver input", "tx": "transmitter output"}.get(req.side, str(req.side))
+        return f"{req.radio} ({side})"
+    return "ad-hoc design"
+
+
+def design_title(d: Any) -> str:
+    req = d.requirement
+    if getattr(req, "radio", None):
+        return f"{design_id(d)}: {req.side} filter at {req.radio}"
+    return f"{design_id(d)}: filter"
+
+
+# ---------------------------------------------------------------- survey
+
+
+def matrix_table(sv: Any) -> Table:
+    """Transmitter (rows) x receiver (columns): worst excess in dB; ``-`` where nothing reaches."""
+    m = sv.matrix()
+    rows = []
+    for tx, row in zip(m.transmitters, m.excess_db, strict=True):
+        rows.append((tx, *[DASH if v is None else f"{v:+.1f}" for v in row]))
+    n = len(m.receivers)
+    return Table(
+        title="Worst excess over the receiver's limit, dB (transmitter row -> receiver column)",
+        header=("TX \\ RX", *m.receivers), rows=tuple(rows),
+        align=("left",) + ("right",) * n, widths=(1.6,) + (1.0,) * n,
+        note="Positive: the receiver is hit by that much over its limit without filters. "
+             "'-': the radio itself, or no path evaluated.",
+    )
+
+
+def threat_where(t: Any) -> str:
+    """Where a stub helps: the filter locations the threat feeds, or the remedy when none."""
+    locs = [f"{r} {s}" for r, s in t.filters]
+    if locs:
+        return ", ".join(locs)
+    return t.remedy if t.remedy.lower().startswith("no stub") else f"no stub: {t.remedy}"
+
+
+def threat_table(sv: Any) -> Table:
+    rows = []
+    for i, t in enumerate(sv.threats, start=1):
+        source = t.product if t.mechanism == "intermod" else ", ".join(t.sources)
+        rows.append((
+            str(i), source, t.victim, t.mechanism, str(t.order), mhz(t.f_mhz),
+            db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), threat_where(t),
+        ))
+    return Table(
+        title="Threats, worst first",
+        header=("#", "Source", "Victim", "Mechanism", "Order", "Freq (MHz)", "Level (dBm)",
+                "Limit (dBm)", "Excess (dB)", "Stub helps at"),
+        rows=tuple(rows),
+        align=("right", "left", "left", "left", "right", "right", "right", "right", "right", "left"),
+        widths=(0.35, 1.7, 1.1, 1.0, 0.65, 0.9, 0.75, 0.75, 0.75, 2.6),
+        note="Level at the victim's receiver input; limit is its threshold; excess = level - limit. "
+             "For intermodulation the source is the product that lands in the receiver.",
+    )
+
+
+# ---------------------------------------------------------------- one filter
+
+
+def requirement_table(d: Any) -> Table:
+    """Each band the filter must pass or notch, what it must do and what the design gives.
+
+    The figures are the solver's dense verification sweep (``solution.notches`` /
+    ``solution.passes``) when present, else the tolerance run's nominal figures.
+    """
+    req = d.requirement
+    sol = getattr(d, "solution", None)
+    tol = getattr(d, "tolerance", None)
+    sol_n = list(getattr(sol, "notches", ()) or ())
+    sol_p = list(getattr(sol, "passes", ()) or ())
+    tol_n = list(getattr(tol, "notches", ()) or ())
+    tol_p = list(getattr(tol, "passes", ()) or ())
+    reasons = list(getattr(req, "reasons", ()) or ())
+    rows = []
+    for k, n in enumerate(req.notches):
+        if k < len(sol_n):
+            got, ok = sol_n[k].worst_attenuation_db, sol_n[k].meets
+        elif k < len(tol_n):
+            got = tol_n[k].nominal_worst_db
+            ok = got >= n.required_db
+        else:
+            got = ok = None
+        why = reasons[k] if k < len(reasons) else ""
+        rows.append(("notch", band_text(n.lo_mhz, n.hi_mhz), f">= {n.required_db:.1f} dB",
+                     DASH if got is None else f"{got:.1f} dB",
+                     DASH if ok is None else (MET if ok else NOT_MET), _short(why, 70)))
+    for k, b in enumerate(req.pass_bands):
+        if k < len(sol_p):
+            r = sol_p[k]
+            il, swr, il_max, swr_max, ok = (r.worst_insertion_loss_db, r.worst_swr, r.max_insertion_loss_db,
+                                            r.max_swr, r.meets)
+        elif k < len(tol_p):
+            r = tol_p[k]
+            il, swr, il_max, swr_max = (r.nominal_worst_insertion_loss_db, r.nominal_worst_swr,
+                                        r.max_insertion_loss_db, r.max_swr)
+            ok = il <= il_max and swr <= swr_max
+        else:
+            rows.append(("pass", band_text(b.lo_mhz, b.hi_mhz), DASH, DASH, DASH, "wanted signal"))
+            continue
+        rows.append(("pass", band_text(b.lo_mhz, b.hi_mhz), f"IL <= {il_max:.2f} dB, SWR <= {swr_max:.2f}",
+                     f"IL {il:.2f} dB, SWR {swr:.2f}", MET if ok else NOT_MET, "wanted signal"))
+    return Table(
+        title="Requirements (worst case across each band, lossy cable model)",
+        header=("Band", "Range", "Required", "Design gives", "Result", "Why"),
+        rows=tuple(rows), align=("left", "left", "left", "left", "left", "left"),
+        widths=(0.55, 1.55, 1.45, 1.45, 0.7, 2.7),
+    )
+
+
+def _short(s: str, n: int) -> str:
+    return s if len(s) <= n else s[: n - 3].rstrip() + "..."
+
+
+def cut_table(d: Any, units: str = "both") -> Table:
+    """Stub, cable, termination, cut length, first cut, trim rate, target resonance."""
+    cable = design_cable_name(d)
+    header: list[str] = ["Stub", "Cable", "End"]
+    align: list[str] = ["left", "left", "left"]
+    widths: list[float] = [0.8, 0.8, 0.55]
+    if units in ("metric", "both"):
+        header += ["Cut (mm)"]
+        align += ["right"]
+        widths += [0.75]
+    if units in ("imperial", "both"):
+        header += ["Cut (in)"]
+        align += ["right"]
+        widths += [0.95]
+    header += ["First cut", "Trim (mm/MHz)", "Resonance (MHz)", "Tee"]
+    align += ["right", "right", "right", "right"]
+    widths += [1.7 if units == "both" else 0.9, 0.9, 1.0, 0.4]
+    rows = []
+    for c in d.cuts:
+        row = [c.stub_id, cable, c.termination]
+        if units in ("metric", "both"):
+            row.append(format_length(c.cut_length_m, "metric").removesuffix(" mm"))
+        if units in ("imperial", "both"):
+            row.append(format_length(c.cut_length_m, "imperial").removesuffix(" in"))
+        row += [format_length(c.first_cut_m, units), f"{c.trim_rate_mm_per_mhz:.1f}",
+                mhz(round(c.resonance_mhz, 4)), str(c.tee)]
+        rows.append(tuple(row))
+    return Table(
+        title="Cut list (cut length: connector reference to end; tee allowance already taken off)",
+        header=tuple(header), rows=tuple(rows), align=tuple(align), widths=tuple(widths),
+    )
+
+
+def tolerance_lines(d: Any) -> tuple[str, ...]:
+    t = getattr(d, "tolerance", None)
+    if t is None:
+        return ("Tolerance: not computed for this filter.",)
+    out = [
+        f"Probability of meeting every requirement: {pct(t.probability_all)} of {t.samples} simulated builds "
+        f"(every piece cut within +-{t.cut_tolerance_mm:g} mm, {t.cut_distribution}; velocity factor "
+        f"{t.vf_nominal:g} +-{t.vf_spread:g}; seed {t.seed})."
+    ]
+    for n in t.notches:
+        top = max(n.sensitivity, key=lambda s: abs(s.db_per_mm), default=None)
+        sens = f"; most sensitive {top.element_id} {top.db_per_mm:+.2f} dB/mm" if top else ""
+        out.append(f"Notch {band_text(n.lo_mhz, n.hi_mhz)}: {pct(n.probability)} meet >= "
+                   f"{n.required_db:.1f} dB (95 % of builds give >= {n.p05_worst_db:.1f} dB{sens}).")
+    for p in t.passes:
+        out.append(f"Pass {band_text(p.lo_mhz, p.hi_mhz)}: {pct(p.probability)} within IL "
+                   f"{p.max_insertion_loss_db:.2f} dB and SWR {p.max_swr:.2f}.")
+    return tuple(out)
+
+
+def power_table(d: Any) -> Table | None:
+    pw = getattr(d, "power", None)
+    if pw is None:
+        return None
+    rating = DASH if pw.rating_peak_v is None else f"{pw.rating_peak_v:.0f}"
+    rows = []
+    for s in pw.stubs:
+        vm = DASH if s.voltage_margin is None else f"{s.voltage_margin:.1f}x"
+        rows.append((s.stub_id, s.termination, f"{s.max_voltage_peak_v:.0f}", f"{s.end_voltage_peak_v:.0f}",
+                     f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}", rating, vm))
+    return Table(
+        title=f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz (peak values; matched antenna side)",
+        header=("Stub", "End", "Max V (pk)", "End V (pk)", "Max I (A pk)", "Heat (W)", "Rating (V pk)",
+                "V margin"),
+        rows=tuple(rows), align=("left", "left") + ("right",) * 6,
+        widths=(0.8, 0.55, 0.85, 0.85, 0.9, 0.75, 0.95, 0.75),
+    )
+
+
+def power_lines(d: Any) -> tuple[str, ...]:
+    pw = getattr(d, "power", None)
+    if pw is None:
+        req = d.requirement
+        return (f"Power check: no transmitter's carrier flows through this filter "
+                f"({_location(req)}); stub voltages stay at receive levels.",)
+    out = [f"Delivered {pw.delivered_w:.1f} W, to the antenna side {pw.output_w:.1f} W, "
+           f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
+    out += [f"WARNING: {w}" for w in pw.warnings]
+    out += list(pw.cautions)
+    out += list(pw.notes)
+    return tuple(out)
+
+
+def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tuple[str, ...]:
+    steps = [
+        "1. Cut each stub to its FIRST CUT length (longer than the final length on purpose) and fit its "
+        "connector; finish the end as listed (open: square and sealed; short: braid to centre, "
+        "shortest joint).",
+        "2. Connect the stub alone to the analyser through the tee it will use; find its resonance "
+        "(the dip of the notch, or where the impedance at the tee is lowest).",
+        "3. The resonance reads low because the stub is long: trim by the trim rate (mm per MHz of "
+        "error) in small steps, re-measuring each time; stop at the target resonance. Never trim past it.",
+        "4. Or save the analyser sweep of the stub (Touchstone .s1p at the stub's input) and let notchkit "
+        "say how much to cut:",
+    ]
+    cable = design_cable_name(d)
+    for c in d.cuts:
+        steps.append(f"   notchkit trim SWEEP-{c.stub_id}.s1p --cable {cable} --plan {plan_json} "
+                     f"--stub {c.stub_id}   (target {mhz(round(c.resonance_mhz, 4))} MHz, "
+                     f"{c.trim_rate_mm_per_mhz:.1f} mm/MHz)")
+    steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use.")
+    return tuple(steps)
+
+
+def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> FilterText:
+    filt = design_filter(d)
+    meets = design_meets(d)
+    req = d.requirement
+    ids = element_ids(filt, design_id(d))
+    stub_ids = [c.stub_id for c in d.cuts]
+    stub_labels = []
+    for c in d.cuts:
+        if units == "both":
+            length = (f"{format_length(c.cut_length_m, 'metric')}\n"
+                      f"{format_length(c.cut_length_m, 'imperial')}")
+        else:
+            length = format_length(c.cut_length_m, units)
+        stub_labels.append(f"{c.stub_id} {c.termination}\n{length}")
+    line_labels = [f"{i}: {format_length(e.length_m, units)}"
+                   for i, e in zip(ids, filt.elements, strict=True) if e.kind == "line"]
+    cable = getattr(filt, "cable", None)
+    vf = getattr(cable, "velocity_factor", None)
+    cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
+    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, 'metric')} per stub "
+                    "(drawing not to scale)")
+    facts = [f"Location: {_location(req)}.",
+             f"{len(stub_ids)} stub(s) on {len(filt.tees())} tee(s); "
+             f"cable used {format_length(filt.total_cable_m, units)}."]
+    advice = getattr(getattr(d, "solution", None), "advice", None) or getattr(d, "advice", None) or ()
+    if isinstance(advice, str):
+        advice = (advice,)
+    facts += [str(a) for a in advice]
+    is_tx = getattr(req, "side", None) == "tx"
+    return FilterText(
+        filter_id=design_id(d), title=design_title(d), meets=meets,
+        verdict=("Meets every requirement." if meets else
+                 f"{NOT_MET}: this filter does not meet every requirement (see the table below)."),
+        facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
+        tolerance=tolerance_lines(d), power=power_table(d), power_lines=power_lines(d),
+        trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
+        line_labels=tuple(line_labels), cable_label=cable_label,
+        radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
+        antenna_label="ANTENNA",
+    )
+
+
+# ---------------------------------------------------------------- labels
+
+
+def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
+    out = []
+    for d in designs:
+        cable = design_cable_name(d)
+        req = d.requirement
+        where = f"{req.side} {req.radio}" if getattr(req, "radio", None) else ""
+        for c in d.cuts:
+            out.append(Tag(stub_id=c.stub_id, lines=(
+                f"{c.stub_id}   {design_id(d)} {where}".rstrip(),
+                f"{cable}, {c.termination} end, tee {c.tee}",
+                f"CUT {format_length(c.cut_length_m, units)}",
+                f"first cut {format_length(c.first_cut_m, units)}",
+                f"target resonance {mhz(round(c.resonance_mhz, 4))} MHz",
+            )))
+    return tuple(out)
+
+
+# ---------------------------------------------------------------- the whole plan
+
+
+def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version: str,
+              units: str = "both", plan_json: str = "PLAN.json") -> PlanText:
+    """Build every row of the plan from the site, the survey and the designs."""
+    designs = list(designs)
+    ftexts = tuple(filter_text(d, units, plan_json) for d in designs)
+    unmet = tuple(f"{NOT_MET}: {f.title}" for f in ftexts if not f.meets)
+    n_tx, n_rx = len(site.transmitters), len(site.receivers)
+    threats = list(sv.threats)
+    over = [t for t in threats if t.excess_db > 0]
+    worst = max((t.excess_db for t in threats), default=None)
+    n_stubs = sum(len(d.cuts) for d in designs)
+    facts = (
+        ("Site", site.name),
+        ("Site file", str(site.path) or DASH),
+        ("Date", date),
+        ("Tool", f"notchkit {version}"),
+        ("Radios", f"{len(site.radios)} ({n_tx} transmit, {n_rx} receive)"),
+        ("Threats found", f"{len(threats)} ({len(over)} over the limit"
+                          + (f", worst {worst:+.1f} dB)" if worst is not None else ")")),
+        ("Filters designed", f"{len(designs)} with {n_stubs} stubs; "
+                             f"{sum(f.meets for f in ftexts)} meet every requirement, "
+                             f"{len(unmet)} {NOT_MET}"),
+        ("Lengths in", {"both": "millimetres and inches", "metric": "millimetres",
+                        "imperial": "inches"}[units]),
+    )
+    rows = []
+    for d, f in zip(designs, ftexts, strict=True):
+        req = d.requirement
+        rows.append((f.filter_id, _location(req), str(len(d.cuts)), str(len(req.notches)),
+                     str(len(req.pass_bands)), MET if f.meets else NOT_MET))
+    filters_table = Table(title="Filters", header=("Filter", "Location", "Stubs", "Notches", "Pass bands",
+                                                   "Result"),
+                          rows=tuple(rows), align=("left", "left", "right", "right", "right", "left"),
+                          widths=(0.6, 2.6, 0.6, 0.7, 0.8, 0.9))
+    summary = (
+        f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
+        f"{n_stubs} stubs; " + ("every filter meets its requirements." if not unmet
+                                else f"{len(unmet)} filter(s) {NOT_MET}."),
+    )
+    return PlanText(
+        site_name=site.name, title=f"Site notch plan: {site.name}", cover_facts=facts, unmet=unmet,
+        summary=summary, filters_table=filters_table, matrix=matrix_table(sv), threats=threat_table(sv),
+        filters=ftexts, tags=tags(designs, units), cautions=CAUTIONS, meets=not unmet,
+    )
