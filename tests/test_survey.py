@@ -315,8 +315,9 @@ def test_rx_side_notch_for_fundamental_and_pass_bands():
     )
     res = survey(s)
     (f,) = find(res, "fundamental", "U")
-    assert f.excess_db > 0 and f.filters == (("U", "rx"),)
-    req = next(r for r in res.filters if (r.radio, r.side) == ("U", "rx"))
+    # U is a transceiver: its one filter (at the radio port, labelled tx) takes the rx-side notch
+    assert f.excess_db > 0 and f.filters == (("U", "tx"),)
+    req = next(r for r in res.filters if (r.radio, r.side) == ("U", "tx"))
     # pass band: the transceiver's tx/rx 446.0 widened by 8 kHz each side (one band, merged)
     assert [x for b in req.pass_bands for x in (b.lo_mhz, b.hi_mhz)] == pytest.approx([445.992, 446.008])
     assert req.cable == "RG-58" and req.power_w == 5

@@ -152,6 +152,11 @@ class _Ctx:
         clash = self.clash(radio, lo, hi)
         if clash is not None:
             return None, clash
+        r = self.sa.site.radios[radio]
+        if r.tx is not None and r.rx is not None:
+            # A transceiver has one feedline, so one filter at its radio port carries
+            # both its transmit- and receive-side notches; "tx" because its power flows through.
+            side = "tx"
         entry = self._feeds.get((radio, side, lo, hi))
         if entry is None:
             self._feeds[(radio, side, lo, hi)] = [required, {reason: None}]
