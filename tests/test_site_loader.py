@@ -307,8 +307,8 @@ def test_alias_bomb_is_refused_quickly(write):
     got = problems(write("\n".join(lines) + "\n"))
     assert time.perf_counter() - t0 < 5.0
     assert got == [
-        "site.yaml:2:8: more than 100000 values counting repeats through aliases (a site file "
-        "has a few hundred; use fewer or no aliases)"
+        "site.yaml:2:8: more than 100000 values, counting each repeat through an alias (a site "
+        "file has a few hundred; use fewer or no aliases)"
     ]
 
 
@@ -522,3 +522,19 @@ def test_problem_cap(write):
     assert len(got) == L.MAX_PROBLEMS + 1
     assert got[-1] == "site.yaml:0:0: 7 more problems not shown (fix these and run again)"
     assert got[0].startswith("site.yaml:4:15: receivers[0].freq_mhz: -1 must be greater than 0")
+
+
+@pytest.mark.parametrize("name", ["hilltop-repeaters.yaml", "field-day-hf.yaml"])
+def test_libyaml_and_pure_python_paths_give_the_same_site(name, monkeypatch):
+    fast = load_site(SITES / name)
+    monkeypatch.setattr(L.yaml, "__with_libyaml__", False)
+    assert load_site(SITES / name) == fast
+
+
+def test_libyaml_and_pure_python_paths_give_the_same_problems(write, monkeypatch):
+    text = GOOD.replace("power_w: 50", 'power_w: "50"').replace("freq_mhz: 446.0", "freq_mhz: 1e12")
+    path = write(text)
+    fast = problems(path)
+    monkeypatch.setattr(L.yaml, "__with_libyaml__", False)
+    assert problems(path) == fast
+    assert len(fast) == 2

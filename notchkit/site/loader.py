@@ -481,7 +481,34 @@ def _too_big(size: int) -> str:
     )
 
 
+class _UseSlow(Exception):
+    pass
+
+
 def _compose(path: str, text: str) -> yaml.Node | None:
+    """The node tree, with libyaml's speed where it is installed.
+
+    libyaml's composer recurses in C, so its event stream (which does not) is
+    first checked for depth. Any trouble on that path goes to PyYAML's own
+    loader, whose positions and wording every problem line uses.
+    """
+    if getattr(yaml, "__with_libyaml__", False):
+        try:
+            depth = 0
+            for event in yaml.parse(text, Loader=yaml.CSafeLoader):
+                if isinstance(event, yaml.CollectionStartEvent):
+                    depth += 1
+                    if depth >= MAX_DEPTH:
+                        raise _UseSlow
+                elif isinstance(event, yaml.CollectionEndEvent):
+                    depth -= 1
+            return yaml.compose(text, Loader=yaml.CSafeLoader)
+        except (yaml.YAMLError, _UseSlow):
+            pass
+    return _compose_slow(path, text)
+
+
+def _compose_slow(path: str, text: str) -> yaml.Node | None:
     try:
         return yaml.compose(text, Loader=_Loader)
     except _TooDeep as exc:
@@ -582,7 +609,7 @@ def _shown(node: yaml.ScalarNode) -> str:
     text = node.value if len(node.value) <= 40 else node.value[:37] + "..."
     if node.tag != _STR:
         return text
-    if node.style is None and _looks_numeric(node.value):
+    if not node.style and _looks_numeric(node.value):
         return text
     return repr(text)
 
@@ -632,7 +659,7 @@ class _Reader:
                 self.add(
                     node,
                     "",
-                    f"more than {MAX_NODES} values counting repeats through aliases "
+                    f"more than {MAX_NODES} values, counting each repeat through an alias "
                     "(a site file has a few hundred; use fewer or no aliases)",
                 )
                 raise _Stop
@@ -796,7 +823,7 @@ class _Reader:
                 value = _length_number(match.group(1))
                 if value is not None:
                     value *= _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
-            elif node.style is None:
+            elif not node.style:
                 try:  # plain 1e12 or nan: YAML 1.1 reads these as text; read them as numbers
                     value = float(node.value)
                 except ValueError:
