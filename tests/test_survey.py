@@ -585,3 +585,15 @@ def test_interval_arithmetic_bounds_every_point_product():
         top = np.abs(raw).max(axis=1)
         bottom = np.where(straddles, 0.0, np.abs(raw).min(axis=1))
         assert np.allclose(phi[:, c], top) and np.allclose(plo[:, c], bottom)
+
+
+def test_simplex_radio_is_no_victim_of_products_of_its_own_carrier():
+    # Worked example: 439.55 - 2 x 146.52 = 146.51 MHz, inside a 146.52 channel widened by
+    # 8 kHz each side (146.512-146.528). A simplex radio cannot receive while it sends: no threat.
+    simplex = site(radio("A", t=tx(146.52), r=rx(146.52)), radio("U", t=tx(439.55), x=20.0))
+    assert not [t for t in survey(simplex).threats if t.mechanism == "intermod" and t.victim == "A"]
+    # A duplex radio (tx 146.52, rx 146.40) does hear the product of its own carrier formed in
+    # the neighbour's output stage: 439.44 - 2 x 146.52 = 146.40 MHz.
+    duplex = site(radio("A", t=tx(146.52), r=rx(146.40)), radio("U", t=tx(439.44), x=20.0))
+    hits = [t for t in survey(duplex).threats if t.mechanism == "intermod" and t.victim == "A"]
+    assert hits and all(set(t.sources) == {"A", "U"} for t in hits)

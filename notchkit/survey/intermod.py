@@ -71,6 +71,15 @@ def intermod_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
         )
         ci, ki, ri = np.nonzero(hit)
         if ci.size:
+            # A simplex radio (transmit and receive bands overlap) does not receive while
+            # it transmits, so a product that needs its own carrier cannot reach its receiver.
+            vic = rx[ri]
+            member = (radios_c[ci] == vic[:, None]).any(axis=1)
+            with np.errstate(invalid="ignore"):
+                simplex = (sa.tx_lo[vic] <= sa.rx_hi[vic]) & (sa.rx_lo[vic] <= sa.tx_hi[vic])
+            keep = ~(member & simplex)
+            ci, ki, ri = ci[keep], ki[keep], ri[keep]
+        if ci.size:
             out += state.threats(
                 coeffs, radios_c[ci], ki, rx[ri], plo[ci, ki], phi[ci, ki],
                 olo[ci, ki, ri], ohi[ci, ki, ri],
