@@ -14,7 +14,7 @@ import time
 from pathlib import Path
 
 from notchkit.cables import get_cable
-from notchkit.design import design_one
+from notchkit.design import design_filter
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import load_site
 from notchkit.site.model import Allowances, Band, Limits
@@ -42,7 +42,7 @@ def _time(fn):
 def _row(label, req, cable, limits, allowances, fid):
     sol, wall_s, cpu_s = _time(lambda: solve(req, cable=cable, limits=limits,
                                              tee_allowance_m=allowances.tee_allowance_m))
-    d, wall_d, cpu_d = _time(lambda: design_one(req, cable=cable, limits=limits, allowances=allowances,
+    d, wall_d, cpu_d = _time(lambda: design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                                 filter_id=fid))
     print(f"{label[:44]:44s} {len(sol.filter.stubs):5d} {'yes' if sol.meets else 'no':>5s} "
           f"{wall_s:8.3f} {cpu_s:8.3f} {wall_d:8.3f} {cpu_d:8.3f} {wall_d / TARGET_S:7.2f}")

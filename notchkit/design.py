@@ -109,7 +109,7 @@ class DesignReport:
 # ---------------------------------------------------------------- design
 
 
-def design_one(
+def design_filter(
     req: FilterRequirement,
     *,
     cable: Any,
@@ -194,7 +194,7 @@ def design(site: Any, *, progress: Progress | None = None) -> DesignReport:
         fid = f"F{i}"
         say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
         cable = get_cable(req.cable, site.cables)
-        designs.append(design_one(req, cable=cable, limits=site.limits, allowances=site.allowances,
+        designs.append(design_filter(req, cable=cable, limits=site.limits, allowances=site.allowances,
                                   filter_id=fid, progress=say))
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
 
@@ -295,7 +295,7 @@ def design_request(
     cab = get_cable(cable) if isinstance(cable, str) else cable
     req = FilterRequirement(radio=None, side=None, pass_bands=bands, notches=specs,
                             cable=getattr(cab, "name", str(cable)), power_w=power_w, power_mhz=power_mhz)
-    d = design_one(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
+    d = design_filter(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
                    progress=progress)
     return DesignReport(site_name=None, survey=None, designs=(d,))
 
@@ -438,7 +438,7 @@ def _design_json(d: Design) -> dict[str, Any]:
 __all__ = [
     "design",
     "design_request",
-    "design_one",
+    "design_filter",
     "write_touchstones",
     "touchstone_sweep_hz",
     "touchstone_name",

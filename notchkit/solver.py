@@ -94,7 +94,7 @@ _SCAN_MAX = 6000
 _BEAM = 5
 _POOL_MAX = 16  # new-stub lengths per kind taken from the scan
 _REFINE_WINDOW = 8.0  # dB of penalty
-_REFINE_ITER = 40
+_REFINE_ITER = 30
 _REFINE_MAX = 4  # candidates refined per level (plus the shortest that meets on the scan grid)
 _FD_STEP = 1e-4  # radians at the highest frequency
 
@@ -242,7 +242,7 @@ class _Problem:
         self.stub_max = max(self.stub_min + 1e-3, min(self.cable_cap + self.tee, scan_top))
         self.line_max = max(MIN_LINE_M + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
         self.scan = self._grid(base=2, rel=0.01, cap=12)
-        self.fine = self._grid(base=3, rel=0.004, cap=31)
+        self.fine = self._grid(base=3, rel=0.004, cap=21)
         self.evaluated = 0
 
     def _grid(self, *, base: int, rel: float, cap: int) -> _Grid:
@@ -549,46 +549,67 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
 # ---------------------------------------------------------------- refinement
 
 
-def _refine(p: _Problem, cand: _Cand) -> _Cand:
-    """Local refinement of one candidate: a bounded pattern search on the fine grid.
+def _refine_group(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
+    """Local refinement of candidates of one topology: a bounded pattern search.
 
-    Each iteration evaluates, in one batched call, a step up and down every
-    length at two step sizes and the last successful move extended; the step
-    shrinks when nothing improves. Lengths are in radians at the highest band
-    frequency, so one step means the same phase for every element. (A pattern
-    search rather than a quasi-Newton method: it needs no linear algebra, whose
-    threaded BLAS slows everything down on a busy machine, and each step is one
-    batched evaluation.)
+    Each iteration evaluates, in one batched call for every candidate still
+    moving, a step up and down each length at two step sizes and the last
+    successful move extended; a candidate's step shrinks when none of its moves
+    improves it. Lengths are in radians at the highest band frequency, so a step
+    is the same phase for every element. Coarse steps use the scan grid, the
+    last ones the fine grid. (A pattern search rather than a quasi-Newton
+    method: it needs no linear algebra, whose threaded BLAS slows everything
+    down on a busy machine, and each step is one batched evaluation.)
     """
-    kinds = cand.kinds
+    kinds = cands[0].kinds
     lo, hi = p.bounds(kinds)
     s = p.scale
     lo_u, hi_u = lo / s, hi / s
     n = len(kinds)
     eye = np.eye(n)
-    x = np.clip(cand.lengths / s, lo_u, hi_u)
-    # coarse steps on the scan grid, the last ones on the fine grid
-    grid = p.scan
-    jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
-    step, last = 0.25, np.zeros(n)
-    for _ in range(_REFINE_ITER):
-        moves = np.vstack([eye * step, -eye * step, eye * (0.3 * step), -eye * (0.3 * step), last, 2 * last])
-        trial = np.clip(x[None, :] + moves, lo_u, hi_u)
-        j = p.objective(kinds, trial * s, grid)[0]
-        i = int(np.argmin(j))
-        if j[i] < jx - 1e-12:
-            last = trial[i] - x
-            x, jx = trial[i], float(j[i])
-        else:
-            step *= 0.35
-            last = np.zeros(n)
-            if step < 2e-4:
+    m = len(cands)
+    x = np.clip(np.array([c.lengths for c in cands]) / s, lo_u, hi_u)
+    step = np.full(m, 0.25)
+    last = np.zeros((m, n))
+    n_moves = 4 * n + 2
+    for grid, stop in ((p.scan, 0.02), (p.fine, 1e-3)):
+        jx = p.objective(kinds, x * s, grid)[0]
+        for _ in range(_REFINE_ITER):
+            active = np.flatnonzero(step >= stop)
+            if not active.size:
                 break
-            if grid is p.scan and step < 0.02:
-                grid = p.fine
-                jx = float(p.objective(kinds, x[None, :] * s, grid)[0][0])
-    j, viol, margin, _ = p.objective(kinds, x[None, :] * s, p.fine)
-    return _Cand(kinds, x * s, float(j[0]), float(viol[0]), float(margin[0]))
+            st = step[active][:, None, None]
+            unit = np.vstack([eye, -eye, 0.3 * eye, -0.3 * eye])[None, :, :]
+            prev = last[active][:, None, :]
+            moves = np.concatenate([unit * st, prev, 2 * prev], axis=1)
+            trial = np.clip(x[active][:, None, :] + moves, lo_u, hi_u)
+            j = p.objective(kinds, trial.reshape(-1, n) * s, grid)[0].reshape(active.size, n_moves)
+            best = np.argmin(j, axis=1)
+            jb = j[np.arange(active.size), best]
+            better = jb < jx[active] - 1e-3  # dB: smaller gains do not matter
+            for k, idx in enumerate(active):
+                if better[k]:
+                    new = trial[k, best[k]]
+                    last[idx] = new - x[idx]
+                    x[idx], jx[idx] = new, jb[k]
+                else:
+                    step[idx] *= 0.35
+                    last[idx] = 0.0
+    j, viol, margin, _ = p.objective(kinds, x * s, p.fine)
+    return [_Cand(kinds, x[i] * s, float(j[i]), float(viol[i]), float(margin[i])) for i in range(m)]
+
+
+def _refine_all(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
+    """Refine every candidate, batched by topology; the result keeps the input order."""
+    out: list[_Cand | None] = [None] * len(cands)
+    groups: dict[tuple[str, ...], list[int]] = {}
+    for i, c in enumerate(cands):
+        groups.setdefault(c.kinds, []).append(i)
+    for kinds in sorted(groups):
+        idx = groups[kinds]
+        for i, r in zip(idx, _refine_group(p, [cands[i] for i in idx]), strict=True):
+            out[i] = r
+    return [c for c in out if c is not None]
 
 
 def _polish(p: _Problem, cand: _Cand) -> _Cand:
@@ -814,6 +835,8 @@ def check_requirement(req: FilterRequirement) -> None:
     where = f"filter for {req.radio}" if req.radio else "design request"
     if not req.notches:
         raise DesignError(f"{where}: nothing to notch (give at least one notch band)")
+    if not req.pass_bands:
+        raise DesignError(f"{where}: no pass band (give at least one band the filter must let through)")
     for kind, lo, hi in ([("pass", b.lo_mhz, b.hi_mhz) for b in req.pass_bands]
                          + [("notch", n.lo_mhz, n.hi_mhz) for n in req.notches]):
         if not (math.isfinite(lo) and math.isfinite(hi) and lo > 0 and hi >= lo):
@@ -903,7 +926,7 @@ def solve(
         j_best = min((c.j for c in level), default=0.0)
         level = [c for c in level if c.j <= j_best + _REFINE_WINDOW]
         say(f"{n_stubs} stub(s): refining {len(level)} candidates")
-        refined = [_refine(p, c) for c in level]
+        refined = _refine_all(p, level)
         level = refined
         verified = [_verify(p, c, sweep, slices) for c in refined]
         found += verified

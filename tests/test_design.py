@@ -244,7 +244,8 @@ def test_cli_site_exit_code_follows_meets(tmp_path, capsys):
          "error: cable 'RG-999' is not a known"),
         (["--pass", "14.0-14.35", "--notch", "14.2-14.5"],
          "error: cannot pass and notch the same frequency: pass 14.0-14.35 overlaps notch 14.2-14.5 MHz"),
-        (["--pass", "14-14.35"], "at least one --notch"),
+        (["--pass", "14-14.35"], "at least one --pass LO-HI and one --notch"),
+        (["--notch", "14-14.35"], "at least one --pass LO-HI and one --notch"),
     ],
 )
 def test_cli_bad_input_is_one_line_exit_2(argv, message, capsys):

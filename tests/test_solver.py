@@ -222,6 +222,11 @@ def test_no_notch_is_refused():
         run(req([(14.0, 14.35)], []))
 
 
+def test_no_pass_band_is_refused():
+    with pytest.raises(DesignError, match="no pass band"):
+        run(req([], [(7.0, 7.3, 20.0)]))
+
+
 def test_bad_max_stubs_is_refused():
     with pytest.raises(DesignError, match="max_stubs 0 must be an integer >= 1"):
         run(req([(14.0, 14.35)], [(7.0, 7.3, 20.0)]), max_stubs=0)

@@ -99,8 +99,8 @@ def run(args) -> int:
 
         report = design(load_site(args.site), progress=progress)
     else:
-        if not args.notches:
-            raise UsageError("give SITE.yaml, or at least one --notch LO-HI[:DB] (with --pass bands)")
+        if not args.notches or not args.pass_bands:
+            raise UsageError("give SITE.yaml, or at least one --pass LO-HI and one --notch LO-HI[:DB]")
         if args.max_stubs is not None and not 1 <= args.max_stubs <= 8:
             raise UsageError(f"--max-stubs {args.max_stubs}: must be from 1 to 8")
         passes = [parse_band(t) for t in args.pass_bands]
