@@ -9,7 +9,7 @@ import pytest
 
 from notchkit.cli import main
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK
-from notchkit.site import check, load_site
+from notchkit.site import Site, check, load_site
 
 SITES = Path(__file__).resolve().parent.parent / "sites"
 
@@ -42,7 +42,14 @@ def test_summary_shows_frequencies_bands_and_powers(capsys):
 
 def test_check_is_load_site():
     path = SITES / "ridge-eoc.yaml"
-    assert check(path) == load_site(path)
+    assert check(path) == load_site(path) == Site.from_yaml(str(path))
+
+
+def test_summary_carries_the_safety_caution_with_the_highest_power(capsys):
+    assert main(["check", str(SITES / "field-day-hf.yaml")]) == EXIT_OK
+    out = capsys.readouterr().out
+    assert "Caution: transmitters up to 1000 W." in out
+    assert "follow local codes and licensed practice" in out
 
 
 def test_bad_file_prints_bare_lines_on_stderr_and_exits_2(tmp_path, monkeypatch, capsys):

@@ -63,6 +63,18 @@ def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> list[str]:
     return out
 
 
+def _caution(site: Site) -> list[str]:
+    """The usual cautions when the site has transmitters (empty otherwise)."""
+    powers = [r.tx.power_w for r in site.transmitters if r.tx]
+    if not powers:
+        return []
+    return [
+        f"Caution: transmitters up to {max(powers):g} W. Open stub ends and tees carry high RF voltage;",
+        "keep clear of antennas while transmitting; follow local codes and licensed practice.",
+        "",
+    ]
+
+
 def format_site(site: Site) -> str:
     """The human-readable summary that ``notchkit check`` prints."""
     lines = [f"Site: {site.name}", f"File: {site.path}", f"Default cable: {site.cable}", ""]
@@ -124,6 +136,7 @@ def format_site(site: Site) -> str:
         f"cut tolerance {al.cut_tolerance_mm:g} mm",
         f"Harmonics considered up to order {site.max_harmonic}",
         "",
+        *_caution(site),
         f"OK: {len(site.radios)} radios, no problems found",
     ]
     return "\n".join(lines)

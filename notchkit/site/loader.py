@@ -791,7 +791,8 @@ class _Reader:
     # -- scalars ----------------------------------------------------------
 
     def number(self, node: yaml.Node, num: Num | None, path: str) -> Any:
-        assert num is not None  # noqa: S101 - the declaration above, not user input
+        if num is None:  # pragma: no cover - a number field declared without its range
+            raise TypeError(f"{path}: number field declared without a Num")
         if self.tag_bad(node, path):
             return _BAD
         allowed = num.allowed()

@@ -187,6 +187,13 @@ class Site:
     max_harmonic: int = DEFAULT_MAX_HARMONIC
     path: str = ""
 
+    @classmethod
+    def from_yaml(cls, path: str) -> Site:
+        """Read a site file; the same as :func:`notchkit.site.load_site`."""
+        from notchkit.site.loader import load_site
+
+        return load_site(path)
+
     @property
     def transmitters(self) -> tuple[Radio, ...]:
         return tuple(r for r in self.radios if r.tx is not None)
