@@ -797,11 +797,12 @@ def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
                        f"{f / 1e6:g} MHz against {alt[2]:.1f} for {name} (a deeper notch)")
         if r.hi_mhz > r.lo_mhz:
             if r.met_lo_mhz is not None:
-                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz: {r.required_db:g} dB is reached "
-                           f"only over {r.met_lo_mhz:.3f}-{r.met_hi_mhz:.3f} MHz")
+                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz: {r.required_db:.1f} dB is "
+                           f"reached only over {r.met_lo_mhz:.3f}-{r.met_hi_mhz:.3f} MHz")
             else:
-                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz or relax its requirement: the "
-                           f"best reaches {r.worst_attenuation_db:.1f} dB of the {r.required_db:g} dB asked")
+                out.append(f"narrow the notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz or relax its requirement: "
+                           f"the best reaches {r.worst_attenuation_db:.1f} dB of the {r.required_db:.1f} dB "
+                           f"asked")
         else:
             out.append(f"relax the notch at {r.lo_mhz:g} MHz to {max(r.worst_attenuation_db, 0):.0f} dB or "
                        f"add isolation elsewhere (antenna spacing, a cavity filter)")
