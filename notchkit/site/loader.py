@@ -982,10 +982,13 @@ _RX_KEYS = ("bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db
 
 
 class _Builder:
-    def __init__(self, reader: _Reader, root: yaml.Node):
+    """Turns the walked sections into value objects and checks what crosses sections
+    (unique radio names, known cables, couplings between existing radios)."""
+
+    def __init__(self, reader: _Reader):
         self.r = reader
-        self.root = root
         self.names: dict[str, yaml.Node] = {}
+        self.known: dict[str, str] = {}
 
     def freq(self, d: dict, node: yaml.Node, path: str) -> tuple[m.Band | None, bool]:
         """The band from freq_mhz / band_mhz and whether either key was given.
@@ -1144,7 +1147,7 @@ class _Builder:
                 "transceivers)",
             )
         cables = self.cables(top)
-        self.resolve_cables(cables)
+        self.resolve_cables()
         couplings = self.couplings(top)
         if r.problems or "site" not in top:
             return None
@@ -1176,7 +1179,7 @@ class _Builder:
 
         out: list[m.CableDef] = []
         seen: dict[str, yaml.Node] = {}
-        self.known: dict[str, str] = {_fold(c.name): c.name for c in library()}
+        self.known = {_fold(c.name): c.name for c in library()}
         for d, _node, path in _val(top, "cables", []):
             if not all(k in d for k in ("name", "z0_ohm", "velocity_factor")):
                 continue
@@ -1201,8 +1204,8 @@ class _Builder:
             self.known[_fold(c.name)] = c.name
         return tuple(out)
 
-    def resolve_cables(self, cables: tuple[m.CableDef, ...]) -> None:
-        del cables  # already in self.known
+    def resolve_cables(self) -> None:
+        """Report every cable name that is neither in the library nor defined in the file."""
         for name, node, path in self.r.cable_refs:
             if _fold(name) in self.known:
                 continue
@@ -1325,7 +1328,7 @@ def load_site(path: str | os.PathLike[str]) -> m.Site:
     site = None
     try:
         reader.prepass(root)
-        site = _Builder(reader, root).build(root)
+        site = _Builder(reader).build(root)
     except _Stop:
         pass
     if reader.problems or site is None:
