@@ -179,10 +179,12 @@ def plan(
     else:
         _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
 
-    from notchkit.survey import survey
-
-    sv = survey(site)
     report = _run_design(site)
+    sv = getattr(report, "survey", None)
+    if sv is None:
+        from notchkit.survey import survey
+
+        sv = survey(site)
     designs = _designs(report)
     date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
     version = notchkit.__version__
@@ -212,6 +214,7 @@ def plan(
     files: list[Path] = []
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
     if outdir is not None:
+        from notchkit.design import touchstone_name, touchstone_sweep_hz
         from notchkit.filters import write_touchstone
         from notchkit.report.files import write_text_atomic
 
@@ -222,10 +225,13 @@ def plan(
             raise InputError(f"--outdir {str(folder)!r}: cannot create ({exc.strerror or exc})") from exc
         for d, (filt, curve, _sp), (_draw, curve_png) in zip(designs, parts, images, strict=True):
             fid = design_id(d)
-            files.append(write_bytes_atomic(folder / f"{fid}.png", curve_png))
-            files.append(write_curve_csv(curve, folder / f"{fid}.csv"))
-            files.append(write_touchstone(filt, curve.freq_mhz * 1e6, folder / f"{fid}.s2p",
-                                          comment=f"{fid} {site.name}, notchkit {version}"))
+            stem = touchstone_name(d).removesuffix(".s2p")
+            files.append(write_bytes_atomic(folder / f"{stem}.png", curve_png))
+            files.append(write_curve_csv(curve, folder / f"{stem}.csv"))
+            z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
+            files.append(write_touchstone(filt, touchstone_sweep_hz(d.requirement), folder / f"{stem}.s2p",
+                                          z_system=z_system,
+                                          comment=f"notchkit plan {fid}: {site.name}, notchkit {version}"))
         files.append(write_text_atomic(json_path, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
 
     return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,

@@ -1,0 +1,285 @@
+"""`notchkit plan`: the PDF, HTML, curves, Touchstone and JSON of a whole site.
+
+The site is designed once per module (the solver is the slow part); the other
+runs reuse that design report. Outside references:
+- pypdf (a PDF reader independent of the matplotlib writer) extracts the text;
+- scikit-rf reads the Touchstone files (Touchstone 1.1 specification);
+- ISO 216 (A4 = 210 x 297 mm) and ANSI/ASME Y14.1 (Letter = 8.5 x 11 in) give
+  the page sizes, 1 in = 25.4 mm = 72 PDF points (ISO 32000-1 sec. 8.3.2.3);
+- Pozar, *Microwave Engineering*, 4th ed., sec. 2.3: a stub of path l resonates
+  at f = n c VF / (4 l) (n odd open, even short), checked against the printed target.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import json
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import notchkit.plan as plan_mod
+from notchkit.cli import main
+from notchkit.cutlist import format_length
+from notchkit.filters import evaluate
+from notchkit.lines import C0, db20
+from notchkit.report.pdf import expected_label_pages
+from notchkit.report.text import mhz
+
+SITE = """\
+# A fictional two-radio knoll: a 2 m and a 70 cm transceiver on one mast.
+site: Test Knoll
+cable: RG-213
+transceivers:
+  - name: vhf-a
+    freq_mhz: 146.52
+    tx: {power_w: 50, harmonic_suppression_dbc: 60}
+    rx: {sensitivity_dbm: -120, blocking_dbm: -25}
+    antenna: {x_m: 0.0, y_m: 0.0, height_m: 10.0, gain_dbi: 3.0}
+    feedline: {cable: RG-213, length_m: 20}
+  - name: uhf-b
+    freq_mhz: 446.0
+    tx: {power_w: 25, harmonic_suppression_dbc: 60}
+    rx: {sensitivity_dbm: -121, blocking_dbm: -25}
+    antenna: {x_m: 3.0, y_m: 0.0, height_m: 10.0, gain_dbi: 3.0}
+    feedline: {cable: RG-213, length_m: 20}
+"""
+
+
+def _sha(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def _pdf_pages(path: Path) -> list[str]:
+    from pypdf import PdfReader
+
+    return [" ".join((p.extract_text() or "").split()) for p in PdfReader(str(path)).pages]
+
+
+@pytest.fixture(scope="module")
+def run(tmp_path_factory):
+    d = tmp_path_factory.mktemp("plan")
+    site = d / "knoll.yaml"
+    site.write_text(SITE)
+    before = _sha(site)
+    result = plan_mod.plan(site, d / "plan.pdf", html=d / "plan.html", outdir=d / "out")
+    return {"dir": d, "site": site, "hash": before, "result": result}
+
+
+@pytest.fixture
+def reuse_design(run, monkeypatch):
+    """Later runs reuse the module's design report (same site, same result)."""
+    report = run["result"].design
+    monkeypatch.setattr(plan_mod, "_run_design", lambda site: report)
+    return report
+
+
+def _cuts(result):
+    return [c for d in result.design.designs for c in d.cuts]
+
+
+def test_site_file_is_never_touched(run):
+    assert _sha(run["site"]) == run["hash"]
+
+
+def test_page_count_is_cover_threats_one_per_filter_labels_cautions(run):
+    res = run["result"]
+    pages = _pdf_pages(res.pdf)
+    n_filters = len(res.design.designs)
+    n_stubs = len(_cuts(res))
+    assert n_filters >= 1 and n_stubs >= 1
+    threat_pages = res.layout.threats
+    assert threat_pages >= 1
+    assert len(pages) == 1 + threat_pages + n_filters + expected_label_pages(n_stubs, "a4") + 1
+    assert res.pages == len(pages)
+    assert "Threats" in pages[1]
+    for k, d in enumerate(res.design.designs):
+        assert pages[1 + threat_pages + k].count(f"{d.id}:") >= 1  # the filter's own page
+    assert "Cut labels" in pages[1 + threat_pages + n_filters]
+    assert "Cautions" in pages[-1]
+
+
+def test_pdf_text_has_every_cut_length_and_target_resonance(run):
+    res = run["result"]
+    text = " ".join(_pdf_pages(res.pdf))
+    for d in res.design.designs:
+        vf = d.filter.cable.velocity_factor
+        for c in d.cuts:
+            assert f"CUT {format_length(c.cut_length_m, 'both')}" in text  # its cut label
+            assert format_length(c.first_cut_m, "both") in text
+            # The printed target resonance against Pozar sec. 2.3, n c VF / (4 l), to the printed 0.1 kHz.
+            expect = c.quarter_waves * C0 * vf / (4 * c.length_m) / 1e6
+            assert f"target resonance {mhz(round(expect, 4))} MHz" in text
+            assert c.cut_length_m == pytest.approx(c.length_m - d.filter.tee_allowance_m, abs=1e-12)
+
+
+def test_pdf_threat_pages_list_every_threat(run):
+    res = run["result"]
+    pages = _pdf_pages(res.pdf)
+    threat_text = " ".join(pages[1:1 + res.layout.threats])
+    sv = res.survey
+    assert len(sv.threats) >= 1
+    for t in sv.threats:
+        assert t.victim in threat_text
+        assert mhz(t.f_mhz) in threat_text
+        assert f"{t.excess_db:.1f}" in threat_text
+        assert f"{t.level_dbm:.1f}" in threat_text
+
+
+def test_not_met_is_spelled_out_on_the_cover(run):
+    res = run["result"]
+    cover = _pdf_pages(res.pdf)[0]
+    unmet = [d for d in res.design.designs if not d.meets]
+    if unmet:
+        assert "NOT MET" in cover
+        for d in unmet:
+            assert f"NOT MET: {d.id}:" in cover
+    assert res.meets == (not unmet)
+
+
+def test_html_is_self_contained_and_prints_the_same_numbers(run):
+    res = run["result"]
+    html = res.html.read_text(encoding="utf-8")
+    assert html.startswith("<!DOCTYPE html>")
+    assert "@media print" in html and "break-after: page" in html
+    srcs = re.findall(r'(?:src|href)="([^"]+)"', html)
+    assert srcs and all(s.startswith("data:image/") for s in srcs)  # nothing to fetch
+    for d in res.design.designs:
+        for c in d.cuts:
+            assert f"CUT {format_length(c.cut_length_m, 'both')}" in html
+            assert format_length(c.first_cut_m, "both") in html
+    for t in res.survey.threats:
+        assert mhz(t.f_mhz) in html and f"{t.excess_db:.1f}" in html
+    # The very rows of the PDF's tables are the HTML's.
+    for row in res.text.filters[0].cuts.rows:
+        for cell in row:
+            assert cell.replace("&", "&amp;") in html
+
+
+def test_touchstone_files_load_in_scikit_rf_and_match_the_design(run):
+    import skrf
+
+    res = run["result"]
+    s2p = sorted(res.outdir.glob("*.s2p"))
+    assert len(s2p) == len(res.design.designs)
+    for d, path in zip(res.design.designs, s2p, strict=True):
+        assert path.name.startswith(f"{d.id}-")
+        net = skrf.Network(str(path))
+        s = evaluate(d.filter, net.f)
+        np.testing.assert_allclose(net.s[:, 1, 0], s[:, 1, 0], atol=1e-6)
+        np.testing.assert_allclose(net.s[:, 0, 0], s[:, 0, 0], atol=1e-6)
+        assert float(np.real(net.z0[0, 0])) == 50.0
+
+
+def test_curve_csv_and_png_per_filter(run):
+    res = run["result"]
+    for d in res.design.designs:
+        (csv_path,) = res.outdir.glob(f"{d.id}-*.csv")
+        (png_path,) = res.outdir.glob(f"{d.id}-*.png")
+        assert png_path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # ISO/IEC 15948 signature
+        rows = list(csv.reader(io.StringIO(csv_path.read_text())))
+        assert rows[0] == ["freq_mhz", "s21_db", "s11_db"]
+        data = np.array(rows[1:], dtype=float)
+        assert np.all(np.diff(data[:, 0]) > 0)
+        s = evaluate(d.filter, data[:, 0] * 1e6)
+        np.testing.assert_allclose(data[:, 1], np.maximum(db20(s[:, 1, 0]), -300.0), atol=1e-4)
+        np.testing.assert_allclose(data[:, 2], np.maximum(db20(s[:, 0, 0]), -300.0), atol=1e-4)
+        lo = min([b.lo_mhz for b in d.requirement.pass_bands] + [n.lo_mhz for n in d.requirement.notches])
+        hi = max([b.hi_mhz for b in d.requirement.pass_bands] + [n.hi_mhz for n in d.requirement.notches])
+        assert data[0, 0] < lo and data[-1, 0] > hi
+
+
+def test_plan_json_feeds_notchkit_trim(run):
+    from notchkit.trim import load_plan_stub
+
+    res = run["result"]
+    doc = json.loads((res.outdir / "plan.json").read_text())
+    assert doc["site"] == "Test Knoll"
+    assert doc["survey"]["threats"] and len(doc["survey"]["threats"]) == len(res.survey.threats)
+    assert len(doc["filters"]) == len(res.design.designs)
+    for f, d in zip(doc["filters"], res.design.designs, strict=True):
+        stubs = [e for e in f["elements"] if e["kind"] == "stub"]
+        for e, c in zip(stubs, d.cuts, strict=True):
+            assert e["id"] == c.stub_id
+            assert e["cut_length_m"] == pytest.approx(c.cut_length_m, abs=1e-9)
+            assert e["first_cut_m"] == pytest.approx(c.first_cut_m, abs=1e-9)
+            ps = load_plan_stub(res.outdir / "plan.json", c.stub_id)
+            assert ps.cut_length_m == pytest.approx(c.cut_length_m, abs=1e-9)
+    assert doc["meets"] == res.meets
+
+
+def test_letter_pages_and_metric_units(run, reuse_design, tmp_path):
+    res = plan_mod.plan(run["site"], tmp_path / "letter.pdf", units="metric", page_size="letter")
+    from pypdf import PdfReader
+
+    reader = PdfReader(str(res.pdf))
+    box = reader.pages[0].mediabox
+    # ANSI Letter, 72 points per inch
+    assert (float(box.width), float(box.height)) == pytest.approx((8.5 * 72, 11 * 72), abs=0.01)
+    a4 = PdfReader(str(run["result"].pdf)).pages[0].mediabox
+    assert (float(a4.width), float(a4.height)) == pytest.approx((210 / 25.4 * 72, 297 / 25.4 * 72), abs=0.01)
+    n_stubs = len(_cuts(res))
+    assert len(reader.pages) == (1 + res.layout.threats + len(res.design.designs)
+                                 + expected_label_pages(n_stubs, "letter") + 1)
+    text = " ".join(" ".join((p.extract_text() or "").split()) for p in reader.pages)
+    for c in _cuts(res):
+        assert f"CUT {format_length(c.cut_length_m, 'metric')}" in text
+    assert not re.search(r"\d+ \d+/\d+ in\b", text)  # no inches anywhere
+
+
+def test_cli_prints_summary_and_exit_code_follows_meets(run, reuse_design, tmp_path, capsys):
+    out = tmp_path / "cli.pdf"
+    code = main(["plan", str(run["site"]), "-o", str(out)])
+    printed = capsys.readouterr().out
+    assert code == (0 if run["result"].meets else 1)
+    assert str(out) in printed and out.is_file()
+    assert "Test Knoll" in printed
+
+
+@pytest.mark.parametrize("case", ["missing-folder", "directory", "outdir-is-file", "html-missing-folder"])
+def test_unwritable_output_is_exit_2_and_writes_nothing(run, tmp_path, capsys, monkeypatch, case):
+    def boom(site):  # the check must come before any design work
+        raise AssertionError("designed before checking the outputs")
+
+    monkeypatch.setattr(plan_mod, "_run_design", boom)
+    a_file = tmp_path / "a-file"
+    a_file.write_text("x")
+    args = {
+        "missing-folder": ["-o", str(tmp_path / "nope" / "p.pdf")],
+        "directory": ["-o", str(tmp_path)],
+        "outdir-is-file": ["-o", str(tmp_path / "p.pdf"), "--outdir", str(a_file)],
+        "html-missing-folder": ["-o", str(tmp_path / "p.pdf"), "--html", str(tmp_path / "nope" / "p.html")],
+    }[case]
+    before = sorted(p.name for p in tmp_path.iterdir())
+    code = main(["plan", str(run["site"]), *args])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.startswith("error: ") and len(err.strip().splitlines()) == 1
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+    assert _sha(run["site"]) == run["hash"]
+
+
+def test_site_file_as_output_is_refused(run, capsys):
+    code = main(["plan", str(run["site"]), "-o", str(run["site"])])
+    assert code == 2 and "site file itself" in capsys.readouterr().err
+    assert _sha(run["site"]) == run["hash"]
+
+
+def test_bad_site_is_exit_2_without_output(tmp_path, capsys):
+    site = tmp_path / "bad.yaml"
+    site.write_text("site: X\ncable: RG-213\ntransmitters:\n  - name: a\n    freq_mhz: -5\n    power_w: 5\n")
+    code = main(["plan", str(site), "-o", str(tmp_path / "p.pdf")])
+    assert code == 2
+    assert not (tmp_path / "p.pdf").exists()
+    assert "Traceback" not in capsys.readouterr().err
+
+
+def test_no_temporary_files_left(run):
+    names = [p.name for p in run["dir"].rglob("*")]
+    assert not [n for n in names if n.endswith(".part") or n.startswith(".notchkit-")]
+    assert math.isfinite(run["result"].pages)
