@@ -29,6 +29,7 @@ from notchkit.errors import (
     SiteError,
     UsageError,
 )
+from notchkit.plan import PlanResult, plan
 from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
 
@@ -59,4 +60,6 @@ __all__ = [
     "design_request",
     "Design",
     "DesignReport",
+    "plan",
+    "PlanResult",
 ]
