@@ -538,3 +538,17 @@ def test_libyaml_and_pure_python_paths_give_the_same_problems(write, monkeypatch
     monkeypatch.setattr(L.yaml, "__with_libyaml__", False)
     assert problems(path) == fast
     assert len(fast) == 2
+
+
+def test_a_key_in_the_wrong_place_says_where_it_belongs(write):
+    text = GOOD + "transceivers:\n  - name: rig\n    freq_mhz: 146.55\n    power_w: 5\n    tx: {}\n"
+    text += "max_swr: 1.3\n"
+    assert problems(write(text)) == [
+        "site.yaml:13:5: transceivers[0].power_w: unknown key (put it under tx:)",
+        "site.yaml:14:9: transceivers[0].tx.power_w: missing (required: carrier power in watts)",
+        "site.yaml:15:1: max_swr: unknown key (put it inside limits:)",
+    ]
+    assert one(write, "freq_mhz: 446.0", "freq_mhz: 446.0\n    power_w: 5") == [
+        "site.yaml:10:5: receivers[0].power_w: unknown key (a receiver does not transmit; list a radio "
+        "that does both under transceivers:)"
+    ]

@@ -401,6 +401,26 @@ SECTIONS: dict[str, dict[str, Field]] = {
 
 _ALLOWED_KEYS_TEXT = {name: ", ".join(fields) for name, fields in SECTIONS.items()}
 
+_MOVED: dict[tuple[str, str], str] = {
+    **{("transceiver", k): "put it under tx:" for k in SECTIONS["tx"] if k not in SECTIONS["transceiver"]},
+    **{("transceiver", k): "put it under rx:" for k in SECTIONS["rx"] if k not in SECTIONS["transceiver"]},
+    **{("tx", k): "put it under rx:" for k in SECTIONS["rx"] if k not in SECTIONS["tx"]},
+    **{("rx", k): "put it under tx:" for k in SECTIONS["tx"] if k not in SECTIONS["rx"]},
+    **{
+        ("receiver", k): "a receiver does not transmit; list a radio that does both under transceivers:"
+        for k in SECTIONS["tx"]
+        if k not in SECTIONS["receiver"]
+    },
+    **{
+        ("transmitter", k): "a transmitter does not receive; list a radio that does both under "
+        "transceivers:"
+        for k in SECTIONS["rx"]
+        if k not in SECTIONS["transmitter"]
+    },
+    **{("site", k): f"put it inside {sec}:" for sec in ("limits", "allowances") for k in SECTIONS[sec]},
+}
+"""Keys given in the wrong place, and where they belong."""
+
 
 # ---------------------------------------------------------------------------
 # Reading the file
@@ -743,6 +763,9 @@ class _Reader:
 
     @staticmethod
     def _suggest(key: str, spec: dict[str, Field], name: str) -> str:
+        moved = _MOVED.get((name, key))
+        if moved:
+            return f"({moved})"
         close = difflib.get_close_matches(key.lower(), list(spec), n=1, cutoff=0.6)
         if close:
             return f"(did you mean '{close[0]}'?)"
