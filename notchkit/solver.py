@@ -9,7 +9,7 @@ the same design).
 How it searches, simplest topology first:
 
 1. **One stub.** A dense 1-D scan of every length from the shortest stub that
-   can be cut (tee allowance + :data:`MIN_CUT_M`) up to about a wavelength at
+   can be cut (tee allowance + :data:`MIN_CUT_M`) up to :data:`STUB_SCAN_WAVELENGTHS` wavelengths at
    the lowest band, for an open and for a shorted end, in one
    :func:`~notchkit.filters.evaluate_batch` call each. The quarter- and
    half-wave families (open lambda/4 notches f, 3f, 5f and passes 2f, 4f;
@@ -76,7 +76,7 @@ MIN_LINE_M = 0.050
 DEFAULT_CABLE_WAVELENGTHS = 3.0
 """Default cap on the filter's total cable, in wavelengths in the cable at the
 lowest band frequency (used when ``limits.max_total_cable_m`` is ``None``)."""
-STUB_SCAN_WAVELENGTHS = 1.1
+STUB_SCAN_WAVELENGTHS = 2.5
 """The 1-D scan covers stub paths up to this many wavelengths at the lowest band."""
 VERIFY_POINTS = 201
 """Points per band (edges included) of the dense verification sweep, at least."""
@@ -505,7 +505,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
         d_pool += [lam / 4, lam / 2]
     d_pool += list(np.linspace(MIN_LINE_M, 0.5 * p.lam_low, 4))
     d_pool = sorted({round(d, 6) for d in d_pool if MIN_LINE_M <= d <= p.line_max})
-    coarse = list(np.linspace(p.stub_min, p.stub_max, 12))
+    coarse = list(np.linspace(p.stub_min, p.stub_max, 16))
     f_pass = np.array([b.centre_mhz * 1e6 for b in p.passes])
     by_topology: dict[tuple[str, ...], list[np.ndarray]] = {}
     for parent in parents:
