@@ -24,6 +24,7 @@ from typing import Any
 import pytest
 import yaml
 
+from notchkit.errors import SiteError
 from notchkit.site import load_site, model
 from notchkit.site.loader import SECTIONS, site_schema
 
@@ -120,14 +121,34 @@ def test_schema_properties_are_the_keys_the_loader_accepts():
         assert node["additionalProperties"] is False
 
 
+def _add_extra_key(data: Any, section: str, paths: list[str], path: str = "") -> None:
+    """Put an unknown key into every mapping of every section, recording the field paths."""
+    if not isinstance(data, dict):
+        return
+    for key, value in list(data.items()):
+        fld = SECTIONS[section].get(key)
+        sub = f"{path}.{key}" if path else key
+        if fld is not None and fld.kind == "section":
+            _add_extra_key(value, fld.section, paths, sub)
+        elif fld is not None and fld.kind == "list":
+            for i, item in enumerate(value):
+                _add_extra_key(item, fld.section, paths, f"{sub}[{i}]")
+    data["zz_extra"] = 1
+    paths.append(f"{path}.zz_extra" if path else "zz_extra")
+
+
 def test_loader_refuses_every_key_outside_the_schema(tmp_path):
-    # each section of the schema, given one extra key, makes the loader complain about that key
-    text = _complete_example().replace("  max_stubs: 3\n", "  max_stubs: 3\n  max_stubz: 3\n")
+    data = yaml.safe_load(_complete_example())
+    paths: list[str] = []
+    _add_extra_key(data, "site", paths)
     p = tmp_path / "x.yaml"
-    p.write_text(text, encoding="utf-8")
-    with pytest.raises(Exception) as info:
+    p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
+    with pytest.raises(SiteError) as info:
         load_site(p)
-    assert "limits.max_stubz: unknown key (did you mean 'max_stubs'?)" in str(info.value)
+    fields = sorted(pr.field for pr in info.value.problems)
+    assert fields == sorted(paths)
+    assert all(pr.message.startswith("unknown key") for pr in info.value.problems)
+    assert len(paths) > len(SECTIONS)
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
