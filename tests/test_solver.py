@@ -250,3 +250,44 @@ def test_reactance_compensation_cancels_the_susceptance(kind, b_norm, rg213):
     for length in lengths:
         y = yin_open(rg213.z0_ohm, g, length) if kind == "open" else yin_short(rg213.z0_ohm, g, length)
         assert complex(y).imag == pytest.approx(-b, rel=1e-9, abs=1e-12)
+
+
+# ---------------------------------------------------------------- contract over random requests
+
+
+def _random_requests(n, seed=20261202):
+    rng = np.random.default_rng(seed)
+    out = []
+    while len(out) < n:
+        f_pass = float(rng.uniform(3.0, 500.0))
+        ratio = float(rng.choice([0.5, 1 / 3, 2.0, 3.0, 1.3, 0.7]))
+        f_notch = f_pass * ratio
+        w_pass = f_pass * float(rng.uniform(0.002, 0.04))
+        w_notch = f_notch * float(rng.uniform(0.0005, 0.03))
+        r = req([(f_pass - w_pass / 2, f_pass + w_pass / 2)],
+                [(f_notch - w_notch / 2, f_notch + w_notch / 2, float(rng.uniform(15.0, 40.0)))])
+        out.append(r)
+    return out
+
+
+@pytest.mark.parametrize("r", _random_requests(5), ids=lambda r: f"{r.notches[0].lo_mhz:.1f}MHz")
+def test_solver_contract_on_random_requests(r, rg213):
+    msgs = []
+    sol = solve(r, cable=rg213, limits=Limits(max_stubs=2), tee_allowance_m=TEE, progress=msgs.append)
+    assert msgs and all(isinstance(m, str) for m in msgs)
+    # meets is exactly "every verified band meets"
+    assert sol.meets == (all(p.meets for p in sol.passes) and all(n.meets for n in sol.notches))
+    for p in sol.passes:
+        assert p.meets == (p.worst_insertion_loss_db <= 0.5 and p.worst_swr <= 1.5)
+    # the reported worst figures are what an independent evaluation gives (Pozar table 4.1 ABCD path)
+    for b, p in zip(r.pass_bands, sol.passes, strict=True):
+        s = evaluate(sol.filter, np.linspace(b.lo_mhz, b.hi_mhz, 301) * 1e6)
+        assert -db20(s[:, 1, 0]).min() == pytest.approx(p.worst_insertion_loss_db, abs=0.1)
+    for n, res in zip(r.notches, sol.notches, strict=True):
+        s = evaluate(sol.filter, np.linspace(n.lo_mhz, n.hi_mhz, 301) * 1e6)
+        assert -db20(s[:, 1, 0]).max() == pytest.approx(res.worst_attenuation_db, abs=0.1)
+    # limits on every element
+    assert len(sol.filter.stubs) <= 2
+    assert sol.filter.total_cable_m <= sol.max_total_cable_m + 1e-9
+    for e in sol.filter.elements:
+        assert e.length_m >= (0.05 if e.kind == "line" else TEE + MIN_CUT_M) - 1e-12
