@@ -42,6 +42,7 @@ TINY_SITE = textwrap.dedent(
         tx: {power_w: 25, harmonic_suppression_dbc: 70}
         rx: {sensitivity_dbm: -110}
         antenna: {x_m: 30, y_m: 0, height_m: 10, gain_dbi: 3}
+    allowances: {tee_allowance_m: 0.035, trim_margin_pct: 4}
     """
 )
 
@@ -155,6 +156,25 @@ def test_site_design_ids_radio_side_and_power(site_report):
     assert site_report.meets == doc["meets"]
     for d in site_report.designs:
         assert [c.stub_id for c in d.cuts] == [f"{d.id}-S{i}" for i in range(1, len(d.filter.stubs) + 1)]
+    # the site's own tee allowance (35 mm) is what the cut lengths subtract
+    for f in doc["filters"]:
+        for e in f["elements"]:
+            if e["kind"] == "stub":
+                assert e["cut_length_m"] == pytest.approx(e["length_m"] - 0.035)
+                assert e["first_cut_m"] >= e["cut_length_m"] * 1.04 - 1e-9
+
+
+def test_progress_only_on_a_terminal(monkeypatch):
+    import argparse
+    import sys
+
+    from notchkit.cli import design as cli_design
+
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: False, raising=False)
+    assert cli_design._progress(argparse.Namespace(json=False)) is None
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True, raising=False)
+    assert cli_design._progress(argparse.Namespace(json=True)) is None
+    assert callable(cli_design._progress(argparse.Namespace(json=False)))
 
 
 def test_two_runs_give_identical_json(contest):
