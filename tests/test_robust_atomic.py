@@ -1,0 +1,482 @@
+"""Outputs are written atomically and inputs are never modified.
+
+* Every output file reaches its final name only by a rename: while a command
+  runs, nothing opens a final output path for writing (an ``open``/``os.open``
+  spy), and every final path is the target of ``os.replace``/``os.rename``.
+* A failed write (the disk full half way) leaves the old file as it was and
+  no temporary file behind.
+* A killed run: ``python -m notchkit design --touchstone`` and ``plan`` are
+  started as real processes and killed with SIGKILL at several points (random
+  delays from a seeded generator, and the moment a temporary file appears in
+  the output folder, i.e. mid-write). Every output name then holds either the
+  old file, byte for byte, or a complete new one: a PDF ends with ``%%EOF`` and
+  pypdf reads it; JSON parses; a ``.s2p`` loads in scikit-rf; a PNG ends with
+  its IEND chunk (PNG specification, ISO/IEC 15948, sec. 11.2.5); HTML ends with
+  ``</html>``; a CSV has the same number of fields on every row.
+* The input is never modified: SHA-256 and modification time of every example
+  site (and of trim's measurement and plan JSON) before and after every command.
+"""
+
+from __future__ import annotations
+
+import builtins
+import hashlib
+import io
+import json
+import os
+import random
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+from fuzz_strategies import built, touchstone_text
+
+from notchkit.cli import main
+from notchkit.errors import EXIT_OK, EXIT_UNMET, InputError
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLE_SITES = sorted((ROOT / "sites").glob("*.yaml"))
+
+needs_design = pytest.mark.skipif(not built("design"), reason="notchkit design is not built yet")
+needs_plan = pytest.mark.skipif(not built("plan"), reason="notchkit plan is not built yet")
+
+SMALL_SITE = """\
+# a fictional two-radio site: one receive filter, quick to design
+site: Fictional Flat
+transmitters:
+  - {name: TX2M, freq_mhz: 146.52, power_w: 50, antenna: {x_m: 0, y_m: 0, height_m: 10}}
+receivers:
+  - {name: RXWX, freq_mhz: 155.34, antenna: {x_m: 5, y_m: 0, height_m: 10}}
+"""
+
+DESIGN_ARGS = ["--pass", "144-148", "--notch", "430-440:30", "--cable", "RG-213"]
+
+PNG_END = b"IEND\xaeB`\x82"  # the IEND chunk with its CRC, last 8 bytes of every PNG
+
+
+def sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+# ---------------------------------------------------------------------------
+# What a complete output looks like
+# ---------------------------------------------------------------------------
+
+
+def complete(path: Path) -> bool:
+    """Whether ``path`` is a whole, valid output file of its kind."""
+    data = path.read_bytes()
+    suffix = path.suffix.lower()
+    if not data:
+        return False
+    if suffix == ".pdf":
+        if not data.rstrip().endswith(b"%%EOF"):
+            return False
+        import pypdf
+
+        return len(pypdf.PdfReader(io.BytesIO(data)).pages) >= 1
+    if suffix == ".json":
+        try:
+            json.loads(data)
+        except ValueError:
+            return False
+        return True
+    if suffix in (".s1p", ".s2p"):
+        import skrf
+
+        try:
+            net = skrf.Network(str(path))
+        except Exception:  # noqa: BLE001 - any failure to parse means incomplete
+            return False
+        return net.f.size > 0 and bool(np.all(np.isfinite(net.s)))
+    if suffix == ".png":
+        return data.startswith(b"\x89PNG\r\n\x1a\n") and data.endswith(PNG_END)
+    if suffix == ".html":
+        return data.rstrip().lower().endswith(b"</html>")
+    if suffix == ".csv":
+        rows = [r for r in data.decode("utf-8").splitlines() if r and not r.startswith("#")]
+        return data.endswith(b"\n") and len(rows) >= 2 and len({r.count(",") for r in rows}) == 1
+    raise AssertionError(f"no completeness rule for {path.name}")
+
+
+def test_completeness_rules_catch_truncated_files(tmp_path):
+    """Control: a file cut short is not 'complete', so the kill tests can fail."""
+    old = old_files(tmp_path, ["a.pdf", "b.json", "c.s2p", "d.html"])
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    fig = plt.figure()
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png")
+    plt.close(fig)
+    old["e.png"] = buf.getvalue()
+    old["f.csv"] = b"freq_mhz,s21_db\n100,-0.1\n101,-0.2\n"
+    for name, data in old.items():
+        p = tmp_path / name
+        p.write_bytes(data)
+        assert complete(p), name
+        for cut in (len(data) // 3, len(data) - 5):
+            p.write_bytes(data[:cut])
+            assert not complete(p), (name, cut)
+
+
+def old_files(folder: Path, names: list[str]) -> dict[str, bytes]:
+    """Write a small but valid 'previous run' file under each name; return their bytes."""
+    out = {}
+    for name in names:
+        p = folder / name
+        p.parent.mkdir(parents=True, exist_ok=True)
+        suffix = p.suffix.lower()
+        if suffix in (".s2p", ".s1p"):
+            f = np.linspace(100e6, 200e6, 11)
+            s = np.zeros((11, 2, 2), complex)
+            s[:, 1, 0] = s[:, 0, 1] = 1.0
+            p.write_text(touchstone_text(f, s), encoding="utf-8")
+        elif suffix == ".pdf":
+            import matplotlib
+
+            matplotlib.use("Agg")
+            import matplotlib.pyplot as plt
+
+            fig = plt.figure()
+            fig.text(0.5, 0.5, "old plan")
+            buf = io.BytesIO()
+            fig.savefig(buf, format="pdf")
+            plt.close(fig)
+            p.write_bytes(buf.getvalue())
+        elif suffix == ".json":
+            p.write_text('{"old": true}\n', encoding="utf-8")
+        elif suffix == ".html":
+            p.write_text("<!doctype html><html><body>old</body></html>\n", encoding="utf-8")
+        else:
+            raise AssertionError(name)
+        assert complete(p), name
+        out[name] = p.read_bytes()
+    return out
+
+
+def assert_old_or_complete(folder: Path, old: dict[str, bytes], expected_names: set[str]) -> None:
+    """Each output name holds its old bytes or a complete file; nothing else carries an output name."""
+    for name, before in old.items():
+        p = folder / name
+        assert p.exists(), f"{name}: the old file disappeared"
+        if p.read_bytes() != before:
+            assert complete(p), f"{name}: a partial file was left under the output name"
+    for p in folder.rglob("*"):
+        rel = p.relative_to(folder)
+        if any(part.startswith(".") for part in rel.parts):
+            continue  # a temporary left by SIGKILL: hidden, never an output name
+        if p.is_dir():
+            continue
+        assert rel.as_posix() in expected_names, f"unexpected file {rel}"
+        assert complete(p), f"{rel}: a partial file was left under an output name"
+
+
+# ---------------------------------------------------------------------------
+# Spy: no final output path is ever opened for writing
+# ---------------------------------------------------------------------------
+
+_WRITE_FLAGS = os.O_WRONLY | os.O_RDWR | os.O_APPEND | os.O_CREAT | os.O_TRUNC
+
+
+class WriteSpy:
+    """Record every path opened for writing and every rename target."""
+
+    def __init__(self, monkeypatch):
+        self.opened: list[Path] = []
+        self.renamed: list[Path] = []
+        real_open, real_os_open = builtins.open, os.open
+        real_replace, real_rename = os.replace, os.rename
+        spy = self
+
+        def fake_open(file, mode="r", *args, **kwargs):
+            if isinstance(file, str | bytes | os.PathLike) and any(c in mode for c in "wax+"):
+                spy.opened.append(Path(os.fsdecode(file)).resolve())
+            return real_open(file, mode, *args, **kwargs)
+
+        def fake_os_open(path, flags, *args, **kwargs):
+            if flags & _WRITE_FLAGS:
+                spy.opened.append(Path(os.fsdecode(path)).resolve())
+            return real_os_open(path, flags, *args, **kwargs)
+
+        def fake_replace(src, dst, *args, **kwargs):
+            spy.renamed.append(Path(os.fsdecode(dst)).resolve())
+            return real_replace(src, dst, *args, **kwargs)
+
+        def fake_rename(src, dst, *args, **kwargs):
+            spy.renamed.append(Path(os.fsdecode(dst)).resolve())
+            return real_rename(src, dst, *args, **kwargs)
+
+        monkeypatch.setattr(builtins, "open", fake_open)
+        monkeypatch.setattr(io, "open", fake_open)
+        monkeypatch.setattr(os, "open", fake_os_open)
+        monkeypatch.setattr(os, "replace", fake_replace)
+        monkeypatch.setattr(os, "rename", fake_rename)
+
+    def assert_atomic(self, outputs: list[Path]) -> None:
+        outputs = [p.resolve() for p in outputs]
+        assert outputs, "the command wrote nothing"
+        direct = sorted(set(self.opened) & set(outputs))
+        assert not direct, f"opened for writing under the final name: {direct}"
+        missing = sorted(set(outputs) - set(self.renamed))
+        assert not missing, f"not renamed into place: {missing}"
+
+
+def files_in(folder: Path) -> list[Path]:
+    return sorted(p for p in folder.rglob("*") if p.is_file()
+                  and not any(part.startswith(".") for part in p.relative_to(folder).parts))
+
+
+@needs_design
+def test_design_touchstone_files_arrive_by_rename(tmp_path, monkeypatch, capsys):
+    spy = WriteSpy(monkeypatch)
+    rc = main(["design", *DESIGN_ARGS, "--touchstone", str(tmp_path / "ts")])
+    assert rc in (EXIT_OK, EXIT_UNMET), capsys.readouterr().err
+    monkeypatch.undo()
+    written = files_in(tmp_path / "ts")
+    spy.assert_atomic(written)
+    assert all(complete(p) for p in written)
+
+
+@needs_plan
+def test_plan_outputs_arrive_by_rename(tmp_path, monkeypatch, capsys):
+    site = tmp_path / "site.yaml"
+    site.write_text(SMALL_SITE, encoding="utf-8")
+    out = tmp_path / "out"
+    out.mkdir()
+    spy = WriteSpy(monkeypatch)
+    rc = main(["plan", str(site), "-o", str(out / "x.pdf"), "--html", str(out / "x.html"),
+               "--outdir", str(out / "dir")])
+    assert rc in (EXIT_OK, EXIT_UNMET), capsys.readouterr().err
+    monkeypatch.undo()
+    written = files_in(out)
+    assert {p.suffix for p in written} >= {".pdf", ".html", ".json", ".s2p", ".png", ".csv"}
+    spy.assert_atomic(written)
+    assert all(complete(p) for p in written), [p.name for p in written if not complete(p)]
+
+
+def test_trim_png_arrives_by_rename(tmp_path, monkeypatch, capsys):
+    from notchkit.cables import get_cable
+    from notchkit.filters import Filter, Stub, evaluate
+    from notchkit.lines import C0
+
+    cable = get_cable("RG-213")
+    length = C0 * cable.velocity_factor / (4 * 146e6)  # an open quarter wave at 146 MHz
+    f = np.linspace(120e6, 170e6, 201)
+    s = evaluate(Filter(elements=(Stub(termination="open", length_m=length),), cable=cable), f)
+    meas = tmp_path / "stub.s2p"
+    meas.write_text(touchstone_text(f, s), encoding="utf-8")
+    png = tmp_path / "plot.png"
+    spy = WriteSpy(monkeypatch)
+    rc = main(["trim", str(meas), "--cable", "RG-213", "--termination", "open",
+               "--target-mhz", "146", "--length-m", repr(length), "--png", str(png)])
+    assert rc == EXIT_OK, capsys.readouterr().err
+    monkeypatch.undo()
+    spy.assert_atomic([png])
+    assert complete(png)
+
+
+# ---------------------------------------------------------------------------
+# A write that fails half way keeps the old file
+# ---------------------------------------------------------------------------
+
+
+def test_failed_atomic_write_keeps_the_old_file_and_leaves_no_temporary(tmp_path, monkeypatch):
+    from notchkit.report import files
+
+    target = tmp_path / "plan.json"
+    target.write_text('{"old": true}\n', encoding="utf-8")
+    before = target.read_bytes()
+
+    def disk_full(src, dst, *a, **k):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(os, "replace", disk_full)
+    with pytest.raises(InputError, match="No space left on device"):
+        files.write_text_atomic(target, '{"new": true, "much": "' + "x" * 100_000 + '"}\n')
+    monkeypatch.undo()
+    assert target.read_bytes() == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json"]
+
+
+def test_failed_touchstone_write_keeps_the_old_file(tmp_path, monkeypatch):
+    import skrf
+
+    from notchkit.cables import get_cable
+    from notchkit.filters import Filter, Stub, write_touchstone
+
+    target = tmp_path / "F1.s2p"
+    old = old_files(tmp_path, ["F1.s2p"])["F1.s2p"]
+    real = skrf.Network.write_touchstone
+
+    def half_then_fail(self, filename=None, *args, **kwargs):
+        real(self, filename, *args, **kwargs)
+        written = Path(str(filename) + ".s2p") if not str(filename).endswith(".s2p") else Path(filename)
+        data = written.read_bytes()
+        written.write_bytes(data[: len(data) // 2])
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(skrf.Network, "write_touchstone", half_then_fail)
+    filt = Filter(elements=(Stub(termination="open", length_m=0.34),), cable=get_cable("RG-213"))
+    with pytest.raises(InputError, match="No space left on device"):
+        write_touchstone(filt, np.linspace(100e6, 200e6, 101), target)
+    monkeypatch.undo()
+    assert target.read_bytes() == old
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["F1.s2p"]
+
+
+# ---------------------------------------------------------------------------
+# Killed runs
+# ---------------------------------------------------------------------------
+
+
+def _start(argv: list[str], cwd: Path) -> subprocess.Popen:
+    return subprocess.Popen([sys.executable, "-m", "notchkit", *argv], cwd=cwd,
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+
+
+def _kill_when(proc: subprocess.Popen, folder: Path, *, delay_s: float | None) -> str:
+    """SIGKILL after ``delay_s`` seconds, or (``None``) as soon as a temporary file shows in
+    ``folder`` (a hidden entry: mid-write). Returns what happened."""
+    t0 = time.monotonic()
+    while proc.poll() is None:
+        now = time.monotonic() - t0
+        if delay_s is not None and now >= delay_s:
+            break
+        if delay_s is None and folder.is_dir() and any(
+            p.name.startswith(".") for p in folder.rglob("*")
+        ):
+            break
+        if now > 300:
+            break
+        time.sleep(0.0005)
+    if proc.poll() is not None:
+        return "finished"
+    proc.send_signal(signal.SIGKILL)
+    proc.wait(timeout=60)
+    return "killed mid-write" if delay_s is None else "killed"
+
+
+def _kill_plan(rng: random.Random, baseline_s: float) -> list[float | None]:
+    """Kill points: the moment a temporary file appears (mid-write), and two random delays
+    late in the run (start-up and design come first, the writes last)."""
+    return [None] + [rng.uniform(0.6, 1.0) * baseline_s for _ in range(2)]
+
+
+@needs_design
+def test_killed_design_leaves_old_or_complete_touchstone(tmp_path):
+    rng = random.Random(20261202)
+    ts = tmp_path / "ts"
+    argv = ["design", *DESIGN_ARGS, "--touchstone", str(ts)]
+    # an uninterrupted run: how long it takes and what it writes
+    t0 = time.monotonic()
+    proc = _start(argv, tmp_path)
+    assert proc.wait(timeout=300) in (EXIT_OK, EXIT_UNMET)
+    baseline = time.monotonic() - t0
+    names = sorted(p.relative_to(ts).as_posix() for p in files_in(ts))
+    assert names and all(n.endswith(".s2p") for n in names)
+    outcomes = []
+    for delay in _kill_plan(rng, baseline):
+        shutil.rmtree(ts)
+        ts.mkdir()
+        old = old_files(ts, names)
+        outcomes.append(_kill_when(_start(argv, tmp_path), ts, delay_s=delay))
+        assert_old_or_complete(ts, old, set(names))
+    assert "killed mid-write" in outcomes, outcomes
+
+
+@needs_plan
+def test_killed_plan_leaves_old_or_complete_outputs(tmp_path):
+    rng = random.Random(4151)
+    site = tmp_path / "site.yaml"
+    site.write_text(SMALL_SITE, encoding="utf-8")
+    site_sha = sha256(site)
+    out = tmp_path / "out"
+    argv = ["plan", str(site), "-o", str(out / "x.pdf"), "--html", str(out / "x.html"),
+            "--outdir", str(out / "dir")]
+    out.mkdir()
+    t0 = time.monotonic()
+    proc = _start(argv, tmp_path)
+    assert proc.wait(timeout=600) in (EXIT_OK, EXIT_UNMET)
+    baseline = time.monotonic() - t0
+    names = sorted(p.relative_to(out).as_posix() for p in files_in(out))
+    assert {"x.pdf", "x.html", "dir/plan.json"} <= set(names)
+    # old versions of the files a previous run would have left (PNG/CSV: taken from this run)
+    keep = {n: (out / n).read_bytes() for n in names if n.endswith((".png", ".csv"))}
+    outcomes = []
+    for delay in _kill_plan(rng, baseline):
+        shutil.rmtree(out)
+        out.mkdir()
+        old = old_files(out, [n for n in names if not n.endswith((".png", ".csv"))])
+        for n, data in keep.items():
+            (out / n).write_bytes(data)
+            old[n] = data
+        outcomes.append(_kill_when(_start(argv, tmp_path), out, delay_s=delay))
+        assert_old_or_complete(out, old, set(names))
+    assert "killed mid-write" in outcomes, outcomes
+    assert sha256(site) == site_sha
+
+
+# ---------------------------------------------------------------------------
+# Inputs are never modified
+# ---------------------------------------------------------------------------
+
+
+def _stamp(path: Path) -> tuple[str, int]:
+    return sha256(path), path.stat().st_mtime_ns
+
+
+@pytest.mark.parametrize("site", EXAMPLE_SITES, ids=lambda p: p.stem)
+def test_every_command_leaves_the_example_site_untouched(site, tmp_path, capsys):
+    before = _stamp(site)
+    runs = [["check", str(site)], ["survey", str(site)], ["survey", str(site), "--json"]]
+    if built("design"):
+        runs.append(["design", str(site), "--json", "--touchstone", str(tmp_path / "ts")])
+    if built("plan"):
+        runs.append(["plan", str(site), "-o", str(tmp_path / "x.pdf"), "--html", str(tmp_path / "x.html"),
+                     "--outdir", str(tmp_path / "dir")])
+    for argv in runs:
+        rc = main(argv)
+        err = capsys.readouterr().err
+        assert rc in (EXIT_OK, EXIT_UNMET), (argv, err)
+        assert _stamp(site) == before, f"{argv[0]} changed the input"
+    if built("plan"):
+        plan_json = tmp_path / "dir" / "plan.json"
+        assert plan_json.is_file()
+        assert not any(p.resolve() == site.resolve() for p in tmp_path.rglob("*"))
+
+
+def test_trim_leaves_its_measurement_and_plan_untouched(tmp_path, capsys):
+    from notchkit.cables import get_cable
+    from notchkit.filters import Filter, Stub, evaluate
+    from notchkit.lines import C0
+
+    cable = get_cable("RG-58")
+    length = C0 * cable.velocity_factor / (4 * 50e6)  # open quarter wave at 50 MHz
+    f = np.linspace(40e6, 60e6, 201)
+    s = evaluate(Filter(elements=(Stub(termination="open", length_m=length),), cable=cable), f)
+    meas = tmp_path / "stub.s2p"
+    meas.write_text(touchstone_text(f, s), encoding="utf-8")
+    plan = tmp_path / "plan.json"
+    plan.write_text(json.dumps({"filters": [{"id": "F1", "elements": [
+        {"kind": "stub", "id": "F1-S1", "termination": "open", "length_m": length,
+         "cut_length_m": length, "first_cut_m": length}]}]}), encoding="utf-8")
+    stamps = {p: _stamp(p) for p in (meas, plan)}
+    for argv in (
+        ["trim", str(meas), "--cable", "RG-58", "--termination", "open", "--target-mhz", "50",
+         "--length-m", repr(length)],
+        ["trim", str(meas), "--cable", "RG-58", "--target-mhz", "50", "--plan", str(plan),
+         "--stub", "F1-S1", "--json"],
+    ):
+        rc = main(argv)
+        err = capsys.readouterr().err
+        assert rc in (EXIT_OK, 2), err  # the hand-made plan may lack a field: still nothing is written
+        assert {p: _stamp(p) for p in stamps} == stamps
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json", "stub.s2p"]
