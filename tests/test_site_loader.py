@@ -182,7 +182,8 @@ def test_the_three_required_examples_exist():
         (21.0, 21.45),
         (28.0, 29.7),
     }
-    assert any(r.tx.power_w >= 1000 for r in hf.transmitters)
+    hf_tx = [r.tx for r in hf.transmitters if r.tx.band.hi_mhz < 30.0]
+    assert len(hf_tx) >= 2 and all(100 <= t.power_w <= 1000 for t in hf_tx)
     hill = load_site(SITES / "hilltop-repeaters.yaml")
     split = [r for r in hill.radios if r.tx and r.rx and r.tx.band != r.rx.band]
     assert len(split) >= 4
@@ -307,7 +308,7 @@ def test_alias_bomb_is_refused_quickly(write):
     got = problems(write("\n".join(lines) + "\n"))
     assert time.perf_counter() - t0 < 5.0
     assert got == [
-        "site.yaml:2:8: more than 100000 values, counting each repeat through an alias (a site "
+        "site.yaml:2:26: more than 20000 values, counting each repeat through an alias (a site "
         "file has a few hundred; use fewer or no aliases)"
     ]
 
@@ -551,4 +552,19 @@ def test_a_key_in_the_wrong_place_says_where_it_belongs(write):
     assert one(write, "freq_mhz: 446.0", "freq_mhz: 446.0\n    power_w: 5") == [
         "site.yaml:10:5: receivers[0].power_w: unknown key (a receiver does not transmit; list a radio "
         "that does both under transceivers:)"
+    ]
+
+
+@pytest.mark.parametrize("libyaml", [True, False], ids=["libyaml", "pure-python"])
+def test_a_file_of_too_many_values_is_refused_quickly(write, monkeypatch, libyaml):
+    monkeypatch.setattr(L.yaml, "__with_libyaml__", libyaml and L.yaml.__with_libyaml__)
+    path = write("site: x\ntransmitters: [" + "1," * (L.MAX_NODES + 5000) + "]\n")
+    t0 = time.perf_counter()
+    got = problems(path)
+    assert time.perf_counter() - t0 < 10.0
+    # nodes 1-5 are the root mapping, 'site', 'x', 'transmitters' and the list; list item k
+    # (from 0) is node 6 + k and starts at column 16 + 2k of line 2
+    k = L.MAX_NODES + 1 - 6
+    assert got == [
+        f"site.yaml:2:{16 + 2 * k}: more than 20000 values in the file (a site file has a few hundred)"
     ]

@@ -39,7 +39,7 @@ MAX_PROBLEMS = 50
 """Problems listed in one run; the rest are counted in a last line."""
 MAX_DEPTH = 32
 """Deepest nesting of lists and mappings accepted (a site file needs 5)."""
-MAX_NODES = 100_000
+MAX_NODES = 20_000
 """Most values visited, counting each repeat through an alias."""
 
 _YAML = "tag:yaml.org,2002:"
@@ -427,23 +427,34 @@ _MOVED: dict[tuple[str, str], str] = {
 # ---------------------------------------------------------------------------
 
 
-class _TooDeep(Exception):
-    def __init__(self, mark: yaml.Mark):
+class _Limit(Exception):
+    """The file passes a safety limit at ``mark``: too deep or too many values."""
+
+    def __init__(self, mark: yaml.Mark, message: str):
         self.mark = mark
+        self.message = message
+
+
+_TOO_DEEP = f"nested deeper than {MAX_DEPTH} levels (a site file nests at most 6)"
+_TOO_MANY = f"more than {MAX_NODES} values in the file (a site file has a few hundred)"
 
 
 class _Loader(yaml.SafeLoader):
-    """The safe loader, refusing deep nesting while it composes (compose recurses)."""
+    """The safe loader, refusing deep nesting (compose recurses) and too many values."""
 
     def __init__(self, stream: str):
         super().__init__(stream)
         self._depth = 0
+        self._nodes = 0
 
     def compose_node(self, parent, index):  # noqa: ANN001 - PyYAML's signature
         self._depth += 1
+        self._nodes += 1
         try:
             if self._depth > MAX_DEPTH:
-                raise _TooDeep(self.peek_event().start_mark)
+                raise _Limit(self.peek_event().start_mark, _TOO_DEEP)
+            if self._nodes > MAX_NODES:
+                raise _Limit(self.peek_event().start_mark, _TOO_MANY)
             return super().compose_node(parent, index)
         finally:
             self._depth -= 1
@@ -501,48 +512,51 @@ def _too_big(size: int) -> str:
     )
 
 
-class _UseSlow(Exception):
-    pass
-
-
 def _compose(path: str, text: str) -> yaml.Node | None:
     """The node tree, with libyaml's speed where it is installed.
 
     libyaml's composer recurses in C, so its event stream (which does not) is
-    first checked for depth. Any trouble on that path goes to PyYAML's own
-    loader, whose positions and wording every problem line uses.
+    first checked for depth and size. A syntax problem on that path goes to
+    PyYAML's own loader, whose positions and wording every problem line uses.
     """
     if getattr(yaml, "__with_libyaml__", False):
         try:
-            depth = 0
-            for event in yaml.parse(text, Loader=yaml.CSafeLoader):
-                if isinstance(event, yaml.CollectionStartEvent):
-                    depth += 1
-                    if depth >= MAX_DEPTH:
-                        raise _UseSlow
-                elif isinstance(event, yaml.CollectionEndEvent):
-                    depth -= 1
+            _check_events(text)
             return yaml.compose(text, Loader=yaml.CSafeLoader)
-        except (yaml.YAMLError, _UseSlow):
+        except yaml.YAMLError:
             pass
+        except _Limit as exc:
+            raise _limit_error(path, exc) from None
     return _compose_slow(path, text)
+
+
+def _check_events(text: str) -> None:
+    """Count nodes and nesting in libyaml's event stream, as :class:`_Loader` does."""
+    depth = nodes = 0
+    for event in yaml.parse(text, Loader=yaml.CSafeLoader):
+        if isinstance(event, yaml.CollectionEndEvent):
+            depth -= 1
+            continue
+        if not isinstance(event, yaml.NodeEvent):
+            continue
+        nodes += 1
+        if depth + 1 > MAX_DEPTH:
+            raise _Limit(event.start_mark, _TOO_DEEP)
+        if nodes > MAX_NODES:
+            raise _Limit(event.start_mark, _TOO_MANY)
+        if isinstance(event, yaml.CollectionStartEvent):
+            depth += 1
+
+
+def _limit_error(path: str, exc: _Limit) -> SiteError:
+    return SiteError([Problem(path, exc.mark.line + 1, exc.mark.column + 1, "", exc.message)])
 
 
 def _compose_slow(path: str, text: str) -> yaml.Node | None:
     try:
         return yaml.compose(text, Loader=_Loader)
-    except _TooDeep as exc:
-        raise SiteError(
-            [
-                Problem(
-                    path,
-                    exc.mark.line + 1,
-                    exc.mark.column + 1,
-                    "",
-                    f"nested deeper than {MAX_DEPTH} levels (a site file nests at most 6)",
-                )
-            ]
-        ) from None
+    except _Limit as exc:
+        raise _limit_error(path, exc) from None
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         line, col = (mark.line + 1, mark.column + 1) if mark else (0, 0)
