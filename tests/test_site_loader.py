@@ -568,3 +568,13 @@ def test_a_file_of_too_many_values_is_refused_quickly(write, monkeypatch, libyam
     assert got == [
         f"site.yaml:2:{16 + 2 * k}: more than 20000 values in the file (a site file has a few hundred)"
     ]
+
+
+def test_cable_lookup_folds_names_as_the_cable_library_does(write):
+    from notchkit.cables import get_cable, library
+
+    for cable in library():
+        for variant in (cable.name.lower(), cable.name.replace("-", " "), cable.name + "/U"):
+            assert get_cable(variant).name == cable.name
+            site = load_site(write(GOOD.replace("cable: RG-213", f"cable: {variant}")))
+            assert site.cable == cable.name, variant
