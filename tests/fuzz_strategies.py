@@ -521,3 +521,17 @@ def has_option(command: str, option: str) -> bool:
     parser = build_parser()
     sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")
     return option in sub.choices[command]._option_string_actions
+
+
+def site_argv(command: str, site, folder) -> list[str]:
+    """Arguments to run ``command`` on ``site``; plan's outputs go into ``folder`` (which must
+    stay empty when the site is refused)."""
+    from pathlib import Path
+
+    folder = Path(folder)
+    if command == "plan":
+        return ["plan", str(site), "-o", str(folder / "x.pdf"), "--html", str(folder / "x.html"),
+                "--outdir", str(folder / "out")]
+    if command == "design" and has_option("design", "--touchstone"):
+        return ["design", str(site), "--touchstone", str(folder / "ts")]
+    return [command, str(site)]

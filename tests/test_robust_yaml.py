@@ -17,13 +17,14 @@ import os
 import resource
 import subprocess
 import sys
+import tempfile
 import time
 import tracemalloc
 from pathlib import Path
 
 import pytest
 import yaml
-from fuzz_strategies import site_commands
+from fuzz_strategies import site_argv, site_commands
 
 from notchkit.cli import main
 from notchkit.errors import EXIT_BAD_INPUT, SiteError
@@ -78,13 +79,15 @@ def cli_refuses(capsys, path: Path, pick: int | None = None) -> None:
     """
     cmds = site_commands()
     for cmd in cmds if pick is None else [cmds[pick % len(cmds)]]:
-        argv = [cmd, str(path)]
-        rc = main(argv)
-        out, err = capsys.readouterr()
-        assert rc == EXIT_BAD_INPUT, (argv, rc, out, err)
-        assert "Traceback" not in err
-        assert err.strip(), argv
-        assert all(line.startswith(str(path)) or line.startswith("error:") for line in err.splitlines())
+        with tempfile.TemporaryDirectory() as folder:
+            argv = site_argv(cmd, path, folder)
+            rc = main(argv)
+            out, err = capsys.readouterr()
+            assert rc == EXIT_BAD_INPUT, (argv, rc, out, err)
+            assert "Traceback" not in err
+            assert err.strip(), argv
+            assert all(line.startswith(str(path)) for line in err.splitlines()), err
+            assert os.listdir(folder) == [], "an output was written for a refused site"
 
 
 # ---------------------------------------------------------------------------
@@ -319,13 +322,6 @@ def _load_with_alarm(path: Path, seconds: float) -> list[str]:
     return info.value.lines()
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=_Timeout,
-    reason="notchkit/site/loader.py: MAX_NODES is checked in _Reader.prepass after yaml has "
-    "composed the whole file; a flat list of ~1M numbers under the 2 MiB cap takes minutes "
-    "(pure-Python PyYAML, ~0.1 ms per node here) before it is refused",
-)
 def test_a_flat_list_just_under_the_size_cap_is_refused_quickly(tmp_path):
     from notchkit.site.loader import MAX_FILE_BYTES
 
@@ -333,5 +329,5 @@ def test_a_flat_list_just_under_the_size_cap_is_refused_quickly(tmp_path):
     head = "site: Fictional Ridge\ntransmitters: ["
     path.write_text(head + "1," * ((MAX_FILE_BYTES - len(head) - 10) // 2) + "]\n", encoding="utf-8")
     assert path.stat().st_size <= MAX_FILE_BYTES
-    lines = _load_with_alarm(path, TIME_LIMIT_S)
-    assert_one_clear_line(lines, path)
+    lines = _load_with_alarm(path, TIME_LIMIT_S)  # _Timeout (a failure) when too slow
+    assert_one_clear_line(lines, path, "values")
