@@ -26,7 +26,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from notchkit.errors import DesignError, InputError
-from notchkit.lines import abcd_series_line, abcd_shunt, abcd_to_s, cascade, gamma, yin_open, yin_short
+from notchkit.lines import abcd_shunt, abcd_to_s, cascade, gamma, yin_open, yin_short
 
 Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
@@ -276,19 +276,37 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
 
     Built from explicit ABCD matrices (:mod:`notchkit.lines`), independent of
     the batched path; the tests check that both agree.
+
+    Notes
+    -----
+    A line section's ABCD matrix is written as ``(e^{gl} / 2) M'`` with
+    ``M' = [[1 + q, Z0 (1 - q)], [(1 - q) / Z0, 1 + q]]`` and ``q = e^{-2 gl}``
+    (``|q| <= 1`` on a passive line), so the cascade stays finite for any
+    length; the collected scalar ``e^{gl} / 2`` only scales the transmission
+    terms. Every element is reciprocal (det = 1), so ``S12 = S21``.
     """
     f = np.asarray(freq_hz, dtype=float).ravel()
     g = gamma(f, filt.cable.alpha_np_per_m(f), filt.cable.velocity_factor)
     z0 = float(filt.cable.z0_ohm)
     mats = []
+    log_scale = np.zeros(f.size, dtype=complex)
     for e in filt.elements:
         if isinstance(e, Line):
-            mats.append(abcd_series_line(z0, g, e.length_m))
+            gl = g * e.length_m
+            q = np.exp(-2.0 * gl)
+            mats.append(np.stack([np.stack([1 + q, z0 * (1 - q)], -1),
+                                  np.stack([(1 - q) / z0, 1 + q], -1)], -2))  # fmt: skip
+            log_scale += gl - np.log(2.0)
         elif e.termination == "open":
             mats.append(abcd_shunt(yin_open(z0, g, e.length_m)))
         else:
             mats.append(abcd_shunt(yin_short(z0, g, max(e.length_m, _MIN_LENGTH_M))))
-    return abcd_to_s(cascade(*mats), z_system, z_system)
+    s = abcd_to_s(cascade(*mats), z_system, z_system)
+    shrink = np.exp(-np.minimum(log_scale.real, 700.0) - 1j * log_scale.imag)
+    s21 = s[:, 1, 0] * shrink
+    s[:, 1, 0] = s21
+    s[:, 0, 1] = s21
+    return s
 
 
 def to_network(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0, name: str = "filter"):

@@ -41,6 +41,7 @@ import json
 import math
 import os
 import tempfile
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Literal
@@ -309,7 +310,11 @@ def read_measurement(path: str | os.PathLike[str]):
     buf = io.StringIO(text)
     buf.name = p.name  # scikit-rf takes the port count from the extension
     try:
-        ntwk = skrf.Network(buf)
+        # scikit-rf warns about sweeps and values that the checks below refuse with our
+        # own one-line errors; its warnings would only add library paths to stderr.
+        with warnings.catch_warnings(), np.errstate(all="ignore"):
+            warnings.simplefilter("ignore")
+            ntwk = skrf.Network(buf)
     except Exception as exc:  # scikit-rf raises many types for bad files
         detail = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
         raise MeasurementError(f"{p}: not a readable Touchstone file ({detail})") from None

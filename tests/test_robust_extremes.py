@@ -140,13 +140,6 @@ def test_extreme_filter_writes_a_touchstone_file_scikit_rf_reads(tmp_path):
     np.testing.assert_allclose(net.s, to_network(filt, SWEEP_HZ).s, atol=1e-6)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="notchkit/filters.py evaluate -> notchkit/lines.py abcd_to_s: the ABCD of a 5 km "
-    "RG-213 Line overflows (cosh(gamma l) ~ e^700 above ~3.6 GHz): 'RuntimeWarning: overflow "
-    "encountered in multiply' at lines.py:151 (s12 = 2.0 * (a * d - b * c) * r / den) and S12 "
-    "is NaN at 12 of 241 points; evaluate_batch clips alpha*l and stays finite",
-)
 def test_a_5_km_series_line_evaluates_to_finite_s_parameters():
     cable = get_cable("RG-213")
     filt = Filter(elements=(Stub(termination="open", length_m=1.0), Line(length_m=5000.0)), cable=cable)
@@ -309,13 +302,6 @@ def test_lossless_site_cable_designs_with_a_warning(lossless_run):
     assert "lossless" in lossless_run.stderr  # and the user was told
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="notchkit/cli/__init__.py: a NotchkitWarning (LosslessCableWarning from "
-    "notchkit/cables.py cable_from_def) reaches stderr in Python's default format "
-    "'/.../notchkit/cables.py:NNN: LosslessCableWarning: ...' plus a source line, not as one "
-    "'warning: ...' line",
-)
 def test_lossless_warning_is_one_clean_line(lossless_run):
     lines = [x for x in lossless_run.stderr.splitlines() if x.strip()]
     assert lines and all(x.startswith("warning: ") for x in lines), lines

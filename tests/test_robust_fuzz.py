@@ -354,13 +354,6 @@ DAMAGED = {
 }
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="notchkit/trim.py read_measurement: skrf.Network(buf) emits skrf's "
-    "InvalidFrequencyWarning (decreasing sweep) and numpy's RuntimeWarning 'invalid value "
-    "encountered in multiply' (inf angle); outside pytest they are printed on stderr (a "
-    "library path and source line) before notchkit's own one-line error",
-)
 @pytest.mark.parametrize("kind", sorted(DAMAGED))
 def test_trim_damaged_file_warns_nothing_foreign(tmp_path, kind):
     from notchkit.errors import MeasurementError

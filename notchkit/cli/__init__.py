@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import sys
+import warnings
 
 from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
@@ -56,15 +57,30 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "run", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
-    try:
-        return int(args.run(args))
-    except NotchkitError as exc:
-        for line in exc.lines():
-            print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
-        return exc.exit_code
-    except KeyboardInterrupt:
-        print("error: interrupted", file=sys.stderr)
-        return 130
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("default")
+        try:
+            code = int(args.run(args))
+        except NotchkitError as exc:
+            _print_warnings(caught)
+            for line in exc.lines():
+                print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
+            return exc.exit_code
+        except KeyboardInterrupt:
+            print("error: interrupted", file=sys.stderr)
+            return 130
+    _print_warnings(caught)
+    return code
+
+
+def _print_warnings(caught) -> None:
+    """Each warning raised during a command as one ``warning: ...`` line on stderr."""
+    seen = set()
+    for w in caught:
+        text = " ".join(str(w.message).split())
+        if text not in seen:
+            seen.add(text)
+            print(f"warning: {text}", file=sys.stderr)
 
 
 def entry() -> None:
