@@ -327,10 +327,7 @@ def test_trim_on_damaged_files_raises_only_notchkit_errors(m):
 
     with tempfile.TemporaryDirectory() as tmp:
         path = write(tmp, "stub" + m["suffix"], m["text"])
-        # scikit-rf's and numpy's warnings while parsing a damaged file leak: a known bug,
-        # pinned down in test_trim_damaged_file_warns_nothing_foreign below (drop this
-        # allowance when it is fixed)
-        with only_notchkit_warnings(allow=("InvalidFrequencyWarning", "RuntimeWarning")):
+        with only_notchkit_warnings():
             try:
                 result = trim(path, cable=m["cable"], termination=m["termination"],
                               target_mhz=m["target_mhz"], length_m=m["length_m"])
