@@ -16,6 +16,7 @@ from __future__ import annotations
 __version__ = "0.1.0"
 
 from notchkit.cables import Cable, cable_table, get_cable, library
+from notchkit.cutlist import StubCut, cut_list, format_length
 from notchkit.design import Design, DesignReport, design, design_request
 from notchkit.errors import (
     EXIT_BAD_INPUT,
@@ -29,8 +30,14 @@ from notchkit.errors import (
     SiteError,
     UsageError,
 )
+from notchkit.filters import Filter, Line, Stub, evaluate, evaluate_batch, to_network, write_touchstone
 from notchkit.plan import PlanResult, plan
+from notchkit.power import PowerCheck, power_check
+from notchkit.requirements import FilterRequirement, NotchSpec
+from notchkit.site import Site, check, load_site
+from notchkit.solver import Solution, solve
 from notchkit.survey import SurveyResult, Threat, survey
+from notchkit.tolerance import Tolerance, tolerance
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
 
 __all__ = [
@@ -62,4 +69,25 @@ __all__ = [
     "DesignReport",
     "plan",
     "PlanResult",
+    "load_site",
+    "check",
+    "Site",
+    "FilterRequirement",
+    "NotchSpec",
+    "Filter",
+    "Stub",
+    "Line",
+    "evaluate",
+    "evaluate_batch",
+    "to_network",
+    "write_touchstone",
+    "solve",
+    "Solution",
+    "cut_list",
+    "StubCut",
+    "format_length",
+    "tolerance",
+    "Tolerance",
+    "power_check",
+    "PowerCheck",
 ]
