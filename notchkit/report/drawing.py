@@ -77,7 +77,18 @@ def draw_arrangement(
     fontsize : float
         Label size in points.
     """
+    from matplotlib.collections import LineCollection
     from matplotlib.patches import Circle, Rectangle
+
+    wires: list[list[tuple[float, float]]] = []  # every black line, drawn as one collection
+    coax_outer: list[list[tuple[float, float]]] = []
+    coax_inner: list[list[tuple[float, float]]] = []
+
+    def wire(xs: Sequence[float], ys: Sequence[float]) -> None:
+        wires.append(list(zip(xs, ys, strict=True)))
+
+    def patch(p: Any) -> None:
+        ax.add_artist(p)  # not add_patch: the limits are set below, no autoscale needed
 
     stubs = filt.stubs
     n_lines = sum(isinstance(e, Line) for e in filt.elements)
@@ -86,15 +97,14 @@ def draw_arrangement(
     if len(stub_labels) != len(stubs) or len(line_labels) != n_lines:
         raise ValueError("one label per stub and per line section is needed")
 
-    kw_line = {"color": "black", "linewidth": 1.4, "solid_capstyle": "butt"}
     kw_text = {"fontsize": fontsize, "color": "black"}
 
     # Radio block.
     x = 0.0
-    ax.add_patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
+    patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
     ax.text(x + _BOX_W / 2, 0.0, radio_label, ha="center", va="center", fontweight="bold", **kw_text)
     x += _BOX_W
-    ax.plot([x, x + _LEAD], [_Y_LINE, _Y_LINE], **kw_line)
+    wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
 
     stub_i = line_i = 0
@@ -103,7 +113,7 @@ def draw_arrangement(
     while k < len(elements):
         e = elements[k]
         if isinstance(e, Line):
-            ax.plot([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE], **kw_line)
+            wire([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE])
             ax.text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}",
                     ha="center", va="bottom", linespacing=1.1, **kw_text)
             line_i += 1
@@ -119,43 +129,49 @@ def draw_arrangement(
         x0 = x + _STUB_PITCH / 2 if len(group) > 1 else x + 0.6
         tee_x = x0 + width / 2
         span_end = x0 + width + (_STUB_PITCH / 2 if len(group) > 1 else 0.6)
-        ax.plot([x, span_end], [_Y_LINE, _Y_LINE], **kw_line)
-        ax.add_patch(Circle((tee_x, _Y_LINE), 0.07, facecolor="black", edgecolor="black", zorder=3))
+        wire([x, span_end], [_Y_LINE, _Y_LINE])
+        patch(Circle((tee_x, _Y_LINE), 0.07, facecolor="black", edgecolor="black", zorder=3))
         ax.text(tee_x, _Y_LINE + 0.12, "tee", ha="center", va="bottom", **kw_text)
         bus_y = _Y_LINE - 0.3
-        ax.plot([tee_x, tee_x], [_Y_LINE, bus_y], **kw_line)
+        wire([tee_x, tee_x], [_Y_LINE, bus_y])
         if len(group) > 1:
-            ax.plot([x0, x0 + width], [bus_y, bus_y], **kw_line)
+            wire([x0, x0 + width], [bus_y, bus_y])
         for j, stub in enumerate(group):
             sx = x0 + j * _STUB_PITCH
             end_y = _Y_LINE - _STUB_DROP
             # The stub cable drawn as a doubled line (coax), then its end.
-            ax.plot([sx, sx], [bus_y, end_y], color="black", linewidth=3.2, solid_capstyle="butt")
-            ax.plot([sx, sx], [bus_y, end_y], color="white", linewidth=1.4, solid_capstyle="butt")
+            coax_outer.append([(sx, bus_y), (sx, end_y)])
+            coax_inner.append([(sx, bus_y), (sx, end_y)])
             if stub.termination == "open":
-                ax.add_patch(Circle((sx, end_y - 0.09), 0.09, facecolor="white", edgecolor="black",
+                patch(Circle((sx, end_y - 0.09), 0.09, facecolor="white", edgecolor="black",
                                     linewidth=1.2, zorder=3))
                 label_y = end_y - 0.28
             else:
                 gy = end_y
-                ax.plot([sx, sx], [gy, gy - 0.1], **kw_line)
+                wire([sx, sx], [gy, gy - 0.1])
                 for w, dy in ((0.28, 0.1), (0.18, 0.18), (0.08, 0.26)):
-                    ax.plot([sx - w, sx + w], [gy - dy, gy - dy], **kw_line)
+                    wire([sx - w, sx + w], [gy - dy, gy - dy])
                 label_y = gy - 0.36
             ax.text(sx, label_y, stub_labels[stub_i], ha="center", va="top", linespacing=1.15, **kw_text)
             stub_i += 1
         x = span_end
 
-    ax.plot([x, x + _LEAD], [_Y_LINE, _Y_LINE], **kw_line)
+    wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
     # Antenna block: a box with a small mast symbol above it.
-    ax.add_patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
+    patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
     ax.text(x + _BOX_W / 2, 0.0, antenna_label, ha="center", va="center", fontweight="bold", **kw_text)
     mx = x + _BOX_W / 2
-    ax.plot([mx, mx], [0.45, 0.9], **kw_line)
-    ax.plot([mx - 0.25, mx, mx + 0.25], [1.15, 0.9, 1.15], **kw_line)
+    wire([mx, mx], [0.45, 0.9])
+    wire([mx - 0.25, mx, mx + 0.25], [1.15, 0.9, 1.15])
     x += _BOX_W
 
+    ax.add_collection(LineCollection(wires, colors="black", linewidths=1.4, capstyle="butt"),
+                      autolim=False)
+    ax.add_collection(LineCollection(coax_outer, colors="black", linewidths=3.2, capstyle="butt"),
+                      autolim=False)
+    ax.add_collection(LineCollection(coax_inner, colors="white", linewidths=1.4, capstyle="butt"),
+                      autolim=False)
     if cable_label:
         ax.text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top", **kw_text)
     ax.set_xlim(-0.2, x + 0.2)

@@ -136,7 +136,11 @@ def _pt_in(size: float) -> float:
 
 
 def _wrap(text: str, width_in: float, size: float, char_em: float = EMBEDDED_FONT.char_em) -> list[str]:
-    chars = max(4, int(width_in / (char_em * _pt_in(size))))
+    return list(_wrap_cached(str(text), max(4, int(width_in / (char_em * _pt_in(size))))))
+
+
+@functools.lru_cache(maxsize=8192)
+def _wrap_cached(text: str, chars: int) -> tuple[str, ...]:
     out: list[str] = []
     for para in str(text).split("\n"):
         if not para:
@@ -145,7 +149,7 @@ def _wrap(text: str, width_in: float, size: float, char_em: float = EMBEDDED_FON
         indent = len(para) - len(para.lstrip(" "))
         out += textwrap.wrap(para, chars, subsequent_indent=" " * (indent + 2), break_on_hyphens=False,
                              break_long_words=True) or [""]
-    return out
+    return tuple(out)
 
 
 class _Page:

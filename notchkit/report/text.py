@@ -17,6 +17,7 @@ from notchkit.cutlist import format_length
 from notchkit.tolerance import element_ids
 
 NOT_MET = "NOT MET"
+_MAX_ADVICE = 3
 MET = "met"
 DASH = "-"
 
@@ -258,9 +259,10 @@ def requirement_table(d: Any) -> Table:
         else:
             got = ok = None
         why = reasons[k] if k < len(reasons) else ""
+        prob = pct(tol_n[k].probability) if k < len(tol_n) else DASH
         rows.append(("notch", band_text(n.lo_mhz, n.hi_mhz), f">= {n.required_db:.1f} dB",
                      DASH if got is None else f"{got:.1f} dB",
-                     DASH if ok is None else (MET if ok else NOT_MET), _short(why, 70)))
+                     DASH if ok is None else (MET if ok else NOT_MET), prob, _short(why, 48)))
     for k, b in enumerate(req.pass_bands):
         if k < len(sol_p):
             r = sol_p[k]
@@ -272,15 +274,17 @@ def requirement_table(d: Any) -> Table:
                                         r.max_insertion_loss_db, r.max_swr)
             ok = il <= il_max and swr <= swr_max
         else:
-            rows.append(("pass", band_text(b.lo_mhz, b.hi_mhz), DASH, DASH, DASH, "wanted signal"))
+            rows.append(("pass", band_text(b.lo_mhz, b.hi_mhz), DASH, DASH, DASH, DASH, "wanted signal"))
             continue
+        prob = pct(tol_p[k].probability) if k < len(tol_p) else DASH
         rows.append(("pass", band_text(b.lo_mhz, b.hi_mhz), f"IL <= {il_max:.2f} dB, SWR <= {swr_max:.2f}",
-                     f"IL {il:.2f} dB, SWR {swr:.2f}", MET if ok else NOT_MET, "wanted signal"))
+                     f"IL {il:.2f} dB, SWR {swr:.2f}", MET if ok else NOT_MET, prob, "wanted signal"))
     return Table(
-        title="Requirements (worst case across each band, lossy cable model)",
-        header=("Band", "Range", "Required", "Design gives", "Result", "Why"),
-        rows=tuple(rows), align=("left", "left", "left", "left", "left", "left"),
-        widths=(0.55, 1.55, 1.45, 1.45, 0.7, 2.7),
+        title="Requirements (worst case across each band, lossy cable model; builds: share of simulated "
+              "builds that still meet it)",
+        header=("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
+        rows=tuple(rows), align=("left", "left", "left", "left", "left", "right", "left"),
+        widths=(0.5, 1.6, 1.55, 1.45, 0.7, 0.6, 2.3),
     )
 
 
@@ -322,6 +326,7 @@ def cut_table(d: Any, units: str = "both") -> Table:
 
 
 def tolerance_lines(d: Any) -> tuple[str, ...]:
+    """The tolerance run in two lines; per-band shares are in the requirements table."""
     t = getattr(d, "tolerance", None)
     if t is None:
         return ("Tolerance: not computed for this filter.",)
@@ -330,14 +335,11 @@ def tolerance_lines(d: Any) -> tuple[str, ...]:
         f"(every piece cut within +-{t.cut_tolerance_mm:g} mm, {t.cut_distribution}; velocity factor "
         f"{t.vf_nominal:g} +-{t.vf_spread:g}; seed {t.seed})."
     ]
-    for n in t.notches:
-        top = max(n.sensitivity, key=lambda s: abs(s.db_per_mm), default=None)
-        sens = f"; most sensitive {top.element_id} {top.db_per_mm:+.2f} dB/mm" if top else ""
-        out.append(f"Notch {band_text(n.lo_mhz, n.hi_mhz)}: {pct(n.probability)} meet >= "
-                   f"{n.required_db:.1f} dB (95 % of builds give >= {n.p05_worst_db:.1f} dB{sens}).")
-    for p in t.passes:
-        out.append(f"Pass {band_text(p.lo_mhz, p.hi_mhz)}: {pct(p.probability)} within IL "
-                   f"{p.max_insertion_loss_db:.2f} dB and SWR {p.max_swr:.2f}.")
+    sens = [(s, n) for n in t.notches for s in n.sensitivity]
+    if sens:
+        s, n = max(sens, key=lambda x: abs(x[0].db_per_mm))
+        out.append(f"Most sensitive: {s.element_id}, {s.db_per_mm:+.2f} dB per mm of length in the notch "
+                   f"{band_text(n.lo_mhz, n.hi_mhz)} (95 % of builds give >= {n.p05_worst_db:.1f} dB there).")
     return tuple(out)
 
 
@@ -422,7 +424,10 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     advice = getattr(getattr(d, "solution", None), "advice", None) or getattr(d, "advice", None) or ()
     if isinstance(advice, str):
         advice = (advice,)
-    facts += [str(a) for a in advice]
+    advice = [str(a) for a in advice]
+    facts += advice[:_MAX_ADVICE]
+    if len(advice) > _MAX_ADVICE:
+        facts.append(f"... and {len(advice) - _MAX_ADVICE} more suggestions (the plan JSON lists them all).")
     is_tx = getattr(req, "side", None) == "tx"
     return FilterText(
         filter_id=design_id(d), title=design_title(d), meets=meets,

@@ -1,0 +1,108 @@
+"""Plan speed: `notchkit plan` on the largest example site (by radio count).
+
+Runs the command line as a user would (a fresh ``python -m notchkit`` process,
+so imports count), a few times, and prints the median wall-clock time and its
+ratio to the 2 s target, with the median CPU time of the child process (on a
+shared machine the wall clock includes time other processes took). Also times
+the same site with ``--html`` and ``--outdir``, and the in-process phases of one
+run (design, PDF, images). Not a timed test: ``python benchmarks/plan.py [SITE.yaml] [RUNS]``.
+"""
+
+from __future__ import annotations
+
+import os
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+TARGET_S = 2.0
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def largest_site() -> Path:
+    from notchkit.site import load_site
+
+    sites = sorted((ROOT / "sites").glob("*.yaml"))
+    return max(sites, key=lambda p: (len(load_site(p).radios), p.name))
+
+
+def _child_cpu() -> float:
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
+
+
+def run_cli(site: Path, extra: list[str], runs: int) -> tuple[list[float], list[float], int]:
+    walls, cpus = [], []
+    code = 0
+    with tempfile.TemporaryDirectory() as tmp:
+        for k in range(runs):
+            out = Path(tmp) / f"plan{k}.pdf"
+            args = [a.replace("{tmp}", tmp).replace("{k}", str(k)) for a in extra]
+            c0 = _child_cpu()
+            t0 = time.perf_counter()
+            cmd = [sys.executable, "-m", "notchkit", "plan", str(site), "-o", str(out), *args]
+            proc = subprocess.run(cmd, capture_output=True, text=True,
+                                  env={**os.environ, "PYTHONWARNINGS": "ignore"})
+            walls.append(time.perf_counter() - t0)
+            cpus.append(_child_cpu() - c0)
+            code = proc.returncode
+            if code not in (0, 1):
+                raise SystemExit(f"notchkit plan failed ({code}): {proc.stderr.strip()}")
+    return walls, cpus, code
+
+
+def phases(site: Path) -> None:
+    import importlib
+
+    from notchkit.site import load_site
+
+    plan_mod = importlib.import_module("notchkit.plan")
+    from notchkit.report.curves import curve_data
+    from notchkit.report.html import filter_images
+    from notchkit.report.pdf import render_pdf
+    from notchkit.report.text import design_filter, plan_text
+
+    s = load_site(site)
+    t0 = time.process_time()
+    report = plan_mod._run_design(s)
+    t1 = time.process_time()
+    pt = plan_text(site=s, sv=report.survey, designs=report.designs, date="-", version="-")
+    parts = []
+    for d in report.designs:
+        f = design_filter(d)
+        sp = plan_mod._spans(d, s)
+        parts.append((f, curve_data(f, sp[0] + sp[1]), sp))
+    t2 = time.process_time()
+    _, layout = render_pdf(pt, parts)
+    t3 = time.process_time()
+    for ft, (f, c, sp) in zip(pt.filters, parts, strict=True):
+        filter_images(f, c, sp, ft)
+    t4 = time.process_time()
+    print(f"  phases (CPU s, in process): survey+design {t1 - t0:.2f}, rows+curves {t2 - t1:.2f}, "
+          f"PDF ({layout.total} pages) {t3 - t2:.2f}, PNG images for --html/--outdir {t4 - t3:.2f}")
+
+
+def main(argv: list[str]) -> None:
+    site = Path(argv[0]) if argv else largest_site()
+    runs = int(argv[1]) if len(argv) > 1 else 3
+    from notchkit.site import load_site
+
+    print(f"site: {site.relative_to(ROOT) if site.is_relative_to(ROOT) else site} "
+          f"({len(load_site(site).radios)} radios), {runs} runs each, target {TARGET_S:g} s")
+    for label, extra in (("plan -o PLAN.pdf", []),
+                         ("plan -o PLAN.pdf --html --outdir", ["--html", "{tmp}/p{k}.html",
+                                                               "--outdir", "{tmp}/d{k}"])):
+        walls, cpus, code = run_cli(site, extra, runs)
+        med = statistics.median(walls)
+        print(f"{label:36s} median wall {med:6.2f} s  (ratio to target {med / TARGET_S:5.2f})  "
+              f"median CPU {statistics.median(cpus):6.2f} s  runs {', '.join(f'{w:.2f}' for w in walls)}"
+              f"  exit {code}")
+    phases(site)
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
