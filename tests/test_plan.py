@@ -29,7 +29,7 @@ from notchkit.cutlist import format_length
 from notchkit.filters import evaluate
 from notchkit.lines import C0, db20
 from notchkit.report.pdf import expected_label_pages
-from notchkit.report.text import mhz
+from notchkit.report.text import mhz, mhz4
 
 plan_mod = importlib.import_module("notchkit.plan")  # the module (notchkit.plan is the function)
 
@@ -128,7 +128,8 @@ def test_pdf_threat_pages_list_every_threat(run):
     assert len(sv.threats) >= 1
     for t in sv.threats:
         assert t.victim in threat_text
-        assert mhz(t.f_mhz) in threat_text
+        assert mhz4(t.f_mhz) in threat_text
+        assert float(mhz4(t.f_mhz)) == pytest.approx(t.f_mhz, abs=5e-5)  # printed to 100 Hz
         assert f"{t.excess_db:.1f}" in threat_text
         assert f"{t.level_dbm:.1f}" in threat_text
 
@@ -156,7 +157,7 @@ def test_html_is_self_contained_and_prints_the_same_numbers(run):
             assert f"CUT {format_length(c.cut_length_m, 'both')}" in html
             assert format_length(c.first_cut_m, "both") in html
     for t in res.survey.threats:
-        assert mhz(t.f_mhz) in html and f"{t.excess_db:.1f}" in html
+        assert mhz4(t.f_mhz) in html and f"{t.excess_db:.1f}" in html
     # The very rows of the PDF's tables are the HTML's.
     for row in res.text.filters[0].cuts.rows:
         for cell in row:

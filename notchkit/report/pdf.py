@@ -148,7 +148,7 @@ def _wrap_cached(text: str, chars: int) -> tuple[str, ...]:
             continue
         indent = len(para) - len(para.lstrip(" "))
         out += textwrap.wrap(para, chars, subsequent_indent=" " * (indent + 2), break_on_hyphens=False,
-                             break_long_words=True) or [""]
+                             break_long_words=len(max(para.split(), key=len, default="")) > chars) or [""]
     return tuple(out)
 
 
@@ -258,9 +258,29 @@ class _Page:
         n = sum(len(self.wrap(s, self.width - 0.26, size)) for s in lines)
         return n * self.pitch(size) + 0.16 + 0.1
 
+    def column_widths(self, t: Table, size: float) -> list[float]:
+        """Column widths in inches: each at least its longest word, the rest shared by ``t.widths``."""
+        char_in = self.font.char_em * _pt_in(size)
+        pad = 0.1
+        need = []
+        for c in range(len(t.header)):
+            words = [w for cell in [t.header[c], *(r[c] for r in t.rows)] for w in str(cell).split()]
+            need.append(max((len(w) for w in words), default=1) * char_in + pad)
+        total_w = sum(t.widths)
+        share = [self.width * w / total_w for w in t.widths]
+        if sum(need) >= self.width:  # cannot keep every word whole: fall back to the shares
+            return share
+        # Grow the columns below their share proportionally, never under their need.
+        cols = [max(n, s_) for n, s_ in zip(need, share, strict=True)]
+        excess = sum(cols) - self.width
+        if excess > 0:
+            slack = [c - n for c, n in zip(cols, need, strict=True)]
+            total_slack = sum(slack)
+            cols = [c - excess * s_ / total_slack for c, s_ in zip(cols, slack, strict=True)]
+        return cols
+
     def table_layout(self, t: Table, size: float) -> tuple[list[float], list[list[list[str]]]]:
-        total = sum(t.widths)
-        cols = [self.width * w / total for w in t.widths]
+        cols = self.column_widths(t, size)
         header = [self.wrap(h, c - 0.08, size) for h, c in zip(t.header, cols, strict=True)]
         rows = [[self.wrap(cell, c - 0.08, size) for cell, c in zip(r, cols, strict=True)] for r in t.rows]
         return cols, [header, *rows]

@@ -127,6 +127,12 @@ def mhz(x: float) -> str:
     return s if s not in ("", "-0") else "0"
 
 
+def mhz4(x: float) -> str:
+    """A frequency in MHz to 100 Hz, trailing zeros dropped (a threat's centre frequency)."""
+    s = f"{float(x):.4f}".rstrip("0").rstrip(".")
+    return s if s not in ("", "-0") else "0"
+
+
 def band_text(lo: float, hi: float) -> str:
     return f"{mhz(lo)}-{mhz(hi)} MHz" if abs(hi - lo) > 1e-9 else f"{mhz(lo)} MHz"
 
@@ -217,7 +223,7 @@ def threat_table(sv: Any) -> Table:
     for i, t in enumerate(sv.threats, start=1):
         source = t.product if t.mechanism == "intermod" else ", ".join(t.sources)
         rows.append((
-            str(i), source, t.victim, t.mechanism, str(t.order), mhz(t.f_mhz),
+            str(i), source, t.victim, t.mechanism, str(t.order), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), threat_where(t),
         ))
     return Table(
