@@ -10,7 +10,7 @@ The medium is anything with ``z0_ohm``, ``velocity_factor`` and
 own object); the stub builders are written once against that interface.
 
 The solver's inner loop is :func:`evaluate_batch`: arrays of shape
-(candidates, frequencies), one ``tanh`` per stub per point, no Python loop over
+(candidates, frequencies), one complex ``tanh`` per stub per point, no Python loop over
 frequencies or candidates (only over elements and memory-sized chunks).
 """
 
@@ -79,6 +79,11 @@ class Line:
 
 
 Element = Stub | Line
+
+
+def _check_freq(f: NDArray[np.float64]) -> None:
+    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f <= 0):
+        raise DesignError("frequencies must be finite and > 0 Hz")
 
 
 def _check_length(length_m: float, what: str) -> None:
@@ -165,8 +170,9 @@ def evaluate_batch(
     -----
     The running ABCD product is kept as four arrays. A shunt admittance ``Y``
     updates ``A += B Y, C += D Y``. A line section is applied as
-    ``cosh(gl) [[1, Z0 t], [t / Z0, 1]]`` with ``t = tanh(gl)``; the scalar
-    ``cosh`` factors only scale S21, so they are collected separately. Then
+    ``(e^{gl}/2) [[1 + q, Z0 (1 - q)], [(1 - q) / Z0, 1 + q]]`` with
+    ``q = e^{-2gl}``; the scalar factors only scale S21, so they are collected
+    and applied once. Then
     ``S21 = 2 / (A + B/Z + C Z + D)`` and
     ``S11 = (A + B/Z - C Z - D) / (A + B/Z + C Z + D)`` (Pozar table 4.2).
     """
@@ -178,6 +184,7 @@ def evaluate_batch(
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
     f = np.asarray(freq_hz, dtype=float).ravel()
+    _check_freq(f)
     g = gamma(f, cable.alpha_np_per_m(f), cable.velocity_factor)
     z0 = float(cable.z0_ohm)
     zs = float(z_system)
@@ -191,81 +198,65 @@ def evaluate_batch(
     return s21, s11
 
 
-def _tanh_or_coth(length, alpha, beta, coth: bool):
-    """``tanh(gamma l)`` (or ``coth``) from real functions of ``alpha l`` and ``beta l``.
-
-    With ``x = alpha l`` and ``y = beta l``::
-
-        tanh(x + jy) = (sinh 2x + j sin 2y) / (2 (sinh^2 x + cos^2 y))
-        coth(x + jy) = (sinh 2x - j sin 2y) / (2 (sinh^2 x + sin^2 y))
-
-    Real ``exp``/``sin``/``cos`` are several times faster than numpy's complex
-    ``tanh``, and the denominators stay exact near a zero-length short.
-    """
-    # tanh and coth are 1 to double precision once alpha l > 20 nepers; clipping
-    # keeps exp finite for absurdly long or lossy stubs.
-    ex = np.exp(np.minimum(length * alpha, 20.0))
-    sh = 0.5 * (ex - 1.0 / ex)
-    ch = 0.5 * (ex + 1.0 / ex)
-    y = length * beta
-    sy, cy = np.sin(y), np.cos(y)
-    den = sh * sh + (sy * sy if coth else cy * cy)
-    out = np.empty(den.shape, dtype=complex)
-    out.real = sh * ch / den
-    out.imag = (-sy * cy / den) if coth else (sy * cy / den)
-    return out
-
-
 def _mul(x, y):
     """Product that skips the exact scalars 0 and 1 left by the identity start."""
-    if np.isscalar(x):
-        if x == 0:
+    if x.__class__ is float:
+        if x == 0.0:
             return 0.0
-        if x == 1:
+        if x == 1.0:
             return y
-    if np.isscalar(y):
-        if y == 0:
+    if y.__class__ is float:
+        if y == 0.0:
             return 0.0
-        if y == 1:
+        if y == 1.0:
             return x
     return x * y
 
 
 def _add(x, y):
-    if np.isscalar(x) and x == 0:
+    if x.__class__ is float and x == 0.0:
         return y
-    if np.isscalar(y) and y == 0:
+    if y.__class__ is float and y == 0.0:
         return x
     return x + y
 
 
 def _evaluate_chunk(kinds, lengths, g, z0, zs):
     alpha, beta = g.real[None, :], g.imag[None, :]
+    g = g[None, :]
     # The running ABCD product; exact scalars until an element makes them arrays.
     a, b, c, d = 1.0, 0.0, 0.0, 1.0
-    scale = None
+    line_length = None  # total line length per candidate, for the collected e^{gl}/2 factors
+    n_lines = 0
     y0 = 1.0 / z0
     for j, kind in enumerate(kinds):
         length = lengths[:, j : j + 1]
         if kind == "line":
-            t = _tanh_or_coth(length, alpha, beta, coth=False)
-            gl = length * g[None, :]
-            ch = np.cosh(np.minimum(gl.real, 700.0) + 1j * gl.imag)  # S21 ~ e^-700 is zero anyway
-            scale = ch if scale is None else scale * ch
-            tz, ty = t * z0, t * y0
-            a, b = _add(a, _mul(b, ty)), _add(_mul(a, tz), b)
-            c, d = _add(c, _mul(d, ty)), _add(_mul(c, tz), d)
+            # ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = e^{-2gl}, |q| <= 1
+            x2 = np.minimum(2.0 * length * alpha, 1400.0)
+            y2 = 2.0 * length * beta
+            q = np.empty(y2.shape, dtype=complex)
+            ex = np.exp(-x2)
+            q.real = ex * np.cos(y2)
+            q.imag = -ex * np.sin(y2)
+            p, m = 1.0 + q, 1.0 - q
+            mz, my = m * z0, m * y0
+            a, b = _add(_mul(a, p), _mul(b, my)), _add(_mul(a, mz), _mul(b, p))
+            c, d = _add(_mul(c, p), _mul(d, my)), _add(_mul(c, mz), _mul(d, p))
+            line_length = length if line_length is None else line_length + length
+            n_lines += 1
             continue
         if kind == "short":
-            y = _tanh_or_coth(np.maximum(length, _MIN_LENGTH_M), alpha, beta, coth=True) * y0
+            y = y0 / np.tanh(np.maximum(length, _MIN_LENGTH_M) * g)
         else:
-            y = _tanh_or_coth(length, alpha, beta, coth=False) * y0
+            y = np.tanh(length * g) * y0
         a = _add(a, _mul(b, y))
         c = _add(c, _mul(d, y))
     den = _add(_add(a, _mul(b, 1.0 / zs)), _add(_mul(c, zs), d))
     s21 = 2.0 / den
-    if scale is not None:
-        s21 = s21 / scale
+    if line_length is not None:
+        gl = line_length * g
+        s21 = s21 * (2.0**n_lines) * np.exp(-np.minimum(gl.real, 700.0) - 1j * gl.imag)
     s11 = (_add(a, _mul(b, 1.0 / zs)) - _add(_mul(c, zs), d)) / den
     shape = (lengths.shape[0], g.size)
     return np.broadcast_to(s21, shape), np.broadcast_to(s11, shape)
@@ -286,6 +277,7 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
     terms. Every element is reciprocal (det = 1), so ``S12 = S21``.
     """
     f = np.asarray(freq_hz, dtype=float).ravel()
+    _check_freq(f)
     g = gamma(f, filt.cable.alpha_np_per_m(f), filt.cable.velocity_factor)
     z0 = float(filt.cable.z0_ohm)
     mats = []
