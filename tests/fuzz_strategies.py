@@ -256,6 +256,28 @@ def site_documents(draw, *, max_radios: int = 4) -> dict[str, Any]:
     return doc
 
 
+@st.composite
+def threat_sites(draw, *, extra_radios: int = 1) -> dict[str, Any]:
+    """A valid site that needs at least one filter: a transmitter and a receiver a few metres
+    apart, a few percent apart in frequency (the receiver is overloaded: common practice, a
+    co-sited VHF/UHF pair needs filtering), plus up to ``extra_radios`` random radios."""
+    doc = draw(site_documents(max_radios=max(extra_radios, 1)))
+    f_tx = draw(st.sampled_from([7.1, 14.2, 50.1, 146.52, 155.34, 446.0, 1296.0]))
+    ratio = draw(st.sampled_from([1.03, 1.06, 1.1, 0.94, 0.9]))
+    doc.setdefault("transmitters", []).append({
+        "name": "pair-tx",
+        "freq_mhz": f_tx,
+        "power_w": draw(st.sampled_from([1, 50, 100, 1000, 10_000])),
+        "antenna": {"x_m": 0, "y_m": 0, "height_m": 10},
+    })
+    doc.setdefault("receivers", []).append({
+        "name": "pair-rx",
+        "freq_mhz": round(f_tx * ratio, 4),
+        "antenna": {"x_m": draw(st.sampled_from([2, 5, 10, 30])), "y_m": 0, "height_m": 10},
+    })
+    return doc
+
+
 def to_yaml(doc: Any) -> str:
     """YAML text of a document (NaN and infinity come out as ``.nan``/``.inf``)."""
     return yaml.safe_dump(doc, sort_keys=False, allow_unicode=True)

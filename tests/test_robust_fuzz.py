@@ -5,7 +5,7 @@ Properties (hypothesis, derandomized so a run is repeatable; the strategies are
 in tests/fuzz_strategies.py):
 
 * a valid site document (built from the documented keys and ranges) loads, and
-  ``survey``/``design`` give JSON with no NaN or infinity anywhere
+  ``survey``/``design``/``plan`` give JSON with no NaN or infinity anywhere
   (``json.dumps(..., allow_nan=False)`` succeeds and a walk finds only finite
   floats), and their text has no ``nan``/``inf``;
 * a mutated document, or random text, either loads or raises
@@ -168,8 +168,8 @@ def test_valid_documents_load_and_survey_to_finite_numbers(doc):
 
 
 @pytest.mark.skipif(not fs.built("design"), reason="notchkit design is not built yet")
-@settings(FUZZ, max_examples=6)
-@given(fs.site_documents(max_radios=2))
+@settings(FUZZ, max_examples=10)
+@given(fs.threat_sites())
 def test_valid_documents_design_to_finite_numbers(doc):
     with tempfile.TemporaryDirectory() as tmp:
         path = write(tmp, "site.yaml", fs.to_yaml(doc))
@@ -186,6 +186,27 @@ def test_valid_documents_design_to_finite_numbers(doc):
         doc_out = parse_json_output(out)
         assert_finite_json(doc_out)
         assert doc_out["meets"] is (rc == EXIT_OK)
+        assert doc_out["filters"], "a site with a co-sited pair needs a filter"
+
+
+@pytest.mark.skipif(not fs.built("plan"), reason="notchkit plan is not built yet")
+@settings(FUZZ, max_examples=2)
+@given(fs.threat_sites(extra_radios=1))
+def test_valid_documents_plan_to_finite_numbers(doc):
+    """The plan's JSON (``--outdir``) is finite too, and every file it writes is whole."""
+    with tempfile.TemporaryDirectory() as tmp:
+        path = write(tmp, "site.yaml", fs.to_yaml(doc))
+        out = Path(tmp) / "out"
+        with only_notchkit_warnings():
+            rc, _, err = run_cli(["plan", str(path), "-o", str(Path(tmp) / "x.pdf"), "--outdir", str(out)])
+        assert "Traceback" not in err
+        if rc == EXIT_BAD_INPUT:
+            assert err.startswith("error: ") and not (Path(tmp) / "x.pdf").exists()
+            return
+        assert rc in (EXIT_OK, EXIT_UNMET), err
+        plan = json.loads((out / "plan.json").read_text(encoding="utf-8"), parse_constant=_no_constants)
+        assert_finite_json(plan)
+        assert (Path(tmp) / "x.pdf").read_bytes().rstrip().endswith(b"%%EOF")
 
 
 @settings(FUZZ, max_examples=50)
