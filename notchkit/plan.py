@@ -190,7 +190,7 @@ def plan(
     version = notchkit.__version__
     json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
-                   plan_json=str(json_path) if json_path is not None else "PLAN.json")
+                   plan_json=str(json_path) if json_path is not None else "OUTDIR/plan.json")
     parts = []
     for d in designs:
         filt = design_filter(d)

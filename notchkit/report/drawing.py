@@ -45,6 +45,49 @@ def default_line_labels(filt: Filter, units: str = "both") -> list[str]:
     return [length_text(e.length_m, units) for e in filt.elements if isinstance(e, Line)]
 
 
+class FigureRegion:
+    """A rectangle of a Figure that takes the few Axes calls the drawing makes.
+
+    Drawing straight onto the figure with one affine transform skips building an
+    Axes (ticks, spines, limits), which is most of the cost of a small schematic.
+    ``rect`` is ``(left, bottom, width, height)`` in figure fractions; the drawing
+    units are mapped onto it with the limits of :func:`drawing_limits`.
+    """
+
+    def __init__(self, fig: Any, rect: tuple[float, float, float, float], filt: Filter):
+        from matplotlib.transforms import Affine2D, Bbox, BboxTransformTo, TransformedBbox
+
+        self.fig = fig
+        (x0, x1), (y0, y1) = drawing_limits(filt)
+        box = TransformedBbox(Bbox.from_bounds(*rect), fig.transFigure)
+        self.transform = (Affine2D().translate(-x0, -y0).scale(1.0 / (x1 - x0), 1.0 / (y1 - y0))
+                          + BboxTransformTo(box))
+
+    def text(self, x: float, y: float, s: str, **kw: Any) -> Any:
+        return self.fig.text(x, y, s, transform=self.transform, **kw)
+
+    def add_artist(self, a: Any) -> Any:
+        a.set_transform(self.transform)
+        return self.fig.add_artist(a)
+
+    def add_collection(self, c: Any, autolim: bool = False) -> Any:
+        return self.add_artist(c)
+
+    def set_xlim(self, *a: Any) -> None:
+        """Limits are fixed by :func:`drawing_limits`."""
+
+    def set_ylim(self, *a: Any) -> None:
+        """Limits are fixed by :func:`drawing_limits`."""
+
+    def set_axis_off(self) -> None:
+        """There is no axis to hide."""
+
+
+def drawing_limits(filt: Filter) -> tuple[tuple[float, float], tuple[float, float]]:
+    """The x and y limits of the drawing of ``filt``, in drawing units."""
+    return (-0.2, arrangement_width(filt) + 0.2), (-_STUB_DROP - 1.45, 1.35)
+
+
 def draw_arrangement(
     ax: Any,
     filt: Filter,
@@ -61,8 +104,8 @@ def draw_arrangement(
 
     Parameters
     ----------
-    ax : matplotlib.axes.Axes
-        Target axes; its limits are set and its frame hidden.
+    ax : matplotlib.axes.Axes or FigureRegion
+        Target; an Axes gets its limits set and its frame hidden.
     filt : Filter
         Elements radio side first; consecutive stubs share one tee.
     stub_labels, line_labels : sequence of str, optional
@@ -174,8 +217,9 @@ def draw_arrangement(
                       autolim=False)
     if cable_label:
         ax.text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top", **kw_text)
-    ax.set_xlim(-0.2, x + 0.2)
-    ax.set_ylim(-_STUB_DROP - 1.45, 1.35)
+    xlim, ylim = drawing_limits(filt)
+    ax.set_xlim(*xlim)
+    ax.set_ylim(*ylim)
     ax.set_axis_off()
 
 

@@ -350,6 +350,17 @@ class _Page:
             h += 0.03 + self.para_height(t.note, size - 0.5)
         return h
 
+    def region(self, height_in: float, filt: Any):
+        """A :class:`notchkit.report.drawing.FigureRegion` the full text width and ``height_in`` tall."""
+        reg = None
+        if not self.dry:
+            from notchkit.report.drawing import FigureRegion
+
+            reg = FigureRegion(self.fig, (self._fx(self.x0), self._fy(self.y + height_in),
+                                          self.width / self.w, height_in / self.h), filt)
+        self.y += height_in
+        return reg
+
     def axes(self, height_in: float, left_in: float = 0.0, bottom_pad_in: float = 0.0,
              right_in: float = 0.0):
         ax = None
@@ -440,9 +451,9 @@ def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any]
     for f in ft.facts:
         page.para(f, body, gap=0.0)
     page.y += 0.05
-    ax = page.axes(draw_h)
-    if ax is not None:
-        draw_arrangement(ax, filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
+    region = page.region(draw_h, filt)
+    if region is not None:
+        draw_arrangement(region, filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
                          radio_label=ft.radio_label, antenna_label=ft.antenna_label,
                          cable_label=ft.cable_label, fontsize=max(5.0, body - 0.5))
     page.y += 0.08 + 2.0 * body / 72.0  # room for the curve's title
