@@ -186,7 +186,6 @@ def test_valid_documents_design_to_finite_numbers(doc):
         doc_out = parse_json_output(out)
         assert_finite_json(doc_out)
         assert doc_out["meets"] is (rc == EXIT_OK)
-        assert doc_out["filters"], "a site with a co-sited pair needs a filter"
 
 
 @pytest.mark.skipif(not fs.built("plan"), reason="notchkit plan is not built yet")
