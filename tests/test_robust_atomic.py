@@ -507,3 +507,45 @@ def test_trim_leaves_its_measurement_and_plan_untouched(tmp_path, capsys):
         assert rc in (EXIT_OK, 2), err  # the hand-made plan may lack a field: still nothing is written
         assert {p: _stamp(p) for p in stamps} == stamps
     assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json", "stub.s2p"]
+
+
+# ---------------------------------------------------------------------------
+# An output that cannot be written: exit 2, one line, nothing written anywhere
+# ---------------------------------------------------------------------------
+
+UNWRITABLE = {
+    "outdir-is-a-file": (["-o", "{d}/ok.pdf", "--outdir", "{d}/afile"], "--outdir"),
+    "pdf-folder-missing": (["-o", "{d}/nodir/x.pdf"], "does not exist"),
+    "html-folder-missing": (["-o", "{d}/ok.pdf", "--html", "{d}/nodir/x.html"], "does not exist"),
+    "html-is-a-folder": (["-o", "{d}/ok.pdf", "--html", "{d}"], "is a directory"),
+    "pdf-is-a-folder": (["-o", "{d}"], "is a directory"),
+}
+
+
+@needs_plan
+@pytest.mark.parametrize("name", sorted(UNWRITABLE))
+def test_plan_with_an_unwritable_output_writes_nothing(tmp_path, capsys, name):
+    site = tmp_path / "site.yaml"
+    site.write_text(SMALL_SITE, encoding="utf-8")
+    work = tmp_path / "w"
+    work.mkdir()
+    (work / "afile").write_bytes(b"")
+    args, words = UNWRITABLE[name]
+    rc = main(["plan", str(site), *(a.format(d=work) for a in args)])
+    out, err = capsys.readouterr()
+    assert rc == 2
+    (line,) = err.splitlines()
+    assert line.startswith("error: ") and words in line
+    assert sorted(p.name for p in work.iterdir()) == ["afile"]
+
+
+@needs_design
+def test_design_with_a_file_as_touchstone_folder_writes_nothing(tmp_path, capsys):
+    (tmp_path / "afile").write_bytes(b"")
+    rc = main(["design", *DESIGN_ARGS, "--touchstone", str(tmp_path / "afile")])
+    out, err = capsys.readouterr()
+    assert rc == 2
+    (line,) = err.splitlines()
+    assert line.startswith("error: --touchstone")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["afile"]
+    assert (tmp_path / "afile").read_bytes() == b""

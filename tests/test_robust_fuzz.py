@@ -337,6 +337,12 @@ def test_trim_on_synthetic_stub_sweeps_gives_finite_figures(m):
         assert_finite_json(doc)
         # the stub was made from the nominal cable: the effective VF comes back near nominal
         assert result.velocity_factor == pytest.approx(result.nominal_velocity_factor, rel=0.02)
+        with only_notchkit_warnings():
+            rc, out, err = run_cli(["trim", str(path), "--cable", m["cable"], "--termination",
+                                    m["termination"], "--target-mhz", repr(m["target_mhz"]),
+                                    "--length-m", repr(m["length_m"]), "--json"])
+        assert rc == EXIT_OK, err
+        assert_finite_json(parse_json_output(out))
         assert path.read_bytes() == before
 
 
