@@ -89,3 +89,42 @@ def test_unknown_page_size_is_a_usage_error():
 
     with pytest.raises(UsageError, match="page size 'a3' must be one of a4, letter"):
         page_size_in("a3")
+
+
+def test_a_filter_too_big_for_one_page_continues_on_a_second(tmp_path):
+    """60 notch bands cannot fit one page at 5 pt: the page splits, and the layout says so."""
+    from types import SimpleNamespace
+
+    from pypdf import PdfReader
+
+    from notchkit.cables import get_cable
+    from notchkit.cutlist import cut_list
+    from notchkit.filters import Filter, Stub
+    from notchkit.report.curves import curve_data, notch_spans, pass_spans
+    from notchkit.report.pdf import render_pdf
+    from notchkit.report.text import plan_text
+    from notchkit.requirements import FilterRequirement, NotchSpec
+    from notchkit.site.model import Band, Radio, Receive, Site
+    from notchkit.survey import SurveyResult
+
+    cable = get_cable("RG-213")
+    filt = Filter(elements=(Stub(termination="open", length_m=0.35),), cable=cable, tee_allowance_m=0.03)
+    notches = tuple(NotchSpec(lo_mhz=200.0 + 5 * k, hi_mhz=201.0 + 5 * k, required_db=20.0)
+                    for k in range(60))
+    req = FilterRequirement(radio="rx-a", side="rx", pass_bands=(Band(lo_mhz=144.0, hi_mhz=148.0),),
+                            notches=notches, cable="RG-213", reasons=tuple(f"reason {k}" for k in range(60)))
+    cuts = cut_list(filt, notch_mhz=[200.5], pass_mhz=[146.0], filter_id="F1")
+    d = SimpleNamespace(id="F1", requirement=req, solution=SimpleNamespace(filter=filt, meets=False),
+                        cable=cable, cuts=cuts, tolerance=None, power=None, meets=False)
+    site = Site(name="Test Flat", cable="RG-213",
+                radios=(Radio(name="rx-a", rx=Receive(band=Band(lo_mhz=144.0, hi_mhz=148.0))),))
+    sv = SurveyResult(site="Test Flat", transmitters=(), receivers=("rx-a",), threats=(), filters=(req,))
+    pt = plan_text(site=site, sv=sv, designs=[d], date="2026-01-01", version="0")
+    spans = (pass_spans(req.pass_bands, 0.5), notch_spans(req.notches))
+    data, layout = render_pdf(pt, [(filt, curve_data(filt, spans[0] + spans[1]), spans)])
+    assert layout.filters == 2
+    pages = [p.extract_text() for p in PdfReader(io.BytesIO(data)).pages]
+    assert len(pages) == layout.total
+    first, second = pages[1 + layout.threats], pages[2 + layout.threats]
+    assert "F1: rx filter at rx-a" in first and "(continued)" in second
+    assert "Trimming steps" in second and "reason 59" in first

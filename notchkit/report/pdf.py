@@ -439,10 +439,15 @@ def _threat_pages(new_page: Callable[[], _Page], pt: PlanText, size: float = 7.0
 
 
 def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any], filt: Any,
-                 body: float, draw_h: float, curve_h: float) -> None:
+                 body: float, draw_h: float, curve_h: float, part: str = "all") -> None:
+    """One filter's page; ``part`` "first" stops after the cut list, "rest" starts after it."""
     from notchkit.report.curves import draw_curve
     from notchkit.report.drawing import draw_arrangement
 
+    if part == "rest":
+        page.heading(f"{ft.title} (continued)", 13.0)
+        _filter_rest(page, ft, body)
+        return
     page.heading(ft.title, 13.0)
     if ft.meets:
         page.para(ft.verdict, body + 1, bold=True)
@@ -463,6 +468,13 @@ def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any]
                    "(S11)", fontsize=body)
     page.table(ft.requirements, body - 0.5)
     page.table(ft.cuts, body - 0.5)
+    if part == "all":
+        _filter_rest(page, ft, body)
+    else:
+        page.para("Tolerance, power check and trimming steps: next page.", body, bold=True)
+
+
+def _filter_rest(page: _Page, ft: FilterText, body: float) -> None:
     page.para("Tolerance", body + 0.5, bold=True, gap=0.0)
     for s in ft.tolerance:
         page.para(s, body - 0.5, gap=0.0)
@@ -540,14 +552,24 @@ _FIT_STEPS = ((8.0, 1.85, 2.9), (7.5, 1.75, 2.7), (7.0, 1.65, 2.5), (6.5, 1.55, 
 
 
 def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans: Any,
-                filt: Any, font: PdfFont) -> tuple[float, float, float]:
-    """The largest body size at which the filter's page fits on one page."""
+                filt: Any, font: PdfFont) -> tuple[tuple[float, float, float], bool]:
+    """The largest body size at which the filter's page fits on one page, and whether any does.
+
+    When none does (a filter with very many bands), the page is split in two at
+    the smallest size that fits both halves, the rest on a continuation page.
+    """
     for step in _FIT_STEPS:
         dry = _Page(size_in, dry=True, font=font)
         _filter_page(dry, ft, curve, spans, filt, *step)
         if dry.y <= dry.bottom:
-            return step
-    return _FIT_STEPS[-1]
+            return step, True
+    for step in _FIT_STEPS:
+        first, rest = _Page(size_in, dry=True, font=font), _Page(size_in, dry=True, font=font)
+        _filter_page(first, ft, curve, spans, filt, *step, part="first")
+        _filter_page(rest, ft, curve, spans, filt, *step, part="rest")
+        if first.y <= first.bottom and rest.y <= rest.bottom:
+            return step, False
+    return _FIT_STEPS[-1], False
 
 
 def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
@@ -596,12 +618,15 @@ def _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfP
         _cover(cover, pt)
         pages.append(cover)
         threat_pages = _threat_pages(new_page, pt)
+        filter_pages = 0
         pages += threat_pages
         for ft, (filt, curve, spans) in zip(pt.filters, filter_parts, strict=True):
-            step = _fit_filter(size_in, ft, curve, spans, filt, font)
-            p = new_page()
-            _filter_page(p, ft, curve, spans, filt, *step)
-            pages.append(p)
+            step, one_page = _fit_filter(size_in, ft, curve, spans, filt, font)
+            for part in ("all",) if one_page else ("first", "rest"):
+                p = new_page()
+                _filter_page(p, ft, curve, spans, filt, *step, part=part)
+                pages.append(p)
+                filter_pages += 1
         tag_pages = _tag_pages(new_page, pt.tags, tags_per_page(page_size))
         pages += tag_pages
         caut = new_page()
@@ -613,7 +638,7 @@ def _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfP
             for k, p in enumerate(pages, start=1):
                 _footer(p, footer or pt.title, k, n)
                 pdf.savefig(p.fig)
-    layout = PdfLayout(cover=1, threats=len(threat_pages), filters=len(pt.filters), labels=len(tag_pages),
+    layout = PdfLayout(cover=1, threats=len(threat_pages), filters=filter_pages, labels=len(tag_pages),
                        cautions=1)
     return buf.getvalue(), layout
 
