@@ -446,6 +446,33 @@ def test_killed_plan_leaves_old_or_complete_outputs(plan_run, tmp_path):
     assert sha256(site) == site_sha
 
 
+def test_interrupted_plan_exits_130_and_cleans_up(plan_run, tmp_path):
+    """Ctrl-C (SIGINT) mid-write: exit 130, old or complete files, and no temporary left behind
+    (unlike SIGKILL, an interrupt lets the writer remove its temporary)."""
+    out = tmp_path / "out"
+    out.mkdir()
+    argv = ["plan", str(plan_run.site), "-o", str(out / "x.pdf"), "--html", str(out / "x.html"),
+            "--outdir", str(out / "dir")]
+    names = plan_run.names
+    old = old_files(out, [n for n in names if not n.endswith((".png", ".csv"))])
+    proc = subprocess.Popen([sys.executable, "-m", "notchkit", *argv], cwd=tmp_path,
+                            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
+    t0 = time.monotonic()
+    while proc.poll() is None and not any(p.name.startswith(".") for p in out.rglob("*")):
+        if time.monotonic() - t0 > 300:
+            break
+        time.sleep(0.0005)
+    if proc.poll() is None:
+        proc.send_signal(signal.SIGINT)
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode in (130, EXIT_OK, EXIT_UNMET), err
+    assert "Traceback" not in err
+    if proc.returncode == 130:
+        assert err.strip().splitlines()[-1] == "error: interrupted"
+    assert_old_or_complete(out, old, set(names))
+    assert not [p for p in out.rglob("*") if p.name.startswith(".")], "a temporary was left behind"
+
+
 # ---------------------------------------------------------------------------
 # Inputs are never modified
 # ---------------------------------------------------------------------------
@@ -473,11 +500,15 @@ def test_every_command_leaves_the_example_site_untouched(site, tmp_path, capsys)
                      "--outdir", str(tmp_path / "dir")])
     for argv in runs:
         rc = main(argv)
-        err = capsys.readouterr().err
+        out, err = capsys.readouterr()
         assert rc in (EXIT_OK, EXIT_UNMET), (argv, err)
         assert _stamp(site) == before, f"{argv[0]} changed the input"
+        if "--json" in argv:
+            json.dumps(json.loads(out), allow_nan=False)  # finite numbers only
     if built("plan"):
-        assert (tmp_path / "dir" / "plan.json").is_file()
+        json.dumps(json.loads((tmp_path / "dir" / "plan.json").read_text(encoding="utf-8")),
+                   allow_nan=False)
+        assert complete(tmp_path / "x.pdf") and complete(tmp_path / "x.html")
 
 
 def test_trim_leaves_its_measurement_and_plan_untouched(tmp_path, capsys):

@@ -151,10 +151,17 @@ def test_strategy_keys_are_the_documented_keys():
 
 
 @settings(FUZZ, max_examples=25)
-@given(fs.site_documents())
-def test_valid_documents_load_and_survey_to_finite_numbers(doc):
+@given(fs.site_documents(), st.sampled_from(["plain", "bom", "crlf", "comments"]))
+def test_valid_documents_load_and_survey_to_finite_numbers(doc, style):
+    text = fs.to_yaml(doc)
+    if style == "bom":  # a UTF-8 byte order mark, as some editors write (Unicode sec. 23.8)
+        text = "\ufeff" + text
+    elif style == "crlf":  # Windows line ends
+        text = text.replace("\n", "\r\n")
+    elif style == "comments":
+        text = "# a fictional site\n" + text.replace("\n", "  # note\n", 1)
     with tempfile.TemporaryDirectory() as tmp:
-        path = write(tmp, "site.yaml", fs.to_yaml(doc))
+        path = write(tmp, "site.yaml", text)
         with only_notchkit_warnings():
             site = load_site(path)  # a valid document must load: any SiteError here is a failure
             assert len(site.radios) == sum(len(doc.get(k, [])) for k in
