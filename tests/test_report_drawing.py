@@ -25,13 +25,17 @@ def _filter():
 
 
 def _texts(fig):
-    return [t.get_text() for t in fig.axes[0].texts]
+    return [t.get_text() for t in fig.texts]
+
+
+def _patches(fig):
+    return [a for a in fig.get_children() if isinstance(a, Circle)]
 
 
 def test_one_tee_per_stub_group_and_end_symbols_by_termination():
     filt = _filter()
     fig = arrangement_figure(filt)
-    circles = [p for p in fig.axes[0].patches if isinstance(p, Circle)]
+    circles = _patches(fig)
     filled = [c for c in circles if c.get_facecolor()[:3] == (0.0, 0.0, 0.0)]
     hollow = [c for c in circles if c.get_facecolor()[:3] == (1.0, 1.0, 1.0)]
     assert len(filled) == len(filt.tees()) == 2

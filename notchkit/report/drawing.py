@@ -248,8 +248,7 @@ def arrangement_figure(
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=(width_in, height_in))
-    ax = fig.add_axes((0.01, 0.01, 0.98, 0.98))
     units_per_in = arrangement_width(filt) / width_in
     kwargs.setdefault("fontsize", max(5.0, min(8.0, 8.0 * 2.4 / max(units_per_in, 1e-9))))
-    draw_arrangement(ax, filt, **kwargs)
+    draw_arrangement(FigureRegion(fig, (0.01, 0.01, 0.98, 0.98), filt), filt, **kwargs)
     return fig

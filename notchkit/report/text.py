@@ -378,7 +378,7 @@ def power_lines(d: Any) -> tuple[str, ...]:
            f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
-    out += list(pw.notes)
+    out += [n[:1].upper() + n[1:] for n in pw.notes]
     return tuple(out)
 
 
@@ -437,7 +437,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     is_tx = getattr(req, "side", None) == "tx"
     return FilterText(
         filter_id=design_id(d), title=design_title(d), meets=meets,
-        verdict=("Meets every requirement." if meets else
+        verdict=(_met_verdict(d) if meets else
                  f"{NOT_MET}: this filter does not meet every requirement (see the table below)."),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
         tolerance=tolerance_lines(d), power=power_table(d), power_lines=power_lines(d),
@@ -446,6 +446,14 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
         antenna_label="ANTENNA",
     )
+
+
+def _met_verdict(d: Any) -> str:
+    t = getattr(d, "tolerance", None)
+    if t is None:
+        return "Meets every requirement."
+    return (f"Meets every requirement as designed; {pct(t.probability_all)} of simulated builds do "
+            "(see Tolerance).")
 
 
 # ---------------------------------------------------------------- labels
