@@ -33,6 +33,7 @@ from io import StringIO
 from pathlib import Path
 
 import fuzz_strategies as fs
+import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -396,3 +397,62 @@ def test_trim_damaged_file_warns_nothing_foreign(tmp_path, kind):
         with pytest.raises(MeasurementError, match=message):
             trim(path, cable="RG-58", termination="open", target_mhz=50.0, length_m=1.0)
     assert [w.category.__name__ for w in caught] == []
+
+
+# ---------------------------------------------------------------------------
+# The other inputs: trim's plan JSON, cables' frequency list
+# ---------------------------------------------------------------------------
+
+_JSON_VALUES = st.recursive(
+    st.none() | st.booleans() | st.floats(allow_nan=False) | st.integers() | st.text(max_size=10),
+    lambda inner: st.lists(inner, max_size=4) | st.dictionaries(
+        st.sampled_from(["filters", "elements", "id", "kind", "termination", "length_m",
+                         "cut_length_m", "first_cut_m", "x"]), inner, max_size=5),
+    max_leaves=25,
+)
+
+
+@settings(FUZZ, max_examples=40)
+@given(st.one_of(
+    _JSON_VALUES.map(json.dumps),
+    st.builds(lambda v: json.dumps({"filters": [{"id": "F1", "elements": [
+        {"kind": "stub", "id": "F1-S1", "termination": "open", "length_m": v,
+         "cut_length_m": v, "first_cut_m": v}]}]}),
+        st.one_of(st.floats(allow_nan=True, allow_infinity=True), st.text(max_size=5), st.none())),
+    fs.random_text(),
+))
+def test_trim_with_a_damaged_plan_json_answers_0_or_2(plan_text):
+    """trim --plan reads a plan JSON: anything there gives a result or one 'error:' line."""
+    from notchkit.cables import get_cable
+    from notchkit.filters import Filter, Stub, evaluate
+    from notchkit.lines import C0
+
+    cable = get_cable("RG-58")
+    length = C0 * cable.velocity_factor / (4 * 50e6)
+    f = np.linspace(40e6, 60e6, 101)
+    s = evaluate(Filter(elements=(Stub(termination="open", length_m=length),), cable=cable), f)
+    with tempfile.TemporaryDirectory() as tmp:
+        meas = write(tmp, "stub.s2p", fs.touchstone_text(f, s))
+        plan = write(tmp, "plan.json", plan_text)
+        with only_notchkit_warnings():
+            rc, out, err = run_cli(["trim", str(meas), "--cable", "RG-58", "--target-mhz", "50",
+                                    "--plan", str(plan), "--stub", "F1-S1", "--json"])
+        assert "Traceback" not in err
+        if rc == EXIT_OK:
+            assert_finite_json(parse_json_output(out))
+        else:
+            assert_clean_refusal(rc, out, err)
+            assert len(err.splitlines()) == 1 and err.startswith("error: ")
+
+
+@settings(FUZZ, max_examples=30)
+@given(st.lists(st.sampled_from(["10", "0.1", "6000", "0", "-5", "nan", "inf", "1e9", "x", "", " ",
+                                 "146.52", "1e-3", "6000.001"]), min_size=1, max_size=4).map(",".join))
+def test_cables_at_frequencies_answer_0_or_2(at):
+    with only_notchkit_warnings():
+        rc, out, err = run_cli(["cables", f"--at={at}", "--json"])
+    assert "Traceback" not in err
+    if rc == EXIT_OK:
+        assert_finite_json(parse_json_output(out))
+    else:
+        assert_clean_refusal(rc, out, err)
