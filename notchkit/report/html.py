@@ -110,7 +110,7 @@ def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: 
         o.append('<div class="notmet">' + f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:<br>"
                  + "<br>".join(_e(u) for u in pt.unmet) + "</div>")
     else:
-        o.append('<p class="met">Every filter meets its requirements on the lossy cable model.</p>')
+        o.append(f'<p class="met">{_e(pt.verdict)}</p>')
     o.append(table_html(pt.filters_table))
     o.append("<p><b>Read the cautions before anyone cuts, climbs or transmits.</b></p></section>")
 

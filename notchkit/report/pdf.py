@@ -394,7 +394,7 @@ def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
     if pt.unmet:
         page.boxed([f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:", *pt.unmet], 10.5)
     else:
-        page.boxed(["Every filter meets its requirements on the lossy cable model."], 10.0)
+        page.boxed([pt.verdict], 10.0)
     page.table(pt.filters_table, 8.5)
     page.y += 0.05
     page.para("Contents: threats (matrix and table); one page per filter (arrangement, attenuation "

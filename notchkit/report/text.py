@@ -91,6 +91,8 @@ class PlanText:
     tags: tuple[Tag, ...]
     cautions: tuple[tuple[str, str], ...]
     meets: bool
+    verdict: str = ""
+    """The cover's line when every filter meets (or none is needed)."""
 
 
 CAUTIONS = (
@@ -513,13 +515,15 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                                                    "Result"),
                           rows=tuple(rows), align=("left", "left", "right", "right", "right", "left"),
                           widths=(0.6, 2.6, 0.6, 0.7, 0.8, 0.9))
+    verdict_line = ("every filter meets its requirements on the lossy cable model." if designs
+                    else "no filter is needed: no threat over the limit calls for a stub.")
     summary = (
         f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
-        f"{n_stubs} stubs; " + ("every filter meets its requirements." if not unmet
-                                else f"{len(unmet)} filter(s) {NOT_MET}."),
+        f"{n_stubs} stubs; " + (f"{len(unmet)} filter(s) {NOT_MET}." if unmet else verdict_line),
     )
     return PlanText(
         site_name=site.name, title=f"Site notch plan: {site.name}", cover_facts=facts, unmet=unmet,
         summary=summary, filters_table=filters_table, matrix=matrix_table(sv), threats=threat_table(sv),
         filters=ftexts, tags=tags(designs, units), cautions=CAUTIONS, meets=not unmet,
+        verdict=verdict_line[:1].upper() + verdict_line[1:],
     )
