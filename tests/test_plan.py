@@ -286,3 +286,15 @@ def test_no_temporary_files_left(run):
     names = [p.name for p in run["dir"].rglob("*")]
     assert not [n for n in names if n.endswith(".part") or n.startswith(".notchkit-")]
     assert math.isfinite(run["result"].pages)
+
+
+def test_site_needing_no_filter_exits_0_with_cover_threats_labels_cautions(tmp_path, capsys):
+    site = tmp_path / "lone.yaml"
+    site.write_text("site: Lone Pine\ncable: RG-213\ntransmitters:\n  - name: only-tx\n"
+                    "    freq_mhz: 146.52\n    power_w: 5\n")
+    out = tmp_path / "lone.pdf"
+    assert main(["plan", str(site), "-o", str(out)]) == 0
+    assert "no filter is needed" in capsys.readouterr().out
+    pages = _pdf_pages(out)
+    assert len(pages) == 1 + 1 + 0 + expected_label_pages(0, "a4") + 1
+    assert "No filter is needed" in pages[0] and "NOT MET:" not in pages[0]
