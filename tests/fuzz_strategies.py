@@ -387,8 +387,13 @@ def design_requests(draw) -> dict[str, Any]:
         return st.builds(make, freq_mhz(), st.sampled_from([0.001, 0.005, 0.01, 0.05]))
 
     passes = draw(st.lists(band(), min_size=1, max_size=2))
-    notches = draw(st.lists(band(), min_size=1, max_size=2))
-    return {"passes": passes, "notches": notches, "cable": cable}
+    notches = [
+        (lo, hi) if db is None else (lo, hi, db)
+        for (lo, hi), db in draw(st.lists(st.tuples(band(), st.sampled_from([None, None, 10, 60, 120, 200])),
+                                          min_size=1, max_size=2))
+    ]
+    max_stubs = draw(st.sampled_from([None, None, 1, 2, 4]))
+    return {"passes": passes, "notches": notches, "cable": cable, "max_stubs": max_stubs}
 
 
 def design_argv(req: dict[str, Any]) -> list[str]:
@@ -396,8 +401,10 @@ def design_argv(req: dict[str, Any]) -> list[str]:
     argv = []
     for lo, hi in req["passes"]:
         argv += ["--pass", _band_text(lo, hi)]
-    for lo, hi in req["notches"]:
-        argv += ["--notch", _band_text(lo, hi)]
+    for notch in req["notches"]:
+        argv += ["--notch", _band_text(*notch[:2]) + (f":{notch[2]!r}" if len(notch) == 3 else "")]
+    if req.get("max_stubs") is not None:
+        argv += ["--max-stubs", str(req["max_stubs"])]
     return [*argv, "--cable", req["cable"]]
 
 
