@@ -564,3 +564,32 @@ def site_argv(command: str, site, folder) -> list[str]:
     if command == "design" and has_option("design", "--touchstone"):
         return ["design", str(site), "--touchstone", str(folder / "ts")]
     return [command, str(site)]
+
+
+def field_path(path: tuple) -> str:
+    """The loader's name for a path into a document: ``transmitters[0].antenna.x_m``."""
+    out = ""
+    for p in path:
+        out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
+    return out
+
+
+BAD_NUMBERS = (float("nan"), float("inf"), float("-inf"), "lots", -1e9, 1e12, True, [1.0], {"v": 1})
+
+
+@st.composite
+def numeric_field_broken(draw) -> tuple[dict[str, Any], str]:
+    """A valid document with one numeric value under a key made impossible; and that key's path."""
+    doc = copy.deepcopy(draw(site_documents(max_radios=3)))
+    leaves = [p for p in paths(doc)
+              if isinstance(p[-1], str)
+              and isinstance(_parent(doc, p)[p[-1]], int | float)
+              and not isinstance(_parent(doc, p)[p[-1]], bool)]
+    if not leaves:  # a site of names only: break the first radio's frequency instead
+        kind = next(k for k in ("transmitters", "receivers", "transceivers") if k in doc)
+        doc[kind][0]["freq_mhz"] = 146.52
+        doc[kind][0].pop("band_mhz", None)
+        leaves = [(kind, 0, "freq_mhz")]
+    where = draw(st.sampled_from(leaves))
+    _parent(doc, where)[where[-1]] = draw(st.sampled_from(BAD_NUMBERS))
+    return doc, field_path(where)

@@ -240,6 +240,23 @@ def test_mutated_documents_load_or_raise_site_error(doc):
             assert_finite_json(parse_json_output(out))
 
 
+@settings(FUZZ, max_examples=40)
+@given(fs.numeric_field_broken())
+def test_an_impossible_number_is_reported_at_its_field(case):
+    """NaN, infinity, text, a boolean, a list or an absurd magnitude in any numeric field: the
+    loader names that field (FILE:LINE:COL: field.path: ...), and check exits 2."""
+    doc, field = case
+    with tempfile.TemporaryDirectory() as tmp:
+        path = write(tmp, "site.yaml", fs.to_yaml(doc))
+        with only_notchkit_warnings():
+            with pytest.raises(SiteError) as info:
+                load_site(path)
+        lines = info.value.lines()
+        assert any(f": {field}: " in line for line in lines), (field, lines)
+        rc, out, err = run_cli(["check", str(path)])
+        assert_clean_refusal(rc, out, err)
+
+
 @settings(FUZZ, max_examples=80)
 @given(fs.random_text())
 def test_random_text_loads_or_raises_site_error(text):
