@@ -446,31 +446,71 @@ def test_killed_plan_leaves_old_or_complete_outputs(plan_run, tmp_path):
     assert sha256(site) == site_sha
 
 
-def test_interrupted_plan_exits_130_and_cleans_up(plan_run, tmp_path):
-    """Ctrl-C (SIGINT) mid-write: exit 130, old or complete files, and no temporary left behind
-    (unlike SIGKILL, an interrupt lets the writer remove its temporary)."""
-    out = tmp_path / "out"
-    out.mkdir()
-    argv = ["plan", str(plan_run.site), "-o", str(out / "x.pdf"), "--html", str(out / "x.html"),
-            "--outdir", str(out / "dir")]
-    names = plan_run.names
-    old = old_files(out, [n for n in names if not n.endswith((".png", ".csv"))])
-    proc = subprocess.Popen([sys.executable, "-m", "notchkit", *argv], cwd=tmp_path,
-                            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
-    t0 = time.monotonic()
-    while proc.poll() is None and not any(p.name.startswith(".") for p in out.rglob("*")):
-        if time.monotonic() - t0 > 300:
-            break
-        time.sleep(0.0005)
-    if proc.poll() is None:
-        proc.send_signal(signal.SIGINT)
-    _, err = proc.communicate(timeout=120)
-    assert proc.returncode in (130, EXIT_OK, EXIT_UNMET), err
-    assert "Traceback" not in err
-    if proc.returncode == 130:
-        assert err.strip().splitlines()[-1] == "error: interrupted"
-    assert_old_or_complete(out, old, set(names))
-    assert not [p for p in out.rglob("*") if p.name.startswith(".")], "a temporary was left behind"
+def _interrupt_after_mkstemp(monkeypatch):
+    """Ctrl-C the instant the temporary file exists (before mkstemp's caller has its name)."""
+    import tempfile
+
+    real = tempfile.mkstemp
+
+    def mkstemp(*args, **kwargs):
+        real(*args, **kwargs)
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(tempfile, "mkstemp", mkstemp)
+
+
+def _interrupt_inside_fdopen(monkeypatch):
+    """Ctrl-C inside os.fdopen after the new file object took the descriptor: the object is
+    discarded and closes it (what happens to a real SIGINT there)."""
+    def fdopen(fd, *args, **kwargs):
+        os.close(fd)
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(os, "fdopen", fdopen)
+
+
+INTERRUPTIONS = {"after-mkstemp": _interrupt_after_mkstemp, "inside-fdopen": _interrupt_inside_fdopen}
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="notchkit/report/files.py write_bytes_atomic: a Ctrl-C right after mkstemp leaves "
+    "'.NAME.XXXX.part' behind (fd, tmp not yet assigned); a Ctrl-C inside os.fdopen makes the "
+    "finally's os.close(fd) raise 'OSError: [Errno 9] Bad file descriptor' (files.py line 89), "
+    "which replaces the KeyboardInterrupt: a traceback and exit 1. Seen with a real SIGINT to "
+    "'python -m notchkit plan' in about 1 run of 10",
+)
+@pytest.mark.parametrize("where", sorted(INTERRUPTIONS))
+def test_ctrl_c_during_an_atomic_write_keeps_the_old_file_and_no_temporary(tmp_path, monkeypatch, where):
+    from notchkit.report import files
+
+    target = tmp_path / "x.html"
+    old = old_files(tmp_path, ["x.html"])["x.html"]
+    INTERRUPTIONS[where](monkeypatch)
+    with pytest.raises(KeyboardInterrupt):
+        files.write_text_atomic(target, "<html>new</html>\n")
+    monkeypatch.undo()
+    assert target.read_bytes() == old
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["x.html"]
+
+
+def test_ctrl_c_during_design_exits_130_and_writes_nothing(tmp_path, monkeypatch, capsys):
+    """Ctrl-C while the solver runs (before any write): exit 130, one line, no output."""
+    if not built("design"):
+        pytest.skip("notchkit design is not built yet")
+    import importlib
+
+    design_mod = importlib.import_module("notchkit.design")  # the module, not the re-exported function
+
+    def interrupted(*args, **kwargs):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(design_mod, "solve", interrupted)  # the solver, as design.py calls it
+    rc = main(["design", *DESIGN_ARGS, "--touchstone", str(tmp_path / "ts")])
+    out, err = capsys.readouterr()
+    assert rc == 130
+    assert err.splitlines()[-1] == "error: interrupted"
+    assert list(tmp_path.iterdir()) == []
 
 
 # ---------------------------------------------------------------------------
