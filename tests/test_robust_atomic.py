@@ -400,6 +400,29 @@ def _kill_plan(rng: random.Random, baseline_s: float) -> list[float | None]:
     return [None] + [rng.uniform(0.6, 1.0) * baseline_s for _ in range(2)]
 
 
+MID_WRITE_TRIES = 4
+"""A temporary may come and go between two polls; try this many runs to catch one mid-write."""
+
+
+def _kill_runs(argv: list[str], cwd: Path, folder: Path, prepare, delays: list[float | None],
+               names: set[str]) -> list[str]:
+    """Run and kill once per delay (``None``: mid-write, retried until caught), checking the
+    folder after each; ``prepare()`` lays out the old files and returns their bytes."""
+    outcomes = []
+    for delay in delays:
+        for _ in range(MID_WRITE_TRIES if delay is None else 1):
+            if folder.exists():
+                shutil.rmtree(folder)
+            folder.mkdir()
+            old = prepare()
+            outcome = _kill_when(_start(argv, cwd), folder, delay_s=delay)
+            assert_old_or_complete(folder, old, names)
+            outcomes.append(outcome)
+            if outcome != "finished":
+                break
+    return outcomes
+
+
 STARTUP_S = 2.0
 """Rough interpreter and import start-up of ``python -m notchkit`` (only scales the kill delays)."""
 
@@ -409,14 +432,8 @@ def test_killed_design_leaves_old_or_complete_touchstone(design_run, tmp_path):
     ts = tmp_path / "ts"
     argv = ["design", *DESIGN_ARGS, "--touchstone", str(ts)]
     names = design_run.names
-    outcomes = []
-    for delay in _kill_plan(rng, design_run.elapsed_s + STARTUP_S):
-        if ts.exists():
-            shutil.rmtree(ts)
-        ts.mkdir()
-        old = old_files(ts, names)
-        outcomes.append(_kill_when(_start(argv, tmp_path), ts, delay_s=delay))
-        assert_old_or_complete(ts, old, set(names))
+    outcomes = _kill_runs(argv, tmp_path, ts, lambda: old_files(ts, names),
+                          _kill_plan(rng, design_run.elapsed_s + STARTUP_S), set(names))
     assert "killed mid-write" in outcomes, outcomes
 
 
@@ -431,17 +448,16 @@ def test_killed_plan_leaves_old_or_complete_outputs(plan_run, tmp_path):
     # old versions of the files a previous run left: small valid ones, and for PNG/CSV
     # the uninterrupted run's own
     keep = {n: plan_run.data[n] for n in names if n.endswith((".png", ".csv"))}
-    outcomes = []
-    for delay in _kill_plan(rng, plan_run.elapsed_s + STARTUP_S):
-        if out.exists():
-            shutil.rmtree(out)
-        out.mkdir()
+
+    def prepare():
         old = old_files(out, [n for n in names if not n.endswith((".png", ".csv"))])
         for n, data in keep.items():
             (out / n).write_bytes(data)
             old[n] = data
-        outcomes.append(_kill_when(_start(argv, tmp_path), out, delay_s=delay))
-        assert_old_or_complete(out, old, set(names))
+        return old
+
+    outcomes = _kill_runs(argv, tmp_path, out, prepare, _kill_plan(rng, plan_run.elapsed_s + STARTUP_S),
+                          set(names))
     assert "killed mid-write" in outcomes, outcomes
     assert sha256(site) == site_sha
 
