@@ -17,7 +17,6 @@ frequencies or candidates (only over elements and memory-sized chunks).
 from __future__ import annotations
 
 import os
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal, Protocol
@@ -25,7 +24,8 @@ from typing import Literal, Protocol
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from notchkit.errors import DesignError, InputError
+from notchkit.errors import DesignError
+from notchkit.fileio import write_text_atomic
 from notchkit.lines import abcd_shunt, abcd_to_s, cascade, gamma, yin_open, yin_short
 
 Termination = Literal["open", "short"]
@@ -320,18 +320,8 @@ def write_touchstone(
     if path.suffix.lower() != ".s2p":
         path = path.with_suffix(".s2p")
     net = to_network(filt, freq_hz, z_system, name=path.stem)
-    folder = path.parent if str(path.parent) else Path(".")
-    try:
-        with tempfile.TemporaryDirectory(dir=folder, prefix=".notchkit-") as tmp:
-            tmp_file = Path(tmp) / path.name
-            net.write_touchstone(str(tmp_file.with_suffix("")), skrf_comment=False,
-                                 write_z0=False, form="db")
-            text = tmp_file.read_text()
-            if comment:
-                text = "".join(f"! {line}\n" for line in comment.splitlines()) + text
-            final_tmp = Path(tmp) / (path.name + ".part")
-            final_tmp.write_text(text)
-            os.replace(final_tmp, path)
-    except OSError as exc:
-        raise InputError(f"{path}: cannot write Touchstone file ({exc.strerror or exc})") from exc
+    text = net.write_touchstone(return_string=True, skrf_comment=False, write_z0=False, form="db")
+    if comment:
+        text = "".join(f"! {line}\n" for line in comment.splitlines()) + text
+    write_text_atomic(path, text, what="Touchstone file")
     return path

@@ -40,7 +40,6 @@ import io
 import json
 import math
 import os
-import tempfile
 import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -50,6 +49,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from notchkit.errors import InputError, MeasurementError, UsageError
+from notchkit.fileio import write_bytes_atomic
 from notchkit.lines import C0
 
 Termination = Literal["open", "short"]
@@ -970,15 +970,7 @@ def plot_measurement(network, result: TrimResult, path: str | os.PathLike[str]) 
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8, loc="best")
     fig.tight_layout()
-    fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fig.savefig(fh, format="png")
-        os.replace(tmp, out)
-    except OSError as exc:
-        Path(tmp).unlink(missing_ok=True)
-        raise InputError(f"--png {out}: cannot be written ({exc.strerror or exc})") from None
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png")
+    write_bytes_atomic(out, buf.getvalue(), what="--png")
     return out

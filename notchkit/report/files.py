@@ -9,10 +9,12 @@ long computation so an unwritable path fails fast with one line.
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 
 from notchkit.errors import InputError
+from notchkit.fileio import write_bytes_atomic, write_text_atomic
+
+__all__ = ["check_writable", "write_bytes_atomic", "write_text_atomic"]
 
 
 def check_writable(path: str | os.PathLike, what: str = "output") -> Path:
@@ -65,33 +67,3 @@ def check_dir_writable(path: str | os.PathLike, what: str = "output folder") -> 
     if not os.access(parent, os.W_OK | os.X_OK):
         raise InputError(f"{what} {str(p)!r}: parent folder {str(parent)!r} is not writable")
     return p
-
-
-def write_bytes_atomic(path: str | os.PathLike, data: bytes) -> Path:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename."""
-    p = Path(path)
-    folder = p.parent if str(p.parent) else Path(".")
-    fd, tmp = None, None
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{p.name}.", suffix=".part")
-        with os.fdopen(fd, "wb") as fh:
-            fd = None
-            fh.write(data)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the file normal permissions
-        os.replace(tmp, p)
-        tmp = None
-    except OSError as exc:
-        raise InputError(f"{str(p)!r}: cannot write ({exc.strerror or exc})") from exc
-    finally:
-        if fd is not None:
-            os.close(fd)
-        if tmp is not None and os.path.exists(tmp):
-            os.unlink(tmp)
-    return p
-
-
-def write_text_atomic(path: str | os.PathLike, text: str) -> Path:
-    """Write UTF-8 ``text`` to ``path`` atomically (see :func:`write_bytes_atomic`)."""
-    return write_bytes_atomic(path, text.encode("utf-8"))
