@@ -37,6 +37,7 @@ from typing import Any
 
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
+from notchkit.jsonvalues import finite
 from notchkit.lines import C0
 
 MM_PER_INCH = 25.4
@@ -142,10 +143,7 @@ class StubCut:
 
 def _f(x: float) -> float:
     """A finite float for JSON (the values here are finite by construction)."""
-    x = float(x)
-    if not math.isfinite(x):
-        raise DesignError(f"internal: non-finite value {x!r} in a cut list")
-    return x
+    return finite(x, "a cut list")
 
 
 def _positive_freqs(values: Sequence[float], what: str) -> tuple[float, ...]:

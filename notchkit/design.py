@@ -24,6 +24,7 @@ import numpy as np
 
 from notchkit.errors import DesignError, InputError
 from notchkit.filters import Filter, Line, write_touchstone
+from notchkit.jsonvalues import finite
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
     DEFAULT_CABLE,
@@ -351,12 +352,7 @@ def write_touchstones(report: DesignReport, folder: str | os.PathLike) -> tuple[
 
 
 def _f(x: float, digits: int | None = None) -> float:
-    x = float(x)
-    if not math.isfinite(x):
-        if math.isnan(x):
-            raise DesignError("internal: NaN in a design result")
-        x = math.copysign(1e300, x)
-    return round(x, digits) if digits is not None else x
+    return finite(x, "a design result", clip_inf=True, digits=digits)
 
 
 def _elements_json(d: Design) -> list[dict[str, Any]]:

@@ -51,6 +51,7 @@ import numpy as np
 
 from notchkit.errors import DesignError
 from notchkit.filters import _MIN_LENGTH_M, Filter, Stub
+from notchkit.jsonvalues import finite
 from notchkit.lines import C0, gamma, yin_open, yin_short
 
 NEPER_DB = 20.0 / math.log(10.0)
@@ -179,10 +180,7 @@ class PowerCheck:
 
 
 def _f(x: float) -> float:
-    x = float(x)
-    if not math.isfinite(x):
-        raise DesignError(f"internal: non-finite value {x!r} in a power check")
-    return x
+    return finite(x, "a power check")
 
 
 def _loss_split(cable: Any, freq_hz: float) -> tuple[float, float]:

@@ -51,6 +51,7 @@ import numpy as np
 
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub, evaluate_batch
+from notchkit.jsonvalues import finite
 from notchkit.lines import swr_from_s11
 from notchkit.requirements import NotchSpec
 from notchkit.site.model import DEFAULT_MAX_INSERTION_LOSS_DB, DEFAULT_MAX_SWR, Band
@@ -168,11 +169,8 @@ class Tolerance:
 
 
 def _f(x: float) -> float:
-    x = float(x)
-    if math.isnan(x):
-        raise DesignError("internal: NaN in a tolerance result")
     # attenuation can be huge but finite (db20 floors at -400 dB); clip to stay finite
-    return float(np.clip(x, -1e300, 1e300))
+    return finite(x, "a tolerance result", clip_inf=True)
 
 
 def element_ids(filt: Filter, filter_id: str = "F1") -> tuple[str, ...]:
