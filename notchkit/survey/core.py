@@ -226,7 +226,9 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
             )
         else:
             tsrc = sa.rx_blocking_source[r]
-            remedy = f"rx-side filter at {vic}: notch {src}'s band, pass {vic}'s band"
+            # a transceiver's one filter sits at its radio port (see _Ctx.feed)
+            at = "filter at transceiver" if sa.site.radios[r].tx is not None else "rx-side filter at"
+            remedy = f"{at} {vic}: notch {src}'s band, pass {vic}'s band"
             if excess > 0:
                 fd, clash = ctx.feed(
                     r, "rx", lo, hi, excess + ctx.margin, f"{src} fundamental overloads {vic}"
