@@ -377,23 +377,20 @@ class _NoResonance(Exception):
     """Internal: a candidate region without a usable resonance."""
 
 
-def _fit_crossing(f, w, center_hz):
-    """Linear fits of Im(w) and Re(w) around ``center_hz``; zero of Im(w).
+def _recentre(f, center_hz, fit):
+    """Re-centre a fitting window on the fitted point until it settles (at most 3 passes).
 
-    ``w`` is the normalised impedance (series) or admittance (parallel).
-    Returns (f0, slope_per_hz, r_at_f0).
+    ``fit(lo, hi, t)`` fits the window ``f[lo:hi]`` (``t`` is the frequency offset
+    relative to the window's centre) and returns ``(t0, state)``. Returns the
+    settled centre, the last window and the last ``state``.
     """
-    for _ in range(3):  # re-centre the window on the root until it settles
+    for _ in range(3):
         win = _window(f, center_hz)
         if win is None:
             raise _NoResonance("edge")
         lo, hi = win
         t = (f[lo:hi] - center_hz) / center_hz
-        x = w[lo:hi].imag
-        slope, icept = np.polyfit(t, x, 1)
-        if not slope > 0:
-            raise _NoResonance("slope")
-        t0 = -icept / slope
+        t0, state = fit(lo, hi, t)
         if not (t[0] <= t0 <= t[-1]):
             raise _NoResonance("crossing")
         f0 = center_hz * (1.0 + t0)
@@ -401,6 +398,23 @@ def _fit_crossing(f, w, center_hz):
         center_hz = f0
         if moved < 0.25 * np.min(np.diff(f[lo:hi])):
             break
+    return center_hz, (lo, hi), state
+
+
+def _fit_crossing(f, w, center_hz):
+    """Linear fits of Im(w) and Re(w) around ``center_hz``; zero of Im(w).
+
+    ``w`` is the normalised impedance (series) or admittance (parallel).
+    Returns (f0, slope_per_hz, r_at_f0).
+    """
+
+    def fit(lo, hi, t):
+        slope, icept = np.polyfit(t, w[lo:hi].imag, 1)
+        if not slope > 0:
+            raise _NoResonance("slope")
+        return -icept / slope, slope
+
+    center_hz, (lo, hi), slope = _recentre(f, center_hz, fit)
     lo, hi = _window(f, center_hz) or (lo, hi)
     t = (f[lo:hi] - center_hz) / center_hz
     coef, cov = _polyfit_cov(t, w[lo:hi].real, 1)
@@ -416,26 +430,17 @@ def _fit_notch(f, u, center_hz):
     ``sigma_u ~ 2 |S21| sigma (1 + u)^2``, with the smallest ``|S21|`` of the
     window as a floor. Returns (f0, u_min, curvature_per_hz2, u_min_std).
     """
-    for _ in range(3):
-        win = _window(f, center_hz)
-        if win is None:
-            raise _NoResonance("edge")
-        lo, hi = win
-        t = (f[lo:hi] - center_hz) / center_hz
+
+    def fit(lo, hi, t):
         uw = u[lo:hi]
         mag = np.sqrt(uw / (1.0 + uw))
         weight = 1.0 / ((mag + mag.min()) * (1.0 + uw) ** 2)
         (a2, a1, a0), cov = _polyfit_cov(t, uw, 2, weight)
         if not a2 > 0:
             raise _NoResonance("curvature")
-        t0 = -a1 / (2.0 * a2)
-        if not (t[0] <= t0 <= t[-1]):
-            raise _NoResonance("crossing")
-        f0 = center_hz * (1.0 + t0)
-        moved = abs(f0 - center_hz)
-        center_hz = f0
-        if moved < 0.25 * np.min(np.diff(f[lo:hi])):
-            break
+        return -a1 / (2.0 * a2), (a2, a1, a0, cov)
+
+    center_hz, _, (a2, a1, a0, cov) = _recentre(f, center_hz, fit)
     u_min = a0 - a1 * a1 / (4.0 * a2)
     # standard error of the vertex value (first-order propagation of the fit covariance)
     u_std = 0.0
