@@ -122,7 +122,7 @@ def test_schema_properties_are_the_keys_the_loader_accepts():
 
 
 def _add_extra_key(data: Any, section: str, paths: list[str], path: str = "") -> None:
-    """Put an unknown key into every mapping of every section, recording the field paths."""
+    """Put an unknown key into every mapping of every section, noting the field paths."""
     if not isinstance(data, dict):
         return
     for key, value in list(data.items()):
