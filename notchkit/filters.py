@@ -26,7 +26,15 @@ from numpy.typing import ArrayLike, NDArray
 
 from notchkit.errors import DesignError
 from notchkit.fileio import write_text_atomic
-from notchkit.lines import abcd_shunt, abcd_to_s, cascade, gamma, yin_open, yin_short
+from notchkit.lines import (
+    abcd_series_line_scaled,
+    abcd_shunt,
+    abcd_to_s,
+    cascade,
+    gamma,
+    yin_open,
+    yin_short,
+)
 
 Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
@@ -278,11 +286,9 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
     log_scale = np.zeros(f.size, dtype=complex)
     for e in filt.elements:
         if isinstance(e, Line):
-            gl = g * e.length_m
-            q = np.exp(-2.0 * gl)
-            mats.append(np.stack([np.stack([1 + q, z0 * (1 - q)], -1),
-                                  np.stack([(1 - q) / z0, 1 + q], -1)], -2))  # fmt: skip
-            log_scale += gl - np.log(2.0)
+            mat, scale = abcd_series_line_scaled(z0, g, e.length_m)
+            mats.append(mat)
+            log_scale += scale
         elif e.termination == "open":
             mats.append(abcd_shunt(yin_open(z0, g, e.length_m)))
         else:

@@ -84,16 +84,33 @@ def yin_short(z0_line: ArrayLike, gamma: ArrayLike, length_m: ArrayLike) -> Comp
     return 1.0 / (np.asarray(z0_line) * np.tanh(np.asarray(gamma) * np.asarray(length_m)))
 
 
-def abcd_series_line(z0_line: ArrayLike, gamma: ArrayLike, length_m: ArrayLike) -> ComplexArray:
-    """ABCD matrix of a line section, shape ``(..., 2, 2)`` [1]_ (table 4.1).
+def abcd_series_line_scaled(
+    z0_line: ArrayLike, gamma: ArrayLike, length_m: ArrayLike
+) -> tuple[ComplexArray, ComplexArray]:
+    """A line section's ABCD matrix as a bounded matrix and a log scale.
 
-    ``[[cosh gl, Z0 sinh gl], [sinh gl / Z0, cosh gl]]``.
+    Returns ``(m, log_scale)`` with ``ABCD = exp(log_scale) m``,
+    ``m = [[1 + q, Z0 (1 - q)], [(1 - q) / Z0, 1 + q]]``, ``q = e^{-2 gl}`` and
+    ``log_scale = gl - ln 2``. On a passive line ``|q| <= 1``, so ``m`` stays
+    finite for any length where ``cosh``/``sinh`` would overflow.
     """
     gl = np.asarray(gamma) * np.asarray(length_m)
     z0 = np.asarray(z0_line, dtype=complex)
-    ch, sh = np.cosh(gl), np.sinh(gl)
-    z0 = np.broadcast_to(z0, ch.shape)
-    return np.stack([np.stack([ch, z0 * sh], -1), np.stack([sh / z0, ch], -1)], -2)
+    q = np.exp(-2.0 * gl)
+    p, m = 1.0 + q, 1.0 - q
+    z0 = np.broadcast_to(z0, p.shape)
+    mat = np.stack([np.stack([p, z0 * m], -1), np.stack([m / z0, p], -1)], -2)
+    return mat, gl - np.log(2.0)
+
+
+def abcd_series_line(z0_line: ArrayLike, gamma: ArrayLike, length_m: ArrayLike) -> ComplexArray:
+    """ABCD matrix of a line section, shape ``(..., 2, 2)`` [1]_ (table 4.1).
+
+    ``[[cosh gl, Z0 sinh gl], [sinh gl / Z0, cosh gl]]``, computed as
+    :func:`abcd_series_line_scaled` times its scale.
+    """
+    mat, log_scale = abcd_series_line_scaled(z0_line, gamma, length_m)
+    return np.exp(log_scale)[..., None, None] * mat
 
 
 def abcd_shunt(y: ArrayLike) -> ComplexArray:
