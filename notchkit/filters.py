@@ -38,7 +38,8 @@ from notchkit.lines import (
 
 Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
-_MIN_LENGTH_M = 1e-9  # a zero-length stub is modelled as 1 nm: a finite dead short / no-op
+MIN_MODEL_LENGTH_M = 1e-9
+"""A zero-length shorted stub is modelled as 1 nm: a finite dead short (shared with power.py)."""
 _CHUNK_POINTS = 1 << 13  # candidate-chunk size in points: keeps temporaries in cache
 
 
@@ -250,7 +251,7 @@ def _evaluate_chunk(kinds, lengths, g, z0, zs):
             n_lines += 1
             continue
         if kind == "short":
-            y = y0 / np.tanh(np.maximum(length, _MIN_LENGTH_M) * g)
+            y = y0 / np.tanh(np.maximum(length, MIN_MODEL_LENGTH_M) * g)
         else:
             y = np.tanh(length * g) * y0
         a = _add(a, _mul(b, y))
@@ -292,7 +293,7 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
         elif e.termination == "open":
             mats.append(abcd_shunt(yin_open(z0, g, e.length_m)))
         else:
-            mats.append(abcd_shunt(yin_short(z0, g, max(e.length_m, _MIN_LENGTH_M))))
+            mats.append(abcd_shunt(yin_short(z0, g, max(e.length_m, MIN_MODEL_LENGTH_M))))
     s = abcd_to_s(cascade(*mats), z_system, z_system)
     shrink = np.exp(-np.minimum(log_scale.real, 700.0) - 1j * log_scale.imag)
     s21 = s[:, 1, 0] * shrink

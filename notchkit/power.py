@@ -50,7 +50,7 @@ from typing import Any
 import numpy as np
 
 from notchkit.errors import DesignError
-from notchkit.filters import _MIN_LENGTH_M, Filter, Stub
+from notchkit.filters import MIN_MODEL_LENGTH_M, Filter, Stub
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0, gamma, yin_open, yin_short
 
@@ -270,7 +270,7 @@ def power_check(
             if e.termination == "open":
                 y = complex(yin_open(z0, g, e.length_m))
             else:
-                y = complex(yin_short(z0, g, max(e.length_m, _MIN_LENGTH_M)))
+                y = complex(yin_short(z0, g, max(e.length_m, MIN_MODEL_LENGTH_M)))
             stub_state[idx] = (v, y * v)
             i = i + y * v
             tee_v[idx] = v
@@ -311,7 +311,7 @@ def power_check(
             ns += 1
             sid = f"{filter_id}-S{ns}"
             vt, it = (k * x for x in stub_state[idx])
-            length = max(e.length_m, _MIN_LENGTH_M)
+            length = max(e.length_m, MIN_MODEL_LENGTH_M)
             d = _grid(length, wavelength)  # distance from the end
             gd = g * d
             if e.termination == "open":
@@ -352,7 +352,7 @@ def power_check(
             nl += 1
             lid = f"{filter_id}-L{nl}"
             vo, io, vi, ii = (k * x for x in line_state[idx])
-            d = _grid(max(e.length_m, _MIN_LENGTH_M), wavelength)  # from the antenna-side end
+            d = _grid(max(e.length_m, MIN_MODEL_LENGTH_M), wavelength)  # from the antenna-side end
             vz = np.cosh(g * d) * vo + z0 * np.sinh(g * d) * io
             vmax = float(np.abs(vz).max())
             diss = 0.5 * ((vi * np.conj(ii)).real - (vo * np.conj(io)).real)
