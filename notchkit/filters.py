@@ -10,12 +10,14 @@ The medium is anything with ``z0_ohm``, ``velocity_factor`` and
 own object); the stub builders are written once against that interface.
 
 The solver's inner loop is :func:`evaluate_batch`: arrays of shape
-(candidates, frequencies), one complex ``tanh`` per stub per point, no Python loop over
-frequencies or candidates (only over elements and memory-sized chunks).
+(candidates, frequencies), no Python loop over frequencies or candidates (only
+over elements and memory-sized chunks). On evenly spaced sweeps it costs about
+one real ``exp`` and a few multiplies per stub per point (see :class:`_Sweep`).
 """
 
 from __future__ import annotations
 
+import math
 import os
 from dataclasses import dataclass
 from pathlib import Path
@@ -27,6 +29,7 @@ from numpy.typing import ArrayLike, NDArray
 from notchkit.errors import DesignError
 from notchkit.fileio import write_text_atomic
 from notchkit.lines import (
+    C0,
     abcd_series_line_scaled,
     abcd_shunt,
     abcd_to_s,
@@ -184,6 +187,10 @@ def evaluate_batch(
     and applied once. Then
     ``S21 = 2 / (A + B/Z + C Z + D)`` and
     ``S11 = (A + B/Z - C Z - D) / (A + B/Z + C Z + D)`` (Pozar table 4.2).
+
+    How ``tanh(gl)`` and ``e^{-gl}`` are computed depends on the grid (see
+    :class:`_Sweep`); both ways are exact to rounding and are tested against
+    scikit-rf on uniform, banded and irregular grids.
     """
     kinds = tuple(kinds)
     for k in kinds:
@@ -194,75 +201,294 @@ def evaluate_batch(
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
     f = np.asarray(freq_hz, dtype=float).ravel()
     _check_freq(f)
-    g = gamma(f, cable.alpha_np_per_m(f), cable.velocity_factor)
+    sweep = _Sweep(f, cable)
     z0 = float(cable.z0_ohm)
     zs = float(z_system)
     n_cand, n_freq = lengths.shape[0], f.size
     s21 = np.empty((n_cand, n_freq), dtype=complex)
     s11 = np.empty((n_cand, n_freq), dtype=complex)
     step = max(1, _CHUNK_POINTS // max(n_freq, 1))
+    work = _Work(min(step, n_cand), sweep)
     for lo in range(0, n_cand, step):
         hi = min(n_cand, lo + step)
-        s21[lo:hi], s11[lo:hi] = _evaluate_chunk(kinds, lengths[lo:hi], g, z0, zs)
+        _evaluate_chunk(kinds, lengths[lo:hi], sweep, work, z0, zs, s21[lo:hi], s11[lo:hi])
     return s21, s11
 
 
-def _mul(x, y):
-    """Product that skips the exact scalars 0 and 1 left by the identity start."""
-    if x.__class__ is float:
-        if x == 0.0:
-            return 0.0
-        if x == 1.0:
-            return y
-    if y.__class__ is float:
-        if y == 0.0:
-            return 0.0
-        if y == 1.0:
-            return x
-    return x * y
+_MIN_RUN = 64
+"""Shortest stretch of evenly spaced frequencies worth the factored phase."""
 
 
-def _add(x, y):
-    if x.__class__ is float and x == 0.0:
-        return y
-    if y.__class__ is float and y == 0.0:
-        return x
-    return x + y
+class _Sweep:
+    """What every candidate shares about one frequency grid.
+
+    ``gl = a l + j b l`` with ``a = alpha(f)`` and ``b = 2 pi f / (c VF)``.
+    Two ways to the per-point functions, chosen once per grid:
+
+    * **runs** (the grid is made of evenly spaced stretches of at least
+      ``_MIN_RUN`` points, as every sweep and curve here is): on a stretch
+      ``b_i = b_s + i db``, so with ``i = k B + m``
+      ``e^{-j x b_i} = e^{-j x (b_s + k B db)} e^{-j x m db}``: about
+      ``2 sqrt(n)`` complex exponentials per candidate instead of ``n``, and
+      one complex multiply per point. Each factor is computed directly (no
+      running product), so the result is exact to a few roundings.
+      ``e^{-x a}`` is one real ``exp`` per point. ``tanh(gl) = (1 - u)/(1 + u)``
+      with ``u = e^{-2 gl}``.
+    * **direct** (short or irregular grids, like the solver's few points a
+      band): ``tanh(gl) = (tanh(al) + j tan(bl)) / (1 + j tanh(al) tan(bl))``,
+      one real ``tan`` and one ``expm1`` per point, about half the cost of a
+      complex ``tanh``; a line's ``e^{-gl}`` is one complex ``exp``.
+    """
+
+    __slots__ = ("alpha", "beta", "g", "neg_alpha", "runs")
+
+    def __init__(self, f: NDArray[np.float64], cable: Medium) -> None:
+        self.alpha = np.broadcast_to(np.asarray(cable.alpha_np_per_m(f), dtype=float), f.shape)
+        self.neg_alpha = -self.alpha
+        self.beta = 2.0 * np.pi * f / (C0 * float(cable.velocity_factor))
+        self.g = gamma(f, self.alpha, cable.velocity_factor)
+        self.runs = _even_runs(self.beta)
+
+    def decay_into(self, x: NDArray[np.float64], out: NDArray[np.complex128],
+                   real: NDArray[np.float64], flat: NDArray[np.complex128]) -> NDArray[np.complex128]:
+        """``e^{-x g}`` for a column of lengths ``x``, written into ``out``.
+
+        ``real`` (like ``out``) and ``flat`` (at least ``rows * block_points``) are scratch.
+        """
+        if self.runs is None:
+            np.multiply(x, self.g, out=out)
+            np.negative(out, out=out)
+            return np.exp(out, out=out)
+        np.multiply(x, self.neg_alpha, out=real)
+        np.exp(real, out=real)
+        for start, stop, coarse_b, fine_b in self.runs:
+            coarse = np.exp(-1j * (x * coarse_b))
+            fine = np.exp(-1j * (x * fine_b))
+            rows, n_coarse, n_fine = x.shape[0], coarse_b.size, fine_b.size
+            prod = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
+            np.multiply(coarse[:, :, None], fine[:, None, :], out=prod)
+            prod = prod.reshape(rows, n_coarse * n_fine)
+            np.multiply(prod[:, : stop - start], real[:, start:stop], out=out[:, start:stop])
+        return out
+
+    def shunt_y_into(self, x: NDArray[np.float64], y0: float, short: bool, w: _Work,
+                     out: NDArray[np.complex128]) -> NDArray[np.complex128]:
+        """Admittance of open (``y0 tanh(x g)``) or shorted (``y0 coth(x g)``) stubs, into ``out``."""
+        if self.runs is not None:
+            # tanh = (1 - u)/(1 + u) = 2/(1 + u) - 1 and coth = 2/(1 - u) - 1, u = e^{-2 x g}
+            u = self.decay_into(2.0 * x, out, w.r1, w.flat)
+            if short:
+                np.subtract(1.0, u, out=u)
+            else:
+                np.add(u, 1.0, out=u)
+            np.divide(2.0 * y0, u, out=u)
+            u -= y0
+            return u
+        th, tn = w.r1, w.r2
+        np.multiply(x, self.alpha, out=th)
+        th *= -2.0
+        np.expm1(th, out=th)
+        np.add(th, 2.0, out=tn)
+        np.divide(th, tn, out=th)
+        np.negative(th, out=th)  # tanh(x a) = -expm1(-2 x a) / (2 + expm1(-2 x a)), exact for small x a
+        np.multiply(x, self.beta, out=tn)
+        np.tan(tn, out=tn)
+        num, den = (w.t1, out) if short else (out, w.t1)  # coth = den / num: the result lands in out
+        num.real = th
+        num.imag = tn
+        den.real = 1.0
+        np.multiply(th, tn, out=den.imag)
+        if short:
+            num, den = den, num
+        num *= y0
+        num /= den
+        return num
 
 
-def _evaluate_chunk(kinds, lengths, g, z0, zs):
-    g = g[None, :]
-    # The running ABCD product; exact scalars until an element makes them arrays.
+class _Work:
+    """Scratch arrays for one chunk of candidates, allocated once per batch.
+
+    Every per-point step writes into these (``out=``), so the inner loop does
+    not allocate: with the allocator's default thresholds, freeing and
+    re-growing temporaries of this size costs page faults that tripled the
+    time of a two-stub filter.
+    """
+
+    __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "r1", "r2", "flat")
+
+    def __init__(self, rows: int, sweep: _Sweep) -> None:
+        shape = (rows, sweep.beta.size)
+        for name in ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4"):
+            setattr(self, name, np.empty(shape, dtype=complex))
+        self.r1 = np.empty(shape)
+        self.r2 = np.empty(shape)
+        block = max((c.size * f.size for _, _, c, f in sweep.runs or ()), default=0)
+        self.flat = np.empty(rows * block, dtype=complex)
+
+    def rows(self, n: int) -> _Work:
+        """The same scratch, cut to the first ``n`` rows (the last chunk may be short)."""
+        if n == self.a.shape[0]:
+            return self
+        view = object.__new__(_Work)
+        for name in self.__slots__:
+            value = getattr(self, name)
+            setattr(view, name, value if name == "flat" else value[:n])
+        return view
+
+
+def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, NDArray, NDArray]] | None:
+    """Split a grid into evenly spaced stretches, or None if it is not made of long ones.
+
+    Each run is ``(start, stop, coarse, fine)``: point ``start + k B + m`` of
+    the run has ``b = coarse[k] + fine[m]``, ``B = len(fine)`` about the square
+    root of the run's length. A run is accepted only if every point lies within
+    a few roundings of ``b_start + i * step``.
+    """
+    n = beta.size
+    if n < _MIN_RUN:
+        return None
+    d = np.diff(beta)
+    scale = float(np.max(np.abs(beta)))
+    tol = 64.0 * np.finfo(float).eps * scale
+    # A run breaks wherever the spacing changes by more than rounding.
+    breaks = np.flatnonzero(np.abs(np.diff(d)) > 8.0 * tol) + 1
+    edges = [0]
+    for i in breaks:
+        # spacing d[i-1] -> d[i] changes at point i; the new run starts at point i
+        if i > edges[-1]:
+            edges.append(int(i))
+    edges.append(n)
+    runs = []
+    for start, stop in zip(edges[:-1], edges[1:], strict=True):
+        if stop - start < _MIN_RUN:
+            return None
+        b_s = float(beta[start])
+        db = (float(beta[stop - 1]) - b_s) / (stop - 1 - start)
+        fit = b_s + db * np.arange(stop - start)
+        if float(np.max(np.abs(beta[start:stop] - fit))) > tol or db <= 0.0:
+            return None
+        n_run = stop - start
+        block = math.isqrt(n_run - 1) + 1
+        n_blocks = -(-n_run // block)
+        runs.append((start, stop, b_s + (block * db) * np.arange(n_blocks), db * np.arange(block)))
+    return runs
+
+
+def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out, s11_out):
+    """S21 and S11 of one chunk of candidates, written into ``s21_out`` and ``s11_out``.
+
+    The running ABCD product starts as the identity, kept as the exact scalars
+    ``1, 0, 0, 1`` until an element makes an entry an array (the scratch
+    arrays ``w.a .. w.d``); every array step is in place.
+    """
+    w = work.rows(lengths.shape[0])
     a, b, c, d = 1.0, 0.0, 0.0, 1.0
-    u_all = None  # product of the lines' e^{-gl}: their collected scale factors are 2^n / u_all
     n_lines = 0
     y0 = 1.0 / z0
     for j, kind in enumerate(kinds):
         length = lengths[:, j : j + 1]
         if kind == "line":
-            # ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = u^2, u = e^{-gl}, |u| <= 1
-            u = np.exp(-length * g)
-            q = u * u
-            p, m = 1.0 + q, 1.0 - q
-            mz, my = m * z0, m * y0
-            a, b = _add(_mul(a, p), _mul(b, my)), _add(_mul(a, mz), _mul(b, p))
-            c, d = _add(_mul(c, p), _mul(d, my)), _add(_mul(c, mz), _mul(d, p))
-            u_all = u if u_all is None else u_all * u
+            # ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = u^2, u = e^{-gl}, |u| <= 1.
+            # The scale factors e^{gl}/2 are collected in w.u_all and applied to S21 at the end.
+            u = sweep.decay_into(length, w.u, w.r1, w.flat)
+            if n_lines == 0:
+                np.multiply(u, 2.0, out=w.u_all)
+            else:
+                w.u_all *= u
+                w.u_all *= 2.0
             n_lines += 1
+            p, m = w.t1, w.t2
+            np.multiply(u, u, out=m)
+            np.add(m, 1.0, out=p)
+            np.subtract(1.0, m, out=m)
+            a, b = _line_row(a, b, p, m, z0, y0, w.a, w.b, w.t3, w.t4)
+            c, d = _line_row(c, d, p, m, z0, y0, w.c, w.d, w.t3, w.t4)
             continue
         if kind == "short":
-            y = y0 / np.tanh(np.maximum(length, MIN_MODEL_LENGTH_M) * g)
+            y = sweep.shunt_y_into(np.maximum(length, MIN_MODEL_LENGTH_M), y0, True, w, w.y)
         else:
-            y = np.tanh(length * g) * y0
-        a = _add(a, _mul(b, y))
-        c = _add(c, _mul(d, y))
-    den = _add(_add(a, _mul(b, 1.0 / zs)), _add(_mul(c, zs), d))
-    s21 = 2.0 / den
-    if u_all is not None:
-        s21 = s21 * (2.0**n_lines) * u_all
-    s11 = (_add(a, _mul(b, 1.0 / zs)) - _add(_mul(c, zs), d)) / den
-    shape = (lengths.shape[0], g.size)
-    return np.broadcast_to(s21, shape), np.broadcast_to(s11, shape)
+            y = sweep.shunt_y_into(length, y0, False, w, w.y)
+        a = _add_product(a, b, y, w.a, w.t3)
+        c = _add_product(c, d, y, w.c, w.t3)
+    # S21' = 2 / (P + Q) and S11 = (P - Q) / (P + Q) = 1 - Q S21', P = A + B/Z, Q = C Z + D
+    q_term = _combine(c, zs, d, w.t1)
+    p_term = _combine(b, 1.0 / zs, a, w.t2)
+    if isinstance(q_term, float) and isinstance(p_term, float):
+        s21_out[...] = 2.0 / (p_term + q_term)
+    else:
+        np.add(p_term, q_term, out=s21_out)
+        np.divide(2.0, s21_out, out=s21_out)
+    np.multiply(q_term, s21_out, out=s11_out)
+    np.subtract(1.0, s11_out, out=s11_out)
+    if n_lines:
+        s21_out *= w.u_all
+
+
+def _line_row(x, y, p, m, z0, y0, out_x, out_y, t1, t2):
+    """One row ``[x, y]`` of the running ABCD times a line's ``[[p, Z0 m], [m/Z0, p]]``.
+
+    ``x`` and ``y`` are arrays or the exact scalars 0 and 1; the results are
+    written into ``out_x`` and ``out_y`` (which may be ``x`` and ``y``).
+    new x = x p + y m / Z0, new y = x Z0 m + y p.
+    """
+    xm = _scaled(x, m, z0, t1)  # x Z0 m (None when x is 0)
+    ym = _scaled(y, m, y0, t2)  # y m / Z0
+    _sum_into(_scaled(x, p, 1.0, out_x), ym, out_x)  # x may be out_x: read before written
+    _sum_into(_scaled(y, p, 1.0, out_y), xm, out_y)
+    return out_x, out_y
+
+
+def _scaled(x, v, k, out):
+    """``x v k`` into ``out`` for ``x`` an array or an exact scalar; None when ``x`` is 0."""
+    if isinstance(x, float):
+        if x == 0.0:
+            return None
+        return np.multiply(v, x * k, out=out)
+    np.multiply(x, v, out=out)
+    if k != 1.0:
+        out *= k
+    return out
+
+
+def _sum_into(first, second, out):
+    """``first + second`` into ``out``; either may be None (zero), not both."""
+    if first is None:
+        np.copyto(out, second)
+    elif second is None:
+        if first is not out:
+            np.copyto(out, first)
+    else:
+        np.add(first, second, out=out)
+    return out
+
+
+def _add_product(x, z, y, out, tmp):
+    """``x + z y`` with ``x``, ``z`` arrays or exact scalars, ``y`` an array; into ``out``."""
+    if isinstance(z, float):
+        if z == 0.0:
+            return x
+        zy = y if z == 1.0 else np.multiply(y, z, out=tmp)
+    else:
+        zy = np.multiply(z, y, out=tmp)
+    if isinstance(x, float):
+        if x == 0.0:
+            np.copyto(out, zy)
+        else:
+            np.add(zy, x, out=out)
+        return out
+    return np.add(x, zy, out=out)
+
+
+def _combine(x, k, y, out):
+    """``x k + y`` (``k`` a float) with ``x``, ``y`` arrays or exact scalars."""
+    if isinstance(x, float) and isinstance(y, float):
+        return x * k + y
+    if isinstance(x, float):
+        np.add(y, x * k, out=out)
+        return out
+    np.multiply(x, k, out=out)
+    out += y
+    return out
 
 
 def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArray[np.complex128]:
