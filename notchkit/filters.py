@@ -44,6 +44,44 @@ KINDS = ("open", "short", "line")
 MIN_MODEL_LENGTH_M = 1e-9
 """A zero-length shorted stub is modelled as 1 nm: a finite dead short (shared with power.py)."""
 _CHUNK_POINTS = 1 << 13  # candidate-chunk size in points: keeps temporaries in cache
+_THREAD_POINTS = 1 << 19
+"""Batches of at least this many points are shared among threads (numpy's loops release the GIL)."""
+_threads = max(1, min(4, os.cpu_count() or 1))
+_pool = None
+
+
+def set_threads(n: int) -> int:
+    """How many threads :func:`evaluate_batch` may use on a large batch; returns the old number.
+
+    The default is the machine's core count (at most 4). Use 1 inside worker
+    processes that already share the cores among themselves.
+    """
+    global _threads, _pool
+    old = _threads
+    n = max(1, int(n))
+    if n != _threads and _pool is not None:
+        _pool.shutdown(wait=False)
+        _pool = None
+    _threads = n
+    return old
+
+
+def _forget_pool_after_fork() -> None:
+    global _pool
+    _pool = None  # a forked child has none of the parent's threads
+
+
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=_forget_pool_after_fork)
+
+
+def _thread_pool():
+    global _pool
+    if _pool is None:
+        from concurrent.futures import ThreadPoolExecutor
+
+        _pool = ThreadPoolExecutor(max_workers=_threads, thread_name_prefix="notchkit-eval")
+    return _pool
 
 
 class Medium(Protocol):
@@ -208,10 +246,21 @@ def evaluate_batch(
     s21 = np.empty((n_cand, n_freq), dtype=complex)
     s11 = np.empty((n_cand, n_freq), dtype=complex)
     step = max(1, _CHUNK_POINTS // max(n_freq, 1))
-    work = _Work(min(step, n_cand), sweep)
-    for lo in range(0, n_cand, step):
-        hi = min(n_cand, lo + step)
-        _evaluate_chunk(kinds, lengths[lo:hi], sweep, work, z0, zs, s21[lo:hi], s11[lo:hi])
+
+    def run(lo_hi: tuple[int, int]) -> None:
+        first, last = lo_hi
+        work = _Work(min(step, last - first), sweep)
+        for lo in range(first, last, step):
+            hi = min(last, lo + step)
+            _evaluate_chunk(kinds, lengths[lo:hi], sweep, work, z0, zs, s21[lo:hi], s11[lo:hi])
+
+    n_threads = min(_threads, n_cand // step)
+    if n_threads > 1 and n_cand * n_freq >= _THREAD_POINTS:
+        # Contiguous blocks of whole chunks, one per thread; each thread has its own scratch.
+        bounds = [round(n_cand * k / n_threads / step) * step for k in range(n_threads)] + [n_cand]
+        list(_thread_pool().map(run, zip(bounds[:-1], bounds[1:], strict=True)))
+    else:
+        run((0, n_cand))
     return s21, s11
 
 
@@ -350,16 +399,14 @@ def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, NDArray, NDArr
     d = np.diff(beta)
     scale = float(np.max(np.abs(beta)))
     tol = 64.0 * np.finfo(float).eps * scale
-    # A run breaks wherever the spacing changes by more than rounding.
-    breaks = np.flatnonzero(np.abs(np.diff(d)) > 8.0 * tol) + 1
-    edges = [0]
-    for i in breaks:
-        # spacing d[i-1] -> d[i] changes at point i; the new run starts at point i
-        if i > edges[-1]:
-            edges.append(int(i))
-    edges.append(n)
     runs = []
-    for start, stop in zip(edges[:-1], edges[1:], strict=True):
+    start = 0
+    while start < n:
+        # The run starting here goes on while the spacing stays that of its first step.
+        if start == n - 1:
+            return None
+        off = np.flatnonzero(np.abs(d[start:] - d[start]) > 8.0 * tol)
+        stop = n if off.size == 0 else start + int(off[0]) + 1
         if stop - start < _MIN_RUN:
             return None
         b_s = float(beta[start])
@@ -371,6 +418,7 @@ def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, NDArray, NDArr
         block = math.isqrt(n_run - 1) + 1
         n_blocks = -(-n_run // block)
         runs.append((start, stop, b_s + (block * db) * np.arange(n_blocks), db * np.arange(block)))
+        start = stop
     return runs
 
 

@@ -90,14 +90,61 @@ def test_evaluate_equals_skrf(case):
     assert_close(s, ref)
 
 
+# The batched core has two ways to tanh(gl) and e^{-gl} (notchkit.filters._Sweep):
+# a factored phase on grids made of long evenly spaced runs, a tan/expm1 form on
+# others. Each grid below takes one of them; both must equal scikit-rf.
+GRIDS = {
+    "even, 61 points (direct form)": FREQ_HZ,
+    "even, 401 points (factored phase)": np.linspace(1e6, 1.2e9, 401),
+    "two bands, 100 + 257 points (factored, two runs)": np.concatenate(
+        [np.linspace(1.8e6, 30e6, 100), np.linspace(140e6, 450e6, 257)]),
+    "log-spaced, 200 points (direct form)": np.geomspace(1e6, 1.2e9, 200),
+}
+
+
 @SETTINGS
-@given(topologies())
-def test_evaluate_batch_equals_skrf(case):
+@given(topologies(), st.sampled_from(sorted(GRIDS)))
+def test_evaluate_batch_equals_skrf(case, grid):
     kinds, lengths, cable, z_system = case
-    ref = skrf_reference(kinds, lengths, cable, FREQ_HZ, z_system)
-    s21, s11 = evaluate_batch(kinds, np.array([lengths]), cable, FREQ_HZ, z_system)
+    f = GRIDS[grid]
+    ref = skrf_reference(kinds, lengths, cable, f, z_system)
+    s21, s11 = evaluate_batch(kinds, np.array([lengths]), cable, f, z_system)
     assert_close(s21[0], ref[:, 1, 0])
     assert_close(s11[0], ref[:, 0, 0])
+
+
+def test_each_grid_takes_the_path_its_name_says():
+    from notchkit.filters import _even_runs  # white-box: which path each grid takes
+
+    for name, f in GRIDS.items():
+        runs = _even_runs(2 * np.pi * f / (C0 * 0.66))
+        if "factored" in name:
+            assert runs is not None and len(runs) == (2 if "two runs" in name else 1), name
+        else:
+            assert runs is None, name
+
+
+def test_threads_give_the_same_numbers_as_one_thread():
+    from notchkit import filters
+
+    rng = np.random.default_rng(7)
+    cable = library()[0]
+    kinds = ("open", "line", "short")
+    lengths = rng.uniform(0.05, 3.0, size=(400, 3))
+    f = np.linspace(1e6, 1e9, 2000)  # 800,000 points: above the threading threshold
+    assert lengths.shape[0] * f.size >= filters._THREAD_POINTS
+    old = filters.set_threads(1)
+    try:
+        one = evaluate_batch(kinds, lengths, cable, f)
+        filters.set_threads(2)
+        two = evaluate_batch(kinds, lengths, cable, f)
+    finally:
+        filters.set_threads(old)
+    np.testing.assert_array_equal(one[0], two[0])
+    np.testing.assert_array_equal(one[1], two[1])
+    for i in (0, 199, 200, 399):  # rows either side of the split between threads
+        ref = skrf_reference(kinds, lengths[i], cable, f, 50.0)
+        assert_close(two[0][i], ref[:, 1, 0])
 
 
 def test_batch_of_many_candidates_equals_skrf_one_by_one():
