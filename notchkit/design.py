@@ -163,7 +163,7 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
     return tuple(cuts), tol, power
 
 
-def design(site: Any, *, progress: Progress | None = None) -> DesignReport:
+def design(site: Any, *, progress: Progress | None = None, workers: int | None = None) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
     Parameters
@@ -171,6 +171,11 @@ def design(site: Any, *, progress: Progress | None = None) -> DesignReport:
     site : notchkit.site.model.Site
     progress : callable(str), optional
         Called with a short message as each filter is designed.
+    workers : int, optional
+        Processes to design filters in at once. ``None`` (default) uses the
+        machine's cores when there is more than one filter; ``1`` designs them
+        one after another in this process. The results are the same either
+        way: every filter's search is deterministic and independent.
 
     Returns
     -------
@@ -188,16 +193,76 @@ def design(site: Any, *, progress: Progress | None = None) -> DesignReport:
     from notchkit.survey import survey
 
     say = progress or (lambda _m: None)
+    if workers is not None and int(workers) < 1:
+        raise DesignError(f"workers {workers!r} must be at least 1")
     sv = survey(site)
-    designs = []
-    n = len(sv.filters)
-    for i, req in enumerate(sv.filters, start=1):
-        fid = f"F{i}"
+    jobs = [(req, get_cable(req.cable, site.cables), site.limits, site.allowances, f"F{i}")
+            for i, req in enumerate(sv.filters, start=1)]
+    n = len(jobs)
+    procs = _processes(n, workers)
+    designs: list[Design] = []
+    if procs > 1:
+        done = _design_in_processes(jobs, procs, say)
+        if done is not None:
+            return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
+    for i, (req, cable, limits, allowances, fid) in enumerate(jobs, start=1):
         say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
-        cable = get_cable(req.cable, site.cables)
-        designs.append(design_filter(req, cable=cable, limits=site.limits, allowances=site.allowances,
-                                  filter_id=fid, progress=say))
+        designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
+                                     filter_id=fid, progress=say))
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
+
+
+def _processes(n_jobs: int, workers: int | None) -> int:
+    """How many worker processes :func:`design` should use (1: none)."""
+    if workers is not None:
+        want = int(workers)
+    else:
+        try:
+            want = len(os.sched_getaffinity(0))
+        except (AttributeError, OSError):
+            want = os.cpu_count() or 1
+    return max(1, min(want, n_jobs))
+
+
+def _design_job(job: tuple) -> Design:
+    req, cable, limits, allowances, fid = job
+    return design_filter(req, cable=cable, limits=limits, allowances=allowances, filter_id=fid)
+
+
+def _one_thread() -> None:
+    from notchkit import filters
+
+    filters.set_threads(1)  # the processes share the cores already
+
+
+def _design_in_processes(jobs: list[tuple], procs: int, say: Progress) -> list[Design] | None:
+    """Design ``jobs`` in ``procs`` forked processes; ``None`` when that cannot be done here.
+
+    Forking is used only where it is safe and cheap: a platform that has it
+    and a process running no other thread (a fork copies only the calling
+    thread). The largest requirements go first so the workers finish together.
+    """
+    import multiprocessing
+    import threading
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
+
+    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+        return None
+    order = sorted(range(len(jobs)), key=lambda k: -(len(jobs[k][0].notches) + len(jobs[k][0].pass_bands)))
+    out: list[Design | None] = [None] * len(jobs)
+    try:
+        with ProcessPoolExecutor(max_workers=procs, mp_context=multiprocessing.get_context("fork"),
+                                 initializer=_one_thread) as pool:
+            futures = {pool.submit(_design_job, jobs[k]): k for k in order}
+            for count, fut in enumerate(as_completed(futures), start=1):
+                k = futures[fut]
+                out[k] = fut.result()
+                req, fid = jobs[k][0], jobs[k][4]
+                say(f"{fid} ({count}/{len(jobs)} done): {req.side} filter at {req.radio}")
+    except (OSError, BrokenProcessPool):
+        return None  # no processes here (a sandbox, a killed worker): design in this process
+    return [d for d in out if d is not None]
 
 
 def _band(item: Any, what: str) -> Band:

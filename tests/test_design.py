@@ -295,3 +295,34 @@ def test_cli_writes_touchstone(tmp_path, capsys):
     assert files == ["F1.s2p"]
     assert f"wrote {tmp_path / 'F1.s2p'}" in out
     assert math.isfinite(skrf.Network(str(tmp_path / "F1.s2p")).s_db.max())
+
+
+def test_designing_in_processes_gives_the_same_json_as_one_process(tmp_path):
+    # Run in a fresh interpreter: forking is used only where no other thread runs,
+    # and this test process may have some (the core's thread pool).
+    import subprocess
+    import sys
+
+    path = tmp_path / "tiny.yaml"
+    path.write_text(TINY_SITE)
+    script = textwrap.dedent(f"""
+        import json
+        from notchkit.design import design
+        from notchkit.site import load_site
+        site = load_site({str(path)!r})
+        said = []
+        two = design(site, workers=2, progress=said.append)
+        one = design(site, workers=1)
+        assert any("done" in m for m in said), said  # the process path ran
+        print(json.dumps(two.to_json(), sort_keys=True) == json.dumps(one.to_json(), sort_keys=True))
+    """)
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip() == "True"
+
+
+def test_workers_must_be_at_least_one(tmp_path):
+    path = tmp_path / "tiny.yaml"
+    path.write_text(TINY_SITE)
+    with pytest.raises(DesignError, match="workers 0 must be at least 1"):
+        design(load_site(path), workers=0)
