@@ -8,6 +8,8 @@ import warnings
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from notchkit.cables import Cable, LosslessCableWarning, cable_table, get_cable, library
 from notchkit.cli import main
@@ -179,6 +181,44 @@ def test_fit_recovers_exact_model():
     assert c.k_sqrt == pytest.approx(a, rel=1e-9)
     assert c.k_lin == pytest.approx(b, rel=1e-9)
     assert c.fit_residual_pct < 1e-6
+
+
+def _scipy_fit(points):
+    """The same fit by scipy.optimize.nnls (the reference for notchkit's own two-unknown solver)."""
+    from scipy.optimize import nnls
+
+    f = np.array([p[0] for p in points], dtype=float)
+    loss = np.array([p[1] for p in points], dtype=float)
+    (a, b), _ = nnls(np.column_stack((np.sqrt(f) / loss, f / loss)), np.ones_like(f))
+    return a, b
+
+
+@pytest.mark.parametrize("cable", library(), ids=lambda c: c.name)
+def test_fit_equals_scipy_nnls_on_every_library_table(cable):
+    a, b = _scipy_fit(cable.loss_table)
+    assert cable.k_sqrt == pytest.approx(a, rel=1e-9, abs=1e-12)
+    assert cable.k_lin == pytest.approx(b, rel=1e-9, abs=1e-12)
+
+
+@given(st.lists(st.tuples(st.floats(0.1, 6000), st.floats(0.01, 500)), min_size=1, max_size=12,
+                unique_by=lambda p: p[0]))
+@settings(max_examples=300, derandomize=True, deadline=None)
+def test_fit_equals_scipy_nnls_on_random_tables(points):
+    # Random tables include ones where a coefficient must be clamped at 0 (loss falling
+    # with frequency, a single point): the constrained optimum on a face of the quadrant.
+    from notchkit.cables import fit_loss
+
+    a, b = _scipy_fit(points)
+    k_sqrt, k_lin, _ = fit_loss(points)
+
+    def cost(x, y):
+        f = np.array([p[0] for p in points])
+        loss = np.array([p[1] for p in points])
+        return float(np.sum(((x * np.sqrt(f) + y * f) / loss - 1.0) ** 2))
+
+    assert k_sqrt >= 0 and k_lin >= 0
+    # Same minimum (the minimiser itself can be non-unique only for degenerate tables).
+    assert cost(k_sqrt, k_lin) <= cost(a, b) * (1 + 1e-9) + 1e-12
 
 
 @pytest.mark.parametrize(
