@@ -163,7 +163,8 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
     return tuple(cuts), tol, power
 
 
-def design(site: Any, *, progress: Progress | None = None, workers: int | None = None) -> DesignReport:
+def design(site: Any, *, progress: Progress | None = None, workers: int | None = None,
+           meanwhile: Callable[[], None] | None = None) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
     Parameters
@@ -176,6 +177,10 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         machine's cores when there is more than one filter; ``1`` designs them
         one after another in this process. The results are the same either
         way: every filter's search is deterministic and independent.
+    meanwhile : callable(), optional
+        Called once in this process while the worker processes design (or
+        first, when there are none): :func:`notchkit.plan.plan` imports its
+        PDF machinery then.
 
     Returns
     -------
@@ -201,10 +206,17 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     n = len(jobs)
     procs = _processes(n, workers)
     designs: list[Design] = []
+    pending = [meanwhile] if meanwhile is not None else []
+
+    def once() -> None:
+        if pending:
+            pending.pop()()
+
     if procs > 1:
-        done = _design_in_processes(jobs, procs, say)
+        done = _design_in_processes(jobs, procs, say, once)
         if done is not None:
             return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
+    once()
     for i, (req, cable, limits, allowances, fid) in enumerate(jobs, start=1):
         say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
@@ -235,7 +247,8 @@ def _one_thread() -> None:
     filters.set_threads(1)  # the processes share the cores already
 
 
-def _design_in_processes(jobs: list[tuple], procs: int, say: Progress) -> list[Design] | None:
+def _design_in_processes(jobs: list[tuple], procs: int, say: Progress,
+                         meanwhile: Callable[[], None]) -> list[Design] | None:
     """Design ``jobs`` in ``procs`` forked processes; ``None`` when that cannot be done here.
 
     Forking is used only where it is safe and cheap: a platform that has it
@@ -255,6 +268,7 @@ def _design_in_processes(jobs: list[tuple], procs: int, say: Progress) -> list[D
         with ProcessPoolExecutor(max_workers=procs, mp_context=multiprocessing.get_context("fork"),
                                  initializer=_one_thread) as pool:
             futures = {pool.submit(_design_job, jobs[k]): k for k in order}
+            meanwhile()  # the workers are forked by now: threads started here are safe
             for count, fut in enumerate(as_completed(futures), start=1):
                 k = futures[fut]
                 out[k] = fut.result()

@@ -81,7 +81,13 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None
 def _run_design(site: Any) -> Any:
     from notchkit.design import design
 
-    return design(site)
+    return design(site, meanwhile=_import_pdf_machinery)
+
+
+def _import_pdf_machinery() -> None:
+    """Import matplotlib's PDF backend while the filters are being designed (about a second)."""
+    import matplotlib.backends.backend_pdf  # noqa: F401
+    import matplotlib.figure  # noqa: F401
 
 
 def _designs(report: Any) -> list[Any]:
