@@ -25,8 +25,8 @@ import time
 
 import numpy as np
 
-from notchkit.cables import get_cable
 from notchkit import filters
+from notchkit.cables import get_cable
 from notchkit.filters import evaluate_batch
 
 C0 = 299_792_458.0
@@ -114,7 +114,7 @@ def main() -> None:
     print("\nbare tanh: one complex tanh per stub-point (candidates x frequencies x stubs), "
           "in chunks of 65536 points;\nit counts stubs only: the two-stub topology's line "
           "section is extra work for the core.")
-    print("scikit-rf and the bare tanh run on one thread; the 1-thread columns are the core on one thread too.")
+    print("scikit-rf and the bare tanh run on one thread; so does the core in the 1-thread columns.")
     print("targets: skrf/core >= 50, core/tanh <= 3")
     for label, _kinds, _n, core, skrf, tanh, _core1 in rows:
         ok = skrf / core >= 50 and core / tanh <= 3

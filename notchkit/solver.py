@@ -26,10 +26,11 @@ How it searches, simplest topology first:
    wave at each pass band, and a coarse grid. (The classic "triple frequency"
    pair, an open lambda/12 plus a shorted lambda/6 at one tee, which passes f
    and notches 3f, comes out of the compensation step.)
-3. **Refinement.** The best distinct candidates of each level are refined with
-   :func:`scipy.optimize.minimize` (L-BFGS-B, bounded lengths; the gradient by
-   forward differences evaluated in one batched call) on a smooth penalty of
-   the lossy model over a moderate grid: each band's edges plus interior points.
+3. **Refinement.** The best distinct candidates of each level are refined by a
+   bounded pattern search (:func:`_refine_group`: every trial move of every
+   candidate in one batched evaluation) on a smooth penalty of the lossy model
+   over a moderate grid: each band's edges plus interior points. The chosen
+   design is polished by the same search with finer steps.
 4. **Verification.** Every refined candidate is evaluated on a dense sweep of
    each band, edge to edge (at least :data:`VERIFY_POINTS` points per band).
    ``meets`` is true only when that sweep meets every requirement.
@@ -549,7 +550,8 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
 # ---------------------------------------------------------------- refinement
 
 
-def _refine_group(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
+def _refine_group(p: _Problem, cands: list[_Cand], stages: tuple | None = None,
+                  first_step: float = 0.25) -> list[_Cand]:
     """Local refinement of candidates of one topology: a bounded pattern search.
 
     Each iteration evaluates, in one batched call for every candidate still
@@ -569,10 +571,10 @@ def _refine_group(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
     eye = np.eye(n)
     m = len(cands)
     x = np.clip(np.array([c.lengths for c in cands]) / s, lo_u, hi_u)
-    step = np.full(m, 0.25)
+    step = np.full(m, first_step)
     last = np.zeros((m, n))
     n_moves = 4 * n + 2
-    for grid, stop in ((p.scan, 0.02), (p.fine, 1e-3)):
+    for grid, stop in stages or ((p.scan, 0.02), (p.fine, 1e-3)):
         jx = p.objective(kinds, x * s, grid)[0]
         for _ in range(_REFINE_ITER):
             active = np.flatnonzero(step >= stop)
@@ -613,24 +615,9 @@ def _refine_all(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
 
 
 def _polish(p: _Problem, cand: _Cand) -> _Cand:
-    """Final polish of the chosen design with scipy's Nelder-Mead on the fine grid."""
-    from scipy.optimize import minimize
-
-    kinds = cand.kinds
-    lo, hi = p.bounds(kinds)
-    s = p.scale
-
-    def fun(u):
-        return float(p.objective(kinds, np.clip(u * s, lo, hi)[None, :], p.fine)[0][0])
-
-    x0 = cand.lengths / s
-    n = x0.size
-    simplex = np.vstack([x0, x0[None, :] + 0.02 * np.eye(n)])
-    res = minimize(fun, x0, method="Nelder-Mead",
-                   options={"initial_simplex": simplex, "xatol": 1e-3, "fatol": 1e-4, "maxfev": 25 * n})
-    lengths = np.clip(res.x * s, lo, hi)
-    j, viol, margin, _ = p.objective(kinds, lengths[None, :], p.fine)
-    return _Cand(kinds, lengths, float(j[0]), float(viol[0]), float(margin[0]))
+    """Final polish of the chosen design: the pattern search again on the fine
+    grid, from small steps down to 1e-4 rad (a fraction of a millimetre)."""
+    return _refine_group(p, [cand], stages=((p.fine, 1e-4),), first_step=0.02)[0]
 
 
 # ---------------------------------------------------------------- verification

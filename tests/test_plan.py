@@ -298,3 +298,36 @@ def test_site_needing_no_filter_exits_0_with_cover_threats_labels_cautions(tmp_p
     pages = _pdf_pages(out)
     assert len(pages) == 1 + 1 + 0 + expected_label_pages(0, "a4") + 1
     assert "No filter is needed" in pages[0] and "NOT MET:" not in pages[0]
+
+
+def test_pages_rendered_in_processes_read_the_same_as_pages_rendered_in_one(tmp_path):
+    # A fresh interpreter (forking is used only where no other thread runs; this
+    # test process may have some). pypdf, an independent reader, compares every
+    # page's text of the joined PDF with the one rendered in a single process.
+    import subprocess
+    import sys
+    import textwrap
+
+    site = tmp_path / "knoll.yaml"
+    site.write_text(SITE)
+    script = textwrap.dedent(f"""
+        import importlib, io
+        from pypdf import PdfReader
+        from notchkit.plan import plan
+        pdf_mod = importlib.import_module("notchkit.report.pdf")
+        plan({str(site)!r}, {str(tmp_path / "two.pdf")!r})
+        pdf_mod._cores = lambda: 1
+        plan({str(site)!r}, {str(tmp_path / "one.pdf")!r})
+        two, one = (PdfReader({str(tmp_path)!r} + "/" + n) for n in ("two.pdf", "one.pdf"))
+        assert "joined by pypdf" in two.metadata["/Producer"], two.metadata
+        assert "joined" not in (one.metadata.get("/Producer") or ""), one.metadata
+        assert len(two.pages) == len(one.pages)
+        for a, b in zip(two.pages, one.pages):
+            assert a.extract_text() == b.extract_text()
+            assert all(abs(float(u) - float(v)) < 1e-3 for u, v in zip(a.mediabox, b.mediabox))
+        assert two.metadata["/Title"] == one.metadata["/Title"]
+        print(len(two.pages))
+    """)
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert int(out.stdout.strip()) >= 5

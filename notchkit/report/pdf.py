@@ -576,7 +576,7 @@ def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans:
 
 
 def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
-               footer: str = "") -> tuple[bytes, PdfLayout]:
+               footer: str = "", processes: int | None = None) -> tuple[bytes, PdfLayout]:
     """Render the plan to PDF bytes.
 
     Parameters
@@ -588,6 +588,10 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
     page_size : {"a4", "letter"}
     footer : str
         Left footer text of every page.
+    processes : int, optional
+        Render the pages in this many forked processes and join them with
+        pypdf (default: the machine's cores; 1 renders them here). The pages are
+        the same either way; where forking is not possible they are rendered here.
 
     Returns
     -------
@@ -595,61 +599,179 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
     """
     import logging
 
-    import matplotlib
-    from matplotlib.backends.backend_pdf import PdfPages
-
     size_in = page_size_in(page_size)
+    if processes is None:
+        processes = _cores()
     font = choose_font(_strings(pt) + [footer])
     fm_log = logging.getLogger("matplotlib.font_manager")
     level = fm_log.level
     fm_log.setLevel(logging.ERROR)  # "Helvetica: using medium" notes on every font lookup
     try:
-        data, layout = _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfPages)
+        data, layout = _render(pt, filter_parts, size_in, page_size, footer, font, processes)
     finally:
         fm_log.setLevel(level)
     return data, layout
 
 
-def _render(pt, filter_parts, size_in, page_size, footer, font, matplotlib, PdfPages):
-    with matplotlib.rc_context(font.rc):
-        pages: list[_Page] = []
+@dataclass(frozen=True, slots=True)
+class _PageSpec:
+    """One page of the plan, decided by the dry layout: which section, and what of it."""
 
-        def new_page() -> _Page:
-            return _Page(size_in, font=font)
+    section: str  # "cover", "threats", "filter", "labels", "cautions"
+    index: int = 0  # threat page number, filter number, or first label
+    part: str = "all"  # a filter page: "all", "first" or "rest"
+    step: tuple[float, float, float] = _FIT_STEPS[0]  # a filter page: body size, drawing and curve heights
 
-        cover = new_page()
-        _cover(cover, pt)
-        pages.append(cover)
-        threat_pages = _threat_pages(new_page, pt)
-        filter_pages = 0
-        pages += threat_pages
-        for ft, (filt, curve, spans) in zip(pt.filters, filter_parts, strict=True):
-            step, one_page = _fit_filter(size_in, ft, curve, spans, filt, font)
-            for part in ("all",) if one_page else ("first", "rest"):
-                p = new_page()
-                _filter_page(p, ft, curve, spans, filt, *step, part=part)
-                pages.append(p)
-                filter_pages += 1
-        tag_pages = _tag_pages(new_page, pt.tags, tags_per_page(page_size))
-        pages += tag_pages
-        caut = new_page()
-        _cautions(caut, pt)
-        pages.append(caut)
-        n = len(pages)
-        buf = io.BytesIO()
-        with PdfPages(buf, metadata={"Title": pt.title, "Creator": footer or "notchkit"}) as pdf:
-            for k, p in enumerate(pages, start=1):
-                _footer(p, footer or pt.title, k, n)
-                pdf.savefig(p.fig)
-    layout = PdfLayout(cover=1, threats=len(threat_pages), filters=filter_pages, labels=len(tag_pages),
+    @property
+    def weight(self) -> float:
+        """Rough rendering cost, to share the pages out evenly (a filter page draws a plot)."""
+        return {"filter": 1.3, "labels": 0.3, "cautions": 0.2}.get(self.section, 1.0)
+
+
+def _page_specs(pt: PlanText, filter_parts, size_in, page_size, font) -> list[_PageSpec]:
+    """Every page in order, from a dry layout (no matplotlib)."""
+    specs = [_PageSpec("cover")]
+    n_threat = len(_threat_pages(lambda: _Page(size_in, dry=True, font=font), pt))
+    specs += [_PageSpec("threats", i) for i in range(n_threat)]
+    for k, (ft, (filt, curve, spans)) in enumerate(zip(pt.filters, filter_parts, strict=True)):
+        step, one_page = _fit_filter(size_in, ft, curve, spans, filt, font)
+        parts = ("all",) if one_page else ("first", "rest")
+        specs += [_PageSpec("filter", k, part, step) for part in parts]
+    per = tags_per_page(page_size)
+    specs += [_PageSpec("labels", start) for start in range(0, max(len(pt.tags), 1), per)]
+    specs.append(_PageSpec("cautions"))
+    return specs
+
+
+def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size, font) -> _Page:
+    """The page ``spec`` describes, with its matplotlib Figure."""
+    if spec.section == "cover":
+        page = _Page(size_in, font=font)
+        _cover(page, pt)
+        return page
+    if spec.section == "threats":
+        made = []
+
+        def new_page() -> _Page:  # only the wanted page gets a Figure; the others stay dry
+            made.append(_Page(size_in, dry=len(made) != spec.index, font=font))
+            return made[-1]
+
+        _threat_pages(new_page, pt)
+        return made[spec.index]
+    if spec.section == "filter":
+        ft = pt.filters[spec.index]
+        filt, curve, spans = filter_parts[spec.index]
+        page = _Page(size_in, font=font)
+        _filter_page(page, ft, curve, spans, filt, *spec.step, part=spec.part)
+        return page
+    if spec.section == "labels":
+        per = tags_per_page(page_size)
+        return _tag_pages(lambda: _Page(size_in, font=font), pt.tags[spec.index:spec.index + per], per)[0]
+    page = _Page(size_in, font=font)
+    _cautions(page, pt)
+    return page
+
+
+def _cores() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+_JOB: dict[str, Any] = {}
+"""What forked page renderers read: set by :func:`_render` just before it forks."""
+
+
+def _render_range(bounds: tuple[int, int]) -> bytes:
+    """PDF bytes of pages ``bounds[0] .. bounds[1] - 1`` of the job in :data:`_JOB`."""
+    import matplotlib
+    from matplotlib.backends.backend_pdf import PdfPages
+
+    job = _JOB
+    specs, n = job["specs"], len(job["specs"])
+    buf = io.BytesIO()
+    with matplotlib.rc_context(job["font"].rc), PdfPages(buf, metadata=job["metadata"]) as pdf:
+        for k in range(*bounds):
+            page = _build_page(specs[k], job["pt"], job["filter_parts"], job["size_in"], job["page_size"],
+                               job["font"])
+            _footer(page, job["footer"], k + 1, n)
+            pdf.savefig(page.fig)
+    return buf.getvalue()
+
+
+def _split(specs: Sequence[_PageSpec], parts: int) -> list[tuple[int, int]]:
+    """``parts`` contiguous page ranges of about equal :attr:`_PageSpec.weight`."""
+    total = sum(s.weight for s in specs)
+    bounds, acc, k = [0], 0.0, 1
+    for i, s in enumerate(specs):
+        acc += s.weight
+        if k < parts and acc >= total * k / parts and i + 1 < len(specs):
+            bounds.append(i + 1)
+            k += 1
+    bounds.append(len(specs))
+    return list(zip(bounds[:-1], bounds[1:], strict=True))
+
+
+def _render(pt, filter_parts, size_in, page_size, footer, font, processes):
+    specs = _page_specs(pt, filter_parts, size_in, page_size, font)
+    metadata = {"Title": pt.title, "Creator": footer or "notchkit"}
+    _JOB.update(specs=specs, pt=pt, filter_parts=filter_parts, size_in=size_in, page_size=page_size,
+                font=font, footer=footer or pt.title, metadata=metadata)
+    try:
+        data = _render_in_processes(specs, processes) if processes > 1 else None
+        if data is None:
+            data = _render_range((0, len(specs)))
+    finally:
+        _JOB.clear()
+    count = {sec: sum(1 for s in specs if s.section == sec) for sec in ("threats", "filter", "labels")}
+    layout = PdfLayout(cover=1, threats=count["threats"], filters=count["filter"], labels=count["labels"],
                        cautions=1)
-    return buf.getvalue(), layout
+    return data, layout
+
+
+def _render_in_processes(specs: Sequence[_PageSpec], processes: int) -> bytes | None:
+    """Render page ranges in forked processes and join them with pypdf; None where that cannot run.
+
+    Like the design's workers: only where fork exists and no other thread runs
+    in this process, and only when pypdf (the joiner) is installed.
+    """
+    import multiprocessing
+    import threading
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
+
+    try:
+        from pypdf import PdfReader, PdfWriter
+    except ImportError:
+        return None
+    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+        return None
+    ranges = _split(specs, min(processes, len(specs)))
+    if len(ranges) < 2:
+        return None
+    try:
+        with ProcessPoolExecutor(max_workers=len(ranges),
+                                 mp_context=multiprocessing.get_context("fork")) as pool:
+            parts = list(pool.map(_render_range, ranges))
+    except (OSError, BrokenProcessPool):
+        return None
+    writer = PdfWriter()
+    for part in parts:
+        writer.append(PdfReader(io.BytesIO(part)))
+    meta = _JOB["metadata"]
+    writer.add_metadata({"/Title": meta["Title"], "/Creator": meta["Creator"],
+                         "/Producer": "notchkit (matplotlib pages joined by pypdf)"})
+    out = io.BytesIO()
+    writer.write(out)
+    return out.getvalue()
 
 
 def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *,
-              page_size: str = "a4", footer: str = "") -> tuple[Path, PdfLayout]:
+              page_size: str = "a4", footer: str = "",
+              processes: int | None = None) -> tuple[Path, PdfLayout]:
     """Render with :func:`render_pdf` and write the file atomically."""
-    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer)
+    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer, processes=processes)
     return write_bytes_atomic(path, data), layout
 
 
