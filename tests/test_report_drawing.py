@@ -25,7 +25,9 @@ def _filter():
 
 
 def _texts(fig):
-    return [t.get_text() for t in fig.texts]
+    from matplotlib.text import Text
+
+    return [t.get_text() for t in [*fig.texts, *fig.artists] if isinstance(t, Text)]
 
 
 def _patches(fig):

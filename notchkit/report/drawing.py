@@ -64,7 +64,11 @@ class FigureRegion:
                           + BboxTransformTo(box))
 
     def text(self, x: float, y: float, s: str, **kw: Any) -> Any:
-        return self.fig.text(x, y, s, transform=self.transform, **kw)
+        # One artist list with the page's own text (notchkit.report.pdf), so a PDF
+        # reader extracts the page in the order it was written.
+        from matplotlib.text import Text
+
+        return self.fig.add_artist(Text(x, y, s, transform=self.transform, **kw))
 
     def add_artist(self, a: Any) -> Any:
         a.set_transform(self.transform)
