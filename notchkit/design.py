@@ -204,7 +204,6 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     jobs = [(req, get_cable(req.cable, site.cables), site.limits, site.allowances, f"F{i}")
             for i, req in enumerate(sv.filters, start=1)]
     n = len(jobs)
-    procs = _processes(n, workers)
     designs: list[Design] = []
     pending = [meanwhile] if meanwhile is not None else []
 
@@ -212,8 +211,8 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         if pending:
             pending.pop()()
 
-    if procs > 1:
-        done = _design_in_processes(jobs, procs, say, once)
+    if workers != 1:
+        done = _design_in_processes(jobs, workers, say, once)
         if done is not None:
             return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     once()
@@ -222,18 +221,6 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                      filter_id=fid, progress=say))
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
-
-
-def _processes(n_jobs: int, workers: int | None) -> int:
-    """How many worker processes :func:`design` should use (1: none)."""
-    if workers is not None:
-        want = int(workers)
-    else:
-        try:
-            want = len(os.sched_getaffinity(0))
-        except (AttributeError, OSError):
-            want = os.cpu_count() or 1
-    return max(1, min(want, n_jobs))
 
 
 def _design_job(job: tuple) -> Design:
@@ -247,36 +234,27 @@ def _one_thread() -> None:
     filters.set_threads(1)  # the processes share the cores already
 
 
-def _design_in_processes(jobs: list[tuple], procs: int, say: Progress,
+def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress,
                          meanwhile: Callable[[], None]) -> list[Design] | None:
-    """Design ``jobs`` in ``procs`` forked processes; ``None`` when that cannot be done here.
+    """Design ``jobs`` in worker processes (:func:`notchkit.parallel.fork_map`), the
+    largest requirements first so the workers finish together; ``None`` where
+    processes cannot be used."""
+    from notchkit.parallel import fork_map
 
-    Forking is used only where it is safe and cheap: a platform that has it
-    and a process running no other thread (a fork copies only the calling
-    thread). The largest requirements go first so the workers finish together.
-    """
-    import multiprocessing
-    import threading
-    from concurrent.futures import ProcessPoolExecutor, as_completed
-    from concurrent.futures.process import BrokenProcessPool
-
-    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
-        return None
     order = sorted(range(len(jobs)), key=lambda k: -(len(jobs[k][0].notches) + len(jobs[k][0].pass_bands)))
-    out: list[Design | None] = [None] * len(jobs)
-    try:
-        with ProcessPoolExecutor(max_workers=procs, mp_context=multiprocessing.get_context("fork"),
-                                 initializer=_one_thread) as pool:
-            futures = {pool.submit(_design_job, jobs[k]): k for k in order}
-            meanwhile()  # the workers are forked by now: threads started here are safe
-            for count, fut in enumerate(as_completed(futures), start=1):
-                k = futures[fut]
-                out[k] = fut.result()
-                req, fid = jobs[k][0], jobs[k][4]
-                say(f"{fid} ({count}/{len(jobs)} done): {req.side} filter at {req.radio}")
-    except (OSError, BrokenProcessPool):
-        return None  # no processes here (a sandbox, a killed worker): design in this process
-    return [d for d in out if d is not None]
+
+    def report(i: int, _d: Design, done: int) -> None:
+        req, fid = jobs[order[i]][0], jobs[order[i]][4]
+        say(f"{fid} ({done}/{len(jobs)} done): {req.side} filter at {req.radio}")
+
+    results = fork_map(_design_job, [jobs[k] for k in order], processes=workers, initializer=_one_thread,
+                       meanwhile=meanwhile, on_result=report)
+    if results is None:
+        return None
+    out: list[Design] = [None] * len(jobs)  # type: ignore[list-item]
+    for k, d in zip(order, results, strict=True):
+        out[k] = d
+    return out
 
 
 def _band(item: Any, what: str) -> Band:

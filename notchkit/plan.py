@@ -90,6 +90,12 @@ def _import_pdf_machinery() -> None:
     import matplotlib.figure  # noqa: F401
 
 
+def _filter_images(job: tuple) -> tuple[bytes, bytes]:
+    from notchkit.report.html import filter_images
+
+    return filter_images(*job)
+
+
 def _designs(report: Any) -> list[Any]:
     return list(getattr(report, "designs", report))
 
@@ -207,10 +213,10 @@ def plan(
 
     images: list[tuple[bytes, bytes]] = []
     if html is not None or outdir is not None:
-        from notchkit.report.html import filter_images
+        from notchkit.parallel import fork_map
 
-        images = [filter_images(filt, curve, spans, ft)
-                  for ft, (filt, curve, spans) in zip(pt.filters, parts, strict=True)]
+        jobs = [(filt, curve, spans, ft) for ft, (filt, curve, spans) in zip(pt.filters, parts, strict=True)]
+        images = fork_map(_filter_images, jobs) or [_filter_images(job) for job in jobs]
     html_path = None
     if html is not None:
         from notchkit.report.html import write_html

@@ -316,7 +316,7 @@ def test_pages_rendered_in_processes_read_the_same_as_pages_rendered_in_one(tmp_
         from notchkit.plan import plan
         pdf_mod = importlib.import_module("notchkit.report.pdf")
         plan({str(site)!r}, {str(tmp_path / "two.pdf")!r})
-        pdf_mod._cores = lambda: 1
+        importlib.import_module("notchkit.parallel").cores = lambda: 1
         plan({str(site)!r}, {str(tmp_path / "one.pdf")!r})
         two, one = (PdfReader({str(tmp_path)!r} + "/" + n) for n in ("two.pdf", "one.pdf"))
         assert "joined by pypdf" in two.metadata["/Producer"], two.metadata

@@ -647,7 +647,9 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
 
     size_in = page_size_in(page_size)
     if processes is None:
-        processes = _cores()
+        from notchkit.parallel import cores
+
+        processes = cores()
     font = choose_font(_strings(pt) + [footer])
     fm_log = logging.getLogger("matplotlib.font_manager")
     level = fm_log.level
@@ -718,13 +720,6 @@ def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size,
     return page
 
 
-def _cores() -> int:
-    try:
-        return len(os.sched_getaffinity(0))
-    except (AttributeError, OSError):
-        return os.cpu_count() or 1
-
-
 _JOB: dict[str, Any] = {}
 """What forked page renderers read: set by :func:`_render` just before it forks."""
 
@@ -777,30 +772,17 @@ def _render(pt, filter_parts, size_in, page_size, footer, font, processes):
 
 
 def _render_in_processes(specs: Sequence[_PageSpec], processes: int) -> bytes | None:
-    """Render page ranges in forked processes and join them with pypdf; None where that cannot run.
-
-    Like the design's workers: only where fork exists and no other thread runs
-    in this process, and only when pypdf (the joiner) is installed.
-    """
-    import multiprocessing
-    import threading
-    from concurrent.futures import ProcessPoolExecutor
-    from concurrent.futures.process import BrokenProcessPool
+    """Render page ranges in worker processes (:func:`notchkit.parallel.fork_map`) and
+    join them with pypdf; ``None`` where processes cannot be used."""
+    from notchkit.parallel import fork_map
 
     try:
         from pypdf import PdfReader, PdfWriter
     except ImportError:
         return None
-    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
-        return None
     ranges = _split(specs, min(processes, len(specs)))
-    if len(ranges) < 2:
-        return None
-    try:
-        with ProcessPoolExecutor(max_workers=len(ranges),
-                                 mp_context=multiprocessing.get_context("fork")) as pool:
-            parts = list(pool.map(_render_range, ranges))
-    except (OSError, BrokenProcessPool):
+    parts = fork_map(_render_range, ranges, processes=processes)
+    if parts is None:
         return None
     writer = PdfWriter()
     for part in parts:

@@ -1,0 +1,90 @@
+"""Independent jobs in forked worker processes, with an in-process fallback.
+
+Designing several filters, rendering the plan's pages and drawing its images
+are each a list of independent jobs; :func:`fork_map` runs them on the
+machine's cores. It forks (cheap: the workers share the parent's imports and
+data) and only where forking is safe: a platform that has ``fork`` and a
+process running no other thread (a fork copies only the calling thread).
+Everywhere else it returns ``None`` and the caller runs the jobs itself, so the
+results never depend on whether processes were used.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Sequence
+from typing import Any
+
+
+def cores() -> int:
+    """The cores this process may run on."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def fork_map(
+    fn: Callable[[Any], Any],
+    items: Sequence[Any],
+    *,
+    processes: int | None = None,
+    initializer: Callable[[], None] | None = None,
+    meanwhile: Callable[[], None] | None = None,
+    on_result: Callable[[int, Any, int], None] | None = None,
+) -> list[Any] | None:
+    """``[fn(item) for item in items]`` in forked worker processes, or ``None``.
+
+    Parameters
+    ----------
+    fn : callable
+        A module-level function (it is sent to the workers by name); its
+        argument and result are pickled.
+    items : sequence
+        Handed out in this order, one at a time, so put the longest jobs first.
+    processes : int, optional
+        At most this many workers (default: :func:`cores`); fewer than two,
+        or fewer than two items, returns ``None``.
+    initializer : callable, optional
+        Run once in each worker before its first job.
+    meanwhile : callable, optional
+        Run here once the workers are forked and working (so it may import
+        modules or start threads without harm to them).
+    on_result : callable(index, result, done), optional
+        Called here as each job finishes, in finishing order.
+
+    Returns
+    -------
+    list or None
+        The results in the order of ``items``; ``None`` when processes cannot
+        be used here (no ``fork``, other threads running, no processes allowed,
+        a worker killed). ``meanwhile`` may have run before such a failure, so
+        a caller that falls back should make it safe to call twice.
+    """
+    import multiprocessing
+    import threading
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
+
+    n = min(cores() if processes is None else int(processes), len(items))
+    if n < 2:
+        return None
+    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+        return None
+    out: list[Any] = [None] * len(items)
+    try:
+        with ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"),
+                                 initializer=initializer) as pool:
+            # With fork, every worker is started at the first submit, before the
+            # pool's own thread: nothing here runs in a thread while forking.
+            futures = {pool.submit(fn, item): k for k, item in enumerate(items)}
+            if meanwhile is not None:
+                meanwhile()
+            for done, fut in enumerate(as_completed(futures), start=1):
+                k = futures[fut]
+                out[k] = fut.result()
+                if on_result is not None:
+                    on_result(k, out[k], done)
+    except (OSError, BrokenProcessPool):
+        return None
+    return out
