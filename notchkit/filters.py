@@ -310,10 +310,10 @@ class _Sweep:
             return np.exp(out, out=out)
         np.multiply(x, self.neg_alpha, out=real)
         np.exp(real, out=real)
-        for start, stop, coarse_b, fine_b in self.runs:
-            coarse = np.exp(-1j * (x * coarse_b))
-            fine = np.exp(-1j * (x * fine_b))
-            rows, n_coarse, n_fine = x.shape[0], coarse_b.size, fine_b.size
+        rows = x.shape[0]
+        for start, stop, n_coarse, n_fine, minus_j_b in self.runs:
+            factors = np.exp(x * minus_j_b)  # the coarse factors, then the fine ones
+            coarse, fine = factors[:, :n_coarse], factors[:, n_coarse:]
             prod = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
             np.multiply(coarse[:, :, None], fine[:, None, :], out=prod)
             prod = prod.reshape(rows, n_coarse * n_fine)
@@ -371,7 +371,7 @@ class _Work:
             setattr(self, name, np.empty(shape, dtype=complex))
         self.r1 = np.empty(shape)
         self.r2 = np.empty(shape)
-        block = max((c.size * f.size for _, _, c, f in sweep.runs or ()), default=0)
+        block = max((n_c * n_f for _, _, n_c, n_f, _ in sweep.runs or ()), default=0)
         self.flat = np.empty(rows * block, dtype=complex)
 
     def rows(self, n: int) -> _Work:
@@ -385,13 +385,13 @@ class _Work:
         return view
 
 
-def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, NDArray, NDArray]] | None:
+def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, int, int, NDArray]] | None:
     """Split a grid into evenly spaced stretches, or None if it is not made of long ones.
 
-    Each run is ``(start, stop, coarse, fine)``: point ``start + k B + m`` of
-    the run has ``b = coarse[k] + fine[m]``, ``B = len(fine)`` about the square
-    root of the run's length. A run is accepted only if every point lies within
-    a few roundings of ``b_start + i * step``.
+    Each run is ``(start, stop, K, B, e)``: point ``start + k B + m`` of the run
+    has ``b = coarse[k] + fine[m]`` with ``e = -j (coarse[0..K-1], fine[0..B-1])``
+    and ``B`` about the square root of the run's length. A run is accepted only
+    if every point lies within a few roundings of ``b_start + i * step``.
     """
     n = beta.size
     if n < _MIN_RUN:
@@ -417,7 +417,9 @@ def _even_runs(beta: NDArray[np.float64]) -> list[tuple[int, int, NDArray, NDArr
         n_run = stop - start
         block = math.isqrt(n_run - 1) + 1
         n_blocks = -(-n_run // block)
-        runs.append((start, stop, b_s + (block * db) * np.arange(n_blocks), db * np.arange(block)))
+        coarse = b_s + (block * db) * np.arange(n_blocks)
+        fine = db * np.arange(block)
+        runs.append((start, stop, n_blocks, block, -1j * np.concatenate((coarse, fine))))
         start = stop
     return runs
 
