@@ -43,7 +43,7 @@ Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
 MIN_MODEL_LENGTH_M = 1e-9
 """A zero-length shorted stub is modelled as 1 nm: a finite dead short (shared with power.py)."""
-_CHUNK_POINTS = 1 << 13  # candidate-chunk size in points: keeps temporaries in cache
+_CHUNK_POINTS = 1 << 14  # candidate-chunk size in points: scratch stays in cache, few Python steps
 _THREAD_POINTS = 1 << 19
 """Batches of at least this many points are shared among threads (numpy's loops release the GIL)."""
 _threads = max(1, min(4, os.cpu_count() or 1))
