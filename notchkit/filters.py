@@ -21,7 +21,7 @@ import math
 import os
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Literal, Protocol
+from typing import Any, Literal, Protocol
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -238,8 +238,7 @@ def evaluate_batch(
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
     f = np.asarray(freq_hz, dtype=float).ravel()
-    _check_freq(f)
-    sweep = _Sweep(f, cable)
+    sweep = _sweep_for(f, cable)
     z0 = float(cable.z0_ohm)
     zs = float(z_system)
     n_cand, n_freq = lengths.shape[0], f.size
@@ -266,6 +265,31 @@ def evaluate_batch(
 
 _MIN_RUN = 64
 """Shortest stretch of evenly spaced frequencies worth the factored phase."""
+_SWEEPS: dict[tuple[int, bytes], tuple[Any, _Sweep]] = {}
+_SWEEPS_MAX = 32
+
+
+def _sweep_for(f: NDArray[np.float64], cable: Medium) -> _Sweep:
+    """The :class:`_Sweep` of a grid, checked; the last few are kept for a library cable.
+
+    The solver evaluates thousands of batches on the same few grids; a
+    :class:`notchkit.cables.Cable` is frozen, so its sweep can be reused (a
+    user's own medium object might change, so it is never cached).
+    """
+    from notchkit.cables import Cable
+
+    key = (id(cable), f.tobytes()) if type(cable) is Cable else None
+    if key is not None:
+        hit = _SWEEPS.get(key)
+        if hit is not None and hit[0] is cable:
+            return hit[1]
+    _check_freq(f)
+    sweep = _Sweep(f, cable)
+    if key is not None:
+        if len(_SWEEPS) >= _SWEEPS_MAX:
+            _SWEEPS.pop(next(iter(_SWEEPS)))
+        _SWEEPS[key] = (cable, sweep)  # holding the cable keeps its id from being reused
+    return sweep
 
 
 class _Sweep:
@@ -289,11 +313,12 @@ class _Sweep:
       complex ``tanh``; a line's ``e^{-gl}`` is one complex ``exp``.
     """
 
-    __slots__ = ("alpha", "beta", "g", "neg_alpha", "runs")
+    __slots__ = ("alpha", "beta", "g", "neg_alpha", "minus2_alpha", "runs")
 
     def __init__(self, f: NDArray[np.float64], cable: Medium) -> None:
         self.alpha = np.broadcast_to(np.asarray(cable.alpha_np_per_m(f), dtype=float), f.shape)
         self.neg_alpha = -self.alpha
+        self.minus2_alpha = -2.0 * self.alpha
         self.beta = 2.0 * np.pi * f / (C0 * float(cable.velocity_factor))
         self.g = gamma(f, self.alpha, cable.velocity_factor)
         self.runs = _even_runs(self.beta)
@@ -334,12 +359,10 @@ class _Sweep:
             u -= y0
             return u
         th, tn = w.r1, w.r2
-        np.multiply(x, self.alpha, out=th)
-        th *= -2.0
+        np.multiply(x, self.minus2_alpha, out=th)
         np.expm1(th, out=th)
-        np.add(th, 2.0, out=tn)
-        np.divide(th, tn, out=th)
-        np.negative(th, out=th)  # tanh(x a) = -expm1(-2 x a) / (2 + expm1(-2 x a)), exact for small x a
+        np.subtract(-2.0, th, out=tn)
+        np.divide(th, tn, out=th)  # tanh(x a) = -expm1(-2 x a) / (2 + expm1(-2 x a)), exact for small x a
         np.multiply(x, self.beta, out=tn)
         np.tan(tn, out=tn)
         num, den = (w.t1, out) if short else (out, w.t1)  # coth = den / num: the result lands in out
