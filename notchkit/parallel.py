@@ -3,8 +3,11 @@
 Designing several filters, rendering the plan's pages and drawing its images
 are each a list of independent jobs; :func:`fork_map` runs them on the
 machine's cores. It forks (cheap: the workers share the parent's imports and
-data) and only where forking is safe: a platform that has ``fork`` and a
-process running no other thread (a fork copies only the calling thread).
+data) and only where forking is safe: Linux (macOS has ``fork`` but its system
+libraries do not promise to survive it, which is why Python there defaults to
+``spawn``), a process running no other thread (a fork copies only the calling
+thread), and not inside a daemonic worker of someone else's pool (which may
+have no children).
 Everywhere else it returns ``None`` and the caller runs the jobs itself, so the
 results never depend on whether processes were used.
 """
@@ -57,11 +60,12 @@ def fork_map(
     -------
     list or None
         The results in the order of ``items``; ``None`` when processes cannot
-        be used here (no ``fork``, other threads running, no processes allowed,
-        a worker killed). ``meanwhile`` may have run before such a failure, so
+        be used here (not Linux, other threads running, a daemonic process, no
+        processes allowed, a worker killed). ``meanwhile`` may have run before such a failure, so
         a caller that falls back should make it safe to call twice.
     """
     import multiprocessing
+    import sys
     import threading
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
@@ -69,7 +73,8 @@ def fork_map(
     n = min(cores() if processes is None else int(processes), len(items))
     if n < 2:
         return None
-    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+    if (not sys.platform.startswith("linux") or "fork" not in multiprocessing.get_all_start_methods()
+            or threading.active_count() > 1 or multiprocessing.current_process().daemon):
         return None
     out: list[Any] = [None] * len(items)
     try:

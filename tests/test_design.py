@@ -326,3 +326,15 @@ def test_workers_must_be_at_least_one(tmp_path):
     path.write_text(TINY_SITE)
     with pytest.raises(DesignError, match="workers 0 must be at least 1"):
         design(load_site(path), workers=0)
+
+
+def test_fork_map_declines_where_processes_are_unsafe(monkeypatch):
+    # Then the caller runs the jobs itself: None, never an exception.
+    import threading
+
+    from notchkit import parallel
+
+    assert parallel.fork_map(abs, [1, 2], processes=1) is None  # one worker: nothing to gain
+    assert parallel.fork_map(abs, [1], processes=2) is None  # one job
+    monkeypatch.setattr(threading, "active_count", lambda: 2)  # another thread is running
+    assert parallel.fork_map(abs, [1, 2], processes=2) is None
