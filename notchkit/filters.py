@@ -610,6 +610,16 @@ def to_network(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0, name: s
     return skrf.Network(frequency=freq, s=evaluate(filt, f, z_system), z0=z_system, name=name)
 
 
+def touchstone_text(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0, comment: str = "",
+                    name: str = "filter") -> str:
+    """The filter's S-parameters as Touchstone ``.s2p`` text (dB / angle), by scikit-rf."""
+    net = to_network(filt, freq_hz, z_system, name=name)
+    text = net.write_touchstone(return_string=True, skrf_comment=False, write_z0=False, form="db")
+    if comment:
+        text = "".join(f"! {line}\n" for line in comment.splitlines()) + text
+    return text
+
+
 def write_touchstone(
     filt: Filter,
     freq_hz: ArrayLike,
@@ -625,9 +635,6 @@ def write_touchstone(
     path = Path(path)
     if path.suffix.lower() != ".s2p":
         path = path.with_suffix(".s2p")
-    net = to_network(filt, freq_hz, z_system, name=path.stem)
-    text = net.write_touchstone(return_string=True, skrf_comment=False, write_z0=False, form="db")
-    if comment:
-        text = "".join(f"! {line}\n" for line in comment.splitlines()) + text
+    text = touchstone_text(filt, freq_hz, z_system, comment, name=path.stem)
     write_text_atomic(path, text, what="Touchstone file")
     return path

@@ -90,10 +90,15 @@ def _import_pdf_machinery() -> None:
     import matplotlib.figure  # noqa: F401
 
 
-def _filter_images(job: tuple) -> tuple[bytes, bytes]:
+def _filter_files(job: tuple) -> tuple[bytes, bytes, str | None]:
+    """One filter's drawing and curve PNGs and, for ``outdir``, its Touchstone text."""
+    from notchkit.filters import touchstone_text
     from notchkit.report.html import filter_images
 
-    return filter_images(*job)
+    filt, curve, spans, ft, touchstone = job
+    draw_png, curve_png = filter_images(filt, curve, spans, ft)
+    s2p = touchstone_text(filt, *touchstone) if touchstone is not None else None
+    return draw_png, curve_png, s2p
 
 
 def _designs(report: Any) -> list[Any]:
@@ -211,12 +216,22 @@ def plan(
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
     pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer)
 
-    images: list[tuple[bytes, bytes]] = []
+    made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
+        from notchkit.design import touchstone_name, touchstone_sweep_hz
         from notchkit.parallel import fork_map
 
-        jobs = [(filt, curve, spans, ft) for ft, (filt, curve, spans) in zip(pt.filters, parts, strict=True)]
-        images = fork_map(_filter_images, jobs) or [_filter_images(job) for job in jobs]
+        jobs = []
+        for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
+            touchstone = None
+            if outdir is not None:
+                z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
+                touchstone = (touchstone_sweep_hz(d.requirement), z_system,
+                              f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
+                              touchstone_name(d).removesuffix(".s2p"))
+            jobs.append((filt, curve, spans, ft, touchstone))
+        made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
+    images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
     html_path = None
     if html is not None:
         from notchkit.report.html import write_html
@@ -226,8 +241,6 @@ def plan(
     files: list[Path] = []
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
     if outdir is not None:
-        from notchkit.design import touchstone_name, touchstone_sweep_hz
-        from notchkit.filters import write_touchstone
         from notchkit.report.files import write_text_atomic
 
         folder = Path(outdir)
@@ -235,15 +248,11 @@ def plan(
             folder.mkdir(parents=False, exist_ok=True)
         except OSError as exc:
             raise InputError(f"--outdir {str(folder)!r}: cannot create ({exc.strerror or exc})") from exc
-        for d, (filt, curve, _sp), (_draw, curve_png) in zip(designs, parts, images, strict=True):
-            fid = design_id(d)
+        for d, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(designs, parts, made, strict=True):
             stem = touchstone_name(d).removesuffix(".s2p")
             files.append(write_bytes_atomic(folder / f"{stem}.png", curve_png))
             files.append(write_curve_csv(curve, folder / f"{stem}.csv"))
-            z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
-            files.append(write_touchstone(filt, touchstone_sweep_hz(d.requirement), folder / f"{stem}.s2p",
-                                          z_system=z_system,
-                                          comment=f"notchkit plan {fid}: {site.name}, notchkit {version}"))
+            files.append(write_text_atomic(folder / f"{stem}.s2p", s2p, what="Touchstone file"))
         files.append(write_text_atomic(json_path, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
 
     return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
