@@ -5,7 +5,8 @@ so imports count), a few times, and prints the median wall-clock time and its
 ratio to the 2 s target, with the median CPU time of the child process (on a
 shared machine the wall clock includes time other processes took). Also times
 the same site with ``--html`` and ``--outdir``, and the wall time of each phase
-of one run in process (design, PDF, images). Not a timed test: ``python benchmarks/plan.py [SITE.yaml] [RUNS]``.
+of one run in process (design, PDF, images). Not a timed test:
+``python benchmarks/plan.py [SITE.yaml] [RUNS]``.
 """
 
 from __future__ import annotations

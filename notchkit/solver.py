@@ -558,8 +558,9 @@ def _refine_group(p: _Problem, cands: list[_Cand], stages: tuple | None = None,
     moving, a step up and down each length at two step sizes and the last
     successful move extended; a candidate's step shrinks when none of its moves
     improves it. Lengths are in radians at the highest band frequency, so a step
-    is the same phase for every element. Coarse steps use the scan grid, the
-    last ones the fine grid. (A pattern search rather than a quasi-Newton
+    is the same phase for every element. ``stages`` are (grid, smallest step)
+    pairs: by default coarse steps on the scan grid, then down to 1e-3 rad on
+    the fine grid; the steps start at ``first_step`` rad. (A pattern search rather than a quasi-Newton
     method: it needs no linear algebra, whose threaded BLAS slows everything
     down on a busy machine, and each step is one batched evaluation.)
     """

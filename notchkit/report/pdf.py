@@ -721,15 +721,16 @@ def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size,
 
 
 _JOB: dict[str, Any] = {}
-"""What forked page renderers read: set by :func:`_render` just before it forks."""
+"""The page job forked renderers read (:func:`_render_in_processes` sets it just
+before forking, and forking happens only when no other thread runs)."""
 
 
-def _render_range(bounds: tuple[int, int]) -> bytes:
-    """PDF bytes of pages ``bounds[0] .. bounds[1] - 1`` of the job in :data:`_JOB`."""
+def _render_range(bounds: tuple[int, int], job: dict[str, Any] | None = None) -> bytes:
+    """PDF bytes of pages ``bounds[0] .. bounds[1] - 1`` of ``job`` (default: :data:`_JOB`)."""
     import matplotlib
     from matplotlib.backends.backend_pdf import PdfPages
 
-    job = _JOB
+    job = _JOB if job is None else job
     specs, n = job["specs"], len(job["specs"])
     buf = io.BytesIO()
     with matplotlib.rc_context(job["font"].rc), PdfPages(buf, metadata=job["metadata"]) as pdf:
@@ -756,22 +757,19 @@ def _split(specs: Sequence[_PageSpec], parts: int) -> list[tuple[int, int]]:
 
 def _render(pt, filter_parts, size_in, page_size, footer, font, processes):
     specs = _page_specs(pt, filter_parts, size_in, page_size, font)
-    metadata = {"Title": pt.title, "Creator": footer or "notchkit"}
-    _JOB.update(specs=specs, pt=pt, filter_parts=filter_parts, size_in=size_in, page_size=page_size,
-                font=font, footer=footer or pt.title, metadata=metadata)
-    try:
-        data = _render_in_processes(specs, processes) if processes > 1 else None
-        if data is None:
-            data = _render_range((0, len(specs)))
-    finally:
-        _JOB.clear()
+    job = {"specs": specs, "pt": pt, "filter_parts": filter_parts, "size_in": size_in,
+           "page_size": page_size, "font": font, "footer": footer or pt.title,
+           "metadata": {"Title": pt.title, "Creator": footer or "notchkit"}}
+    data = _render_in_processes(job, processes) if processes > 1 else None
+    if data is None:
+        data = _render_range((0, len(specs)), job)
     count = {sec: sum(1 for s in specs if s.section == sec) for sec in ("threats", "filter", "labels")}
     layout = PdfLayout(cover=1, threats=count["threats"], filters=count["filter"], labels=count["labels"],
                        cautions=1)
     return data, layout
 
 
-def _render_in_processes(specs: Sequence[_PageSpec], processes: int) -> bytes | None:
+def _render_in_processes(job: dict[str, Any], processes: int) -> bytes | None:
     """Render page ranges in worker processes (:func:`notchkit.parallel.fork_map`) and
     join them with pypdf; ``None`` where processes cannot be used."""
     from notchkit.parallel import fork_map
@@ -780,14 +778,19 @@ def _render_in_processes(specs: Sequence[_PageSpec], processes: int) -> bytes | 
         from pypdf import PdfReader, PdfWriter
     except ImportError:
         return None
+    specs = job["specs"]
     ranges = _split(specs, min(processes, len(specs)))
-    parts = fork_map(_render_range, ranges, processes=processes)
+    _JOB.update(job)
+    try:
+        parts = fork_map(_render_range, ranges, processes=processes)
+    finally:
+        _JOB.clear()
     if parts is None:
         return None
     writer = PdfWriter()
     for part in parts:
         writer.append(PdfReader(io.BytesIO(part)))
-    meta = _JOB["metadata"]
+    meta = job["metadata"]
     writer.add_metadata({"/Title": meta["Title"], "/Creator": meta["Creator"],
                          "/Producer": "notchkit (matplotlib pages joined by pypdf)"})
     out = io.BytesIO()
