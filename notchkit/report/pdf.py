@@ -5,10 +5,14 @@ then the threat table, continued over as many pages as it needs); one page
 per filter (drawing, curve, requirements, cut list, tolerance, power check,
 trimming steps); the cut labels (:func:`tags_per_page` tags a page); the
 cautions. Text is laid out here with a simple cursor (inches from the top)
-and drawn with ``Figure.text`` inside ``matplotlib.rc_context``, so every
-number is real text a PDF reader can search and extract: in the PDF standard
+and drawn as matplotlib ``Text`` artists inside ``matplotlib.rc_context``, so
+every number is real text a PDF reader can search and extract: in the PDF standard
 Helvetica when all text is Windows-1252 (:data:`CORE_FONT`, fast), else in
 embedded DejaVu Sans with ``pdf.fonttype`` 42 (:data:`EMBEDDED_FONT`).
+
+A dry layout (no matplotlib) decides every page first (:func:`_page_specs`);
+the pages are then rendered in worker processes, a contiguous range each, and
+joined with pypdf, or all here where processes cannot be used.
 
 matplotlib is imported inside the functions; no global style is changed (the
 font manager's log level is lowered only while a PDF renders).
