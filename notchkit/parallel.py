@@ -27,6 +27,28 @@ def cores() -> int:
         return os.cpu_count() or 1
 
 
+def _start_worker(parent_pid: int, initializer: Callable[[], None] | None) -> None:
+    """First thing in every worker: die with the parent, then the caller's initializer.
+
+    A worker blocks reading its job queue; if the parent were killed (SIGKILL,
+    the out-of-memory killer, a timeout) the workers would wait forever, since
+    each holds the others' ends of the queue's pipe. Linux's
+    ``PR_SET_PDEATHSIG`` sends the worker SIGKILL when its parent exits.
+    """
+    import ctypes
+    import signal
+
+    try:
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+    except (OSError, AttributeError):
+        pass
+    if os.getppid() != parent_pid:  # the parent died before prctl took effect
+        os._exit(1)
+    if initializer is not None:
+        initializer()
+
+
 def fork_map(
     fn: Callable[[Any], Any],
     items: Sequence[Any],
@@ -49,7 +71,8 @@ def fork_map(
         At most this many workers (default: :func:`cores`); fewer than two,
         or fewer than two items, returns ``None``.
     initializer : callable, optional
-        Run once in each worker before its first job.
+        Run once in each worker before its first job (after the worker has
+        arranged to be killed if this process dies).
     meanwhile : callable, optional
         Run here once the workers are forked and working (so it may import
         modules or start threads without harm to them).
@@ -79,7 +102,7 @@ def fork_map(
     out: list[Any] = [None] * len(items)
     try:
         with ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"),
-                                 initializer=initializer) as pool:
+                                 initializer=_start_worker, initargs=(os.getpid(), initializer)) as pool:
             # With fork, every worker is started at the first submit, before the
             # pool's own thread: nothing here runs in a thread while forking.
             futures = {pool.submit(fn, item): k for k, item in enumerate(items)}

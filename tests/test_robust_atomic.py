@@ -662,3 +662,50 @@ def test_design_with_a_file_as_touchstone_folder_writes_nothing(tmp_path, capsys
     assert line.startswith("error: --touchstone")
     assert sorted(p.name for p in tmp_path.iterdir()) == ["afile"]
     assert (tmp_path / "afile").read_bytes() == b""
+
+
+def test_killing_the_plan_kills_its_worker_processes(plan_run, tmp_path):
+    # A SIGKILLed parent must not leave its design or page workers waiting forever
+    # (Linux PR_SET_PDEATHSIG, notchkit.parallel).
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    if not sys.platform.startswith("linux"):
+        pytest.skip("worker processes are used on Linux only")
+    proc = subprocess.Popen([sys.executable, "-m", "notchkit", "plan", str(plan_run.site), "-o",
+                             str(tmp_path / "x.pdf")], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    children: set[int] = set()
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and proc.poll() is None and not children:
+        children = _children_of(proc.pid)
+        time.sleep(0.02)
+    if proc.poll() is not None:
+        pytest.skip("the plan finished before its workers were seen")
+    proc.send_signal(signal.SIGKILL)
+    proc.wait()
+    deadline = time.monotonic() + 10
+    while time.monotonic() < deadline and any(_alive(pid) for pid in children):
+        time.sleep(0.05)
+    assert not [pid for pid in children if _alive(pid)]
+
+
+def _children_of(pid: int) -> set[int]:
+    out = set()
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            fields = stat.read_text().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        if int(fields[1]) == pid:  # field 4 of /proc/PID/stat, the parent's pid
+            out.add(int(stat.parent.name))
+    return out
+
+
+def _alive(pid: int) -> bool:
+    try:
+        state = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0]
+    except OSError:
+        return False
+    return state != "Z"
