@@ -88,10 +88,26 @@ def phases(site: Path) -> None:
           f"PDF ({layout.total} pages) {t3 - t2:.2f}, PNG images for --html/--outdir {t4 - t3:.2f}")
 
 
+def compile_bytecode() -> None:
+    """Compile notchkit's bytecode first, as ``pip install`` does for a user.
+
+    An editable checkout run with ``PYTHONDONTWRITEBYTECODE`` set (as on the
+    development machine) would otherwise compile every module on every run,
+    about 0.25 s that no installed copy pays.
+    """
+    import compileall
+
+    import notchkit
+
+    compileall.compile_dir(str(Path(notchkit.__file__).parent), quiet=1)
+
+
 def main(argv: list[str]) -> None:
     site = Path(argv[0]) if argv else largest_site()
     runs = int(argv[1]) if len(argv) > 1 else 3
     from notchkit.site import load_site
+
+    compile_bytecode()
 
     print(f"site: {site.relative_to(ROOT) if site.is_relative_to(ROOT) else site} "
           f"({len(load_site(site).radios)} radios), {runs} runs each, target {TARGET_S:g} s")
