@@ -113,6 +113,8 @@ def fork_map(
                 out[k] = fut.result()
                 if on_result is not None:
                     on_result(k, out[k], done)
-    except (OSError, BrokenProcessPool):
+    except (OSError, ImportError, BrokenProcessPool):
+        # OSError: no processes or pipes allowed; ImportError: no working sem_open
+        # (no /dev/shm in some containers); BrokenProcessPool: a worker was killed.
         return None
     return out

@@ -336,5 +336,14 @@ def test_fork_map_declines_where_processes_are_unsafe(monkeypatch):
 
     assert parallel.fork_map(abs, [1, 2], processes=1) is None  # one worker: nothing to gain
     assert parallel.fork_map(abs, [1], processes=2) is None  # one job
+    import concurrent.futures
+
+    def no_sem_open(*_a, **_k):
+        raise ImportError("This platform lacks a functioning sem_open implementation")
+
+    with monkeypatch.context() as m:  # a container without /dev/shm
+        m.setattr(threading, "active_count", lambda: 1)  # so the pool is really tried
+        m.setattr(concurrent.futures, "ProcessPoolExecutor", no_sem_open)
+        assert parallel.fork_map(abs, [1, 2], processes=2) is None
     monkeypatch.setattr(threading, "active_count", lambda: 2)  # another thread is running
     assert parallel.fork_map(abs, [1, 2], processes=2) is None
