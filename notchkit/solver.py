@@ -298,9 +298,8 @@ class _Problem:
         att = -db20(s21)
         parts = [att[:, grid.notch_idx] - grid.notch_req[None, :]]
         if grid.pass_idx.size:
-            rl = -db20(s11)
             p_att = att[:, grid.pass_idx]
-            p_rl = rl[:, grid.pass_idx]
+            p_rl = -db20(s11[:, grid.pass_idx])  # return loss matters in the pass bands only
             # per pass band: its IL columns, then its RL columns
             bounds = grid.pass_bounds
             for i in range(len(self.passes)):
