@@ -26,6 +26,7 @@ from typing import Any, Literal, Protocol
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from notchkit.cables import Cable
 from notchkit.errors import DesignError
 from notchkit.fileio import write_text_atomic
 from notchkit.lines import (
@@ -276,8 +277,6 @@ def _sweep_for(f: NDArray[np.float64], cable: Medium) -> _Sweep:
     :class:`notchkit.cables.Cable` is frozen, so its sweep can be reused (a
     user's own medium object might change, so it is never cached).
     """
-    from notchkit.cables import Cable
-
     key = (id(cable), f.tobytes()) if type(cable) is Cable else None
     if key is not None:
         hit = _SWEEPS.get(key)
