@@ -241,13 +241,11 @@ class Run:
         self.folder = folder
         with pytest.MonkeyPatch.context() as mp:
             self.spy = WriteSpy(mp)
-            t0 = time.monotonic()
             out, err = io.StringIO(), io.StringIO()
             from contextlib import redirect_stderr, redirect_stdout
 
             with redirect_stdout(out), redirect_stderr(err):
                 self.rc = main(argv)
-            self.elapsed_s = time.monotonic() - t0
         self.err = err.getvalue()
         self.files = files_in(folder)
         self.names = sorted(p.relative_to(folder).as_posix() for p in self.files)
@@ -436,8 +434,13 @@ def _kill_runs(argv: list[str], cwd: Path, folder: Path, prepare, delays: list[f
     return outcomes
 
 
-STARTUP_S = 2.0
-"""Rough interpreter and import start-up of ``python -m notchkit`` (only scales the kill delays)."""
+def _wall_s(argv: list[str], cwd: Path) -> float:
+    """Wall time of one uninterrupted ``python -m notchkit`` run, start-up included: the
+    random kill delays are drawn inside it (a guessed start-up overshot fast runs, so
+    every "random" kill could come after the run had finished)."""
+    t0 = time.monotonic()
+    _start(argv, cwd).wait(timeout=300)
+    return time.monotonic() - t0
 
 
 def test_killed_design_leaves_old_or_complete_touchstone(design_run, tmp_path):
@@ -446,7 +449,7 @@ def test_killed_design_leaves_old_or_complete_touchstone(design_run, tmp_path):
     argv = ["design", *DESIGN_ARGS, "--touchstone", str(ts)]
     names = design_run.names
     outcomes = _kill_runs(argv, tmp_path, ts, lambda: old_files(ts, names),
-                          _kill_plan(rng, design_run.elapsed_s + STARTUP_S), set(names))
+                          _kill_plan(rng, _wall_s(argv, tmp_path)), set(names))
     # The .s2p text is built in memory and written in one call, so the window in which a
     # temporary exists is tiny and a poll may miss it; the deterministic mid-write cases are
     # test_ctrl_c_during_an_atomic_write_* and test_failed_touchstone_write_keeps_the_old_file.
@@ -472,7 +475,7 @@ def test_killed_plan_leaves_old_or_complete_outputs(plan_run, tmp_path):
             old[n] = data
         return old
 
-    outcomes = _kill_runs(argv, tmp_path, out, prepare, _kill_plan(rng, plan_run.elapsed_s + STARTUP_S),
+    outcomes = _kill_runs(argv, tmp_path, out, prepare, _kill_plan(rng, _wall_s(argv, tmp_path)),
                           set(names))
     assert "killed mid-write" in outcomes, outcomes
     assert sha256(site) == site_sha
