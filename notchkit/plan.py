@@ -78,15 +78,21 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None
         raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
 
 
-def _run_design(site: Any) -> Any:
+def _run_design(site: Any, images: bool = False) -> Any:
     from notchkit.design import design
 
-    return design(site, meanwhile=_import_pdf_machinery)
+    return design(site, meanwhile=_import_image_machinery if images else _import_pdf_machinery)
 
 
 def _import_pdf_machinery() -> None:
-    """Import matplotlib's PDF backend while the filters are being designed (about a second)."""
-    import matplotlib.backends.backend_pdf  # noqa: F401
+    """Import the PDF writer while the filters are being designed."""
+    import reportlab.pdfgen.canvas  # noqa: F401
+
+
+def _import_image_machinery() -> None:
+    """Also import matplotlib (about a second) for the PNG images of --html / --outdir."""
+    _import_pdf_machinery()
+    import matplotlib.backends.backend_agg  # noqa: F401
     import matplotlib.figure  # noqa: F401
 
 
@@ -196,7 +202,7 @@ def plan(
     else:
         _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
 
-    report = _run_design(site)
+    report = _run_design(site, images=html is not None or outdir is not None)
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey

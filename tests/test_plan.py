@@ -77,7 +77,7 @@ def run(tmp_path_factory):
 def reuse_design(run, monkeypatch):
     """Later runs reuse the module's design report (same site, same result)."""
     report = run["result"].design
-    monkeypatch.setattr(plan_mod, "_run_design", lambda site: report)
+    monkeypatch.setattr(plan_mod, "_run_design", lambda site, images=False: report)
     return report
 
 
@@ -246,7 +246,7 @@ def test_cli_prints_summary_and_exit_code_follows_meets(run, reuse_design, tmp_p
 
 @pytest.mark.parametrize("case", ["missing-folder", "directory", "outdir-is-file", "html-missing-folder"])
 def test_unwritable_output_is_exit_2_and_writes_nothing(run, tmp_path, capsys, monkeypatch, case):
-    def boom(site):  # the check must come before any design work
+    def boom(site, images=False):  # the check must come before any design work
         raise AssertionError("designed before checking the outputs")
 
     monkeypatch.setattr(plan_mod, "_run_design", boom)
@@ -300,10 +300,11 @@ def test_site_needing_no_filter_exits_0_with_cover_threats_labels_cautions(tmp_p
     assert "No filter is needed" in pages[0] and "NOT MET:" not in pages[0]
 
 
-def test_pages_rendered_in_processes_read_the_same_as_pages_rendered_in_one(tmp_path):
+def test_plan_designed_in_processes_is_the_same_file_as_designed_in_one(tmp_path):
     # A fresh interpreter (forking is used only where no other thread runs; this
-    # test process may have some). pypdf, an independent reader, compares every
-    # page's text of the joined PDF with the one rendered in a single process.
+    # test process may have some). The filters designed in worker processes must
+    # give the very same PDF bytes as designed here (the file has no time stamp or
+    # random ID); pypdf, an independent reader, checks the page count and title.
     import subprocess
     import sys
     import textwrap
@@ -311,22 +312,18 @@ def test_pages_rendered_in_processes_read_the_same_as_pages_rendered_in_one(tmp_
     site = tmp_path / "knoll.yaml"
     site.write_text(SITE)
     script = textwrap.dedent(f"""
-        import importlib, io
+        import importlib
+        from pathlib import Path
         from pypdf import PdfReader
         from notchkit.plan import plan
-        pdf_mod = importlib.import_module("notchkit.report.pdf")
         plan({str(site)!r}, {str(tmp_path / "two.pdf")!r})
         importlib.import_module("notchkit.parallel").cores = lambda: 1
         plan({str(site)!r}, {str(tmp_path / "one.pdf")!r})
-        two, one = (PdfReader({str(tmp_path)!r} + "/" + n) for n in ("two.pdf", "one.pdf"))
-        assert "joined by pypdf" in two.metadata["/Producer"], two.metadata
-        assert "joined" not in (one.metadata.get("/Producer") or ""), one.metadata
-        assert len(two.pages) == len(one.pages)
-        for a, b in zip(two.pages, one.pages):
-            assert a.extract_text() == b.extract_text()
-            assert all(abs(float(u) - float(v)) < 1e-3 for u, v in zip(a.mediabox, b.mediabox))
-        assert two.metadata["/Title"] == one.metadata["/Title"]
-        print(len(two.pages))
+        two, one = (Path({str(tmp_path)!r}, n).read_bytes() for n in ("two.pdf", "one.pdf"))
+        assert two == one
+        reader = PdfReader({str(tmp_path / "one.pdf")!r})
+        assert reader.metadata["/Title"].startswith("Site notch plan"), reader.metadata
+        print(len(reader.pages))
     """)
     out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=300)
     assert out.returncode == 0, out.stderr

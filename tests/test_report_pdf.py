@@ -24,35 +24,59 @@ from notchkit.report.pdf import (
 )
 
 
-def _layout_ys(font, text, size):
-    import logging
+def _one_page(font, draw):
+    """PDF bytes of one A4 page drawn by ``draw(page)`` with ``font``."""
+    from reportlab.pdfgen.canvas import Canvas
 
-    import matplotlib
-    from matplotlib.backends.backend_pdf import PdfFile, RendererPdf
-    from matplotlib.figure import Figure
+    from notchkit.report.pdf import _register
 
-    log = logging.getLogger("matplotlib.font_manager")
-    level = log.level
-    log.setLevel(logging.ERROR)
-    try:
-        with matplotlib.rc_context(font.rc):
-            fig = Figure(figsize=(4, 4), dpi=72)
-            renderer = RendererPdf(PdfFile(io.BytesIO()), 72, 288, 288)
-            t = fig.text(0, 1, text, fontsize=size, va="top", linespacing=font.linespacing)
-            _, lines, _ = t._get_layout(renderer)
-            return [xy[1] + wad[1] for _, wad, xy in lines]  # top of each line box
-    finally:
-        log.setLevel(level)
+    _register(font)
+    buf = io.BytesIO()
+    w, h = PAGE_SIZES_IN["a4"]
+    c = Canvas(buf, pagesize=(w * 72, h * 72))
+    draw(_Page((w, h), font=font, canvas=c))
+    c.showPage()
+    c.save()
+    return buf.getvalue()
+
+
+def _baselines(data):
+    """(text, baseline y in points) of every text run, read back by pypdf's own parser."""
+    from pypdf import PdfReader
+
+    out = []
+
+    def visit(text, cm, tm, font_dict, font_size):
+        if text.strip():
+            out.append((text.strip(), tm[5] * cm[3] + cm[5]))
+
+    PdfReader(io.BytesIO(data)).pages[0].extract_text(visitor_text=visit)
+    return out
 
 
 @pytest.mark.parametrize("font", [CORE_FONT, EMBEDDED_FONT], ids=["core", "embedded"])
 def test_every_line_of_a_block_is_exactly_one_pitch_tall(font):
-    # Lines with tall glyphs, apostrophes, descenders and blanks all get the same box.
-    text = "simplex-2m's input\n(146.3320)\n\nplain\ngyp|[]"
+    # Lines with tall glyphs, apostrophes, descenders and blanks all get the same pitch;
+    # a blank line keeps its room.
+    lines = ["simplex-2m's input", "(146.3320)", "", "plain", "gyp|[]"]
     for size in (6.0, 8.0, 11.0):
-        tops = _layout_ys(font, text, size)
-        steps = [a - b for a, b in zip(tops, tops[1:], strict=False)]
-        assert steps == pytest.approx([LINE_EM * size] * len(steps), abs=1e-6)
+        runs = _baselines(_one_page(font, lambda p, size=size: p.block(1.0, 2.0, lines, size)))
+        ys = {t: y for t, y in runs}
+        assert list(ys) == [s for s in lines if s]
+        pitch = LINE_EM * size
+        expected = [ys[lines[0]] - k * pitch for k in range(len(lines))]
+        got = [ys.get(s) for s in lines]
+        assert [g for g in got if g is not None] == pytest.approx(
+            [e for e, g in zip(expected, got, strict=True) if g is not None], abs=1e-3)
+
+
+def test_line_boxes_stack_from_the_cursor():
+    # A block's first baseline is one ascender plus half the leading below the cursor
+    # (Helvetica AFM ascender 718 / 1000 em), so text stays inside its line box.
+    size = 10.0
+    (text, y), = _baselines(_one_page(CORE_FONT, lambda p: p.put(1.0, 2.0, "Axis", size)))
+    top = (PAGE_SIZES_IN["a4"][1] - 2.0) * 72
+    assert top - y == pytest.approx((0.718 + 0.5 * (LINE_EM - 0.925)) * size, abs=1e-3)
 
 
 def test_core_font_only_for_windows_1252_text():
@@ -61,17 +85,12 @@ def test_core_font_only_for_windows_1252_text():
 
 
 def test_embedded_font_gives_extractable_text():
-    import matplotlib
-    from matplotlib.figure import Figure
     from pypdf import PdfReader
 
-    with matplotlib.rc_context(EMBEDDED_FONT.rc):
-        fig = Figure(figsize=(3, 2))
-        fig.text(0.1, 0.5, "\u0141\u00f3d\u017a 318 mm")
-        buf = io.BytesIO()
-        fig.savefig(buf, format="pdf")
-    text = PdfReader(io.BytesIO(buf.getvalue())).pages[0].extract_text()
-    assert "318 mm" in text and "\u0141" in text
+    data = _one_page(EMBEDDED_FONT, lambda p: p.put(1.0, 1.0, "\u0141\u00f3d\u017a 318 mm", 9.0, bold=True))
+    text = PdfReader(io.BytesIO(data)).pages[0].extract_text()
+    assert "318 mm" in text and "\u0141\u00f3d\u017a" in text
+    assert b"FontFile2" in data  # the TrueType font is embedded (ISO 32000-1 sec. 9.9)
 
 
 def test_page_sizes_and_labels_fit():

@@ -155,47 +155,131 @@ def _visible(lo: float, hi: float, xlo: float, xhi: float, log_axis: bool) -> tu
     return lo, hi
 
 
+MPL_RC = {"svg.fonttype": "none", "hatch.linewidth": 0.6, "axes.linewidth": 0.8, "axes.unicode_minus": False,
+          "pdf.fonttype": 42, "font.family": "DejaVu Sans"}
+"""matplotlib settings the PNG images render under (in ``rc_context``; nothing global)."""
+S21_STYLE = {"width": 1.3, "dash": None}
+S11_STYLE = {"width": 0.8, "dash": (3.2, 1.6)}
+"""S21 solid, S11 dashed (dash and gap in points); both black."""
+LEGEND = {"s21": "S21 (transmission)", "s11": "S11 (reflection)", "pass": "pass band",
+          "il": "insertion-loss limit", "notch": "notch band", "req": "required attenuation"}
+_LOG_SUBS = ((1.0, 1.5, 2.0, 3.0, 5.0, 7.0), (1.0, 2.0, 5.0), (1.0,))
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class PlotLayout:
+    """What a curve plot shows, decided once for every renderer (matplotlib, PDF).
+
+    ``xticks``/``yticks`` are ``(value, label)``; ``passes``/``notches`` are
+    ``(lo, hi, limit_db or None)`` in MHz as drawn (a band too narrow to see is
+    widened to 0.6 % of the axis); ``legend`` lists the :data:`LEGEND` keys shown.
+    """
+
+    xlim: tuple[float, float]
+    ylim: tuple[float, float]
+    log_axis: bool
+    xticks: tuple[tuple[float, str], ...]
+    yticks: tuple[tuple[float, str], ...]
+    passes: tuple[tuple[float, float, float | None], ...]
+    notches: tuple[tuple[float, float, float | None], ...]
+    legend: tuple[str, ...]
+
+
+def _decimals(step: float) -> int:
+    """Digits after the point that spell every multiple of ``step`` exactly (to 1e-9)."""
+    for d in range(7):
+        if abs(step * 10**d - round(step * 10**d)) < 1e-6 * max(1.0, step * 10**d):
+            return d
+    return 6
+
+
+def linear_ticks(lo: float, hi: float, nbins: int = 7,
+                 steps: Sequence[float] = (1.0, 2.0, 2.5, 5.0, 10.0)) -> tuple[tuple[float, str], ...]:
+    """Tick values at the smallest "nice" step (``steps`` x a power of ten) that gives at
+    most ``nbins`` intervals across ``lo..hi``, with labels to the step's decimals."""
+    if not hi > lo:
+        raise ValueError("tick range must have hi > lo")
+    raw = (hi - lo) / nbins
+    mag = 10.0 ** np.floor(np.log10(raw))
+    step = next((s * mag for s in steps if s * mag >= raw * (1 - 1e-9)), 10.0 * mag)
+    k0, k1 = int(np.ceil(lo / step - 1e-9)), int(np.floor(hi / step + 1e-9))
+    d = _decimals(step)
+    out = []
+    for k in range(k0, k1 + 1):
+        v = k * step
+        label = f"{v:.{d}f}"
+        out.append((float(v), "0" if float(label) == 0 else label))
+    return tuple(out)
+
+
+def log_ticks(lo: float, hi: float, max_ticks: int = 12) -> tuple[tuple[float, str], ...]:
+    """Ticks at 1, 1.5, 2, 3, 5 and 7 x each power of ten inside ``lo..hi`` (fewer
+    multiples when that would be more than ``max_ticks``), labelled as plain numbers."""
+    if not (hi > lo > 0):
+        raise ValueError("log ticks need 0 < lo < hi")
+    ticks: list[float] = []
+    for subs in _LOG_SUBS:
+        ticks = [m * 10.0**e for e in range(int(np.floor(np.log10(lo))), int(np.ceil(np.log10(hi))) + 1)
+                 for m in subs if lo * (1 - 1e-9) <= m * 10.0**e <= hi * (1 + 1e-9)]
+        if len(ticks) <= max_ticks:
+            break
+    return tuple((float(v), f"{v:.6g}") for v in ticks)
+
+
+def plot_layout(curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[Span], *,
+                show_s11: bool = True) -> PlotLayout:
+    """Limits, ticks, bands and legend of the curve plot (see :class:`PlotLayout`)."""
+    f = curve.freq_mhz
+    xlo, xhi = float(f[0]), float(f[-1])
+    deepest_req = max([s.limit_db or 0.0 for s in notches] + [0.0])
+    data_min = float(np.min(curve.s21_db))
+    bottom = max(min(data_min, -deepest_req) - 10.0, -(deepest_req + 40.0), -120.0)
+    ylim = (bottom, 3.0)
+    xticks = log_ticks(xlo, xhi) if curve.log_axis else linear_ticks(xlo, xhi, 8)
+    yticks = linear_ticks(*ylim, 7, steps=(1.0, 2.0, 5.0, 10.0))
+    passes = tuple((*_visible(s.lo_mhz, s.hi_mhz, xlo, xhi, curve.log_axis), s.limit_db) for s in pass_bands)
+    notch = tuple((*_visible(s.lo_mhz, s.hi_mhz, xlo, xhi, curve.log_axis), s.limit_db) for s in notches)
+    legend = ["s21", *(["s11"] if show_s11 else [])]
+    if pass_bands:
+        legend.append("pass")
+        if any(s.limit_db is not None for s in pass_bands):
+            legend.append("il")
+    if notches:
+        legend += ["notch", "req"]
+    return PlotLayout(xlim=(xlo, xhi), ylim=ylim, log_axis=curve.log_axis, xticks=xticks, yticks=yticks,
+                      passes=passes, notches=notch, legend=tuple(legend))
+
+
 def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[Span],
                *, title: str | None = None, fontsize: float = 8.0, show_s11: bool = True) -> None:
-    """Draw the S21 (and S11) curve with hatched bands and requirement lines on ``ax``."""
+    """Draw the S21 (and S11) curve with hatched bands and requirement lines on matplotlib ``ax``."""
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
+    lay = plot_layout(curve, pass_bands, notches, show_s11=show_s11)
     f = curve.freq_mhz
-    xlo, xhi = float(f[0]), float(f[-1])
-    ax.plot(f, curve.s21_db, color="black", linewidth=1.3, label="S21 (transmission)")
+    ax.plot(f, curve.s21_db, color="black", linewidth=S21_STYLE["width"], label=LEGEND["s21"])
+    s11_kw = {"color": "black", "linewidth": S11_STYLE["width"], "linestyle": (0, S11_STYLE["dash"])}
     if show_s11:
-        ax.plot(f, curve.s11_db, color="black", linewidth=0.8, linestyle=(0, (4, 2)),
-                label="S11 (reflection)")
-    deepest_req = max([s.limit_db or 0.0 for s in notches] + [0.0])
-    for s in pass_bands:
-        a, b = _visible(s.lo_mhz, s.hi_mhz, xlo, xhi, curve.log_axis)
+        ax.plot(f, curve.s11_db, label=LEGEND["s11"], **s11_kw)
+    for a, b, lim in lay.passes:
         ax.axvspan(a, b, facecolor="none", edgecolor="0.45", hatch="///", linewidth=0.0)
-        if s.limit_db is not None:
-            ax.plot([a, b], [-s.limit_db, -s.limit_db], color="black", linewidth=1.6, linestyle="-.")
-    for s in notches:
-        a, b = _visible(s.lo_mhz, s.hi_mhz, xlo, xhi, curve.log_axis)
+        if lim is not None:
+            ax.plot([a, b], [-lim, -lim], color="black", linewidth=1.6, linestyle="-.")
+    for a, b, lim in lay.notches:
         ax.axvspan(a, b, facecolor="0.88", edgecolor="0.3", hatch="xx", linewidth=0.0)
-        if s.limit_db is not None:
-            ax.plot([a, b], [-s.limit_db, -s.limit_db], color="black", linewidth=2.4,
-                    solid_capstyle="butt")
-            ax.plot([0.5 * (a + b)], [-s.limit_db], marker="v", color="black", markersize=4)
-    if curve.log_axis:
+        if lim is not None:
+            ax.plot([a, b], [-lim, -lim], color="black", linewidth=2.4, solid_capstyle="butt")
+            ax.plot([0.5 * (a + b)], [-lim], marker="v", color="black", markersize=4)
+    if lay.log_axis:
         ax.set_xscale("log")
-        from matplotlib.ticker import LogLocator, NullLocator, ScalarFormatter
+        from matplotlib.ticker import NullLocator
 
-        ax.xaxis.set_major_locator(LogLocator(base=10, subs=(1.0, 1.5, 2.0, 3.0, 5.0, 7.0)))
-        fmt = ScalarFormatter()
-        fmt.set_scientific(False)
-        ax.xaxis.set_major_formatter(fmt)
         ax.xaxis.set_minor_locator(NullLocator())  # minor ticks cost time and add nothing here
-    ax.set_xlim(xlo, xhi)
-    data_min = float(np.min(curve.s21_db))
-    bottom = max(min(data_min, -deepest_req) - 10.0, -(deepest_req + 40.0), -120.0)
-    ax.set_ylim(bottom, 3.0)
-    from matplotlib.ticker import MaxNLocator
-
-    ax.yaxis.set_major_locator(MaxNLocator(nbins=7, steps=[1, 2, 5, 10]))
+    ax.set_xticks([v for v, _ in lay.xticks], [t for _, t in lay.xticks])
+    ax.set_yticks([v for v, _ in lay.yticks], [t for _, t in lay.yticks])
+    ax.set_xlim(*lay.xlim)
+    ax.set_ylim(*lay.ylim)
     ax.set_xlabel("Frequency (MHz)", fontsize=fontsize)
     ax.set_ylabel("S21, S11 (dB)", fontsize=fontsize)
     ax.tick_params(labelsize=fontsize - 1)
@@ -204,21 +288,17 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
         # y given: matplotlib then skips measuring every tick label to place the title
         # (nothing is drawn above the axes), a quarter of the time of a curve.
         ax.set_title(title, fontsize=fontsize + 1, y=1.0)
-    handles = [
-        Line2D([], [], color="black", linewidth=1.3, label="S21 (transmission)"),
-    ]
-    if show_s11:
-        handles.append(Line2D([], [], color="black", linewidth=0.8, linestyle=(0, (4, 2)),
-                              label="S11 (reflection)"))
-    if pass_bands:
-        handles.append(Patch(facecolor="none", edgecolor="0.45", hatch="///", label="pass band"))
-        if any(s.limit_db is not None for s in pass_bands):
-            handles.append(Line2D([], [], color="black", linewidth=1.6, linestyle="-.",
-                                  label="insertion-loss limit"))
-    if notches:
-        handles.append(Patch(facecolor="0.88", edgecolor="0.3", hatch="xx", label="notch band"))
-        handles.append(Line2D([], [], color="black", linewidth=2.4, marker="v", markersize=4,
-                              label="required attenuation"))
+    kinds = {
+        "s21": Line2D([], [], color="black", linewidth=S21_STYLE["width"]),
+        "s11": Line2D([], [], **s11_kw),
+        "pass": Patch(facecolor="none", edgecolor="0.45", hatch="///"),
+        "il": Line2D([], [], color="black", linewidth=1.6, linestyle="-."),
+        "notch": Patch(facecolor="0.88", edgecolor="0.3", hatch="xx"),
+        "req": Line2D([], [], color="black", linewidth=2.4, marker="v", markersize=4),
+    }
+    handles = [kinds[k] for k in lay.legend]
+    for k, h in zip(lay.legend, handles, strict=True):
+        h.set_label(LEGEND[k])
     # Below the x label: tick labels and the label take about 3.3 font sizes.
     fig = ax.get_figure()
     height_in = ax.get_position().height * fig.get_figheight()

@@ -1,12 +1,15 @@
 """The arrangement drawing: radio, through line, tees, hanging stubs, antenna.
 
-A plain black-and-white schematic (not to scale) drawn with matplotlib lines
-and patches: the radio box on the left, the through line to the antenna on the
+A plain black-and-white schematic (not to scale), built as a
+:class:`notchkit.report.sketch.Sketch` (lines, boxes, dots, labels) that
+matplotlib draws for the PNG images and the PDF writer draws on its page: the
+radio box on the left, the through line to the antenna on the
 right, a tee dot at each stub group, each stub hanging down from its tee with
 its end drawn open (a small hollow circle) or shorted (a ground symbol), and
 each line section between tees labelled with its length.
 
-matplotlib is imported inside the functions; nothing changes global style.
+matplotlib is imported inside :func:`arrangement_figure` only; nothing changes
+global style.
 """
 
 from __future__ import annotations
@@ -16,6 +19,7 @@ from typing import Any
 
 from notchkit.cutlist import format_length as length_text
 from notchkit.filters import Filter, Line, Stub
+from notchkit.report.sketch import Box, Dot, Label, Lines, Point, Sketch, to_matplotlib
 
 # Layout in drawing units (the x axis is scaled to the figure's width).
 _BOX_W = 1.6  # radio / antenna block width
@@ -45,55 +49,12 @@ def default_line_labels(filt: Filter, units: str = "both") -> list[str]:
     return [length_text(e.length_m, units) for e in filt.elements if isinstance(e, Line)]
 
 
-class FigureRegion:
-    """A rectangle of a Figure that takes the few Axes calls the drawing makes.
-
-    Drawing straight onto the figure with one affine transform skips building an
-    Axes (ticks, spines, limits), which is most of the cost of a small schematic.
-    ``rect`` is ``(left, bottom, width, height)`` in figure fractions; the drawing
-    units are mapped onto it with the limits of :func:`drawing_limits`.
-    """
-
-    def __init__(self, fig: Any, rect: tuple[float, float, float, float], filt: Filter):
-        from matplotlib.transforms import Affine2D, Bbox, BboxTransformTo, TransformedBbox
-
-        self.fig = fig
-        (x0, x1), (y0, y1) = drawing_limits(filt)
-        box = TransformedBbox(Bbox.from_bounds(*rect), fig.transFigure)
-        self.transform = (Affine2D().translate(-x0, -y0).scale(1.0 / (x1 - x0), 1.0 / (y1 - y0))
-                          + BboxTransformTo(box))
-
-    def text(self, x: float, y: float, s: str, **kw: Any) -> Any:
-        # One artist list with the page's own text (notchkit.report.pdf), so a PDF
-        # reader extracts the page in the order it was written.
-        from matplotlib.text import Text
-
-        return self.fig.add_artist(Text(x, y, s, transform=self.transform, **kw))
-
-    def add_artist(self, a: Any) -> Any:
-        a.set_transform(self.transform)
-        return self.fig.add_artist(a)
-
-    def add_collection(self, c: Any, autolim: bool = False) -> Any:
-        return self.add_artist(c)
-
-    def set_xlim(self, *a: Any) -> None:
-        """Limits are fixed by :func:`drawing_limits`."""
-
-    def set_ylim(self, *a: Any) -> None:
-        """Limits are fixed by :func:`drawing_limits`."""
-
-    def set_axis_off(self) -> None:
-        """There is no axis to hide."""
-
-
 def drawing_limits(filt: Filter) -> tuple[tuple[float, float], tuple[float, float]]:
     """The x and y limits of the drawing of ``filt``, in drawing units."""
     return (-0.2, arrangement_width(filt) + 0.2), (-_STUB_DROP - 1.45, 1.35)
 
 
-def draw_arrangement(
-    ax: Any,
+def arrangement_sketch(
     filt: Filter,
     *,
     stub_labels: Sequence[str] | None = None,
@@ -103,13 +64,11 @@ def draw_arrangement(
     cable_label: str | None = None,
     units: str = "both",
     fontsize: float = 8.0,
-) -> None:
-    """Draw ``filt``'s arrangement on a matplotlib Axes.
+) -> Sketch:
+    """The drawing of ``filt``'s arrangement.
 
     Parameters
     ----------
-    ax : matplotlib.axes.Axes or FigureRegion
-        Target; an Axes gets its limits set and its frame hidden.
     filt : Filter
         Elements radio side first; consecutive stubs share one tee.
     stub_labels, line_labels : sequence of str, optional
@@ -124,18 +83,17 @@ def draw_arrangement(
     fontsize : float
         Label size in points.
     """
-    from matplotlib.collections import LineCollection
-    from matplotlib.patches import Circle, Rectangle
-
-    wires: list[list[tuple[float, float]]] = []  # every black line, drawn as one collection
-    coax_outer: list[list[tuple[float, float]]] = []
-    coax_inner: list[list[tuple[float, float]]] = []
+    xlim, ylim = drawing_limits(filt)
+    sk = Sketch(xlim=xlim, ylim=ylim)
+    wires: list[tuple[Point, ...]] = []  # every black line, drawn as one item
+    coax: list[tuple[Point, ...]] = []
+    dots: list[Dot] = []  # drawn over the lines
 
     def wire(xs: Sequence[float], ys: Sequence[float]) -> None:
-        wires.append(list(zip(xs, ys, strict=True)))
+        wires.append(tuple(zip(xs, ys, strict=True)))
 
-    def patch(p: Any) -> None:
-        ax.add_artist(p)  # not add_patch: the limits are set below, no autoscale needed
+    def text(x: float, y: float, s: str, **kw: Any) -> None:
+        sk.items.append(Label(x, y, s, fontsize, **kw))
 
     stubs = filt.stubs
     n_lines = sum(isinstance(e, Line) for e in filt.elements)
@@ -144,12 +102,10 @@ def draw_arrangement(
     if len(stub_labels) != len(stubs) or len(line_labels) != n_lines:
         raise ValueError("one label per stub and per line section is needed")
 
-    kw_text = {"fontsize": fontsize, "color": "black"}
-
     # Radio block.
     x = 0.0
-    patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
-    ax.text(x + _BOX_W / 2, 0.0, radio_label, ha="center", va="center", fontweight="bold", **kw_text)
+    sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
+    text(x + _BOX_W / 2, 0.0, radio_label, bold=True)
     x += _BOX_W
     wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
@@ -161,8 +117,8 @@ def draw_arrangement(
         e = elements[k]
         if isinstance(e, Line):
             wire([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE])
-            ax.text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}",
-                    ha="center", va="bottom", linespacing=1.1, **kw_text)
+            text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}", va="bottom",
+                 linespacing=1.1)
             line_i += 1
             x += _LINE_GAP
             k += 1
@@ -177,8 +133,8 @@ def draw_arrangement(
         tee_x = x0 + width / 2
         span_end = x0 + width + (_STUB_PITCH / 2 if len(group) > 1 else 0.6)
         wire([x, span_end], [_Y_LINE, _Y_LINE])
-        patch(Circle((tee_x, _Y_LINE), 0.07, facecolor="black", edgecolor="black", zorder=3))
-        ax.text(tee_x, _Y_LINE + 0.12, "tee", ha="center", va="bottom", **kw_text)
+        dots.append(Dot(tee_x, _Y_LINE, 0.07, fill=0.0))
+        text(tee_x, _Y_LINE + 0.12, "tee", va="bottom")
         bus_y = _Y_LINE - 0.3
         wire([tee_x, tee_x], [_Y_LINE, bus_y])
         if len(group) > 1:
@@ -187,11 +143,9 @@ def draw_arrangement(
             sx = x0 + j * _STUB_PITCH
             end_y = _Y_LINE - _STUB_DROP
             # The stub cable drawn as a doubled line (coax), then its end.
-            coax_outer.append([(sx, bus_y), (sx, end_y)])
-            coax_inner.append([(sx, bus_y), (sx, end_y)])
+            coax.append(((sx, bus_y), (sx, end_y)))
             if stub.termination == "open":
-                patch(Circle((sx, end_y - 0.09), 0.09, facecolor="white", edgecolor="black",
-                                    linewidth=1.2, zorder=3))
+                dots.append(Dot(sx, end_y - 0.09, 0.09, fill=1.0, width=1.2))
                 label_y = end_y - 0.28
             else:
                 gy = end_y
@@ -199,32 +153,26 @@ def draw_arrangement(
                 for w, dy in ((0.28, 0.1), (0.18, 0.18), (0.08, 0.26)):
                     wire([sx - w, sx + w], [gy - dy, gy - dy])
                 label_y = gy - 0.36
-            ax.text(sx, label_y, stub_labels[stub_i], ha="center", va="top", linespacing=1.15, **kw_text)
+            text(sx, label_y, stub_labels[stub_i], va="top", linespacing=1.15)
             stub_i += 1
         x = span_end
 
     wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
     # Antenna block: a box with a small mast symbol above it.
-    patch(Rectangle((x, -0.45), _BOX_W, 0.9, facecolor="white", edgecolor="black", linewidth=1.4))
-    ax.text(x + _BOX_W / 2, 0.0, antenna_label, ha="center", va="center", fontweight="bold", **kw_text)
+    sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
+    text(x + _BOX_W / 2, 0.0, antenna_label, bold=True)
     mx = x + _BOX_W / 2
     wire([mx, mx], [0.45, 0.9])
     wire([mx - 0.25, mx, mx + 0.25], [1.15, 0.9, 1.15])
-    x += _BOX_W
 
-    ax.add_collection(LineCollection(wires, colors="black", linewidths=1.4, capstyle="butt"),
-                      autolim=False)
-    ax.add_collection(LineCollection(coax_outer, colors="black", linewidths=3.2, capstyle="butt"),
-                      autolim=False)
-    ax.add_collection(LineCollection(coax_inner, colors="white", linewidths=1.4, capstyle="butt"),
-                      autolim=False)
+    sk.items.append(Lines(tuple(wires), width=1.4))
+    sk.items.append(Lines(tuple(coax), width=3.2))
+    sk.items.append(Lines(tuple(coax), width=1.4, grey=1.0))
+    sk.items.extend(dots)
     if cable_label:
-        ax.text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top", **kw_text)
-    xlim, ylim = drawing_limits(filt)
-    ax.set_xlim(*xlim)
-    ax.set_ylim(*ylim)
-    ax.set_axis_off()
+        text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top")
+    return sk
 
 
 def arrangement_width(filt: Filter) -> float:
@@ -243,10 +191,10 @@ def arrangement_figure(
     height_in: float = 2.4,
     **kwargs: Any,
 ):
-    """A new matplotlib Figure with :func:`draw_arrangement` on it.
+    """A new matplotlib Figure with :func:`arrangement_sketch` drawn on it.
 
     The figure is built without pyplot (no global state); save it with
-    ``fig.savefig(...)``. Keyword arguments go to :func:`draw_arrangement`;
+    ``fig.savefig(...)``. Keyword arguments go to :func:`arrangement_sketch`;
     the font shrinks when many elements share the width.
     """
     from matplotlib.figure import Figure
@@ -254,5 +202,5 @@ def arrangement_figure(
     fig = Figure(figsize=(width_in, height_in))
     units_per_in = arrangement_width(filt) / width_in
     kwargs.setdefault("fontsize", max(5.0, min(8.0, 8.0 * 2.4 / max(units_per_in, 1e-9))))
-    draw_arrangement(FigureRegion(fig, (0.01, 0.01, 0.98, 0.98), filt), filt, **kwargs)
+    to_matplotlib(arrangement_sketch(filt, **kwargs), fig, (0.01, 0.01, 0.98, 0.98))
     return fig

@@ -81,11 +81,10 @@ def filter_images(filt: Any, curve: Any, spans: Any, ft: FilterText, dpi: int = 
     """PNG bytes of a filter's arrangement drawing and of its curve, drawn with the page's labels."""
     import matplotlib
 
-    from notchkit.report.curves import curve_figure, figure_bytes
+    from notchkit.report.curves import MPL_RC, curve_figure, figure_bytes
     from notchkit.report.drawing import arrangement_figure
-    from notchkit.report.pdf import RC
 
-    with matplotlib.rc_context(RC):
+    with matplotlib.rc_context(MPL_RC):
         draw = arrangement_figure(filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
                                   radio_label=ft.radio_label, antenna_label=ft.antenna_label,
                                   cable_label=ft.cable_label)

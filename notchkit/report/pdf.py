@@ -1,21 +1,20 @@
-"""The printed plan as PDF: matplotlib pages with real, extractable text.
+"""The printed plan as PDF, written with ReportLab: real, extractable text.
 
 Pages, in order: the cover; the threat pages (transmitter x receiver matrix,
 then the threat table, continued over as many pages as it needs); one page
 per filter (drawing, curve, requirements, cut list, tolerance, power check,
 trimming steps); the cut labels (:func:`tags_per_page` tags a page); the
-cautions. Text is laid out here with a simple cursor (inches from the top)
-and drawn as matplotlib ``Text`` artists inside ``matplotlib.rc_context``, so
-every number is real text a PDF reader can search and extract: in the PDF standard
-Helvetica when all text is Windows-1252 (:data:`CORE_FONT`, fast), else in
-embedded DejaVu Sans with ``pdf.fonttype`` 42 (:data:`EMBEDDED_FONT`).
+cautions. Text is laid out here with a simple cursor (inches from the top) and
+written as PDF text, so every number is real text a PDF reader can search and
+extract: in the PDF standard Helvetica when all text is Windows-1252
+(:data:`CORE_FONT`, nothing embedded), else in an embedded subset of DejaVu Sans
+(:data:`EMBEDDED_FONT`). The arrangement drawing and the curve are drawn from
+the same data matplotlib draws for the PNG images
+(:mod:`notchkit.report.sketch`, :func:`notchkit.report.curves.plot_layout`) by
+:mod:`notchkit.report.pdfdraw`.
 
-A dry layout (no matplotlib) decides every page first (:func:`_page_specs`);
-the pages are then rendered in worker processes, a contiguous range each, and
-joined with pypdf, or all here where processes cannot be used.
-
-matplotlib is imported inside the functions; no global style is changed (the
-font manager's log level is lowered only while a PDF renders).
+A dry layout (no canvas) decides every page and its number first
+(:func:`_page_specs`); the pages are then drawn in order.
 """
 
 from __future__ import annotations
@@ -31,6 +30,7 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.report.files import write_bytes_atomic
+from notchkit.report.pdfdraw import Face, draw_plot, draw_sketch, text_lines
 from notchkit.report.text import NOT_MET, FilterText, PlanText, Table, Tag
 
 PAGE_SIZES_IN = {"a4": (210.0 / 25.4, 297.0 / 25.4), "letter": (8.5, 11.0)}
@@ -46,42 +46,36 @@ class PdfFont:
     """A font setup for the plan and the metrics the layout needs from it."""
 
     name: str
-    rc: dict[str, Any]
+    face: Face
     char_em: float
     """Width of an average glyph (digits included, rounded up) per unit of font size."""
-    height_em: float
-    """The font's ascender + descender per unit of font size: matplotlib (>= 3.11) sets the
-    lines of a text ``linespacing x height_em x size`` apart; tests/test_report_pdf.py
-    measures it."""
+    files: tuple[str, str] | None = None
+    """TrueType files (regular, bold) under matplotlib's bundled fonts, to embed; None:
+    a PDF standard font."""
 
     @property
-    def linespacing(self) -> float:
-        """matplotlib's ``linespacing`` that puts lines :data:`LINE_EM` x size apart."""
-        return LINE_EM / self.height_em
+    def height_em(self) -> float:
+        """Ascender + descender per unit of font size."""
+        return self.face.ascent_em + self.face.descent_em
 
 
-_COMMON_RC = {"svg.fonttype": "none", "hatch.linewidth": 0.6, "axes.linewidth": 0.8,
-              "axes.unicode_minus": False}
 CORE_FONT = PdfFont(
     name="Helvetica (PDF standard font)",
-    rc={**_COMMON_RC, "pdf.use14corefonts": True, "font.family": "sans-serif",
-        "font.sans-serif": ["Helvetica"]},
+    face=Face(regular="Helvetica", bold="Helvetica-Bold", ascent_em=0.718, descent_em=0.207),
     char_em=0.57,  # Helvetica AFM: lower case averages 0.50 em, digits 0.556 em
-    height_em=0.925,  # Helvetica AFM: ascender 718 + descender 207, per 1000 em
 )
-"""The PDF's standard Helvetica: no embedding, about 15 times faster to lay out than an
-embedded TrueType font in matplotlib, and real text; only for text that Windows-1252
-(the standard fonts' encoding) can spell."""
+"""The PDF's standard Helvetica (ISO 32000-1 sec. 9.6.2.2; ascender 718 and descender
+207 per 1000 em from its AFM): nothing embedded; only for text that Windows-1252 (the
+standard fonts' encoding here) can spell."""
 EMBEDDED_FONT = PdfFont(
-    name="DejaVu Sans (embedded, Type 42)",
-    rc={**_COMMON_RC, "pdf.fonttype": 42, "ps.fonttype": 42, "font.family": "DejaVu Sans"},
+    name="DejaVu Sans (embedded subset)",
+    face=Face(regular="notchkit-DejaVuSans", bold="notchkit-DejaVuSans-Bold", ascent_em=0.76,
+              descent_em=0.24),  # OS/2 typographic ascender and descender
     char_em=0.6,  # DejaVu Sans: digits 0.636 em, lower case about 0.55 em
-    height_em=1.0,  # DejaVu Sans: OS/2 typographic ascender 0.76 + descender 0.24
+    files=("DejaVuSans.ttf", "DejaVuSans-Bold.ttf"),
 )
-"""An embedded TrueType font (real text, ``pdf.fonttype`` 42) for text with characters
-outside Windows-1252."""
-RC = EMBEDDED_FONT.rc
-"""Settings the HTML images render under."""
+"""An embedded TrueType font for text with characters outside Windows-1252 (the copy
+of DejaVu Sans that ships with matplotlib)."""
 
 
 def choose_font(strings: Sequence[str]) -> PdfFont:
@@ -92,6 +86,23 @@ def choose_font(strings: Sequence[str]) -> PdfFont:
     except UnicodeEncodeError:
         return EMBEDDED_FONT
     return CORE_FONT
+
+
+@functools.cache
+def _register(font: PdfFont) -> None:
+    """Make ``font`` known to ReportLab (once): embedded fonts are read from matplotlib's
+    bundled copies, found without importing matplotlib."""
+    if font.files is None:
+        return
+    import importlib.util
+
+    from reportlab.pdfbase import pdfmetrics
+    from reportlab.pdfbase.ttfonts import TTFont
+
+    spec = importlib.util.find_spec("matplotlib")
+    folder = Path(next(iter(spec.submodule_search_locations or ())), "mpl-data", "fonts", "ttf")
+    for name, file in zip((font.face.regular, font.face.bold), font.files, strict=True):
+        pdfmetrics.registerFont(TTFont(name, str(folder / file)))
 
 
 def _strings(obj: Any) -> list[str]:
@@ -107,18 +118,6 @@ def _strings(obj: Any) -> list[str]:
         elif hasattr(o, "__dataclass_fields__"):
             stack.extend(getattr(o, f) for f in o.__dataclass_fields__)
     return out
-
-
-@functools.cache
-def _uniform_linespacing() -> bool:
-    """matplotlib >= 3.11 gives every line of a multi-line text the same height."""
-    import matplotlib
-
-    try:
-        major, minor = (int(x) for x in matplotlib.__version__.split(".")[:2])
-    except ValueError:
-        return False
-    return (major, minor) >= (3, 11)
 
 
 def page_size_in(page_size: str) -> tuple[float, float]:
@@ -159,61 +158,16 @@ def _wrap_cached(text: str, chars: int) -> tuple[str, ...]:
     return tuple(out)
 
 
-@functools.cache
-def _block_text_class():
-    """A matplotlib ``Text`` that does not draw its blank lines.
-
-    A table column is one Text whose cells are padded with blank lines to their
-    row's height; matplotlib would still emit each blank line, and in the PDF
-    backend every line costs two font lookups (a third of a plan's lines were
-    padding). Layout, and so every position, is unchanged.
-    """
-    import weakref
-
-    from matplotlib.text import Text
-
-    proxies: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
-
-    class _NoBlankLines:
-        """The renderer, minus ``draw_text`` of an empty string (one per renderer, so
-        matplotlib's text-metrics cache, keyed on the renderer, keeps working)."""
-
-        __slots__ = ("_r", "__weakref__")
-
-        def __init__(self, renderer: Any) -> None:
-            self._r = renderer
-
-        def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
-            if s:
-                self._r.draw_text(gc, x, y, s, prop, angle, ismath=ismath, mtext=mtext)
-
-        def __getattr__(self, name: str) -> Any:
-            return getattr(self._r, name)
-
-    class BlockText(Text):
-        def draw(self, renderer):
-            if renderer is not None:
-                proxy = proxies.get(renderer)
-                if proxy is None:
-                    proxy = proxies[renderer] = _NoBlankLines(renderer)
-                renderer = proxy
-            return super().draw(renderer)
-
-    return BlockText
-
-
 class _Page:
-    """One page: a Figure and a cursor in inches from the top edge."""
+    """One page: a cursor in inches from the top edge, drawing on ``canvas`` (None: a dry
+    layout that only measures)."""
 
-    def __init__(self, size_in: tuple[float, float], dry: bool = False, font: PdfFont = EMBEDDED_FONT):
+    def __init__(self, size_in: tuple[float, float], dry: bool = False, font: PdfFont = EMBEDDED_FONT,
+                 canvas: Any = None):
         self.font = font
         self.w, self.h = size_in
-        self.dry = dry
-        self.fig = None
-        if not dry:
-            from matplotlib.figure import Figure
-
-            self.fig = Figure(figsize=size_in)
+        self.c = None if dry else canvas
+        self.dry = self.c is None
         self.y = MARGIN_IN
         self.x0 = MARGIN_IN
         self.width = self.w - 2 * MARGIN_IN
@@ -229,63 +183,62 @@ class _Page:
     def room(self) -> float:
         return self.bottom - self.y
 
-    def _fx(self, x_in: float) -> float:
-        return x_in / self.w
+    def _px(self, x_in: float) -> float:
+        return x_in * 72.0
 
-    def _fy(self, y_in: float) -> float:
-        return 1.0 - y_in / self.h
+    def _py(self, y_in: float) -> float:
+        return (self.h - y_in) * 72.0
 
-    def put(self, x_in: float, y_in: float, s: str, size: float, **kw: Any) -> None:
-        if not self.dry and s:
-            # Every text of a page is one artist list, in the order written (the order
-            # a PDF reader extracts it); a padded table column skips its blank lines.
-            self.fig.add_artist(_block_text_class()(self._fx(x_in), self._fy(y_in), s, fontsize=size,
-                                                    va="top", **kw))
+    def put(self, x_in: float, y_in: float, s: str, size: float, *, ha: str = "left",
+            bold: bool = False) -> None:
+        """One line of text whose line box (:data:`LINE_EM` x size) has its top at ``y_in``."""
+        self.block(x_in, y_in, [s], size, ha=ha, bold=bold)
 
     def block(self, x_in: float, y_in: float, lines: Sequence[str], size: float, ha: str = "left",
               bold: bool = False) -> float:
-        """Lines :data:`LINE_EM` x size apart; returns the height in inches.
-
-        With matplotlib >= 3.11 (every line of a text with a numeric ``linespacing``
-        is exactly ``linespacing x height`` tall) all lines are one artist, which keeps
-        rendering fast; older matplotlib gets one artist per line.
-        """
+        """Lines :data:`LINE_EM` x size apart, the first line box's top at ``y_in``; returns
+        the height in inches. Blank lines take their room and draw nothing."""
         pitch = self.pitch(size)
-        weight = "bold" if bold else "normal"
-        if _uniform_linespacing():
-            if any(lines):
-                self.put(x_in, y_in, "\n".join(lines), size, ha=ha, multialignment=ha,
-                         fontweight=weight, linespacing=self.font.linespacing)
-        else:
-            for k, line in enumerate(lines):
-                self.put(x_in, y_in + k * pitch, line, size, ha=ha, fontweight=weight)
+        if self.c is not None and any(lines):
+            f = self.font.face
+            lead = (f.ascent_em + 0.5 * (LINE_EM - self.font.height_em)) * size  # baseline below box top
+            self.c.setFillGray(0.0)
+            text_lines(self.c, f, self._px(x_in), self._py(y_in), lines, size, pitch * 72.0, ha=ha,
+                       bold=bold, lead=lead)
         return len(lines) * pitch
 
     def pitch(self, size: float) -> float:
         return _pt_in(size) * LINE_EM
 
-    def hline(self, y_in: float, lw: float = 0.6, x0: float | None = None, x1: float | None = None,
-              **kw: Any) -> None:
-        if not self.dry:
-            from matplotlib.lines import Line2D
-
+    def hline(self, y_in: float, lw: float = 0.6, x0: float | None = None, x1: float | None = None) -> None:
+        if self.c is not None:
             a = self.x0 if x0 is None else x0
             b = self.x0 + self.width if x1 is None else x1
-            self.fig.add_artist(Line2D([self._fx(a), self._fx(b)], [self._fy(y_in)] * 2, color="black",
-                                       linewidth=lw, transform=self.fig.transFigure, **kw))
+            self.c.setStrokeGray(0.0)
+            self.c.setLineWidth(lw)
+            self.c.line(self._px(a), self._py(y_in), self._px(b), self._py(y_in))
 
-    def rect(self, x: float, y: float, w: float, h: float, lw: float = 1.0, **kw: Any) -> None:
-        if not self.dry:
-            from matplotlib.patches import Rectangle
-
-            self.fig.add_artist(Rectangle((self._fx(x), self._fy(y + h)), w / self.w, h / self.h,
-                                          transform=self.fig.transFigure, fill=False, edgecolor="black",
-                                          linewidth=lw, **kw))
+    def rect(self, x: float, y: float, w: float, h: float, lw: float = 1.0, *,
+             dash: Sequence[float] | None = None, fill: float | None = None) -> None:
+        """A rectangle (top-left corner x, y; inches), black edge ``lw`` points wide (0: none),
+        optionally dashed (points) and filled with grey ``fill``."""
+        if self.c is not None:
+            c = self.c
+            c.saveState()
+            c.setStrokeGray(0.0)
+            c.setLineWidth(lw)
+            if dash:
+                c.setDash(list(dash))
+            if fill is not None:
+                c.setFillGray(fill)
+            c.rect(self._px(x), self._py(y + h), w * 72.0, h * 72.0, stroke=int(lw > 0),
+                   fill=int(fill is not None))
+            c.restoreState()
 
     # -- flowing content -------------------------------------------------
 
     def heading(self, s: str, size: float = 13.0) -> None:
-        self.put(self.x0, self.y, s, size, fontweight="bold")
+        self.put(self.x0, self.y, s, size, bold=True)
         self.y += _pt_in(size) * 1.5
 
     def para(self, s: str, size: float = 8.0, indent: float = 0.0, bold: bool = False,
@@ -346,8 +299,7 @@ class _Page:
     def table(self, t: Table, size: float = 7.5, title: bool = True) -> None:
         """A table: bold header between rules, then rows on alternating light-grey bands.
 
-        Each column is one Text block (cells padded to their row's line count),
-        so a table costs a few artists however many rows it has.
+        Cells are drawn row by row; a cell of several lines keeps its row's height.
         """
         if title and t.title:
             self.para(t.title, size + 0.5, bold=True, gap=0.02)
@@ -370,23 +322,19 @@ class _Page:
         top = y + lift
         yy = top
         for r, n in enumerate(counts):
-            if r % 2 == 1 and not self.dry:
-                from matplotlib.patches import Rectangle
-
-                self.fig.add_artist(Rectangle((self._fx(self.x0), self._fy(yy - lift + n * pitch)),
-                                              self.width / self.w, n * pitch / self.h,
-                                              transform=self.fig.transFigure, facecolor="0.9",
-                                              edgecolor="none", zorder=-1))
+            if r % 2 == 1:
+                self.rect(self.x0, yy - lift, self.width, n * pitch, lw=0.0, fill=0.9)
             yy += n * pitch
-        x = self.x0
-        for c, cw in enumerate(cols):
-            lines: list[str] = []
-            for row, n in zip(rows, counts, strict=True):
-                lines += row[c] + [""] * (n - len(row[c]))
-            right = t.align[c] == "right"
-            self.block(x + cw - 0.04 if right else x + 0.04, top, lines, size,
-                       ha="right" if right else "left")
-            x += cw
+        # Row by row, so a PDF reader extracts each row as one line of text.
+        yy = top
+        for row, n in zip(rows, counts, strict=True):
+            x = self.x0
+            for c, cw in enumerate(cols):
+                right = t.align[c] == "right"
+                self.block(x + cw - 0.04 if right else x + 0.04, yy, row[c], size,
+                           ha="right" if right else "left")
+                x += cw
+            yy += n * pitch
         self.y = top - lift + sum(counts) * pitch + 0.02
         self.hline(self.y, lw=0.8)
         if t.note:
@@ -403,27 +351,18 @@ class _Page:
             h += 0.03 + self.para_height(t.note, size - 0.5)
         return h
 
-    def region(self, height_in: float, filt: Any):
-        """A :class:`notchkit.report.drawing.FigureRegion` the full text width and ``height_in`` tall."""
-        reg = None
-        if not self.dry:
-            from notchkit.report.drawing import FigureRegion
-
-            reg = FigureRegion(self.fig, (self._fx(self.x0), self._fy(self.y + height_in),
-                                          self.width / self.w, height_in / self.h), filt)
-        self.y += height_in
-        return reg
-
-    def axes(self, height_in: float, left_in: float = 0.0, bottom_pad_in: float = 0.0,
-             right_in: float = 0.0):
-        ax = None
-        if not self.dry:
+    def area(self, height_in: float, left_in: float = 0.0, bottom_pad_in: float = 0.0,
+             right_in: float = 0.0) -> tuple[float, float, float, float] | None:
+        """Take ``height_in`` of the page; return the box inside it (x, y, width, height in
+        points, bottom-left origin) less the given margins, or None on a dry page."""
+        box = None
+        if self.c is not None:
             x = self.x0 + left_in
             w = self.width - left_in - right_in
-            ax = self.fig.add_axes((self._fx(x), self._fy(self.y + height_in - bottom_pad_in),
-                                    w / self.w, (height_in - bottom_pad_in) / self.h))
+            box = (self._px(x), self._py(self.y + height_in - bottom_pad_in), w * 72.0,
+                   (height_in - bottom_pad_in) * 72.0)
         self.y += height_in
-        return ax
+        return box
 
 
 # ---------------------------------------------------------------- sections
@@ -435,7 +374,7 @@ def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
               "trim it.", 9.0)
     page.y += 0.1
     for label, value in pt.cover_facts:
-        page.put(page.x0, page.y, f"{label}:", body, fontweight="bold")
+        page.put(page.x0, page.y, f"{label}:", body, bold=True)
         lines = page.wrap(value, page.width - 1.6, body)
         for k, line in enumerate(lines):
             page.put(page.x0 + 1.5, page.y + k * page.pitch(body), line, body)
@@ -494,8 +433,7 @@ def _threat_pages(new_page: Callable[[], _Page], pt: PlanText, size: float = 7.0
 def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any], filt: Any,
                  body: float, draw_h: float, curve_h: float, part: str = "all") -> None:
     """One filter's page; ``part`` "first" stops after the cut list, "rest" starts after it."""
-    from notchkit.report.curves import draw_curve
-    from notchkit.report.drawing import draw_arrangement
+    from notchkit.report.drawing import arrangement_sketch
 
     if part == "rest":
         page.heading(f"{ft.title} (continued)", 13.0)
@@ -509,16 +447,17 @@ def _filter_page(page: _Page, ft: FilterText, curve: Any, spans: tuple[Any, Any]
     for f in ft.facts:
         page.para(f, body, gap=0.0)
     page.y += 0.05
-    region = page.region(draw_h, filt)
-    if region is not None:
-        draw_arrangement(region, filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
-                         radio_label=ft.radio_label, antenna_label=ft.antenna_label,
-                         cable_label=ft.cable_label, fontsize=max(5.0, body - 0.5))
+    box = page.area(draw_h)
+    if box is not None:
+        sketch = arrangement_sketch(filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
+                                    radio_label=ft.radio_label, antenna_label=ft.antenna_label,
+                                    cable_label=ft.cable_label, fontsize=max(5.0, body - 0.5))
+        draw_sketch(page.c, page.font.face, sketch, box)
     page.y += 0.08 + 2.0 * body / 72.0  # room for the curve's title
-    ax = page.axes(curve_h, left_in=0.55, bottom_pad_in=0.85, right_in=0.1)
-    if ax is not None:
-        draw_curve(ax, curve, spans[0], spans[1], title=f"{ft.filter_id}: attenuation (S21) and reflection "
-                   "(S11)", fontsize=body)
+    box = page.area(curve_h, left_in=0.55, bottom_pad_in=0.85, right_in=0.1)
+    if box is not None:
+        draw_plot(page.c, page.font.face, box, curve, spans[0], spans[1], fontsize=body,
+                  title=f"{ft.filter_id}: attenuation (S21) and reflection (S11)")
     page.table(ft.requirements, body - 0.5)
     page.table(ft.cuts, body - 0.5)
     if part == "all":
@@ -560,11 +499,11 @@ def _tag_pages(new_page: Callable[[], _Page], tags: Sequence[Tag], per_page: int
             col, row = k % 2, k // 2
             x = p.x0 + col * (_TAG_W_IN + 0.2)
             y = p.y + row * (_TAG_H_IN + 0.12)
-            p.rect(x, y, _TAG_W_IN, _TAG_H_IN, lw=0.8, linestyle=(0, (5, 3)))
+            p.rect(x, y, _TAG_W_IN, _TAG_H_IN, lw=0.8, dash=(4.0, 2.4))
             yy = y + 0.1
             for i, line in enumerate(tag.lines):
                 size = 11.0 if i in (0, 2) else 8.5
-                p.put(x + 0.12, yy, line, size, fontweight="bold" if i in (0, 2) else "normal")
+                p.put(x + 0.12, yy, line, size, bold=i in (0, 2))
                 yy += _pt_in(size) * 1.35
     return pages
 
@@ -626,7 +565,7 @@ def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans:
 
 
 def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
-               footer: str = "", processes: int | None = None) -> tuple[bytes, PdfLayout]:
+               footer: str = "") -> tuple[bytes, PdfLayout]:
     """Render the plan to PDF bytes.
 
     Parameters
@@ -638,31 +577,44 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
     page_size : {"a4", "letter"}
     footer : str
         Left footer text of every page.
-    processes : int, optional
-        Render the pages in this many forked processes and join them with
-        pypdf (default: the machine's cores; 1 renders them here). The pages are
-        the same either way; where forking is not possible they are rendered here.
 
     Returns
     -------
     bytes, PdfLayout
     """
-    import logging
+    from reportlab import rl_config
 
     size_in = page_size_in(page_size)
-    if processes is None:
-        from notchkit.parallel import cores
-
-        processes = cores()
     font = choose_font(_strings(pt) + [footer])
-    fm_log = logging.getLogger("matplotlib.font_manager")
-    level = fm_log.level
-    fm_log.setLevel(logging.ERROR)  # "Helvetica: using medium" notes on every font lookup
+    _register(font)
+    specs = _page_specs(pt, filter_parts, size_in, page_size, font)
+    a85 = rl_config.useA85
+    rl_config.useA85 = 0  # compressed streams stay binary: ASCII85 in Python was a tenth of the time
     try:
-        data, layout = _render(pt, filter_parts, size_in, page_size, footer, font, processes)
+        data = _draw(specs, pt, filter_parts, size_in, page_size, font, footer)
     finally:
-        fm_log.setLevel(level)
+        rl_config.useA85 = a85
+    count = {sec: sum(1 for s in specs if s.section == sec) for sec in ("threats", "filter", "labels")}
+    layout = PdfLayout(cover=1, threats=count["threats"], filters=count["filter"], labels=count["labels"],
+                       cautions=1)
     return data, layout
+
+
+def _draw(specs, pt, filter_parts, size_in, page_size, font, footer) -> bytes:
+    from reportlab.pdfgen.canvas import Canvas
+
+    buf = io.BytesIO()
+    # invariant: no time stamp or random ID in the file, so the same plan gives the same bytes.
+    c = Canvas(buf, pagesize=(size_in[0] * 72.0, size_in[1] * 72.0), pageCompression=1, invariant=1)
+    c.setTitle(pt.title)
+    c.setCreator(footer or "notchkit")
+    c.setProducer("notchkit (ReportLab)")
+    for k, spec in enumerate(specs):
+        page = _build_page(spec, pt, filter_parts, size_in, page_size, font, c)
+        _footer(page, footer or pt.title, k + 1, len(specs))
+        c.showPage()
+    c.save()
+    return buf.getvalue()
 
 
 @dataclass(frozen=True, slots=True)
@@ -674,14 +626,9 @@ class _PageSpec:
     part: str = "all"  # a filter page: "all", "first" or "rest"
     step: tuple[float, float, float] = _FIT_STEPS[0]  # a filter page: body size, drawing and curve heights
 
-    @property
-    def weight(self) -> float:
-        """Rough rendering cost, to share the pages out evenly (a filter page draws a plot)."""
-        return {"filter": 1.3, "labels": 0.3, "cautions": 0.2}.get(self.section, 1.0)
-
 
 def _page_specs(pt: PlanText, filter_parts, size_in, page_size, font) -> list[_PageSpec]:
-    """Every page in order, from a dry layout (no matplotlib)."""
+    """Every page in order, from a dry layout (nothing drawn)."""
     specs = [_PageSpec("cover")]
     n_threat = len(_threat_pages(lambda: _Page(size_in, dry=True, font=font), pt))
     specs += [_PageSpec("threats", i) for i in range(n_threat)]
@@ -695,17 +642,17 @@ def _page_specs(pt: PlanText, filter_parts, size_in, page_size, font) -> list[_P
     return specs
 
 
-def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size, font) -> _Page:
-    """The page ``spec`` describes, with its matplotlib Figure."""
+def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size, font, canvas) -> _Page:
+    """Draw the page ``spec`` describes on ``canvas``."""
     if spec.section == "cover":
-        page = _Page(size_in, font=font)
+        page = _Page(size_in, font=font, canvas=canvas)
         _cover(page, pt)
         return page
     if spec.section == "threats":
         made = []
 
-        def new_page() -> _Page:  # only the wanted page gets a Figure; the others stay dry
-            made.append(_Page(size_in, dry=len(made) != spec.index, font=font))
+        def new_page() -> _Page:  # only the wanted page draws; the others stay dry
+            made.append(_Page(size_in, dry=len(made) != spec.index, font=font, canvas=canvas))
             return made[-1]
 
         _threat_pages(new_page, pt)
@@ -713,100 +660,22 @@ def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size,
     if spec.section == "filter":
         ft = pt.filters[spec.index]
         filt, curve, spans = filter_parts[spec.index]
-        page = _Page(size_in, font=font)
+        page = _Page(size_in, font=font, canvas=canvas)
         _filter_page(page, ft, curve, spans, filt, *spec.step, part=spec.part)
         return page
     if spec.section == "labels":
         per = tags_per_page(page_size)
-        return _tag_pages(lambda: _Page(size_in, font=font), pt.tags[spec.index:spec.index + per], per)[0]
-    page = _Page(size_in, font=font)
+        tags = pt.tags[spec.index:spec.index + per]
+        return _tag_pages(lambda: _Page(size_in, font=font, canvas=canvas), tags, per)[0]
+    page = _Page(size_in, font=font, canvas=canvas)
     _cautions(page, pt)
     return page
 
 
-_JOB: dict[str, Any] = {}
-"""The page job forked renderers read (:func:`_render_in_processes` sets it just
-before forking, and forking happens only when no other thread runs)."""
-
-
-def _render_range(bounds: tuple[int, int], job: dict[str, Any] | None = None) -> bytes:
-    """PDF bytes of pages ``bounds[0] .. bounds[1] - 1`` of ``job`` (default: :data:`_JOB`)."""
-    import matplotlib
-    from matplotlib.backends.backend_pdf import PdfPages
-
-    job = _JOB if job is None else job
-    specs, n = job["specs"], len(job["specs"])
-    buf = io.BytesIO()
-    with matplotlib.rc_context(job["font"].rc), PdfPages(buf, metadata=job["metadata"]) as pdf:
-        for k in range(*bounds):
-            page = _build_page(specs[k], job["pt"], job["filter_parts"], job["size_in"], job["page_size"],
-                               job["font"])
-            _footer(page, job["footer"], k + 1, n)
-            pdf.savefig(page.fig)
-    return buf.getvalue()
-
-
-def _split(specs: Sequence[_PageSpec], parts: int) -> list[tuple[int, int]]:
-    """``parts`` contiguous page ranges of about equal :attr:`_PageSpec.weight`."""
-    total = sum(s.weight for s in specs)
-    bounds, acc, k = [0], 0.0, 1
-    for i, s in enumerate(specs):
-        acc += s.weight
-        if k < parts and acc >= total * k / parts and i + 1 < len(specs):
-            bounds.append(i + 1)
-            k += 1
-    bounds.append(len(specs))
-    return list(zip(bounds[:-1], bounds[1:], strict=True))
-
-
-def _render(pt, filter_parts, size_in, page_size, footer, font, processes):
-    specs = _page_specs(pt, filter_parts, size_in, page_size, font)
-    job = {"specs": specs, "pt": pt, "filter_parts": filter_parts, "size_in": size_in,
-           "page_size": page_size, "font": font, "footer": footer or pt.title,
-           "metadata": {"Title": pt.title, "Creator": footer or "notchkit"}}
-    data = _render_in_processes(job, processes) if processes > 1 else None
-    if data is None:
-        data = _render_range((0, len(specs)), job)
-    count = {sec: sum(1 for s in specs if s.section == sec) for sec in ("threats", "filter", "labels")}
-    layout = PdfLayout(cover=1, threats=count["threats"], filters=count["filter"], labels=count["labels"],
-                       cautions=1)
-    return data, layout
-
-
-def _render_in_processes(job: dict[str, Any], processes: int) -> bytes | None:
-    """Render page ranges in worker processes (:func:`notchkit.parallel.fork_map`) and
-    join them with pypdf; ``None`` where processes cannot be used."""
-    from notchkit.parallel import fork_map
-
-    try:
-        from pypdf import PdfReader, PdfWriter
-    except ImportError:
-        return None
-    specs = job["specs"]
-    ranges = _split(specs, min(processes, len(specs)))
-    _JOB.update(job)
-    try:
-        parts = fork_map(_render_range, ranges, processes=processes)
-    finally:
-        _JOB.clear()
-    if parts is None:
-        return None
-    writer = PdfWriter()
-    for part in parts:
-        writer.append(PdfReader(io.BytesIO(part)))
-    meta = job["metadata"]
-    writer.add_metadata({"/Title": meta["Title"], "/Creator": meta["Creator"],
-                         "/Producer": "notchkit (matplotlib pages joined by pypdf)"})
-    out = io.BytesIO()
-    writer.write(out)
-    return out.getvalue()
-
-
 def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *,
-              page_size: str = "a4", footer: str = "",
-              processes: int | None = None) -> tuple[Path, PdfLayout]:
+              page_size: str = "a4", footer: str = "") -> tuple[Path, PdfLayout]:
     """Render with :func:`render_pdf` and write the file atomically."""
-    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer, processes=processes)
+    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer)
     return write_bytes_atomic(path, data), layout
 
 
