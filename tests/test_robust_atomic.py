@@ -667,8 +667,8 @@ def test_design_with_a_file_as_touchstone_folder_writes_nothing(tmp_path, capsys
     assert (tmp_path / "afile").read_bytes() == b""
 
 
-def test_killing_the_plan_kills_its_worker_processes(plan_run, tmp_path):
-    # A SIGKILLed parent must not leave its design or page workers waiting forever
+def test_killing_the_plan_kills_its_worker_processes(tmp_path):
+    # A SIGKILLed parent must not leave its design workers waiting forever
     # (Linux PR_SET_PDEATHSIG, notchkit.parallel).
     import signal
     import subprocess
@@ -677,15 +677,24 @@ def test_killing_the_plan_kills_its_worker_processes(plan_run, tmp_path):
 
     if not sys.platform.startswith("linux"):
         pytest.skip("worker processes are used on Linux only")
-    proc = subprocess.Popen([sys.executable, "-m", "notchkit", "plan", str(plan_run.site), "-o",
-                             str(tmp_path / "x.pdf")], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    # Each filter's design first sleeps a minute (patched before the command runs, so
+    # the forked workers inherit it): the workers are certainly running when the
+    # parent is killed, however fast the machine.
+    script = ("import importlib, sys, time\n"
+              "d = importlib.import_module('notchkit.design')\n"
+              "real = d.design_filter\n"
+              "d.design_filter = lambda *a, **k: (time.sleep(60), real(*a, **k))[1]\n"
+              "from notchkit.cli import main\n"
+              "sys.exit(main(sys.argv[1:]))\n")
+    site = Path(__file__).resolve().parent.parent / "sites" / "hilltop-repeaters.yaml"  # ten filters
+    proc = subprocess.Popen([sys.executable, "-c", script, "plan", str(site), "-o", str(tmp_path / "x.pdf")], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     children: set[int] = set()
     deadline = time.monotonic() + 60
-    while time.monotonic() < deadline and proc.poll() is None and not children:
+    while time.monotonic() < deadline and proc.poll() is None and len(children) < 2:
         children = _children_of(proc.pid)
         time.sleep(0.02)
-    if proc.poll() is not None:
-        pytest.skip("the plan finished before its workers were seen")
+    assert proc.poll() is None, "the plan ended before its workers were seen"
+    assert children, "no worker process was started"
     proc.send_signal(signal.SIGKILL)
     proc.wait()
     deadline = time.monotonic() + 10
