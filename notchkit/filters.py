@@ -385,11 +385,11 @@ class _Work:
     time of a two-stub filter.
     """
 
-    __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "r1", "r2", "flat")
+    __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5", "r1", "r2", "flat")
 
     def __init__(self, rows: int, sweep: _Sweep) -> None:
         shape = (rows, sweep.beta.size)
-        for name in ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4"):
+        for name in ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5"):
             setattr(self, name, np.empty(shape, dtype=complex))
         self.r1 = np.empty(shape)
         self.r2 = np.empty(shape)
@@ -462,7 +462,7 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
         if kind == "line":
             # ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = u^2, u = e^{-gl}, |u| <= 1.
             # The scale factors e^{gl}/2 are collected in w.u_all and applied to S21 at the end.
-            u = sweep.decay_into(length, w.u, w.r1, w.flat)
+            u = _per_length(length, w.u, w, lambda x, out, v: sweep.decay_into(x, out, v.r1, v.flat))
             if n_lines == 0:
                 np.multiply(u, 2.0, out=w.u_all)
             else:
@@ -476,10 +476,10 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
             a, b = _line_row(a, b, p, m, z0, y0, w.a, w.b, w.t3, w.t4)
             c, d = _line_row(c, d, p, m, z0, y0, w.c, w.d, w.t3, w.t4)
             continue
-        if kind == "short":
-            y = sweep.shunt_y_into(np.maximum(length, MIN_MODEL_LENGTH_M), y0, True, w, w.y)
-        else:
-            y = sweep.shunt_y_into(length, y0, False, w, w.y)
+        short = kind == "short"
+        if short:
+            length = np.maximum(length, MIN_MODEL_LENGTH_M)
+        y = _per_length(length, w.y, w, lambda x, out, v, short=short: sweep.shunt_y_into(x, y0, short, v, out))
         a = _add_product(a, b, y, w.a, w.t3)
         c = _add_product(c, d, y, w.c, w.t3)
     # S21' = 2 / (P + Q) and S11 = (P - Q) / (P + Q) = 1 - Q S21', P = A + B/Z, Q = C Z + D
@@ -494,6 +494,33 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
     np.subtract(1.0, s11_out, out=s11_out)
     if n_lines:
         s21_out *= w.u_all
+
+
+def _per_length(length, out, w: _Work, compute):
+    """``compute(x, out, scratch)`` for a column of lengths, each distinct length once.
+
+    The solver's candidates share most of their lengths (a search moves one
+    element at a time; a scan moves one and keeps the rest): where at most half
+    the rows are distinct, the element's response is computed for the distinct
+    lengths only and copied to every row that has it. Same arithmetic on the same
+    numbers, so the same result.
+    """
+    rows = length.shape[0]
+    if rows >= 4:
+        col = length[:, 0]
+        order = np.argsort(col, kind="stable")
+        ranked = col[order]
+        new = np.empty(rows, dtype=bool)
+        new[0] = True
+        np.not_equal(ranked[1:], ranked[:-1], out=new[1:])
+        n_distinct = int(np.count_nonzero(new))
+        if 2 * n_distinct <= rows:
+            where = np.empty(rows, dtype=np.intp)
+            where[order] = np.cumsum(new) - 1  # each row's index among the distinct values
+            part = w.rows(n_distinct)
+            distinct = compute(ranked[new][:, None], part.t5, part)
+            return np.take(distinct, where, axis=0, out=out)
+    return compute(length, out, w)
 
 
 def _line_row(x, y, p, m, z0, y0, out_x, out_y, t1, t2):

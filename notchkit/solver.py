@@ -522,7 +522,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
                     new = list(pool[kind]) + coarse
                     for b, f in zip(b_row, f_pass, strict=True):
                         new += _compensation_lengths(p, float(b), kind, float(f))
-                    new_arr = np.unique(np.round(np.asarray(new), 6))
+                    new_arr = np.round(np.asarray(new), 6)  # repeats go in the unique() below
                     rows = np.column_stack([np.repeat(row[None, :], new_arr.size, axis=0), new_arr])
                     by_topology.setdefault((*base_kinds, kind), []).append(rows)
     out_k: list[tuple[str, ...]] = []

@@ -147,6 +147,31 @@ def test_threads_give_the_same_numbers_as_one_thread():
         assert_close(two[0][i], ref[:, 1, 0])
 
 
+@pytest.mark.parametrize("grid", sorted(GRIDS))
+def test_candidates_sharing_lengths_equal_skrf_row_by_row(grid):
+    # A search's candidates share most lengths (one element moves at a time): the
+    # batch then computes each element once per distinct length and copies it to
+    # the rows that share it (notchkit.filters._per_length). Every row must still be
+    # its own filter, as scikit-rf builds it, and equal to that row evaluated alone.
+    rng = np.random.default_rng(11)
+    cable = library()[0]
+    kinds = ("open", "line", "short", "open", "line", "short")
+    centre = rng.uniform(0.05, 2.5, size=len(kinds))
+    rows = np.repeat(centre[None, :], 2 * len(kinds) + 1, axis=0)
+    for j in range(len(kinds)):  # one element up, one down, the centre last
+        rows[2 * j, j] *= 1.07
+        rows[2 * j + 1, j] *= 0.93
+    f = GRIDS[grid]
+    s21, s11 = evaluate_batch(kinds, rows, cable, f)
+    for i, row in enumerate(rows):
+        ref = skrf_reference(kinds, row, cable, f, 50.0)
+        assert_close(s21[i], ref[:, 1, 0])
+        assert_close(s11[i], ref[:, 0, 0])
+        alone = evaluate_batch(kinds, row[None, :], cable, f)
+        np.testing.assert_allclose(s21[i], alone[0][0], rtol=1e-12, atol=1e-15)
+        np.testing.assert_allclose(s11[i], alone[1][0], rtol=1e-12, atol=1e-15)
+
+
 def test_batch_of_many_candidates_equals_skrf_one_by_one():
     # Many candidates in one call (crosses the internal chunking) against skrf per row.
     rng = np.random.default_rng(2024)
