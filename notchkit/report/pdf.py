@@ -158,6 +158,37 @@ def _wrap_cached(text: str, chars: int) -> tuple[str, ...]:
     return tuple(out)
 
 
+_Cells = tuple[tuple[tuple[str, ...], ...], ...]
+"""Rows of cells, each cell its wrapped lines."""
+
+
+@functools.lru_cache(maxsize=512)
+def _table_layout(t: Table, size: float, width: float, char_em: float) -> tuple[tuple[float, ...], _Cells]:
+    """See :meth:`_Page.table_layout`: widths of ``t``'s columns across ``width`` inches and
+    its cells wrapped to them."""
+    char_in = char_em * _pt_in(size)
+    pad = 0.1
+    need = []
+    for c in range(len(t.header)):
+        words = [w for cell in [t.header[c], *(r[c] for r in t.rows)] for w in str(cell).split()]
+        need.append(max((len(w) for w in words), default=1) * char_in + pad)
+    total_w = sum(t.widths)
+    share = [width * w / total_w for w in t.widths]
+    if sum(need) >= width:  # cannot keep every word whole: fall back to the shares
+        cols = share
+    else:
+        # Grow the columns below their share proportionally, never under their need.
+        cols = [max(n, s_) for n, s_ in zip(need, share, strict=True)]
+        excess = sum(cols) - width
+        if excess > 0:
+            slack = [c - n for c, n in zip(cols, need, strict=True)]
+            total_slack = sum(slack)
+            cols = [c - excess * s_ / total_slack for c, s_ in zip(cols, slack, strict=True)]
+    cells = tuple(tuple(tuple(_wrap(cell, cw - 0.08, size, char_em))
+                        for cell, cw in zip(row, cols, strict=True)) for row in (t.header, *t.rows))
+    return tuple(cols), cells
+
+
 class _Page:
     """One page: a cursor in inches from the top edge, drawing on ``canvas`` (None: a dry
     layout that only measures)."""
@@ -266,30 +297,12 @@ class _Page:
 
     def column_widths(self, t: Table, size: float) -> list[float]:
         """Column widths in inches: each at least its longest word, the rest shared by ``t.widths``."""
-        char_in = self.font.char_em * _pt_in(size)
-        pad = 0.1
-        need = []
-        for c in range(len(t.header)):
-            words = [w for cell in [t.header[c], *(r[c] for r in t.rows)] for w in str(cell).split()]
-            need.append(max((len(w) for w in words), default=1) * char_in + pad)
-        total_w = sum(t.widths)
-        share = [self.width * w / total_w for w in t.widths]
-        if sum(need) >= self.width:  # cannot keep every word whole: fall back to the shares
-            return share
-        # Grow the columns below their share proportionally, never under their need.
-        cols = [max(n, s_) for n, s_ in zip(need, share, strict=True)]
-        excess = sum(cols) - self.width
-        if excess > 0:
-            slack = [c - n for c, n in zip(cols, need, strict=True)]
-            total_slack = sum(slack)
-            cols = [c - excess * s_ / total_slack for c, s_ in zip(cols, slack, strict=True)]
-        return cols
+        return list(_table_layout(t, size, self.width, self.font.char_em)[0])
 
-    def table_layout(self, t: Table, size: float) -> tuple[list[float], list[list[list[str]]]]:
-        cols = self.column_widths(t, size)
-        header = [self.wrap(h, c - 0.08, size) for h, c in zip(t.header, cols, strict=True)]
-        rows = [[self.wrap(cell, c - 0.08, size) for cell, c in zip(r, cols, strict=True)] for r in t.rows]
-        return cols, [header, *rows]
+    def table_layout(self, t: Table, size: float) -> tuple[tuple[float, ...], _Cells]:
+        """Column widths and every cell's wrapped lines (header row first); computed once
+        per table, size and font (a page is laid out dry before it is drawn)."""
+        return _table_layout(t, size, self.width, self.font.char_em)
 
     def row_heights(self, t: Table, size: float) -> tuple[float, list[float]]:
         _, cells = self.table_layout(t, size)
