@@ -479,7 +479,8 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
         short = kind == "short"
         if short:
             length = np.maximum(length, MIN_MODEL_LENGTH_M)
-        y = _per_length(length, w.y, w, lambda x, out, v, short=short: sweep.shunt_y_into(x, y0, short, v, out))
+        y = _per_length(length, w.y, w,
+                        lambda x, out, v, short=short: sweep.shunt_y_into(x, y0, short, v, out))
         a = _add_product(a, b, y, w.a, w.t3)
         c = _add_product(c, d, y, w.c, w.t3)
     # S21' = 2 / (P + Q) and S11 = (P - Q) / (P + Q) = 1 - Q S21', P = A + B/Z, Q = C Z + D

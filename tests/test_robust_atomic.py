@@ -687,7 +687,8 @@ def test_killing_the_plan_kills_its_worker_processes(tmp_path):
               "from notchkit.cli import main\n"
               "sys.exit(main(sys.argv[1:]))\n")
     site = Path(__file__).resolve().parent.parent / "sites" / "hilltop-repeaters.yaml"  # ten filters
-    proc = subprocess.Popen([sys.executable, "-c", script, "plan", str(site), "-o", str(tmp_path / "x.pdf")], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    proc = subprocess.Popen([sys.executable, "-c", script, "plan", str(site), "-o", str(tmp_path / "x.pdf")],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     children: set[int] = set()
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline and proc.poll() is None and len(children) < 2:
