@@ -106,6 +106,35 @@ def test_page_count_is_cover_threats_one_per_filter_labels_cautions(run):
     assert "Cautions" in pages[-1]
 
 
+def test_filter_pages_have_labelled_axes_with_the_same_ticks_as_the_images(run):
+    # "axes labelled with units" (the issue); the PDF's curve and the PNG images are
+    # drawn from one PlotLayout, so each filter page prints that layout's tick labels.
+    from notchkit.report.curves import LEGEND, plot_layout
+
+    res = run["result"]
+    pages = _pdf_pages(res.pdf)
+    first = 1 + res.layout.threats
+    for k, d in enumerate(res.design.designs):
+        page = pages[first + k]
+        assert "Frequency (MHz)" in page and "S21, S11 (dB)" in page
+        filt, curve, spans = _curve_parts(d, run)
+        lay = plot_layout(curve, *spans)
+        words = page.split()
+        for _v, label in (*lay.xticks, *lay.yticks):
+            assert label in words, (d.id, label)
+        for key in lay.legend:
+            assert LEGEND[key] in page
+
+
+def _curve_parts(d, run):
+    from notchkit.report.curves import curve_data
+    from notchkit.report.text import design_filter
+
+    filt = design_filter(d)
+    spans = plan_mod._spans(d, None)
+    return filt, curve_data(filt, spans[0] + spans[1]), spans
+
+
 def test_pdf_text_has_every_cut_length_and_target_resonance(run):
     res = run["result"]
     text = " ".join(_pdf_pages(res.pdf))

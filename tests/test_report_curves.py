@@ -110,3 +110,46 @@ def test_plot_has_units_on_both_axes_and_renders_png():
     assert ax.get_xscale() == "log"
     png = figure_bytes(fig, "png", dpi=50)
     assert png[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature, ISO/IEC 15948 sec. 5.2
+
+
+# The plot's ticks are chosen once (plot_layout) for both renderers, matplotlib's
+# PNG and the PDF. matplotlib's own locators, a general-purpose reference, must
+# pick the same values inside the axis.
+
+
+@pytest.mark.parametrize("k", range(100))
+def test_linear_ticks_are_matplotlibs_max_n_locator(k):
+    from matplotlib.ticker import MaxNLocator
+
+    from notchkit.report.curves import linear_ticks
+
+    rng = np.random.default_rng(k)
+    lo = float(rng.uniform(-130.0, 500.0))
+    hi = lo + float(10 ** rng.uniform(-2.0, 3.0))
+    for nbins, steps in ((7, (1.0, 2.0, 5.0, 10.0)), (8, (1.0, 2.0, 2.5, 5.0, 10.0))):
+        eps = 1e-9 * (hi - lo)
+        ref = [v for v in MaxNLocator(nbins=nbins, steps=list(steps)).tick_values(lo, hi)
+               if lo - eps <= v <= hi + eps]
+        got = linear_ticks(lo, hi, nbins, steps)
+        np.testing.assert_allclose([v for v, _ in got], ref, rtol=0, atol=eps)
+        for v, label in got:  # each label spells its value
+            assert float(label) == pytest.approx(v, abs=eps)
+
+
+@pytest.mark.parametrize("k", range(60))
+def test_log_ticks_are_matplotlibs_log_locator(k):
+    from matplotlib.ticker import LogLocator
+
+    from notchkit.report.curves import log_ticks
+
+    rng = np.random.default_rng(1000 + k)
+    lo = float(10 ** rng.uniform(-0.5, 3.5))
+    hi = lo * float(10 ** rng.uniform(0.48, 1.5))  # the log axis is used beyond 3:1
+    subs = (1.0, 1.5, 2.0, 3.0, 5.0, 7.0)
+    ref = [v for v in LogLocator(base=10, subs=subs, numticks=1000).tick_values(lo, hi)
+           if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9)]
+    got = log_ticks(lo, hi)
+    if len(ref) <= 12:
+        np.testing.assert_allclose([v for v, _ in got], ref, rtol=1e-12)
+    else:  # too crowded: fewer multiples of each decade, never more than 12
+        assert 0 < len(got) <= 12 and {v for v, _ in got} <= {float(v) for v in ref}

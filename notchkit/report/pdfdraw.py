@@ -271,7 +271,8 @@ def _legend(c: Any, face: Face, kinds: Sequence[str], cx: float, top: float, siz
 
     sample_w, gap, pad = 2.0 * size, 0.8 * size, 0.5 * size
     row_h = 1.4 * size
-    cols = [kinds[i::ncol] for i in range(min(ncol, len(kinds)))]
+    per_col = -(-len(kinds) // ncol)  # filled column by column, as matplotlib's legend is
+    cols = [list(kinds[i:i + per_col]) for i in range(0, len(kinds), per_col)]
     col_w = [sample_w + gap + max(stringWidth(LEGEND[k], face.regular, size) for k in col) for col in cols]
     width = sum(col_w) + gap * (len(cols) - 1) + 2 * pad
     rows = max(len(col) for col in cols)
