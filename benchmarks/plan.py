@@ -83,8 +83,8 @@ def phases(site: Path) -> None:
     for ft, (f, c, sp) in zip(pt.filters, parts, strict=True):
         filter_images(f, c, sp, ft)
     t4 = time.perf_counter()
-    print(f"  phases (wall s, in process; design and PDF pages use worker processes): "
-          f"survey+design {t1 - t0:.2f}, rows+curves {t2 - t1:.2f}, "
+    print(f"  phases (wall s, in this process; the design uses worker processes, the PDF and the "
+          f"images here are drawn in this one): survey+design {t1 - t0:.2f}, rows+curves {t2 - t1:.2f}, "
           f"PDF ({layout.total} pages) {t3 - t2:.2f}, PNG images for --html/--outdir {t4 - t3:.2f}")
 
 

@@ -109,15 +109,21 @@ def _hatch(c: Any, xa: float, xb: float, ya: float, yb: float, spacing: float, s
     p.rect(xa, ya, xb - xa, yb - ya)
     c.saveState()
     c.clipPath(p, stroke=0, fill=0)
-    lines = c.beginPath()
+    segments = []
     for s in slopes:
         # The lines x - s*y = k*spacing that cross the rectangle.
         ends = [u - s * v for u in (xa, xb) for v in (ya, yb)]
-        for k in range(math.floor(min(ends) / spacing), math.ceil(max(ends) / spacing) + 1):
-            lines.moveTo(k * spacing + s * ya, ya)
-            lines.lineTo(k * spacing + s * yb, yb)
-    c.drawPath(lines, stroke=1, fill=0)
+        k = np.arange(math.floor(min(ends) / spacing), math.ceil(max(ends) / spacing) + 1) * spacing
+        segments.append(np.column_stack([k + s * ya, np.full_like(k, ya), k + s * yb, np.full_like(k, yb)]))
+    _segments(c, np.concatenate(segments))
     c.restoreState()
+
+
+def _segments(c: Any, seg: np.ndarray) -> None:
+    """Stroke straight segments, rows of (x0, y0, x1, y1) in points, written as PDF path
+    operators in one string (see :func:`_polyline`)."""
+    if seg.size:
+        c.addLiteral(("%.2f %.2f m %.2f %.2f l\n" * seg.shape[0]) % tuple(seg.ravel().tolist()) + "S")  # noqa: UP031
 
 
 def _polyline(c: Any, xs: np.ndarray, ys: np.ndarray) -> None:
