@@ -7,6 +7,7 @@ pypdf (independent of the writer) extracts the text.
 
 from __future__ import annotations
 
+import functools
 import io
 
 import pytest
@@ -147,3 +148,57 @@ def test_a_filter_too_big_for_one_page_continues_on_a_second(tmp_path):
     first, second = pages[1 + layout.threats], pages[2 + layout.threats]
     assert "F1: rx filter at rx-a" in first and "(continued)" in second
     assert "Trimming steps" in second and "reason 59" in first
+
+
+_PARAGRAPH = ("Connect the stub alone to the analyser through the tee it will use; find its resonance "
+              "(the dip of the notch, or where the impedance at the tee is lowest). The resonance reads "
+              "low because the stub is long: trim by the trim rate in small steps, re-measuring each "
+              "time; notchkit trim SWEEP-F1-S1.s1p --cable RG-213 --plan OUTDIR/plan.json --stub F1-S1 "
+              "(target 146.4856 MHz, 2.3 mm/MHz) W\u0141\u00f3d\u017a WWWWWWWWWWWWWWWWWWWWWWWWWWWWWWWWWWWW")
+
+
+@functools.cache
+def _dejavu_metrics(bold):
+    import importlib.util
+    from pathlib import Path
+
+    from fontTools.ttLib import TTFont
+
+    folder = Path(next(iter(importlib.util.find_spec("matplotlib").submodule_search_locations)),
+                  "mpl-data", "fonts", "ttf")
+    font = TTFont(str(folder / ("DejaVuSans-Bold.ttf" if bold else "DejaVuSans.ttf")))
+    hmtx = font["hmtx"]
+    return {code: hmtx[name][0] for code, name in font.getBestCmap().items()}, font["head"].unitsPerEm
+
+
+def _dejavu_width_pt(text, size, bold=False):
+    """Advance widths from the TrueType file itself, read by fontTools (hmtx table)."""
+    advance, upem = _dejavu_metrics(bold)
+    return sum(advance[ord(ch)] for ch in text) * size / upem
+
+
+@pytest.mark.parametrize("width_in", [1.2, 2.5, 4.0, 6.9])
+@pytest.mark.parametrize("bold", [False, True])
+def test_wrapped_lines_fit_their_width_measured_by_the_font_file(width_in, bold):
+    page = _Page(PAGE_SIZES_IN["a4"], dry=True, font=EMBEDDED_FONT)
+    size = 8.0
+    lines = page.wrap(_PARAGRAPH, width_in, size, bold=bold)
+    limit = width_in * 72.0
+    for line in lines:
+        assert _dejavu_width_pt(line, size, bold) <= limit + 1e-6, line
+    # Nothing lost or reordered; a word is split only when it is wider than a line.
+    assert "".join("".join(lines).split()) == "".join(_PARAGRAPH.split())
+    # Greedy: the next line's first word would not have fitted on the line before.
+    for a, b in zip(lines, lines[1:], strict=False):
+        first = b.split()[0]
+        if _dejavu_width_pt(first, size, bold) <= limit:
+            assert _dejavu_width_pt(a + " " + first, size, bold) > limit, (a, first)
+
+
+def test_helvetica_widths_are_the_standard_font_metrics():
+    # Adobe's Helvetica AFM (one of the PDF standard 14 fonts; widths per 1000 em,
+    # from memory): space 278, digits 556, "W" 944, "i" 222, "m" 833.
+    from notchkit.report.pdf import _width_pt
+
+    for text, units in ((" ", 278), ("0123456789", 5560), ("W", 944), ("i", 222), ("m", 833)):
+        assert _width_pt(text, "Helvetica", 10.0) == pytest.approx(units / 100.0)

@@ -23,7 +23,6 @@ import functools
 import io
 import math
 import os
-import textwrap
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -47,8 +46,6 @@ class PdfFont:
 
     name: str
     face: Face
-    char_em: float
-    """Width of an average glyph (digits included, rounded up) per unit of font size."""
     files: tuple[str, str] | None = None
     """TrueType files (regular, bold) under matplotlib's bundled fonts, to embed; None:
     a PDF standard font."""
@@ -62,7 +59,6 @@ class PdfFont:
 CORE_FONT = PdfFont(
     name="Helvetica (PDF standard font)",
     face=Face(regular="Helvetica", bold="Helvetica-Bold", ascent_em=0.718, descent_em=0.207),
-    char_em=0.57,  # Helvetica AFM: lower case averages 0.50 em, digits 0.556 em
 )
 """The PDF's standard Helvetica (ISO 32000-1 sec. 9.6.2.2; ascender 718 and descender
 207 per 1000 em from its AFM): nothing embedded; only for text that Windows-1252 (the
@@ -71,7 +67,6 @@ EMBEDDED_FONT = PdfFont(
     name="DejaVu Sans (embedded subset)",
     face=Face(regular="notchkit-DejaVuSans", bold="notchkit-DejaVuSans-Bold", ascent_em=0.76,
               descent_em=0.24),  # OS/2 typographic ascender and descender
-    char_em=0.6,  # DejaVu Sans: digits 0.636 em, lower case about 0.55 em
     files=("DejaVuSans.ttf", "DejaVuSans-Bold.ttf"),
 )
 """An embedded TrueType font for text with characters outside Windows-1252 (the copy
@@ -141,20 +136,54 @@ def _pt_in(size: float) -> float:
     return size / 72.0
 
 
-def _wrap(text: str, width_in: float, size: float, char_em: float = EMBEDDED_FONT.char_em) -> list[str]:
-    return list(_wrap_cached(str(text), max(4, int(width_in / (char_em * _pt_in(size))))))
+def _wrap(text: str, width_in: float, size: float, font_name: str) -> list[str]:
+    """``text`` broken into lines no wider than ``width_in`` in font ``font_name`` at
+    ``size`` points, measured with the font's own glyph widths."""
+    return list(_wrap_cached(str(text), round(width_in * 72.0, 3), font_name, float(size)))
+
+
+@functools.lru_cache(maxsize=65536)
+def _width_pt(word: str, font_name: str, size: float) -> float:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return stringWidth(word, font_name, size)
 
 
 @functools.lru_cache(maxsize=8192)
-def _wrap_cached(text: str, chars: int) -> tuple[str, ...]:
+def _wrap_cached(text: str, width: float, font_name: str, size: float) -> tuple[str, ...]:
+    """Greedy word wrap (the widths add up: ReportLab writes no kerning). A paragraph's
+    leading spaces are kept and its continuation lines indented two spaces more; a word
+    wider than a whole line is broken between characters."""
+    space = _width_pt(" ", font_name, size)
     out: list[str] = []
-    for para in str(text).split("\n"):
-        if not para:
+    for para in text.split("\n"):
+        words = para.split()
+        if not words:
             out.append("")
             continue
         indent = len(para) - len(para.lstrip(" "))
-        out += textwrap.wrap(para, chars, subsequent_indent=" " * (indent + 2), break_on_hyphens=False,
-                             break_long_words=len(max(para.split(), key=len, default="")) > chars) or [""]
+        prefix, prefix_w = " " * indent, indent * space
+        line: list[str] = []
+        used = prefix_w
+        for word in words:
+            w = _width_pt(word, font_name, size)
+            if line and used + space + w <= width:
+                line.append(word)
+                used += space + w
+                continue
+            if line:
+                out.append(prefix + " ".join(line))
+                prefix, prefix_w = " " * (indent + 2), (indent + 2) * space
+            while prefix_w + w > width and len(word) > 1:  # break a word too long for any line
+                k = len(word) - 1
+                while k > 1 and prefix_w + _width_pt(word[:k], font_name, size) > width:
+                    k -= 1
+                out.append(prefix + word[:k])
+                prefix, prefix_w = " " * (indent + 2), (indent + 2) * space
+                word = word[k:]
+                w = _width_pt(word, font_name, size)
+            line, used = [word], prefix_w + w
+        out.append(prefix + " ".join(line))
     return tuple(out)
 
 
@@ -163,15 +192,15 @@ _Cells = tuple[tuple[tuple[str, ...], ...], ...]
 
 
 @functools.lru_cache(maxsize=512)
-def _table_layout(t: Table, size: float, width: float, char_em: float) -> tuple[tuple[float, ...], _Cells]:
+def _table_layout(t: Table, size: float, width: float, face: Face) -> tuple[tuple[float, ...], _Cells]:
     """See :meth:`_Page.table_layout`: widths of ``t``'s columns across ``width`` inches and
-    its cells wrapped to them."""
-    char_in = char_em * _pt_in(size)
+    its cells wrapped to them (the header in bold)."""
     pad = 0.1
     need = []
     for c in range(len(t.header)):
-        words = [w for cell in [t.header[c], *(r[c] for r in t.rows)] for w in str(cell).split()]
-        need.append(max((len(w) for w in words), default=1) * char_in + pad)
+        words = [(w, face.bold) for w in str(t.header[c]).split()]
+        words += [(w, face.regular) for r in t.rows for w in str(r[c]).split()]
+        need.append(max((_width_pt(w, f, size) for w, f in words), default=0.0) / 72.0 + pad)
     total_w = sum(t.widths)
     share = [width * w / total_w for w in t.widths]
     if sum(need) >= width:  # cannot keep every word whole: fall back to the shares
@@ -184,8 +213,9 @@ def _table_layout(t: Table, size: float, width: float, char_em: float) -> tuple[
             slack = [c - n for c, n in zip(cols, need, strict=True)]
             total_slack = sum(slack)
             cols = [c - excess * s_ / total_slack for c, s_ in zip(cols, slack, strict=True)]
-    cells = tuple(tuple(tuple(_wrap(cell, cw - 0.08, size, char_em))
-                        for cell, cw in zip(row, cols, strict=True)) for row in (t.header, *t.rows))
+    rows = [(t.header, face.bold), *((r, face.regular) for r in t.rows)]
+    cells = tuple(tuple(tuple(_wrap(cell, cw - 0.08, size, name)) for cell, cw in zip(row, cols, strict=True))
+                  for row, name in rows)
     return tuple(cols), cells
 
 
@@ -195,6 +225,7 @@ class _Page:
 
     def __init__(self, size_in: tuple[float, float], dry: bool = False, font: PdfFont = EMBEDDED_FONT,
                  canvas: Any = None):
+        _register(font)  # its metrics measure the text even on a dry page
         self.font = font
         self.w, self.h = size_in
         self.c = None if dry else canvas
@@ -203,8 +234,8 @@ class _Page:
         self.x0 = MARGIN_IN
         self.width = self.w - 2 * MARGIN_IN
 
-    def wrap(self, text: str, width_in: float, size: float) -> list[str]:
-        return _wrap(text, width_in, size, self.font.char_em)
+    def wrap(self, text: str, width_in: float, size: float, bold: bool = False) -> list[str]:
+        return _wrap(text, width_in, size, self.font.face.name(bold))
 
     @property
     def bottom(self) -> float:
@@ -274,17 +305,18 @@ class _Page:
 
     def para(self, s: str, size: float = 8.0, indent: float = 0.0, bold: bool = False,
              gap: float = 0.04) -> None:
-        wrapped = self.wrap(s, self.width - indent, size)
+        wrapped = self.wrap(s, self.width - indent, size, bold)
         self.y += self.block(self.x0 + indent, self.y, wrapped, size, bold=bold)
         self.y += gap
 
-    def para_height(self, s: str, size: float = 8.0, indent: float = 0.0, gap: float = 0.04) -> float:
-        return len(self.wrap(s, self.width - indent, size)) * self.pitch(size) + gap
+    def para_height(self, s: str, size: float = 8.0, indent: float = 0.0, gap: float = 0.04,
+                    bold: bool = False) -> float:
+        return len(self.wrap(s, self.width - indent, size, bold)) * self.pitch(size) + gap
 
     def boxed(self, lines: Sequence[str], size: float = 10.0) -> None:
         """Lines in a heavy double box: stands out in black-and-white print without colour."""
         pad = 0.08
-        wrapped = [w for s in lines for w in self.wrap(s, self.width - 2 * pad - 0.1, size)]
+        wrapped = [w for s in lines for w in self.wrap(s, self.width - 2 * pad - 0.1, size, bold=True)]
         h = len(wrapped) * self.pitch(size) + 2 * pad
         self.rect(self.x0, self.y, self.width, h, lw=2.2)
         self.rect(self.x0 + 0.04, self.y + 0.04, self.width - 0.08, h - 0.08, lw=0.7)
@@ -292,17 +324,17 @@ class _Page:
         self.y += h + 0.1
 
     def boxed_height(self, lines: Sequence[str], size: float = 10.0) -> float:
-        n = sum(len(self.wrap(s, self.width - 0.26, size)) for s in lines)
+        n = sum(len(self.wrap(s, self.width - 0.26, size, bold=True)) for s in lines)
         return n * self.pitch(size) + 0.16 + 0.1
 
     def column_widths(self, t: Table, size: float) -> list[float]:
         """Column widths in inches: each at least its longest word, the rest shared by ``t.widths``."""
-        return list(_table_layout(t, size, self.width, self.font.char_em)[0])
+        return list(_table_layout(t, size, self.width, self.font.face)[0])
 
     def table_layout(self, t: Table, size: float) -> tuple[tuple[float, ...], _Cells]:
         """Column widths and every cell's wrapped lines (header row first); computed once
         per table, size and font (a page is laid out dry before it is drawn)."""
-        return _table_layout(t, size, self.width, self.font.char_em)
+        return _table_layout(t, size, self.width, self.font.face)
 
     def row_heights(self, t: Table, size: float) -> tuple[float, list[float]]:
         _, cells = self.table_layout(t, size)
@@ -359,7 +391,7 @@ class _Page:
         h0, hs = self.row_heights(t, size)
         h = h0 + sum(hs) + 0.08
         if title and t.title:
-            h += self.para_height(t.title, size + 0.5, gap=0.02)
+            h += self.para_height(t.title, size + 0.5, gap=0.02, bold=True)
         if t.note:
             h += 0.03 + self.para_height(t.note, size - 0.5)
         return h
@@ -420,7 +452,7 @@ def _threat_pages(new_page: Callable[[], _Page], pt: PlanText, size: float = 7.0
     first = True
     while True:
         title = t.title if first else f"{t.title} (continued)"
-        avail = p.bottom - p.y - p.para_height(title, size + 0.5, gap=0.02) - h0 - 0.1
+        avail = p.bottom - p.y - p.para_height(title, size + 0.5, gap=0.02, bold=True) - h0 - 0.1
         if t.note:
             avail -= 0.03 + p.para_height(t.note, size - 0.5)
         j, used = i, 0.0
