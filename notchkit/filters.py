@@ -385,9 +385,12 @@ class _Work:
     time of a two-stub filter.
     """
 
-    __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5", "r1", "r2", "flat")
+    __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5", "r1", "r2", "flat",
+                 "_views")
+    _ARRAYS = __slots__[:-1]
 
     def __init__(self, rows: int, sweep: _Sweep) -> None:
+        self._views: dict[int, _Work] = {}
         shape = (rows, sweep.beta.size)
         for name in ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5"):
             setattr(self, name, np.empty(shape, dtype=complex))
@@ -400,10 +403,14 @@ class _Work:
         """The same scratch, cut to the first ``n`` rows (the last chunk may be short)."""
         if n == self.a.shape[0]:
             return self
-        view = object.__new__(_Work)
-        for name in self.__slots__:
-            value = getattr(self, name)
-            setattr(view, name, value if name == "flat" else value[:n])
+        view = self._views.get(n)
+        if view is None:
+            view = object.__new__(_Work)
+            for name in self._ARRAYS:
+                value = getattr(self, name)
+                setattr(view, name, value if name == "flat" else value[:n])
+            view._views = {}
+            self._views[n] = view
         return view
 
 
@@ -497,6 +504,11 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
         s21_out *= w.u_all
 
 
+_DISTINCT_POINTS = 4096
+"""Smallest chunk (candidates x frequencies) worth looking for shared lengths: below it
+the sorting costs more than it saves."""
+
+
 def _per_length(length, out, w: _Work, compute):
     """``compute(x, out, scratch)`` for a column of lengths, each distinct length once.
 
@@ -504,10 +516,10 @@ def _per_length(length, out, w: _Work, compute):
     element at a time; a scan moves one and keeps the rest): where at most half
     the rows are distinct, the element's response is computed for the distinct
     lengths only and copied to every row that has it. Same arithmetic on the same
-    numbers, so the same result.
+    numbers, so the same result. Small chunks skip the search (:data:`_DISTINCT_POINTS`).
     """
     rows = length.shape[0]
-    if rows >= 4:
+    if rows >= 4 and rows * out.shape[1] >= _DISTINCT_POINTS:
         col = length[:, 0]
         order = np.argsort(col, kind="stable")
         ranked = col[order]

@@ -148,7 +148,7 @@ def test_threads_give_the_same_numbers_as_one_thread():
 
 
 @pytest.mark.parametrize("grid", sorted(GRIDS))
-def test_candidates_sharing_lengths_equal_skrf_row_by_row(grid):
+def test_candidates_sharing_lengths_equal_skrf_row_by_row(grid, monkeypatch):
     # A search's candidates share most lengths (one element moves at a time): the
     # batch then computes each element once per distinct length and copies it to
     # the rows that share it (notchkit.filters._per_length). Every row must still be
@@ -162,6 +162,9 @@ def test_candidates_sharing_lengths_equal_skrf_row_by_row(grid):
         rows[2 * j, j] *= 1.07
         rows[2 * j + 1, j] *= 0.93
     f = GRIDS[grid]
+    from notchkit import filters
+
+    monkeypatch.setattr(filters, "_DISTINCT_POINTS", 1)  # white-box: small batches share too
     s21, s11 = evaluate_batch(kinds, rows, cable, f)
     for i, row in enumerate(rows):
         ref = skrf_reference(kinds, row, cable, f, 50.0)
