@@ -494,6 +494,19 @@ def _back_susceptance(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray,
     return y.imag
 
 
+def _unique_rows(rows: np.ndarray) -> np.ndarray:
+    """The distinct rows of a 2-D float array, in lexicographic order (first column
+    first): what ``np.unique(rows, axis=0)`` gives for these finite lengths, without
+    its byte-wise sort (a sixth of the children's time)."""
+    if rows.shape[0] < 2:
+        return rows
+    ranked = rows[np.lexsort(rows.T[::-1])]
+    keep = np.empty(ranked.shape[0], dtype=bool)
+    keep[0] = True
+    np.any(ranked[1:] != ranked[:-1], axis=1, out=keep[1:])
+    return ranked[keep]
+
+
 def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -> list[_Cand]:
     """Extend each parent by one stub at its last tee or behind a line section."""
     vf = p.cable.velocity_factor
@@ -529,7 +542,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
     out_l: list[np.ndarray] = []
     out_j, out_v, out_m = [], [], []
     for kinds in sorted(by_topology):
-        lengths = np.unique(np.concatenate(by_topology[kinds]), axis=0)
+        lengths = _unique_rows(np.concatenate(by_topology[kinds]))
         ok = p.cable_used(kinds, lengths) <= p.cable_cap
         lengths = lengths[ok]
         if not lengths.size:

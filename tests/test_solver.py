@@ -291,3 +291,14 @@ def test_solver_contract_on_random_requests(r, rg213):
     assert sol.filter.total_cable_m <= sol.max_total_cable_m + 1e-9
     for e in sol.filter.elements:
         assert e.length_m >= (0.05 if e.kind == "line" else TEE + MIN_CUT_M) - 1e-12
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_unique_rows_equals_numpy_unique_along_rows(seed):
+    # numpy's own np.unique(axis=0) is the reference: the same rows, the same order.
+    from notchkit.solver import _unique_rows
+
+    rng = np.random.default_rng(seed)
+    rows = np.round(rng.uniform(0.0, 3.0, size=(int(rng.integers(1, 300)), int(rng.integers(1, 6)))), 1)
+    rows = np.concatenate([rows, rows[: rows.shape[0] // 2]])  # repeats, some far apart
+    np.testing.assert_array_equal(_unique_rows(rows), np.unique(rows, axis=0))
