@@ -7,7 +7,7 @@ script the same job from Python::
     site = notchkit.load_site("sites/ridge-eoc.yaml")
     survey = notchkit.survey(site)
 
-Nothing happens at import time beyond importing numpy; matplotlib and
+Nothing happens at import time beyond importing numpy; matplotlib, ReportLab and
 scikit-rf are imported inside the functions that need them.
 """
 
