@@ -649,9 +649,10 @@ def _draw(specs, pt, filter_parts, size_in, page_size, font, footer) -> bytes:
     from reportlab.pdfgen.canvas import Canvas
 
     buf = io.BytesIO()
-    # invariant: no time stamp or random ID in the file, so the same plan gives the same bytes.
-    c = Canvas(buf, pagesize=(size_in[0] * 72.0, size_in[1] * 72.0), pageCompression=1, invariant=1)
+    c = Canvas(buf, pagesize=(size_in[0] * 72.0, size_in[1] * 72.0), pageCompression=1)
     c.setTitle(pt.title)
+    c.setAuthor("notchkit")
+    c.setSubject("Coaxial stub filter plan for a shared radio site")
     c.setCreator(footer or "notchkit")
     c.setProducer("notchkit (ReportLab)")
     for k, spec in enumerate(specs):
