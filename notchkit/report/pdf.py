@@ -96,6 +96,10 @@ def _register(font: PdfFont) -> None:
 
     spec = importlib.util.find_spec("matplotlib")
     folder = Path(next(iter(spec.submodule_search_locations or ())), "mpl-data", "fonts", "ttf")
+    if not (folder / font.files[0]).is_file():  # a system matplotlib may keep its data elsewhere
+        import matplotlib
+
+        folder = Path(matplotlib.get_data_path(), "fonts", "ttf")
     for name, file in zip((font.face.regular, font.face.bold), font.files, strict=True):
         pdfmetrics.registerFont(TTFont(name, str(folder / file)))
 
