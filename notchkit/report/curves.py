@@ -158,9 +158,36 @@ def _visible(lo: float, hi: float, xlo: float, xhi: float, log_axis: bool) -> tu
 MPL_RC = {"svg.fonttype": "none", "hatch.linewidth": 0.6, "axes.linewidth": 0.8, "axes.unicode_minus": False,
           "pdf.fonttype": 42, "font.family": "DejaVu Sans"}
 """matplotlib settings the PNG images render under (in ``rc_context``; nothing global)."""
-S21_STYLE = {"width": 1.3, "dash": None}
-S11_STYLE = {"width": 0.8, "dash": (3.2, 1.6)}
-"""S21 solid, S11 dashed (dash and gap in points); both black."""
+@dataclass(frozen=True, slots=True)
+class LineStyle:
+    """A black line: width and dash pattern (on, off, ... lengths), both in points."""
+
+    width: float
+    dash: tuple[float, ...] | None = None
+
+    def mpl(self) -> Any:
+        """matplotlib's ``linestyle`` for it (matplotlib scales dashes by the line width)."""
+        return "-" if self.dash is None else (0, tuple(d / self.width for d in self.dash))
+
+
+@dataclass(frozen=True, slots=True)
+class BandStyle:
+    """A shaded band: fill grey (None: none), hatch grey, and the hatch ("///" or "xx")."""
+
+    fill: float | None
+    edge: float
+    hatch: str
+
+
+S21_STYLE = LineStyle(1.3)
+S11_STYLE = LineStyle(0.8, (3.2, 1.6))
+IL_STYLE = LineStyle(1.6, (10.24, 2.56, 1.6, 2.56))  # dash-dot
+REQ_STYLE = LineStyle(2.4)
+PASS_STYLE = BandStyle(None, 0.45, "///")
+NOTCH_STYLE = BandStyle(0.88, 0.3, "xx")
+"""How every renderer draws the curve plot: S21 solid, S11 dashed, the insertion-loss limit
+dash-dot, the required attenuation heavy; pass bands hatched one way, notch bands grey and
+cross-hatched (readable in black-and-white print)."""
 LEGEND = {"s21": "S21 (transmission)", "s11": "S11 (reflection)", "pass": "pass band",
           "il": "insertion-loss limit", "notch": "notch band", "req": "required attenuation"}
 _LOG_SUBS = ((1.0, 1.5, 2.0, 3.0, 5.0, 7.0), (1.0, 2.0, 5.0), (1.0,))
@@ -258,18 +285,24 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
 
     lay = plot_layout(curve, pass_bands, notches, show_s11=show_s11)
     f = curve.freq_mhz
-    ax.plot(f, curve.s21_db, color="black", linewidth=S21_STYLE["width"], label=LEGEND["s21"])
-    s11_kw = {"color": "black", "linewidth": S11_STYLE["width"], "linestyle": (0, S11_STYLE["dash"])}
+    ax.plot(f, curve.s21_db, color="black", linewidth=S21_STYLE.width, label=LEGEND["s21"])
+    s11_kw = {"color": "black", "linewidth": S11_STYLE.width, "linestyle": S11_STYLE.mpl()}
+    il_kw = {"color": "black", "linewidth": IL_STYLE.width, "linestyle": IL_STYLE.mpl()}
+
+    def band_kw(st: BandStyle) -> dict[str, Any]:
+        return {"facecolor": "none" if st.fill is None else str(st.fill), "edgecolor": str(st.edge),
+                "hatch": st.hatch}
+
     if show_s11:
         ax.plot(f, curve.s11_db, label=LEGEND["s11"], **s11_kw)
     for a, b, lim in lay.passes:
-        ax.axvspan(a, b, facecolor="none", edgecolor="0.45", hatch="///", linewidth=0.0)
+        ax.axvspan(a, b, linewidth=0.0, **band_kw(PASS_STYLE))
         if lim is not None:
-            ax.plot([a, b], [-lim, -lim], color="black", linewidth=1.6, linestyle="-.")
+            ax.plot([a, b], [-lim, -lim], **il_kw)
     for a, b, lim in lay.notches:
-        ax.axvspan(a, b, facecolor="0.88", edgecolor="0.3", hatch="xx", linewidth=0.0)
+        ax.axvspan(a, b, linewidth=0.0, **band_kw(NOTCH_STYLE))
         if lim is not None:
-            ax.plot([a, b], [-lim, -lim], color="black", linewidth=2.4, solid_capstyle="butt")
+            ax.plot([a, b], [-lim, -lim], color="black", linewidth=REQ_STYLE.width, solid_capstyle="butt")
             ax.plot([0.5 * (a + b)], [-lim], marker="v", color="black", markersize=4)
     if lay.log_axis:
         ax.set_xscale("log")
@@ -289,12 +322,12 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
         # (nothing is drawn above the axes), a quarter of the time of a curve.
         ax.set_title(title, fontsize=fontsize + 1, y=1.0)
     kinds = {
-        "s21": Line2D([], [], color="black", linewidth=S21_STYLE["width"]),
+        "s21": Line2D([], [], color="black", linewidth=S21_STYLE.width),
         "s11": Line2D([], [], **s11_kw),
-        "pass": Patch(facecolor="none", edgecolor="0.45", hatch="///"),
-        "il": Line2D([], [], color="black", linewidth=1.6, linestyle="-."),
-        "notch": Patch(facecolor="0.88", edgecolor="0.3", hatch="xx"),
-        "req": Line2D([], [], color="black", linewidth=2.4, marker="v", markersize=4),
+        "pass": Patch(**band_kw(PASS_STYLE)),
+        "il": Line2D([], [], **il_kw),
+        "notch": Patch(**band_kw(NOTCH_STYLE)),
+        "req": Line2D([], [], color="black", linewidth=REQ_STYLE.width, marker="v", markersize=4),
     }
     handles = [kinds[k] for k in lay.legend]
     for k, h in zip(lay.legend, handles, strict=True):

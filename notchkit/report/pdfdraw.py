@@ -15,7 +15,20 @@ from typing import Any
 
 import numpy as np
 
-from notchkit.report.curves import LEGEND, S11_STYLE, S21_STYLE, CurveData, Span, plot_layout
+from notchkit.report.curves import (
+    IL_STYLE,
+    LEGEND,
+    NOTCH_STYLE,
+    PASS_STYLE,
+    REQ_STYLE,
+    S11_STYLE,
+    S21_STYLE,
+    BandStyle,
+    CurveData,
+    LineStyle,
+    Span,
+    plot_layout,
+)
 from notchkit.report.sketch import Box, Dot, Label, Lines, Sketch
 
 
@@ -135,25 +148,33 @@ def _polyline(c: Any, xs: np.ndarray, ys: np.ndarray) -> None:
     c.addLiteral(head + ("%.2f %.2f l\n" * (len(pts) // 2 - 1)) % tuple(pts[2:]) + "S")  # noqa: UP031
 
 
+def _band(c: Any, st: BandStyle, xa: float, xb: float, ya: float, yb: float, spacing: float) -> None:
+    """A band of style ``st`` over the rectangle: its fill, then its hatching."""
+    if st.fill is not None:
+        c.setFillGray(st.fill)
+        c.rect(xa, ya, xb - xa, yb - ya, stroke=0, fill=1)
+    c.setStrokeGray(st.edge)
+    c.setLineWidth(0.6)
+    _hatch(c, xa, xb, ya, yb, spacing, (1, -1) if "x" in st.hatch else (1,))
+
+
+def _line_style(c: Any, st: LineStyle) -> None:
+    c.setLineWidth(st.width)
+    c.setDash(list(st.dash) if st.dash else [])
+
+
+_LEGEND_LINES = {"s21": S21_STYLE, "s11": S11_STYLE, "il": IL_STYLE, "req": REQ_STYLE}
+
+
 def _sample(c: Any, kind: str, x: float, y: float, w: float, size: float) -> None:
     """The legend's picture of ``kind`` (a :data:`LEGEND` key), ``w`` wide, centred on y."""
     c.saveState()
     c.setStrokeGray(0.0)
     if kind in ("pass", "notch"):
         hh = 0.7 * size
-        c.setLineWidth(0.6)
-        if kind == "notch":
-            c.setFillGray(0.88)
-            c.rect(x, y - hh / 2, w, hh, stroke=0, fill=1)
-        c.setStrokeGray(0.45 if kind == "pass" else 0.3)
-        _hatch(c, x, x + w, y - hh / 2, y + hh / 2, 3.0, (1,) if kind == "pass" else (1, -1))
+        _band(c, PASS_STYLE if kind == "pass" else NOTCH_STYLE, x, x + w, y - hh / 2, y + hh / 2, 3.0)
     else:
-        width = {"s21": S21_STYLE["width"], "s11": S11_STYLE["width"], "il": 1.6, "req": 2.4}[kind]
-        c.setLineWidth(width)
-        if kind == "s11":
-            c.setDash(list(S11_STYLE["dash"]))
-        elif kind == "il":
-            c.setDash([6.4, 1.6, 1.0, 1.6])
+        _line_style(c, _LEGEND_LINES[kind])
         c.line(x, y, x + w, y)
         if kind == "req":
             _triangle(c, x + w / 2, y, 2.0)
@@ -199,16 +220,10 @@ def draw_plot(c: Any, face: Face, rect: Sequence[float], curve: CurveData, pass_
     clip.rect(x0, y0, w, h)
     c.clipPath(clip, stroke=0, fill=0)
     c.setLineCap(0)
-    c.setLineWidth(0.6)
     for a, b, _lim in lay.passes:
-        c.setStrokeGray(0.45)
-        _hatch(c, float(X(a)), float(X(b)), y0, y0 + h, 6.0, (1,))
+        _band(c, PASS_STYLE, float(X(a)), float(X(b)), y0, y0 + h, 6.0)
     for a, b, _lim in lay.notches:
-        c.setFillGray(0.88)
-        c.rect(float(X(a)), y0, float(X(b) - X(a)), h, stroke=0, fill=1)
-        c.setStrokeGray(0.3)
-        c.setLineWidth(0.6)
-        _hatch(c, float(X(a)), float(X(b)), y0, y0 + h, 6.0, (1, -1))
+        _band(c, NOTCH_STYLE, float(X(a)), float(X(b)), y0, y0 + h, 6.0)
     c.setStrokeGray(0.8)
     c.setLineWidth(0.5)
     for v, _ in lay.xticks:
@@ -218,24 +233,20 @@ def draw_plot(c: Any, face: Face, rect: Sequence[float], curve: CurveData, pass_
     c.setStrokeGray(0.0)
     for a, b, lim in lay.passes:
         if lim is not None:
-            c.setLineWidth(1.6)
-            c.setDash([6.4, 1.6, 1.0, 1.6])
+            _line_style(c, IL_STYLE)
             c.line(float(X(a)), float(Y(-lim)), float(X(b)), float(Y(-lim)))
-            c.setDash([])
     for a, b, lim in lay.notches:
         if lim is not None:
-            c.setLineWidth(2.4)
+            _line_style(c, REQ_STYLE)
             c.line(float(X(a)), float(Y(-lim)), float(X(b)), float(Y(-lim)))
             _triangle(c, float(X(0.5 * (a + b))), float(Y(-lim)), 2.0)
     c.setLineJoin(1)
     xs = X(curve.freq_mhz)
-    c.setLineWidth(S21_STYLE["width"])
+    _line_style(c, S21_STYLE)
     _polyline(c, xs, Y(curve.s21_db))
     if show_s11:
-        c.setLineWidth(S11_STYLE["width"])
-        c.setDash(list(S11_STYLE["dash"]))
+        _line_style(c, S11_STYLE)
         _polyline(c, xs, Y(curve.s11_db))
-        c.setDash([])
     c.restoreState()
 
     # Frame, ticks and their labels.
