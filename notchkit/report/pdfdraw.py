@@ -77,7 +77,10 @@ def draw_sketch(c: Any, face: Face, sketch: Sketch, rect: Sequence[float]) -> No
     c.saveState()
     c.setLineCap(0)  # butt ends
     c.setStrokeGray(0.0)
-    for it in sketch.items:
+    # Shapes in order, then the labels over them (as matplotlib stacks text above lines).
+    items = [it for it in sketch.items if not isinstance(it, Label)]
+    items += [it for it in sketch.items if isinstance(it, Label)]
+    for it in items:
         if isinstance(it, Lines):
             c.setLineWidth(it.width)
             c.setStrokeGray(it.grey)
