@@ -62,3 +62,31 @@ def test_caller_labels_are_used_verbatim():
     for lab in labels:
         assert lab in texts
     assert len(default_stub_labels(filt)) == 3
+
+
+def test_pdf_drawing_writes_every_label_of_the_sketch():
+    # The PDF draws the same Sketch as the PNG; pypdf (an independent reader) must find
+    # each of its labels on the page, and one circle per tee and open end.
+    import io
+
+    from pypdf import PdfReader
+    from reportlab.pdfgen.canvas import Canvas
+
+    from notchkit.report.drawing import arrangement_sketch
+    from notchkit.report.pdf import CORE_FONT
+    from notchkit.report.pdfdraw import draw_sketch
+    from notchkit.report.sketch import Dot
+
+    filt = _filter()
+    sketch = arrangement_sketch(filt, units="metric", cable_label="All stubs: RG-213")
+    buf = io.BytesIO()
+    c = Canvas(buf, pagesize=(600, 300))
+    draw_sketch(c, CORE_FONT.face, sketch, (20, 20, 560, 260))
+    c.showPage()
+    c.save()
+    text = PdfReader(io.BytesIO(buf.getvalue())).pages[0].extract_text()
+    for label in sketch.labels():
+        for line in label.split("\n"):
+            assert line in text, line
+    dots = [it for it in sketch.items if isinstance(it, Dot)]
+    assert len(dots) == len(filt.tees()) + sum(s.termination == "open" for s in filt.stubs)
