@@ -233,7 +233,6 @@ class _Page:
         self.font = font
         self.w, self.h = size_in
         self.c = None if dry else canvas
-        self.dry = self.c is None
         self.y = MARGIN_IN
         self.x0 = MARGIN_IN
         self.width = self.w - 2 * MARGIN_IN
@@ -326,14 +325,6 @@ class _Page:
         self.rect(self.x0 + 0.04, self.y + 0.04, self.width - 0.08, h - 0.08, lw=0.7)
         self.block(self.x0 + pad + 0.05, self.y + pad, wrapped, size, bold=True)
         self.y += h + 0.1
-
-    def boxed_height(self, lines: Sequence[str], size: float = 10.0) -> float:
-        n = sum(len(self.wrap(s, self.width - 0.26, size, bold=True)) for s in lines)
-        return n * self.pitch(size) + 0.16 + 0.1
-
-    def column_widths(self, t: Table, size: float) -> list[float]:
-        """Column widths in inches: each at least its longest word, the rest shared by ``t.widths``."""
-        return list(_table_layout(t, size, self.width, self.font.face)[0])
 
     def table_layout(self, t: Table, size: float) -> tuple[tuple[float, ...], _Cells]:
         """Column widths and every cell's wrapped lines (header row first); computed once
