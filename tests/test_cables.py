@@ -24,6 +24,22 @@ def test_library_is_not_empty_and_names_are_unique():
     assert len(names) == len(set(names))
 
 
+def test_library_file_reads_the_same_with_libyaml_as_with_pure_python_yaml():
+    # The library is read with libyaml's safe loader where PyYAML has it; PyYAML's
+    # own pure-Python SafeLoader is the reference reading of the same file.
+    from importlib import resources
+
+    import yaml
+
+    from notchkit.cables import _cable_from_entry
+
+    text = resources.files("notchkit").joinpath("data/cables.yaml").read_text(encoding="utf-8")
+    doc = yaml.load(text, Loader=yaml.SafeLoader)
+    assert doc == yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))
+    sources = {key: item["cite"] for key, item in doc.get("sources", {}).items()}
+    assert library() == tuple(_cable_from_entry(entry, sources) for entry in doc["cables"])
+
+
 @pytest.mark.parametrize("cable", library(), ids=lambda c: c.name)
 def test_fit_within_5pct_of_every_published_point(cable):
     # The check values are the published tables in notchkit/data/cables.yaml, each
