@@ -26,9 +26,15 @@ Velocity factor
     all the way from the nominal VF instead would change the loss by about
     1.5 %, about 0.13 dB at a loss-limited notch bottom, which is why the bins.
 Attenuation
-    ``-20 log10 |S21|`` (mismatch included), on a grid of ``band_points``
-    frequencies from each notch band's lower to upper edge; a sample meets a
-    notch when its minimum over the grid is at least ``required_db``.
+    ``-20 log10 |S21|`` (mismatch included), on a grid from each notch band's
+    lower to upper edge; a sample meets a notch when its minimum over the grid
+    is at least ``required_db``. A band gets points no further apart than
+    ``phase_step_rad`` (0.01 rad) of the filter's whole electrical length, at
+    least 3 and at most ``band_points`` (11): a radio channel a few kHz wide is
+    its edges and centre, an airband gets 11. On every filter of the example
+    sites this gives the same results as 11 points on every band, and worst
+    figures within 0.02 dB of 201 points (tests/test_tolerance.py), at a third
+    of the time.
 Sensitivity
     Central difference of the nominal worst attenuation for +-0.5 mm on one
     element at a time, in dB per mm (positive: a longer piece helps).
@@ -52,7 +58,7 @@ import numpy as np
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub, evaluate_batch
 from notchkit.jsonvalues import finite
-from notchkit.lines import swr_from_s11
+from notchkit.lines import C0, swr_from_s11
 from notchkit.requirements import NotchSpec
 from notchkit.site.model import DEFAULT_MAX_INSERTION_LOSS_DB, DEFAULT_MAX_SWR, Band
 
@@ -61,6 +67,9 @@ DEFAULT_VF_SPREAD = 0.01
 SENSITIVITY_STEP_MM = 0.5
 VF_BINS = 24
 """Velocity-factor bins of a tolerance run (one batched evaluation each)."""
+PHASE_STEP_RAD = 0.01
+"""Largest phase change of the filter between neighbouring grid points of a band
+(see :func:`band_sizes`)."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -186,6 +195,28 @@ def element_ids(filt: Filter, filter_id: str = "F1") -> tuple[str, ...]:
     return tuple(ids)
 
 
+def band_sizes(bands: Sequence[Any], filt: Filter, most: int, phase_step_rad: float | None) -> list[int]:
+    """Grid points across each band: enough that no element's phase moves more than
+    ``phase_step_rad`` between neighbours, at least 3 (edges and centre), at most ``most``.
+
+    Across a band from ``lo`` to ``hi`` every phase in the filter changes by at most
+    ``theta * (hi - lo) / hi``, ``theta`` being the electrical length of all its
+    elements together at ``hi`` (``2 pi f sum(l) / (c VF)``). A radio channel is a few
+    thousandths of a radian wide even on metres of cable, so it needs no more than its
+    edges and centre; ``phase_step_rad=None`` gives every band ``most`` points.
+    """
+    if phase_step_rad is None:
+        return [most] * len(bands)
+    total_m = float(np.sum(filt.lengths_m))
+    vf = float(filt.cable.velocity_factor)
+    sizes = []
+    for b in bands:
+        theta = 2.0 * math.pi * b.hi_mhz * 1e6 * total_m / (C0 * vf)
+        swing = theta * (b.hi_mhz - b.lo_mhz) / b.hi_mhz
+        sizes.append(int(min(most, max(3, math.ceil(swing / phase_step_rad) + 1))))
+    return sizes
+
+
 def _check(value: float, name: str, lo: float, hi: float) -> float:
     v = float(value)
     if not (math.isfinite(v) and lo <= v <= hi):
@@ -206,6 +237,7 @@ def tolerance(
     max_insertion_loss_db: float = DEFAULT_MAX_INSERTION_LOSS_DB,
     max_swr: float = DEFAULT_MAX_SWR,
     band_points: int = 11,
+    phase_step_rad: float | None = PHASE_STEP_RAD,
     filter_id: str = "F1",
 ) -> Tolerance:
     """Monte Carlo over cut-length error and velocity-factor spread.
@@ -230,7 +262,11 @@ def tolerance(
         Pass bands to check too (insertion loss <= ``max_insertion_loss_db``
         and SWR <= ``max_swr`` over the band).
     band_points : int
-        Grid points across each band, edges included (3 to 201).
+        Most grid points across a band, edges included (3 to 201).
+    phase_step_rad : float or None
+        A band gets points close enough that the filter's phase moves at most
+        this much between neighbours, at least 3 (see :func:`band_sizes`);
+        ``None``: every band gets ``band_points``.
     filter_id : str
         Prefix of the element ids in the sensitivities.
 
@@ -252,6 +288,7 @@ def tolerance(
         vf_spread = DEFAULT_VF_SPREAD if published is None else float(published)
     spread = _check(vf_spread, "vf_spread", 0.0, 0.5 * vf0)
     npts = int(_check(band_points, "band_points", 3, 201))
+    step_rad = None if phase_step_rad is None else _check(phase_step_rad, "phase_step_rad", 1e-6, 10.0)
     zs = _check(z_system, "z_system", 1e-3, 1e6)
     notches = tuple(notches)
     pass_bands = tuple(pass_bands)
@@ -261,8 +298,11 @@ def tolerance(
         if not (0 < b.lo_mhz <= b.hi_mhz and math.isfinite(b.hi_mhz)):
             raise DesignError(f"band {k + 1}: {b.lo_mhz!r}-{b.hi_mhz!r} MHz must have 0 < lo <= hi")
 
-    grids = [np.linspace(b.lo_mhz, b.hi_mhz, npts) for b in (*notches, *pass_bands)]
-    freq_hz = np.concatenate(grids) * 1e6
+    bands = (*notches, *pass_bands)
+    sizes = band_sizes(bands, filt, npts, step_rad)
+    freq_hz = np.concatenate([np.linspace(b.lo_mhz, b.hi_mhz, n) for b, n in zip(bands, sizes, strict=True)])
+    freq_hz = freq_hz * 1e6
+    starts = np.concatenate(([0], np.cumsum(sizes)[:-1]))
 
     kinds = filt.kinds
     nominal = filt.lengths_m
@@ -288,15 +328,19 @@ def tolerance(
     notch_worst = np.empty((n_rows, nb))  # worst (least) attenuation over each notch band, dB
     pass_il = np.empty((n_rows, npass))  # worst (most) insertion loss over each pass band, dB
     pass_swr = np.empty((n_rows, npass))
-    shape = (nb + npass, npts)
+    notch_starts, pass_starts = starts[:nb], starts[nb:]
+    pass_from = int(starts[nb]) if npass else freq_hz.size
 
     def reduce(rows, lengths, medium):
         s21, s11 = evaluate_batch(kinds, lengths, medium, freq_hz, zs)
-        m2 = (s21.real**2 + s21.imag**2).reshape(-1, *shape)
-        notch_worst[rows] = -10.0 * np.log10(np.maximum(m2[:, :nb].max(axis=2), 1e-40))
+        m2 = s21.real**2 + s21.imag**2
+        if nb:
+            top = np.maximum.reduceat(m2[:, :pass_from], notch_starts, axis=1)
+            notch_worst[rows] = -10.0 * np.log10(np.maximum(top, 1e-40))
         if npass:
-            pass_il[rows] = -10.0 * np.log10(np.maximum(m2[:, nb:].min(axis=2), 1e-40))
-            r = np.abs(s11.reshape(-1, *shape)[:, nb:]).max(axis=2)
+            low = np.minimum.reduceat(m2[:, pass_from:], pass_starts - pass_from, axis=1)
+            pass_il[rows] = -10.0 * np.log10(np.maximum(low, 1e-40))
+            r = np.maximum.reduceat(np.abs(s11[:, pass_from:]), pass_starts - pass_from, axis=1)
             pass_swr[rows] = swr_from_s11(r)
 
     for b in range(n_bins):

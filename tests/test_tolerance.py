@@ -166,3 +166,51 @@ def test_bad_inputs():
         tolerance(f, [])
     with pytest.raises(DesignError, match="band 1: 7.3-7.0 MHz"):
         tolerance(f, [NotchSpec(lo_mhz=7.3, hi_mhz=7.0, required_db=10)])
+
+
+def test_band_grid_follows_the_phase_swing_across_the_band():
+    # Phase constant beta = 2 pi f / (c VF) (textbook). 25 kHz at 146 MHz on 3 m of VF 0.66
+    # cable: theta = 13.9 rad, swing 13.9 x 25e3 / 146.0125e6 = 0.0024 rad -> edges and centre.
+    from notchkit.tolerance import band_sizes
+
+    cable = get_cable("RG-213")  # VF 0.66
+    f = Filter(elements=(Stub(termination="open", length_m=1.0), Line(length_m=2.0)), cable=cable,
+               tee_allowance_m=0.03)
+    channel = Band(lo_mhz=145.9875, hi_mhz=146.0125)
+    airband = Band(lo_mhz=118.0, hi_mhz=137.0)  # theta 13.05 rad, swing 1.81 rad -> capped
+    narrow_40m = Band(lo_mhz=7.0, hi_mhz=7.3)  # theta 0.695 rad, swing 0.0286 rad -> 4 points
+    assert band_sizes([channel, airband, narrow_40m], f, 11, 0.01) == [3, 11, 4]
+    assert band_sizes([channel, airband], f, 11, None) == [11, 11]
+
+
+def test_channel_grid_gives_the_dense_worst_and_the_same_run_as_a_full_grid():
+    # A 2 m / 70 cm style filter with channel-wide bands and one wide band. Reference: the
+    # worst attenuation over each band from the independent ABCD path on 201 points.
+    cable = get_cable("RG-213")
+    q435 = C * VF / (4 * 435e6)
+    f = Filter(elements=(Stub(termination="open", length_m=q435 + 0.03), Line(length_m=0.7),
+                         Stub(termination="short", length_m=3 * q435 + 0.03)), cable=cable, tee_allowance_m=0.03)
+    notches = [NotchSpec(lo_mhz=434.99, hi_mhz=435.01, required_db=20.0),
+               NotchSpec(lo_mhz=438.0, hi_mhz=438.025, required_db=10.0),
+               NotchSpec(lo_mhz=300.0, hi_mhz=320.0, required_db=1.0)]
+    passes = [Band(lo_mhz=146.0, hi_mhz=146.025)]
+    fast = tolerance(f, notches, pass_bands=passes, samples=400, seed=2)
+    full = tolerance(f, notches, pass_bands=passes, samples=400, seed=2, phase_step_rad=None)
+    assert _same(fast.to_json(), full.to_json())
+    for n in fast.notches[:2]:  # channel-wide: edges and centre are the dense answer
+        assert n.nominal_worst_db == pytest.approx(_worst_db(f, n.lo_mhz, n.hi_mhz, n=201), abs=0.01)
+
+
+def _same(a, b):
+    """Equal JSON documents, floats to 1e-9."""
+    if isinstance(a, dict):
+        assert a.keys() == b.keys()
+        return all(_same(a[k], b[k]) for k in a)
+    if isinstance(a, list):
+        assert len(a) == len(b)
+        return all(_same(x, y) for x, y in zip(a, b, strict=True))
+    if isinstance(a, float):
+        assert a == pytest.approx(b, abs=1e-9)
+        return True
+    assert a == b
+    return True
