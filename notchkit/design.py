@@ -164,7 +164,8 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
 
 
 def design(site: Any, *, progress: Progress | None = None, workers: int | None = None,
-           meanwhile: Callable[[], None] | None = None) -> DesignReport:
+           meanwhile: Callable[[Any], None] | None = None,
+           on_design: Callable[[int, Design], None] | None = None) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
     Parameters
@@ -177,10 +178,16 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         machine's cores when there is more than one filter; ``1`` designs them
         one after another in this process. The results are the same either
         way: every filter's search is deterministic and independent.
-    meanwhile : callable(), optional
-        Called once in this process while the worker processes design (or
-        first, when there are none): :func:`notchkit.plan.plan` imports its
-        PDF machinery then.
+    meanwhile : callable(survey), optional
+        Called once in this process, with the site's
+        :class:`~notchkit.survey.result.Survey`, while the worker processes
+        design (or before the first filter, when there are none):
+        :func:`notchkit.plan.plan` draws its threat pages then.
+    on_design : callable(index, Design), optional
+        Called in this process as each filter is designed (in the order they
+        finish), with its index in the report's ``designs``, after
+        ``meanwhile``: :func:`notchkit.plan.plan` draws each filter's pages
+        while the others are still being designed.
 
     Returns
     -------
@@ -209,10 +216,10 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
 
     def once() -> None:
         if pending:
-            pending.pop()()
+            pending.pop()(sv)
 
     if workers != 1:
-        done = _design_in_processes(jobs, workers, say, once)
+        done = _design_in_processes(jobs, workers, say, once, on_design)
         if done is not None:
             return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     once()
@@ -220,6 +227,8 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                      filter_id=fid, progress=say))
+        if on_design is not None:
+            on_design(i - 1, designs[-1])
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
 
 
@@ -235,7 +244,8 @@ def _one_thread() -> None:
 
 
 def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress,
-                         meanwhile: Callable[[], None]) -> list[Design] | None:
+                         meanwhile: Callable[[], None],
+                         on_design: Callable[[int, Design], None] | None) -> list[Design] | None:
     """Design ``jobs`` in worker processes (:func:`notchkit.parallel.fork_map`), the
     largest requirements first so the workers finish together; ``None`` where
     processes cannot be used."""
@@ -243,9 +253,11 @@ def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress,
 
     order = sorted(range(len(jobs)), key=lambda k: -(len(jobs[k][0].notches) + len(jobs[k][0].pass_bands)))
 
-    def report(i: int, _d: Design, done: int) -> None:
+    def report(i: int, d: Design, done: int) -> None:
         req, fid = jobs[order[i]][0], jobs[order[i]][4]
         say(f"{fid} ({done}/{len(jobs)} done): {req.side} filter at {req.radio}")
+        if on_design is not None:
+            on_design(order[i], d)
 
     results = fork_map(_design_job, [jobs[k] for k in order], processes=workers, initializer=_one_thread,
                        meanwhile=meanwhile, on_result=report)

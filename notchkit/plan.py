@@ -78,22 +78,68 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None
         raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
 
 
-def _run_design(site: Any, images: bool = False) -> Any:
+def _run_design(site: Any, images: bool = False, under_way: _UnderWay | None = None) -> Any:
     from notchkit.design import design
 
-    return design(site, meanwhile=_import_image_machinery if images else _import_pdf_machinery)
+    if under_way is None:
+        return design(site)
+    return design(site, meanwhile=under_way.start, on_design=under_way.add)
 
 
-def _import_pdf_machinery() -> None:
-    """Import the PDF writer while the filters are being designed."""
-    import reportlab.pdfgen.canvas  # noqa: F401
+class _UnderWay:
+    """The plan's PDF while the filters are designed (in worker processes).
+
+    :meth:`start` runs once the survey is done and the workers are designing:
+    it imports the PDF writer (and matplotlib, for --html / --outdir) and draws
+    the threat and caution pages. :meth:`add` runs here as each design arrives:
+    it computes the filter's drawing data and curve and draws its pages, so
+    little is left to draw when the last filter is done. Everything drawn is
+    checked against the finished plan's text before it is used
+    (:meth:`notchkit.report.pdf.PlanPdf.matches`).
+    """
+
+    def __init__(self, site: Any, *, units: str, plan_json: str, page_size: str, footer: str,
+                 images: bool) -> None:
+        self.site, self.units, self.plan_json = site, units, plan_json
+        self.page_size, self.footer, self.images = page_size, footer, images
+        self.pdf: Any = None
+        self.parts: dict[int, tuple[Any, Any, Any]] = {}
+
+    def start(self, sv: Any) -> None:
+        from notchkit.report.pdf import PlanPdf, choose_font, strings_of
+        from notchkit.report.text import CAUTIONS, matrix_table, plan_title, threat_table
+
+        if self.images:
+            import matplotlib.backends.backend_agg  # noqa: F401
+            import matplotlib.figure  # noqa: F401
+        matrix, threats = matrix_table(sv), threat_table(sv)
+        # The site's own strings decide the font (only they can hold characters outside
+        # Windows-1252); the finished plan checks the choice.
+        font = choose_font([*strings_of(self.site), str(self.site.path), self.footer,
+                            *strings_of((matrix, threats))])
+        self.pdf = PlanPdf(title=plan_title(self.site.name), font=font, page_size=self.page_size,
+                           footer=self.footer)
+        self.pdf.threats(matrix, threats)
+        self.pdf.cautions(CAUTIONS)
+
+    def add(self, index: int, d: Any) -> None:
+        from notchkit.report.text import filter_text
+
+        if index in self.parts:  # designed again after the worker processes failed: keep the first
+            return
+        self.parts[index] = part = _part(d, self.site)
+        if self.pdf is not None:
+            self.pdf.filter(index, filter_text(d, self.units, self.plan_json), part)
 
 
-def _import_image_machinery() -> None:
-    """Also import matplotlib (about a second) for the PNG images of --html / --outdir."""
-    _import_pdf_machinery()
-    import matplotlib.backends.backend_agg  # noqa: F401
-    import matplotlib.figure  # noqa: F401
+def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
+    """What a filter's page draws besides its text: the filter, its curve and its bands."""
+    from notchkit.report.curves import curve_data
+    from notchkit.report.text import design_filter
+
+    filt = design_filter(d)
+    spans = _spans(d, site)
+    return filt, curve_data(filt, spans[0] + spans[1]), spans
 
 
 def _filter_files(job: tuple) -> tuple[bytes, bytes, str | None]:
@@ -185,10 +231,10 @@ def plan(
         A site file with problems.
     """
     import notchkit
-    from notchkit.report.curves import curve_data, write_curve_csv
+    from notchkit.report.curves import write_curve_csv
     from notchkit.report.files import write_bytes_atomic
     from notchkit.report.pdf import page_size_in, write_pdf
-    from notchkit.report.text import design_filter, design_id, plan_text
+    from notchkit.report.text import design_id, plan_text
 
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
@@ -202,25 +248,26 @@ def plan(
     else:
         _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
 
-    report = _run_design(site, images=html is not None or outdir is not None)
+    date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
+    version = notchkit.__version__
+    json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
+    json_name = str(json_path) if json_path is not None else "OUTDIR/plan.json"
+    footer = f"{site.name} - notch plan {date} - notchkit {version}"
+    images = html is not None or outdir is not None
+    under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
+                          images=images)
+    report = _run_design(site, images=images, under_way=under_way)
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
 
         sv = survey(site)
     designs = _designs(report)
-    date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
-    version = notchkit.__version__
-    json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
-                   plan_json=str(json_path) if json_path is not None else "OUTDIR/plan.json")
-    parts = []
-    for d in designs:
-        filt = design_filter(d)
-        spans = _spans(d, site)
-        parts.append((filt, curve_data(filt, spans[0] + spans[1]), spans))
-    footer = f"{site.name} - notch plan {date} - notchkit {version}"
-    pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer)
+                   plan_json=json_name)
+    parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
+    pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer,
+                                 under_way=under_way.pdf)
 
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:

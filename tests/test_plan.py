@@ -77,7 +77,7 @@ def run(tmp_path_factory):
 def reuse_design(run, monkeypatch):
     """Later runs reuse the module's design report (same site, same result)."""
     report = run["result"].design
-    monkeypatch.setattr(plan_mod, "_run_design", lambda site, images=False: report)
+    monkeypatch.setattr(plan_mod, "_run_design", lambda site, **_kw: report)
     return report
 
 
@@ -275,7 +275,7 @@ def test_cli_prints_summary_and_exit_code_follows_meets(run, reuse_design, tmp_p
 
 @pytest.mark.parametrize("case", ["missing-folder", "directory", "outdir-is-file", "html-missing-folder"])
 def test_unwritable_output_is_exit_2_and_writes_nothing(run, tmp_path, capsys, monkeypatch, case):
-    def boom(site, images=False):  # the check must come before any design work
+    def boom(site, **_kw):  # the check must come before any design work
         raise AssertionError("designed before checking the outputs")
 
     monkeypatch.setattr(plan_mod, "_run_design", boom)
@@ -346,6 +346,9 @@ def test_plan_designed_in_processes_is_the_same_file_as_designed_in_one(tmp_path
         from pathlib import Path
         from pypdf import PdfReader
         from notchkit.plan import plan
+        def _forms(page):
+            x = page["/Resources"].get("/XObject") or {{}}
+            return sorted((str(k), x[k].get_object().get_data()) for k in x)
         plan({str(site)!r}, {str(tmp_path / "two.pdf")!r})
         importlib.import_module("notchkit.parallel").cores = lambda: 1
         plan({str(site)!r}, {str(tmp_path / "one.pdf")!r})
@@ -353,6 +356,7 @@ def test_plan_designed_in_processes_is_the_same_file_as_designed_in_one(tmp_path
         assert len(two.pages) == len(one.pages)
         for a, b in zip(two.pages, one.pages):
             assert a.get_contents().get_data() == b.get_contents().get_data()
+            assert _forms(a) == _forms(b)
         assert one.metadata["/Title"].startswith("Site notch plan"), one.metadata
         assert one.metadata["/Title"] == two.metadata["/Title"]
         print(len(one.pages))
@@ -360,3 +364,78 @@ def test_plan_designed_in_processes_is_the_same_file_as_designed_in_one(tmp_path
     out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=300)
     assert out.returncode == 0, out.stderr
     assert int(out.stdout.strip()) >= 5
+
+
+def _page_streams(data: bytes) -> list[tuple[bytes, list[tuple[str, bytes]]]]:
+    """Every page's content stream and the streams of the forms it draws, as pypdf reads them."""
+    from pypdf import PdfReader
+
+    out = []
+    for page in PdfReader(io.BytesIO(data)).pages:
+        forms = page["/Resources"].get("/XObject") or {}
+        out.append((page.get_contents().get_data(),
+                    sorted((str(k), forms[k].get_object().get_data()) for k in forms)))
+    return out
+
+
+def _parts_and_text(run, title=None):
+    import dataclasses
+
+    result = run["result"]
+    parts = [plan_mod._part(d, None) for d in result.design.designs]
+    pt = result.text
+    if title is not None:
+        # and a character of its own on each filter page (outside Windows-1252 too), so
+        # an embedded subset would number them by the order the pages were drawn in
+        own = ["\u03a9", "\u03bb", "\u0141", "\u017a"]
+        filters = tuple(dataclasses.replace(f, title=f"{f.title} {own[k % 4]}")
+                        for k, f in enumerate(pt.filters))
+        pt = dataclasses.replace(pt, title=title, filters=filters)
+    return pt, parts
+
+
+@pytest.mark.parametrize("title", [None, "Site notch plan: Szczyt \u0141\u00f3d\u017a"])
+def test_pages_drawn_as_designs_arrive_are_the_pages_drawn_at_the_end(run, title):
+    # The plan draws the threat pages first and each filter's pages as its design arrives,
+    # in whatever order the workers finish. The same pages, stream for stream, as the plan
+    # drawn all at the end (pypdf reads both): with the standard font, and with the
+    # embedded one (title outside Windows-1252), whose subsets follow the drawing order.
+    from notchkit.report.pdf import PlanPdf, choose_font, render_pdf, strings_of
+
+    pt, parts = _parts_and_text(run, title)
+    assert len(parts) >= 2
+    footer = "Test Knoll - notch plan"
+    fresh, layout = render_pdf(pt, parts, footer=footer)
+    pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), footer=footer)
+    pdf.threats(pt.matrix, pt.threats)
+    pdf.cautions(pt.cautions)
+    for k in reversed(range(len(parts))):
+        pdf.filter(k, pt.filters[k], parts[k])
+    assert pdf.matches(pt, parts, page_size="a4", footer=footer)
+    streamed, layout2 = render_pdf(pt, parts, footer=footer, under_way=pdf)
+    assert layout2 == layout
+    assert _page_streams(streamed) == _page_streams(fresh)
+    assert len(_page_streams(fresh)) == layout.total
+
+
+def test_pages_drawn_from_other_text_are_drawn_anew(run):
+    # A filter page drawn early from text the finished plan does not print is not used.
+    import dataclasses
+
+    from notchkit.report.pdf import PlanPdf, choose_font, render_pdf, strings_of
+
+    pt, parts = _parts_and_text(run)
+    footer = "Test Knoll - notch plan"
+    pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), footer=footer)
+    pdf.filter(0, dataclasses.replace(pt.filters[0], title="F1: some other filter"), parts[0])
+    assert not pdf.matches(pt, parts, page_size="a4", footer=footer)
+    data, _ = render_pdf(pt, parts, footer=footer, under_way=pdf)
+    assert _page_streams(data) == _page_streams(render_pdf(pt, parts, footer=footer)[0])
+    text = " ".join(p for p in _pdf_text(data))
+    assert "some other filter" not in text and pt.filters[0].title in text
+
+
+def _pdf_text(data: bytes) -> list[str]:
+    from pypdf import PdfReader
+
+    return [" ".join((p.extract_text() or "").split()) for p in PdfReader(io.BytesIO(data)).pages]

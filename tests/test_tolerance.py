@@ -189,7 +189,8 @@ def test_channel_grid_gives_the_dense_worst_and_the_same_run_as_a_full_grid():
     cable = get_cable("RG-213")
     q435 = C * VF / (4 * 435e6)
     f = Filter(elements=(Stub(termination="open", length_m=q435 + 0.03), Line(length_m=0.7),
-                         Stub(termination="short", length_m=3 * q435 + 0.03)), cable=cable, tee_allowance_m=0.03)
+                         Stub(termination="short", length_m=3 * q435 + 0.03)), cable=cable,
+               tee_allowance_m=0.03)
     notches = [NotchSpec(lo_mhz=434.99, hi_mhz=435.01, required_db=20.0),
                NotchSpec(lo_mhz=438.0, hi_mhz=438.025, required_db=10.0),
                NotchSpec(lo_mhz=300.0, hi_mhz=320.0, required_db=1.0)]

@@ -13,8 +13,9 @@ the same data matplotlib draws for the PNG images
 (:mod:`notchkit.report.sketch`, :func:`notchkit.report.curves.plot_layout`) by
 :mod:`notchkit.report.pdfdraw`.
 
-A dry layout (no canvas) decides every page and its number first
-(:func:`_page_specs`); the pages are then drawn in order.
+Each section's pages are drawn as PDF forms as soon as its data exist, and
+put in order at the end (:class:`PlanPdf`): the plan draws a filter's pages
+while the other filters are still being designed.
 """
 
 from __future__ import annotations
@@ -104,7 +105,7 @@ def _register(font: PdfFont) -> None:
         pdfmetrics.registerFont(TTFont(name, str(folder / file)))
 
 
-def _strings(obj: Any) -> list[str]:
+def strings_of(obj: Any) -> list[str]:
     """Every string inside a (nested) dataclass / tuple, for :func:`choose_font`."""
     out: list[str] = []
     stack = [obj]
@@ -432,16 +433,15 @@ def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
     page.para("Read the cautions page before anyone cuts, climbs or transmits.", 8.0, bold=True)
 
 
-def _threat_pages(new_page: Callable[[], _Page], pt: PlanText, size: float = 7.0) -> list[_Page]:
+def _threat_pages(new_page: Callable[[], _Page], matrix: Table, t: Table, size: float = 7.0) -> list[_Page]:
     pages = [new_page()]
     p = pages[0]
     p.heading("Threats", 13.0)
     msize = 8.0
-    while msize > 5.0 and p.table_height(pt.matrix, msize) > 0.45 * (p.bottom - p.y):
+    while msize > 5.0 and p.table_height(matrix, msize) > 0.45 * (p.bottom - p.y):
         msize -= 0.5
-    p.table(pt.matrix, msize)
+    p.table(matrix, msize)
     p.y += 0.05
-    t = pt.threats
     h0, hs = p.row_heights(t, size)
     i = 0
     first = True
@@ -548,11 +548,11 @@ def _tag_pages(new_page: Callable[[], _Page], tags: Sequence[Tag], per_page: int
     return pages
 
 
-def _cautions(page: _Page, pt: PlanText) -> None:
+def _cautions(page: _Page, cautions: Sequence[tuple[str, str]]) -> None:
     page.heading("Cautions", 14.0)
     page.boxed(["Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs "
                 "or transmits."], 10.0)
-    for head, text in pt.cautions:
+    for head, text in cautions:
         page.para(head, 10.0, bold=True, gap=0.0)
         page.para(text, 9.0, gap=0.12)
 
@@ -604,8 +604,166 @@ def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans:
     return _FIT_STEPS[-1], False
 
 
+class PlanPdf:
+    """The plan's PDF, drawn in parts as their data become known, then put in order.
+
+    The threat pages and the cautions (from the survey) and each filter's
+    page or pages (from its design) are drawn as PDF form XObjects (ISO 32000-1
+    sec. 8.10) the moment their data exist: :func:`notchkit.plan.plan` draws a
+    filter's pages as soon as its design arrives, while the other filters are
+    still being designed in worker processes. :meth:`finish` draws what is
+    still missing, then the cover and the cut labels, and puts every page in
+    order with its footer (``page k of N`` needs the count). A PDF reader shows
+    and extracts a form's text as its page's own.
+
+    With the embedded font a subset's glyph codes follow the order in which
+    characters are first drawn, so there the filters' pages wait for
+    :meth:`finish` and are drawn in their own order: the same plan always gives
+    the same pages, whatever order the designs finished in. (The threat pages
+    are always drawn first, so the standard font's resource names never depend
+    on that order either.)
+    """
+
+    def __init__(self, *, title: str, font: PdfFont, page_size: str = "a4", footer: str = "") -> None:
+        from reportlab.pdfgen.canvas import Canvas
+
+        self.size_in = page_size_in(page_size)
+        self.page_size = page_size
+        self.font = font
+        self.title = title
+        self.footer = footer
+        _register(font)
+        self._buf = io.BytesIO()
+        c = Canvas(self._buf, pagesize=(self.size_in[0] * 72.0, self.size_in[1] * 72.0), pageCompression=1)
+        c.setTitle(title)
+        c.setAuthor("notchkit")
+        c.setSubject("Coaxial stub filter plan for a shared radio site")
+        c.setCreator(footer or "notchkit")
+        c.setProducer("notchkit (ReportLab)")
+        self.c = c
+        self._threats: tuple[Table, Table, tuple[str, ...]] | None = None
+        self._cautions: tuple[tuple[tuple[str, str], ...], tuple[str, ...]] | None = None
+        self._filters: dict[int, tuple[FilterText, Any, tuple[str, ...]]] = {}
+        self._waiting: dict[int, tuple[FilterText, Any]] = {}
+        self._finished = False
+
+    def _forms(self, prefix: str, draw: Callable[[Callable[[], _Page]], Any]) -> tuple[str, ...]:
+        """Pages drawn as forms ``prefix-1``, ``prefix-2``, ...: ``draw`` gets the new-page factory."""
+        c = self.c
+        names: list[str] = []
+
+        def new_page() -> _Page:
+            if names:
+                c.endForm()
+            names.append(f"{prefix}-{len(names) + 1}")
+            c.beginForm(names[-1])
+            return _Page(self.size_in, font=self.font, canvas=c)
+
+        draw(new_page)
+        if names:
+            c.endForm()
+        return tuple(names)
+
+    def threats(self, matrix: Table, threats: Table) -> None:
+        """The threat pages: the transmitter x receiver matrix, then the threat table."""
+        if self._threats is None:
+            names = self._forms("nk-threats", lambda new_page: _threat_pages(new_page, matrix, threats))
+            self._threats = (matrix, threats, names)
+
+    def cautions(self, cautions: tuple[tuple[str, str], ...]) -> None:
+        """The cautions page: (heading, text) pairs."""
+        if self._cautions is None:
+            self._cautions = (cautions, self._forms("nk-cautions", lambda new_page: _cautions(new_page(),
+                                                                                              cautions)))
+
+    def filter(self, index: int, ft: FilterText, part: tuple[Any, Any, Any]) -> None:
+        """Filter ``index``'s page(s) (0-based; ``part`` is (filter, CurveData, spans)): drawn
+        now with the standard font, at :meth:`finish` with the embedded one. The first copy
+        given for an index is kept."""
+        if index in self._filters or index in self._waiting:
+            return
+        if self.font.files is not None:
+            self._waiting[index] = (ft, part)
+        else:
+            self._draw_filter(index, ft, part)
+
+    def _draw_filter(self, index: int, ft: FilterText, part: tuple[Any, Any, Any]) -> None:
+        filt, curve, spans = part
+        step, one_page = _fit_filter(self.size_in, ft, curve, spans, filt, self.font)
+
+        def draw(new_page: Callable[[], _Page]) -> None:
+            for which in ("all",) if one_page else ("first", "rest"):
+                _filter_page(new_page(), ft, curve, spans, filt, *step, part=which)
+
+        self._filters[index] = (ft, part, self._forms(f"nk-filter{index + 1}", draw))
+
+    def matches(self, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str,
+                footer: str) -> bool:
+        """Whether everything drawn so far is what ``pt`` prints (same font, title, tables,
+        filter texts and the very same curve data), so :meth:`finish` may use it."""
+        if self._finished or page_size != self.page_size or footer != self.footer or pt.title != self.title:
+            return False
+        if choose_font(strings_of(pt) + [footer]) is not self.font:
+            return False
+        if self._threats is not None and self._threats[:2] != (pt.matrix, pt.threats):
+            return False
+        if self._cautions is not None and self._cautions[0] != pt.cautions:
+            return False
+        done = {**{k: v[:2] for k, v in self._filters.items()}, **self._waiting}
+        return all(k < len(pt.filters) and ft == pt.filters[k] and part is filter_parts[k]
+                   for k, (ft, part) in done.items())
+
+    def finish(self, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]]) -> tuple[bytes, PdfLayout]:
+        """Draw what is missing, put every page in order with its footer and return the file.
+
+        The parts drawn before must match ``pt`` (:meth:`matches`); a :class:`PlanPdf`
+        is finished once.
+        """
+        from reportlab import rl_config
+
+        if self._finished:
+            raise RuntimeError("this PlanPdf is finished already")
+        self._finished = True
+        self.threats(pt.matrix, pt.threats)
+        self.cautions(pt.cautions)
+        for k in sorted(self._waiting):
+            self._draw_filter(k, *self._waiting[k])
+        self._waiting.clear()
+        for k, (ft, part) in enumerate(zip(pt.filters, filter_parts, strict=True)):
+            if k not in self._filters:
+                self._draw_filter(k, ft, part)
+        assert self._threats is not None and self._cautions is not None
+        per = tags_per_page(self.page_size)
+        label_starts = list(range(0, max(len(pt.tags), 1), per))
+        filter_forms = [n for k in range(len(pt.filters)) for n in self._filters[k][2]]
+        pages: list[str | int | None] = [None, *self._threats[2], *filter_forms, *label_starts,
+                                         *self._cautions[1]]
+        c = self.c
+        for k, what in enumerate(pages, start=1):
+            page = _Page(self.size_in, font=self.font, canvas=c)
+            if what is None:
+                _cover(page, pt)
+            elif isinstance(what, int):  # the cut labels from tag ``what`` on
+                _tag_pages(lambda page=page: page, pt.tags[what:what + per], per)
+            else:
+                c.saveState()
+                c.doForm(what)
+                c.restoreState()
+            _footer(page, self.footer or pt.title, k, len(pages))
+            c.showPage()
+        a85 = rl_config.useA85
+        rl_config.useA85 = 0  # compressed streams stay binary: ASCII85 in Python was a tenth of the time
+        try:
+            c.save()
+        finally:
+            rl_config.useA85 = a85
+        layout = PdfLayout(cover=1, threats=len(self._threats[2]), filters=len(filter_forms),
+                           labels=len(label_starts), cautions=len(self._cautions[1]))
+        return self._buf.getvalue(), layout
+
+
 def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
-               footer: str = "") -> tuple[bytes, PdfLayout]:
+               footer: str = "", under_way: PlanPdf | None = None) -> tuple[bytes, PdfLayout]:
     """Render the plan to PDF bytes.
 
     Parameters
@@ -617,106 +775,27 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
     page_size : {"a4", "letter"}
     footer : str
         Left footer text of every page.
+    under_way : PlanPdf, optional
+        A plan whose parts were drawn as their data arrived; it is finished when
+        what it drew :meth:`~PlanPdf.matches` ``pt``, else the plan is drawn anew.
 
     Returns
     -------
     bytes, PdfLayout
     """
-    from reportlab import rl_config
-
-    size_in = page_size_in(page_size)
-    font = choose_font(_strings(pt) + [footer])
-    _register(font)
-    specs = _page_specs(pt, filter_parts, size_in, page_size, font)
-    a85 = rl_config.useA85
-    rl_config.useA85 = 0  # compressed streams stay binary: ASCII85 in Python was a tenth of the time
-    try:
-        data = _draw(specs, pt, filter_parts, size_in, page_size, font, footer)
-    finally:
-        rl_config.useA85 = a85
-    count = {sec: sum(1 for s in specs if s.section == sec) for sec in ("threats", "filter", "labels")}
-    layout = PdfLayout(cover=1, threats=count["threats"], filters=count["filter"], labels=count["labels"],
-                       cautions=1)
-    return data, layout
-
-
-def _draw(specs, pt, filter_parts, size_in, page_size, font, footer) -> bytes:
-    from reportlab.pdfgen.canvas import Canvas
-
-    buf = io.BytesIO()
-    c = Canvas(buf, pagesize=(size_in[0] * 72.0, size_in[1] * 72.0), pageCompression=1)
-    c.setTitle(pt.title)
-    c.setAuthor("notchkit")
-    c.setSubject("Coaxial stub filter plan for a shared radio site")
-    c.setCreator(footer or "notchkit")
-    c.setProducer("notchkit (ReportLab)")
-    for k, spec in enumerate(specs):
-        page = _build_page(spec, pt, filter_parts, size_in, page_size, font, c)
-        _footer(page, footer or pt.title, k + 1, len(specs))
-        c.showPage()
-    c.save()
-    return buf.getvalue()
-
-
-@dataclass(frozen=True, slots=True)
-class _PageSpec:
-    """One page of the plan, decided by the dry layout: which section, and what of it."""
-
-    section: str  # "cover", "threats", "filter", "labels", "cautions"
-    index: int = 0  # threat page number, filter number, or first label
-    part: str = "all"  # a filter page: "all", "first" or "rest"
-    step: tuple[float, float, float] = _FIT_STEPS[0]  # a filter page: body size, drawing and curve heights
-
-
-def _page_specs(pt: PlanText, filter_parts, size_in, page_size, font) -> list[_PageSpec]:
-    """Every page in order, from a dry layout (nothing drawn)."""
-    specs = [_PageSpec("cover")]
-    n_threat = len(_threat_pages(lambda: _Page(size_in, dry=True, font=font), pt))
-    specs += [_PageSpec("threats", i) for i in range(n_threat)]
-    for k, (ft, (filt, curve, spans)) in enumerate(zip(pt.filters, filter_parts, strict=True)):
-        step, one_page = _fit_filter(size_in, ft, curve, spans, filt, font)
-        parts = ("all",) if one_page else ("first", "rest")
-        specs += [_PageSpec("filter", k, part, step) for part in parts]
-    per = tags_per_page(page_size)
-    specs += [_PageSpec("labels", start) for start in range(0, max(len(pt.tags), 1), per)]
-    specs.append(_PageSpec("cautions"))
-    return specs
-
-
-def _build_page(spec: _PageSpec, pt: PlanText, filter_parts, size_in, page_size, font, canvas) -> _Page:
-    """Draw the page ``spec`` describes on ``canvas``."""
-    if spec.section == "cover":
-        page = _Page(size_in, font=font, canvas=canvas)
-        _cover(page, pt)
-        return page
-    if spec.section == "threats":
-        made = []
-
-        def new_page() -> _Page:  # only the wanted page draws; the others stay dry
-            made.append(_Page(size_in, dry=len(made) != spec.index, font=font, canvas=canvas))
-            return made[-1]
-
-        _threat_pages(new_page, pt)
-        return made[spec.index]
-    if spec.section == "filter":
-        ft = pt.filters[spec.index]
-        filt, curve, spans = filter_parts[spec.index]
-        page = _Page(size_in, font=font, canvas=canvas)
-        _filter_page(page, ft, curve, spans, filt, *spec.step, part=spec.part)
-        return page
-    if spec.section == "labels":
-        per = tags_per_page(page_size)
-        tags = pt.tags[spec.index:spec.index + per]
-        return _tag_pages(lambda: _Page(size_in, font=font, canvas=canvas), tags, per)[0]
-    page = _Page(size_in, font=font, canvas=canvas)
-    _cautions(page, pt)
-    return page
+    page_size_in(page_size)
+    pdf = under_way
+    if pdf is None or not pdf.matches(pt, filter_parts, page_size=page_size, footer=footer):
+        pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), page_size=page_size,
+                      footer=footer)
+    return pdf.finish(pt, filter_parts)
 
 
 def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *,
-              page_size: str = "a4", footer: str = "") -> tuple[Path, PdfLayout]:
+              page_size: str = "a4", footer: str = "", under_way: PlanPdf | None = None
+              ) -> tuple[Path, PdfLayout]:
     """Render with :func:`render_pdf` and write the file atomically."""
-    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer)
+    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer, under_way=under_way)
     return write_bytes_atomic(path, data), layout
 
 

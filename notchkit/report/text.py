@@ -481,6 +481,11 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
 # ---------------------------------------------------------------- the whole plan
 
 
+def plan_title(site_name: str) -> str:
+    """The plan's title (its cover heading and the PDF's title)."""
+    return f"Site notch plan: {site_name}"
+
+
 def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version: str,
               units: str = "both", plan_json: str = "PLAN.json") -> PlanText:
     """Build every row of the plan from the site, the survey and the designs."""
@@ -522,7 +527,7 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
         f"{n_stubs} stubs; " + (f"{len(unmet)} filter(s) {NOT_MET}." if unmet else verdict_line),
     )
     return PlanText(
-        site_name=site.name, title=f"Site notch plan: {site.name}", cover_facts=facts, unmet=unmet,
+        site_name=site.name, title=plan_title(site.name), cover_facts=facts, unmet=unmet,
         summary=summary, filters_table=filters_table, matrix=matrix_table(sv), threats=threat_table(sv),
         filters=ftexts, tags=tags(designs, units), cautions=CAUTIONS, meets=not unmet,
         verdict=verdict_line[:1].upper() + verdict_line[1:],
