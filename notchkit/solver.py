@@ -247,6 +247,7 @@ class _Problem:
         self.evaluated = 0
 
     def _grid(self, *, base: int, rel: float, cap: int) -> _Grid:
+        # The pass-band points first, then the notch points: margins() takes both as slices.
         freqs: list[np.ndarray] = []
         pass_cols: list[np.ndarray] = []
         notch_cols: list[np.ndarray] = []
@@ -294,19 +295,28 @@ class _Problem:
         return evaluate_batch(kinds, lengths, self.cable, grid.freq_hz, self.z_system)
 
     def margins(self, s21: np.ndarray, s11: np.ndarray, grid: _Grid) -> np.ndarray:
-        """Normalised margins (dB of rejection equivalent), one column per check."""
+        """Normalised margins (dB of rejection equivalent), one column per check.
+
+        The grid holds the pass-band points first, then the notch points
+        (:meth:`_grid`), so each part is a slice, written straight into its columns.
+        """
         att = -db20(s21)
-        parts = [att[:, grid.notch_idx] - grid.notch_req[None, :]]
-        if grid.pass_idx.size:
-            p_att = att[:, grid.pass_idx]
-            p_rl = -db20(s11[:, grid.pass_idx])  # return loss matters in the pass bands only
+        n_pass = grid.pass_idx.size
+        m = np.empty((att.shape[0], grid.n_notch_cols + 2 * n_pass))
+        np.subtract(att[:, n_pass:], grid.notch_req, out=m[:, :grid.n_notch_cols])
+        if n_pass:
+            p_rl = -db20(s11[:, :n_pass])  # return loss matters in the pass bands only
             # per pass band: its IL columns, then its RL columns
             bounds = grid.pass_bounds
+            col = grid.n_notch_cols
             for i in range(len(self.passes)):
-                sl = slice(bounds[i], bounds[i + 1])
-                parts.append(IL_WEIGHT * (self.il_max - p_att[:, sl]))
-                parts.append(p_rl[:, sl] - self.rl_req)
-        return np.concatenate(parts, axis=1)
+                lo, hi = int(bounds[i]), int(bounds[i + 1])
+                il = m[:, col:col + hi - lo]
+                np.subtract(self.il_max, att[:, lo:hi], out=il)
+                il *= IL_WEIGHT
+                np.subtract(p_rl[:, lo:hi], self.rl_req, out=m[:, col + hi - lo:col + 2 * (hi - lo)])
+                col += 2 * (hi - lo)
+        return m
 
     def cable_used(self, kinds: tuple[str, ...], lengths: np.ndarray) -> np.ndarray:
         lengths = np.atleast_2d(lengths)
