@@ -103,6 +103,9 @@ def compile_bytecode() -> None:
 
 
 def main(argv: list[str]) -> None:
+    if argv and argv[0] in ("-h", "--help"):
+        print(__doc__)
+        return
     site = Path(argv[0]) if argv else largest_site()
     runs = int(argv[1]) if len(argv) > 1 else 3
     from notchkit.site import load_site
