@@ -62,6 +62,8 @@ def phases(site: Path) -> None:
     from notchkit.site import load_site
 
     plan_mod = importlib.import_module("notchkit.plan")
+    import reportlab.pdfgen.canvas  # noqa: F401  (the plan imports it while the workers design)
+
     from notchkit.report.curves import curve_data
     from notchkit.report.html import filter_images
     from notchkit.report.pdf import render_pdf

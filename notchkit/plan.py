@@ -78,7 +78,7 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None
         raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
 
 
-def _run_design(site: Any, images: bool = False, under_way: _UnderWay | None = None) -> Any:
+def _run_design(site: Any, under_way: _UnderWay | None = None) -> Any:
     from notchkit.design import design
 
     if under_way is None:
@@ -256,7 +256,7 @@ def plan(
     images = html is not None or outdir is not None
     under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
                           images=images)
-    report = _run_design(site, images=images, under_way=under_way)
+    report = _run_design(site, under_way=under_way)
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
