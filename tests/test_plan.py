@@ -57,10 +57,12 @@ def _sha(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
-def _pdf_pages(path: Path) -> list[str]:
+def _pdf_pages(src: Path | bytes) -> list[str]:
+    """Each page's text (from a file or from PDF bytes), as pypdf extracts it."""
     from pypdf import PdfReader
 
-    return [" ".join((p.extract_text() or "").split()) for p in PdfReader(str(path)).pages]
+    reader = PdfReader(io.BytesIO(src) if isinstance(src, bytes) else str(src))
+    return [" ".join((p.extract_text() or "").split()) for p in reader.pages]
 
 
 @pytest.fixture(scope="module")
@@ -431,11 +433,5 @@ def test_pages_drawn_from_other_text_are_drawn_anew(run):
     assert not pdf.matches(pt, parts, page_size="a4", footer=footer)
     data, _ = render_pdf(pt, parts, footer=footer, under_way=pdf)
     assert _page_streams(data) == _page_streams(render_pdf(pt, parts, footer=footer)[0])
-    text = " ".join(p for p in _pdf_text(data))
+    text = " ".join(_pdf_pages(data))
     assert "some other filter" not in text and pt.filters[0].title in text
-
-
-def _pdf_text(data: bytes) -> list[str]:
-    from pypdf import PdfReader
-
-    return [" ".join((p.extract_text() or "").split()) for p in PdfReader(io.BytesIO(data)).pages]
