@@ -334,6 +334,20 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=None,
             doc="Most cable in one filter, in metres; default: no limit.",
         ),
+        "yield_target_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=100.0, unit="%"),
+            default=m.DEFAULT_YIELD_TARGET_PCT,
+            doc="Share of simulated builds (the build model of docs/design.md) a filter must meet "
+            "its requirements in, in percent.",
+        ),
+        "margin_goal_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=60.0, unit="dB"),
+            default=m.DEFAULT_MARGIN_GOAL_DB,
+            doc="Notch margin the solver prefers (before less cable) among designs at the yield "
+            "target, in dB.",
+        ),
     },
     "allowances": {
         "tee_allowance_m": Field(
@@ -360,6 +374,48 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=None,
             doc="Velocity-factor spread for tolerance runs; default: the cable's published "
             "tolerance, else 0.01.",
+        ),
+        "trim_step_mm": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=50.0, unit="mm", length_unit_m=0.001),
+            default=m.DEFAULT_TRIM_STEP_MM,
+            doc="Last trim step near a stub's target resonance, in millimetres.",
+        ),
+        "trim_freq_error_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=10.0, unit="%"),
+            default=m.DEFAULT_TRIM_FREQ_ERROR_PCT,
+            doc="How closely the analyser reads a stub's resonance, in percent (+-).",
+        ),
+        "drift_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=10.0, unit="%"),
+            default=m.DEFAULT_DRIFT_PCT,
+            doc="Drift of every electrical length after building (temperature, age), in percent (+-).",
+        ),
+        "min_stub_cut_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=2.0, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_MIN_STUB_CUT_M,
+            doc="Shortest stub cable that can be made (plug body plus cable to finish and trim), in metres.",
+        ),
+        "min_line_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=2.0, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_MIN_LINE_M,
+            doc="Shortest line section of cable between two tees (a plug at each end), in metres.",
+        ),
+        "analyser_lo_mhz": Field(
+            kind="number",
+            num=_FREQ,
+            default=m.DEFAULT_ANALYSER_MHZ[0],
+            doc="Lowest frequency of the analyser stubs are trimmed on, in MHz.",
+        ),
+        "analyser_hi_mhz": Field(
+            kind="number",
+            num=_FREQ,
+            default=m.DEFAULT_ANALYSER_MHZ[1],
+            doc="Highest frequency of the analyser stubs are trimmed on, in MHz.",
         ),
     },
     "cable": {
