@@ -902,7 +902,8 @@ def _ranked(found: list[_Verified], target: float, margin_goal_db: float = 0.0) 
     pick: dict[int, tuple[float, float]] = {}
     for n, group in groups.items():
         goal = min(margin_goal_db, max(_notch_margin(v) for v in group))
-        pick[n] = (goal, min(v.filt.total_cable_m for v in group if _notch_margin(v) >= goal - MARGIN_GOAL_SLACK_DB))
+        pick[n] = (goal, min(v.filt.total_cable_m for v in group
+                             if _notch_margin(v) >= goal - MARGIN_GOAL_SLACK_DB))
     return sorted(found, key=lambda v: _rank_key(v, target, pick))
 
 
@@ -950,10 +951,32 @@ def _lower_loss_cable(cable: Medium, freq_hz: float) -> tuple[str, float, float]
     return best[0], best[1] * to_db100, own * to_db100
 
 
+STUB_CEILING_DB = (30.0, 45.0)
+"""What one stub notches at most in practice on real cable, dB (common practice): a
+notch deeper than this, or a shortfall of :data:`LARGE_SHORTFALL_DB`, calls for
+another class of remedy."""
+LARGE_SHORTFALL_DB = 10.0
+
+
+def remedy_class_advice(missing_db: float, required_db: float, where: str) -> str:
+    """The advice when stubs cannot do it: the classes of remedy and the stubs' ceiling."""
+    lo, hi = STUB_CEILING_DB
+    return (f"{where}: {missing_db:.1f} dB short of {required_db:.1f} dB is more than stubs can close: one "
+            f"stub notches about {lo:.0f}-{hi:.0f} dB in practice, and each further stub adds less while the "
+            f"pass band pays; use another class of remedy: a band-pass filter or a cavity filter at the "
+            f"radio, more antenna spacing (vertical separation isolates best), or time-sharing (the two "
+            f"radios never on the air at once)")
+
+
 def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
     if v.meets:
         return ()
     out = []
+    for r in v.notches:
+        deep = r.required_db > STUB_CEILING_DB[1] * max(1, len(v.filt.stubs))
+        if not r.meets and (-r.margin_db >= LARGE_SHORTFALL_DB or deep):
+            out.append(remedy_class_advice(-r.margin_db, r.required_db,
+                                           f"notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz"))
     n_stubs = len(v.filt.stubs)
     if stubs_tried >= p.limits.max_stubs:
         out.append(f"allow another stub: no design with up to {p.limits.max_stubs} stub(s) meets every "
@@ -1200,6 +1223,8 @@ __all__: Sequence[str] = [
     "NotchResult",
     "Shortfall",
     "Alternative",
+    "remedy_class_advice",
+    "STUB_CEILING_DB",
     "MIN_CUT_M",
     "MIN_LINE_M",
     "DEFAULT_CABLE_WAVELENGTHS",

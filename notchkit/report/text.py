@@ -301,53 +301,78 @@ def _short(s: str, n: int) -> str:
 
 
 def cut_table(d: Any, units: str = "both") -> Table:
-    """Stub, cable, termination, cut length, first cut, trim rate, target resonance."""
+    """Every piece to cut, stubs then line sections: first cut, final length, trim target."""
     cable = design_cable_name(d)
-    header: list[str] = ["Stub", "Cable", "End"]
-    align: list[str] = ["left", "left", "left"]
-    widths: list[float] = [0.8, 0.8, 0.55]
+    header: list[str] = ["Part", "Cable", "Kind", "First cut"]
+    align: list[str] = ["left", "left", "left", "right"]
+    widths: list[float] = [0.8, 0.8, 0.7, 1.7 if units == "both" else 0.9]
     if units in ("metric", "both"):
-        header += ["Cut (mm)"]
+        header += ["Final (mm)"]
         align += ["right"]
         widths += [0.75]
     if units in ("imperial", "both"):
-        header += ["Cut (in)"]
+        header += ["Final (in)"]
         align += ["right"]
         widths += [0.95]
-    header += ["First cut", "Trim (mm/MHz)", "Resonance (MHz)", "Tee"]
-    align += ["right", "right", "right", "right"]
-    widths += [1.7 if units == "both" else 0.9, 0.9, 1.0, 0.4]
+    header += ["Trim to (MHz)", "Trim (mm/MHz)", "Tee"]
+    align += ["right", "right", "right"]
+    widths += [1.0, 0.9, 0.5]
     rows = []
-    for c in d.cuts:
-        row = [c.stub_id, cable, c.termination]
+
+    def finals(length_m: float) -> list[str]:
+        out = []
         if units in ("metric", "both"):
-            row.append(format_length(c.cut_length_m, "metric").removesuffix(" mm"))
+            out.append(format_length(length_m, "metric").removesuffix(" mm"))
         if units in ("imperial", "both"):
-            row.append(format_length(c.cut_length_m, "imperial").removesuffix(" in"))
-        row += [format_length(c.first_cut_m, units), f"{c.trim_rate_mm_per_mhz:.1f}",
-                mhz(round(c.resonance_mhz, 4)), str(c.tee)]
-        rows.append(tuple(row))
+            out.append(format_length(length_m, "imperial").removesuffix(" in"))
+        return out
+
+    for c in d.cuts:
+        target = (f"{mhz(round(c.resonance_mhz, 4))} ({c.resonance_kind})" if getattr(c, "trimmable", True)
+                  else "cut, no trim")
+        rows.append((c.stub_id, cable, f"{c.termination} stub", format_length(c.first_cut_m, units),
+                     *finals(c.cut_length_m), target, f"{c.trim_rate_mm_per_mhz:.1f}", str(c.tee)))
+    for x in getattr(d, "lines", ()) or ():
+        a, b = x.between_tees
+        rows.append((x.line_id, cable, "line section", format_length(x.length_m, units), *finals(x.length_m),
+                     "cut, no trim", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
+    hardware = list(getattr(d, "hardware", ()) or ())
+    note = ("First cut: cut this long, fit the connector, then trim to the resonance on an analyser "
+            "(series: a notch through the tee; parallel: the stub alone looks open); final: about what "
+            "is left. Line sections are cut to length: cable with a plug at each end.")
+    if hardware:
+        note += " Hardware: " + " ".join(h[:1].upper() + h[1:] + "." for h in hardware)
     return Table(
-        title="Cut list (cut length: connector reference to end; tee allowance already taken off)",
-        header=tuple(header), rows=tuple(rows), align=tuple(align), widths=tuple(widths),
+        title="Cut list (lengths from the connector's reference plane to the end; tee allowance already "
+              "taken off)",
+        header=tuple(header), rows=tuple(rows), align=tuple(align), widths=tuple(widths), note=note,
     )
 
 
 def tolerance_lines(d: Any) -> tuple[str, ...]:
     """The tolerance run in two lines; per-band shares are in the requirements table."""
+    from notchkit.tolerance import model_text
+
     t = getattr(d, "tolerance", None)
     if t is None:
         return ("Tolerance: not computed for this filter.",)
+    target = getattr(d, "yield_target", None)
+    aim = "" if target is None else f" (target {100.0 * target:g} %)"
     out = [
-        f"Probability of meeting every requirement: {pct(t.probability_all)} of {t.samples} simulated builds "
-        f"(every piece cut within +-{t.cut_tolerance_mm:g} mm, {t.cut_distribution}; velocity factor "
-        f"{t.vf_nominal:g} +-{t.vf_spread:g}; seed {t.seed})."
+        f"Build yield: {pct(t.probability_all)} of {t.samples} simulated builds meet every requirement{aim}; "
+        f"the build: {model_text(t)}; seed {t.seed}."
     ]
     sens = [(s, n) for n in t.notches for s in n.sensitivity]
     if sens:
         s, n = max(sens, key=lambda x: abs(x[0].db_per_mm))
         out.append(f"Most sensitive: {s.element_id}, {s.db_per_mm:+.2f} dB per mm of length in the notch "
                    f"{band_text(n.lo_mhz, n.hi_mhz)} (95 % of builds give >= {n.p05_worst_db:.1f} dB there).")
+    alts = getattr(getattr(d, "solution", None), "alternatives", ()) or ()
+    for a in alts[:3]:
+        y = DASH if a.build_yield is None else pct(a.build_yield)
+        out.append(f"Alternative: {a.n_stubs} stub(s), {a.total_cable_m:.2f} m of cable, notch margin "
+                   f"{a.margin_db:+.1f} dB, build yield {y}{'' if a.meets else ' (does not meet)'}: "
+                   f"{a.arrangement}.")
     return tuple(out)
 
 
@@ -414,12 +439,12 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     stub_labels = []
     for c in d.cuts:
         if units == "both":
-            length = (f"{format_length(c.cut_length_m, 'metric')}\n"
-                      f"{format_length(c.cut_length_m, 'imperial')}")
+            length = (f"first cut {format_length(c.first_cut_m, 'metric')}\n"
+                      f"({format_length(c.first_cut_m, 'imperial')})")
         else:
-            length = format_length(c.cut_length_m, units)
+            length = f"first cut {format_length(c.first_cut_m, units)}"
         stub_labels.append(f"{c.stub_id} {c.termination}\n{length}")
-    line_labels = [f"{i}: {format_length(e.length_m, units)}"
+    line_labels = [f"{i} line section: {format_length(e.length_m, units)}"
                    for i, e in zip(ids, filt.elements, strict=True) if e.kind == "line"]
     cable = getattr(filt, "cable", None)
     vf = getattr(cable, "velocity_factor", None)
@@ -429,7 +454,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     facts = [f"Location: {_location(req)}.",
              f"{len(stub_ids)} stub(s) on {len(filt.tees())} tee(s); "
              f"cable used {format_length(filt.total_cable_m, units)}."]
-    advice = getattr(getattr(d, "solution", None), "advice", None) or getattr(d, "advice", None) or ()
+    advice = getattr(d, "advice", None) or getattr(getattr(d, "solution", None), "advice", None) or ()
     if isinstance(advice, str):
         advice = (advice,)
     advice = [str(a) for a in advice]
@@ -439,8 +464,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     is_tx = getattr(req, "side", None) == "tx"
     return FilterText(
         filter_id=design_id(d), title=design_title(d), meets=meets,
-        verdict=(_met_verdict(d) if meets else
-                 f"{NOT_MET}: this filter does not meet every requirement (see the table below)."),
+        verdict=(_met_verdict(d) if meets else _unmet_verdict(d)),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
         tolerance=tolerance_lines(d), power=power_table(d), power_lines=power_lines(d),
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
@@ -450,12 +474,30 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     )
 
 
+def build_yield_text(d: Any) -> str:
+    """``"98.5 %"`` (the build yield), or ``-`` when there is none."""
+    t = getattr(d, "tolerance", None)
+    return DASH if t is None else pct(t.probability_all)
+
+
 def _met_verdict(d: Any) -> str:
     t = getattr(d, "tolerance", None)
     if t is None:
         return "Meets every requirement."
-    return (f"Meets every requirement as designed; {pct(t.probability_all)} of simulated builds do "
+    return (f"Meets every requirement as designed; build yield {pct(t.probability_all)} of simulated builds "
             "(see Tolerance).")
+
+
+def _unmet_verdict(d: Any) -> str:
+    sol = getattr(d, "solution", None)
+    t = getattr(d, "tolerance", None)
+    if getattr(sol, "meets", False) and t is not None:
+        target = getattr(d, "yield_target", None)
+        aim = "" if target is None else f" (target {100.0 * target:g} %)"
+        problems = getattr(d, "build_problems", ()) or ()
+        why = "a part cannot be built" if problems else f"build yield only {pct(t.probability_all)}{aim}"
+        return f"{NOT_MET}: meets as designed, but {why} (see the advice and Tolerance)."
+    return f"{NOT_MET}: this filter does not meet every requirement (see the table below)."
 
 
 # ---------------------------------------------------------------- labels
@@ -468,12 +510,23 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
         req = d.requirement
         where = f"{req.side} {req.radio}" if getattr(req, "radio", None) else ""
         for c in d.cuts:
+            trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz ({c.resonance_kind}), "
+                    f"about {format_length(c.cut_length_m, units)}" if getattr(c, "trimmable", True)
+                    else "do not trim (no resonance in the analyser's range)")
             out.append(Tag(stub_id=c.stub_id, lines=(
                 f"{c.stub_id}   {design_id(d)} {where}".rstrip(),
                 f"{cable}, {c.termination} end, tee {c.tee}",
-                f"CUT {format_length(c.cut_length_m, units)}",
-                f"first cut {format_length(c.first_cut_m, units)}",
-                f"target resonance {mhz(round(c.resonance_mhz, 4))} MHz",
+                f"FIRST CUT {format_length(c.first_cut_m, units)}",
+                trim,
+                f"{c.trim_rate_mm_per_mhz:.1f} mm per MHz raises the resonance",
+            )))
+        for x in getattr(d, "lines", ()) or ():
+            out.append(Tag(stub_id=x.line_id, lines=(
+                f"{x.line_id}   {design_id(d)} {where}".rstrip(),
+                f"{cable}, line section {x.where}",
+                f"CUT {format_length(x.length_m, units)}",
+                "cut to length, do not trim",
+                "a plug at each end",
             )))
     return tuple(out)
 
@@ -515,11 +568,12 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
     for d, f in zip(designs, ftexts, strict=True):
         req = d.requirement
         rows.append((f.filter_id, _location(req), str(len(d.cuts)), str(len(req.notches)),
-                     str(len(req.pass_bands)), MET if f.meets else NOT_MET))
+                     str(len(req.pass_bands)), MET if f.meets else NOT_MET, build_yield_text(d)))
     filters_table = Table(title="Filters", header=("Filter", "Location", "Stubs", "Notches", "Pass bands",
-                                                   "Result"),
-                          rows=tuple(rows), align=("left", "left", "right", "right", "right", "left"),
-                          widths=(0.6, 2.6, 0.6, 0.7, 0.8, 0.9))
+                                                   "Result", "Build yield"),
+                          rows=tuple(rows),
+                          align=("left", "left", "right", "right", "right", "left", "right"),
+                          widths=(0.6, 2.4, 0.6, 0.7, 0.8, 0.9, 0.8))
     verdict_line = ("every filter meets its requirements on the lossy cable model." if designs
                     else "no filter is needed: no threat over the limit calls for a stub.")
     summary = (
