@@ -106,6 +106,7 @@ PASS_CUSHION_DB = 1.0
 further weight, so that the freedom goes to notch margin."""
 MAX_FREQ_RANGE = (1e3, 1e11)
 
+_MATCH_WEIGHT = 0.03  # J per dB of mean pass-band return loss (a tie-breaker for a better match)
 _PASS_SLOPE = 10.0  # weight of pass-band margin beyond PASS_CUSHION_DB
 _SOFT_K = 2.0  # sharpness of the smooth minimum, 1/dB
 _MARGIN_WEIGHT = 0.1
@@ -393,6 +394,11 @@ class _Problem:
         per = np.add.reduceat(e, grid.starts, axis=1)
         soft_worst = -(zmax + np.log(np.maximum(per, 1e-300))) / k
         j = np.sum(np.logaddexp(0.0, -k * soft_worst), axis=1) / k + _MARGIN_WEIGHT * lse_all
+        n_pass = grid.pass_idx.size
+        if n_pass and _MATCH_WEIGHT:
+            # a small preference for a better match in the pass bands, up to 40 dB of return loss
+            rl = -db20(s11[:, :n_pass])
+            j -= _MATCH_WEIGHT * np.mean(np.minimum(rl, 40.0), axis=1)
         over = self.cable_used(kinds, lengths) - self.cable_cap
         j = j + 10.0 * np.logaddexp(0.0, k * over) / k
         worst = np.minimum.reduceat(m, grid.starts, axis=1)
