@@ -37,6 +37,7 @@ from typing import Any
 
 import numpy as np
 
+from notchkit.elements import OPEN, SHORT, element_ids, kind_of
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
 from notchkit.jsonvalues import finite
@@ -50,21 +51,8 @@ DEFAULT_TRIM_MARGIN_PCT = 3.0
 MIN_TRIM_EXTRA_M = 0.010
 """The first cut is never less than this much longer than the cut length."""
 
-END_SHORT = (
-    "shorted end: strip the jacket and fold the braid back, then solder the centre conductor to "
-    "the braid with the shortest possible joint (a long pigtail adds inductance and lengthens the "
-    "stub); seal the end against water"
-)
-END_OPEN = (
-    "open end: cut square and flush (braid and centre conductor at the same plane), make sure no "
-    "braid strand touches the centre conductor, then seal the end against water (the open end "
-    "carries the highest voltage of the stub)"
-)
-DC_SHORT = (
-    "DC path: a shorted stub puts the antenna side at DC ground (good for static drain), but it "
-    "shorts any DC fed up the coax to a masthead preamplifier or remote antenna switch"
-)
-DC_OPEN = "DC path: an open stub does not give the antenna side a DC path to ground"
+END_SHORT, DC_SHORT = SHORT.end_text, SHORT.dc_text  # the kinds own their end and DC texts
+END_OPEN, DC_OPEN = OPEN.end_text, OPEN.dc_text
 
 UNITS = ("metric", "imperial", "both")
 
@@ -192,7 +180,7 @@ def stub_resonance_mhz(
     if not (math.isfinite(length_m) and length_m > 0):
         raise DesignError(f"stub length_m {length_m!r} must be > 0 to have a resonance")
     f1 = C0 * velocity_factor / (4.0 * length_m) / 1e6  # quarter-wave frequency, MHz
-    first = 1 if termination == "open" else 2
+    first = kind_of(termination).first_order
     if not near_mhz:
         return first * f1, first, None
     best: tuple[float, int, float] = (math.inf, first, float(near_mhz[0]))
@@ -316,14 +304,13 @@ def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = 
         for i in idx:
             tee_of[i] = t
     out = []
-    n = 0
+    ids = element_ids(filt, filter_id)
     for i, e in enumerate(filt.elements):
         if isinstance(e, Stub):
             continue
-        n += 1
         before = max((tee_of[j] for j in tee_of if j < i), default=0)
         after = before + 1 if any(j > i for j in tee_of) else 0
-        out.append(LineCut(line_id=f"{filter_id}-L{n}", element_index=i, between_tees=(before, after),
+        out.append(LineCut(line_id=ids[i], element_index=i, between_tees=(before, after),
                            length_m=float(e.length_m), velocity_factor=vf,
                            degrees_at_mhz=tuple((float(f), electrical_degrees(e.length_m, f, vf))
                                                 for f in freq_mhz)))
@@ -444,12 +431,11 @@ def cut_list(
         for i in idx:
             tee_of[i] = t
     cuts = []
-    n = 0
+    ids = element_ids(filt, filter_id)
     for i, e in enumerate(filt.elements):
         if not isinstance(e, Stub):
             continue
-        n += 1
-        sid = f"{filter_id}-S{n}"
+        sid = ids[i]
         cut_m = filt.cut_length_m(e)
         if not cut_m > 0:
             raise DesignError(
@@ -482,8 +468,8 @@ def cut_list(
                 quarter_waves=q,
                 serves_notch_mhz=served,
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
-                end=END_SHORT if e.termination == "short" else END_OPEN,
-                dc_note=DC_SHORT if e.termination == "short" else DC_OPEN,
+                end=e.kind.end_text,
+                dc_note=e.kind.dc_text,
                 resonance_kind=kind,
                 trimmable=in_range,
             )

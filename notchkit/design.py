@@ -23,6 +23,7 @@ from typing import Any
 
 import numpy as np
 
+from notchkit.elements import element_ids
 from notchkit.errors import DesignError, InputError
 from notchkit.filters import Filter, Line, write_touchstone
 from notchkit.jsonvalues import finite
@@ -486,21 +487,18 @@ def _elements_json(d: Design) -> list[dict[str, Any]]:
     filt = d.filter
     cuts = {c.element_index: c for c in d.cuts}
     out = []
-    n_line = 0
-    n_stub = 0
+    ids = element_ids(filt, d.id)
     tee_of = {}
     for t, idx in enumerate(filt.tees(), start=1):
         for i in idx:
             tee_of[i] = t
     for i, e in enumerate(filt.elements):
         if isinstance(e, Line):
-            n_line += 1
-            out.append({"kind": "line", "id": f"{d.id}-L{n_line}", "length_m": _f(e.length_m)})
+            out.append({"kind": "line", "id": ids[i], "length_m": _f(e.length_m)})
             continue
-        n_stub += 1
         item: dict[str, Any] = {
             "kind": "stub",
-            "id": f"{d.id}-S{n_stub}",
+            "id": ids[i],
             "tee": tee_of[i],
             "termination": e.termination,
             "length_m": _f(e.length_m),
