@@ -300,3 +300,13 @@ def test_advice_names_the_remedy_class_when_stubs_cannot_do_it():
     for word in ("band-pass filter", "cavity", "spacing", "time-sharing"):
         assert word in text
     assert f"{STUB_CEILING_DB[0]:.0f}-{STUB_CEILING_DB[1]:.0f} dB" in text
+
+
+def test_an_empty_analyser_range_is_one_clear_line(tmp_path):
+    site = tmp_path / "site.yaml"
+    site.write_text("site: Test Knoll\ncable: RG-213\ntransmitters:\n  - name: a\n    freq_mhz: 146.52\n"
+                    "    power_w: 50\nallowances:\n  analyser_lo_mhz: 500\n  analyser_hi_mhz: 400\n")
+    r = _cli(str(site))
+    assert r.returncode == 2 and r.stdout == ""
+    assert r.stderr.strip() == (f"{site}:9:20: allowances.analyser_hi_mhz: analyser range 500-400 MHz is "
+                                "empty (allowed: analyser_lo_mhz below analyser_hi_mhz)")
