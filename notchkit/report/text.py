@@ -73,6 +73,8 @@ class FilterText:
     cable_label: str
     radio_label: str
     antenna_label: str
+    build_yield: str = "-"
+    """The build yield as printed beside the verdict (``"99.9 %"``), ``-`` when none."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -470,7 +472,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
         line_labels=tuple(line_labels), cable_label=cable_label,
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
-        antenna_label="ANTENNA",
+        antenna_label="ANTENNA", build_yield=build_yield_text(d),
     )
 
 
