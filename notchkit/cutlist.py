@@ -273,9 +273,13 @@ class LineCut:
     length_m: float
     velocity_factor: float
     degrees_at_mhz: tuple[tuple[float, float], ...]
+    barrel: bool = False
+    """A barrel adapter (female-female) joining the two tees: no cable to cut."""
 
     @property
     def name(self) -> str:
+        if self.barrel:
+            return "barrel (female-female adapter, no cable)"
         return "line section (cable, a plug at each end)"
 
     @property
@@ -286,7 +290,7 @@ class LineCut:
 
     def to_json(self) -> dict[str, Any]:
         return {
-            "id": self.line_id, "element_index": self.element_index, "kind": "line",
+            "id": self.line_id, "element_index": self.element_index, "kind": "line", "barrel": self.barrel,
             "name": self.name, "between_tees": list(self.between_tees),
             "length_m": _f(self.length_m), "length_mm": _f(self.length_m * 1000.0),
             "length_in": _f(self.length_m * 1000.0 / MM_PER_INCH),
@@ -296,8 +300,10 @@ class LineCut:
         }
 
 
-def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = "F1") -> tuple[LineCut, ...]:
-    """Every line section of ``filt``, radio side first, with the tees it joins."""
+def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = "F1",
+              barrel_m: float = 0.0) -> tuple[LineCut, ...]:
+    """Every line section of ``filt``, radio side first, with the tees it joins; one
+    ``barrel_m`` long (within 0.1 mm) is a barrel adapter."""
     vf = float(filt.cable.velocity_factor)
     tee_of: dict[int, int] = {}
     for t, idx in enumerate(filt.tees(), start=1):
@@ -313,7 +319,8 @@ def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = 
         out.append(LineCut(line_id=ids[i], element_index=i, between_tees=(before, after),
                            length_m=float(e.length_m), velocity_factor=vf,
                            degrees_at_mhz=tuple((float(f), electrical_degrees(e.length_m, f, vf))
-                                                for f in freq_mhz)))
+                                                for f in freq_mhz),
+                           barrel=barrel_m > 0 and abs(e.length_m - barrel_m) < 1e-4))
     return tuple(out)
 
 
@@ -332,12 +339,13 @@ def hardware_notes(filt: Filter) -> tuple[str, ...]:
 
 
 def buildability(filt: Filter, cuts: Sequence[StubCut], *, min_stub_cut_m: float,
-                 min_line_m: float) -> tuple[str, ...]:
+                 min_line_m: float, barrel_m: float = 0.0) -> tuple[str, ...]:
     """Every part of the filter that breaks a buildability rule, one line each (empty: none).
 
     Rules (docs/cutting.md): a stub's cable is at least ``min_stub_cut_m`` (a plug body
     plus cable to finish and trim); its trim resonance lies in the analyser's range; a
-    line section is at least ``min_line_m`` (cable with a plug at each end).
+    line section is at least ``min_line_m`` (cable with a plug at each end), or is a
+    barrel adapter (``barrel_m`` long).
     """
     out = []
     for c in cuts:
@@ -347,10 +355,10 @@ def buildability(filt: Filter, cuts: Sequence[StubCut], *, min_stub_cut_m: float
                        f"to trim)")
         if not c.trimmable:
             out.append(f"{c.stub_id}: no resonance inside the analyser's range to trim it to")
-    for line in line_cuts(filt):
-        if line.length_m < min_line_m - 1e-6:
+    for line in line_cuts(filt, barrel_m=barrel_m):
+        if line.length_m < min_line_m - 1e-6 and not line.barrel:
             out.append(f"{line.line_id}: {format_length(line.length_m, 'metric')} line section is "
-                       f"shorter than "
+                       f"shorter than a barrel and than "
                        f"{format_length(min_line_m, 'metric')} (cable with a plug at each end)")
     return tuple(out)
 
@@ -564,7 +572,8 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both",
         out.append(f"    {c.dc_note}")
     for x in lines:
         out.append(f"{x.line_id}  {x.name} {x.where}: "
-                   f"CUT {format_length(x.length_m, units)} (cut to length, not trimmed)")
+                   + ("no cable to cut" if x.barrel else
+                      f"CUT {format_length(x.length_m, units)} (cut to length, not trimmed)"))
     for h in hardware:
         out.append(f"hardware: {h}")
     return "\n".join(out)

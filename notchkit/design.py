@@ -178,9 +178,10 @@ def design_filter(
 
     centres = [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches] + [b.centre_mhz for b in req.pass_bands]
     problems = buildability(sol.filter, cuts, min_stub_cut_m=allowances.min_stub_cut_m,
-                            min_line_m=allowances.min_line_m)
+                            min_line_m=allowances.min_line_m, barrel_m=allowances.barrel_m)
     return Design(id=filter_id, requirement=req, solution=sol, cable=cable, cuts=cuts, tolerance=tol,
-                  power=power, lines=line_cuts(sol.filter, freq_mhz=centres, filter_id=filter_id),
+                  power=power, lines=line_cuts(sol.filter, freq_mhz=centres, filter_id=filter_id,
+                                                barrel_m=allowances.barrel_m),
                   hardware=hardware_notes(sol.filter), build_problems=problems,
                   yield_target=float(limits.yield_target_pct) / 100.0)
 

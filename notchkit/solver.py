@@ -106,6 +106,17 @@ PASS_CUSHION_DB = 1.0
 further weight, so that the freedom goes to notch margin."""
 MAX_FREQ_RANGE = (1e3, 1e11)
 
+BARREL = "barrel"
+"""The solver's name for a line section that is a barrel adapter (fixed length
+``allowances.barrel_m``); the filter model and the cut list see a line section."""
+_THROUGH = ("line", BARREL)
+
+
+def _model_kinds(kinds: tuple[str, ...]) -> tuple[str, ...]:
+    """The kinds as the filter model knows them (a barrel is a line section)."""
+    return tuple("line" if k == BARREL else k for k in kinds)
+
+
 _MATCH_WEIGHT = 0.03  # J per dB of mean pass-band return loss (a tie-breaker for a better match)
 _PASS_SLOPE = 10.0  # weight of pass-band margin beyond PASS_CUSHION_DB
 _SOFT_K = 2.0  # sharpness of the smooth minimum, 1/dB
@@ -284,6 +295,7 @@ class _Problem:
         first_res = C0 * vf / (4.0 * float(a.analyser_hi_mhz) * 1e6)
         self.stub_min = max(self.tee + float(a.min_stub_cut_m), first_res)
         self.line_min = float(a.min_line_m)
+        self.barrel = float(getattr(a, "barrel_m", 0.0))
         scan_top = STUB_SCAN_WAVELENGTHS * self.lam_low + self.stub_min
         self.stub_max = max(self.stub_min + 1e-3, min(self.cable_cap + self.tee, scan_top))
         self.line_max = max(self.line_min + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
@@ -337,7 +349,7 @@ class _Problem:
     def evaluate(self, kinds: tuple[str, ...], lengths: np.ndarray, grid: _Grid):
         lengths = np.atleast_2d(lengths)
         self.evaluated += lengths.shape[0]
-        return evaluate_batch(kinds, lengths, self.cable, grid.freq_hz, self.z_system)
+        return evaluate_batch(_model_kinds(kinds), lengths, self.cable, grid.freq_hz, self.z_system)
 
     def margins(self, s21: np.ndarray, s11: np.ndarray, grid: _Grid) -> np.ndarray:
         """Normalised margins (dB of rejection equivalent), one column per check.
@@ -370,7 +382,7 @@ class _Problem:
 
     def cable_used(self, kinds: tuple[str, ...], lengths: np.ndarray) -> np.ndarray:
         lengths = np.atleast_2d(lengths)
-        allow = np.array([0.0 if k == "line" else self.tee for k in kinds])
+        allow = np.array([0.0 if k in _THROUGH else self.tee for k in kinds])
         return np.sum(lengths - allow[None, :], axis=1)
 
     def objective(self, kinds, lengths, grid: _Grid, s21=None, s11=None):
@@ -408,8 +420,10 @@ class _Problem:
     # ---- bounds
 
     def bounds(self, kinds: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
-        lo = np.array([self.line_min if k == "line" else self.stub_min for k in kinds])
-        hi = np.array([self.line_max if k == "line" else self.stub_max for k in kinds])
+        lo = np.array([self.barrel if k == BARREL else self.line_min if k == "line" else self.stub_min
+                       for k in kinds])
+        hi = np.array([self.barrel if k == BARREL else self.line_max if k == "line" else self.stub_max
+                       for k in kinds])
         return lo, hi
 
 
@@ -554,7 +568,7 @@ def _back_susceptance(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray,
     """
     rev_kinds = tuple(reversed(kinds))
     rev = np.atleast_2d(np.asarray(lengths, dtype=float))[:, ::-1]
-    _, s11 = evaluate_batch(rev_kinds, rev, p.cable, freq_hz, p.z_system)
+    _, s11 = evaluate_batch(_model_kinds(rev_kinds), rev, p.cable, freq_hz, p.z_system)
     y = (1.0 - s11) / (1.0 + s11) / p.z_system
     return y.imag
 
@@ -592,6 +606,9 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
         if d_pool:
             rows = np.repeat(parent.lengths[None, :], len(d_pool), axis=0)
             places.append(((*parent.kinds, "line"), np.column_stack([rows, d_pool])))
+        if p.barrel > 0:
+            # behind a barrel: the next tee as close as the hardware allows
+            places.append(((*parent.kinds, BARREL), np.column_stack([parent.lengths[None, :], [p.barrel]])))
         for base_kinds, base_rows in places:
             b_back = (_back_susceptance(p, base_kinds, base_rows, f_pass) if f_pass.size
                       else np.zeros((base_rows.shape[0], 0)))
@@ -705,7 +722,7 @@ def _build_perturbations(p: _Problem, kinds: tuple[str, ...], k: int) -> tuple[n
     a = p.allowances
     rng = np.random.default_rng(12345)
     n = len(kinds)
-    is_line = np.array([kd == "line" for kd in kinds])
+    is_line = np.array([kd in _THROUGH for kd in kinds])
     vf0 = float(p.cable.velocity_factor)
     spread = a.vf_spread
     if spread is None:
@@ -758,7 +775,7 @@ def _polish(p: _Problem, cand: _Cand) -> _Cand:
 
 
 def _filter_of(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray) -> Filter:
-    elements = tuple(Line(length_m=float(x)) if k == "line" else Stub(termination=k, length_m=float(x))
+    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else Stub(termination=k, length_m=float(x))
                      for k, x in zip(kinds, lengths, strict=True))
     return Filter(elements=elements, cable=p.cable, tee_allowance_m=p.tee)
 
@@ -815,7 +832,7 @@ def _pass_score(m: float) -> float:
 
 def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) -> _Verified:
     filt = _filter_of(p, cand.kinds, cand.lengths)
-    s21, s11 = evaluate_batch(cand.kinds, cand.lengths[None, :], p.cable, sweep, p.z_system)
+    s21, s11 = evaluate_batch(_model_kinds(cand.kinds), cand.lengths[None, :], p.cable, sweep, p.z_system)
     s21, s11 = s21[0], s11[0]
     att = -db20(s21)
     swr = swr_from_s11(s11)

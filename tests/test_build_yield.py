@@ -204,7 +204,11 @@ def _check_buildable(d, allowances: Allowances):
                 # the notch is beyond the analyser: the highest series order below its top
                 assert c.resonance_mhz + 2 * f1 > allowances.analyser_hi_mhz
     for x in d.lines:
-        assert x.length_m >= allowances.min_line_m - 1e-9
+        # cable with a plug at each end, or a barrel adapter of the hardware's length
+        if x.barrel:
+            assert x.length_m == pytest.approx(allowances.barrel_m, abs=1e-4) and "barrel" in x.name
+        else:
+            assert x.length_m >= allowances.min_line_m - 1e-9
     assert len(d.lines) == sum(1 for e in filt.elements if e.kind == "line")
     assert not d.build_problems
 
@@ -247,6 +251,13 @@ def test_line_sections_and_hardware_are_named():
     assert line.degrees_at_mhz[0][1] == pytest.approx(360 * 0.3 * 100e6 / (C0 * 0.66))
     (note,) = hardware_notes(filt)
     assert note.startswith("tee 1 carries 2 stubs") and "cross" in note
+    short = Filter(elements=(Stub(termination="open", length_m=0.5), Line(length_m=0.05),
+                             Stub(termination="open", length_m=0.4)), cable=cable)
+    (barrel,) = line_cuts(short, barrel_m=0.05)
+    assert barrel.barrel and barrel.name.startswith("barrel")
+    cuts = cut_list(short, notch_mhz=[150.0], pass_mhz=[100.0])
+    assert not buildability(short, cuts, min_stub_cut_m=0.07, min_line_m=0.1, barrel_m=0.05)
+    assert buildability(short, cuts, min_stub_cut_m=0.07, min_line_m=0.1, barrel_m=0.0)
 
 
 def test_labels_lead_with_the_first_cut(issue_cases):

@@ -336,8 +336,12 @@ def cut_table(d: Any, units: str = "both") -> Table:
                      *finals(c.cut_length_m), target, f"{c.trim_rate_mm_per_mhz:.1f}", str(c.tee)))
     for x in getattr(d, "lines", ()) or ():
         a, b = x.between_tees
-        rows.append((x.line_id, cable, "line section", format_length(x.length_m, units), *finals(x.length_m),
-                     "cut, no trim", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
+        if getattr(x, "barrel", False):
+            rows.append((x.line_id, "-", "barrel", "no cable", *[DASH] * len(finals(x.length_m)),
+                         "-", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
+        else:
+            rows.append((x.line_id, cable, "line section", format_length(x.length_m, units),
+                         *finals(x.length_m), "cut, no trim", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
     hardware = list(getattr(d, "hardware", ()) or ())
     note = ("First cut: cut this long, fit the connector, then trim to the resonance on an analyser "
             "(series: a notch through the tee; parallel: the stub alone looks open); final: about what "
@@ -523,6 +527,15 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
                 f"{c.trim_rate_mm_per_mhz:.1f} mm per MHz raises the resonance",
             )))
         for x in getattr(d, "lines", ()) or ():
+            if getattr(x, "barrel", False):
+                out.append(Tag(stub_id=x.line_id, lines=(
+                    f"{x.line_id}   {design_id(d)} {where}".rstrip(),
+                    f"barrel {x.where}",
+                    "BARREL (female-female adapter)",
+                    "no cable to cut",
+                    "the two tees as close as the hardware allows",
+                )))
+                continue
             out.append(Tag(stub_id=x.line_id, lines=(
                 f"{x.line_id}   {design_id(d)} {where}".rstrip(),
                 f"{cable}, line section {x.where}",

@@ -405,6 +405,13 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=m.DEFAULT_MIN_LINE_M,
             doc="Shortest line section of cable between two tees (a plug at each end), in metres.",
         ),
+        "barrel_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=0.5, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_BARREL_M,
+            doc="Electrical length between two tees joined by a barrel adapter, in metres; 0: never "
+            "use one.",
+        ),
         "analyser_lo_mhz": Field(
             kind="number",
             num=_FREQ,

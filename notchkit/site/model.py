@@ -47,6 +47,10 @@ N plug, from memory) plus 30 mm to finish the end and trim (common practice)."""
 DEFAULT_MIN_LINE_M = 0.100
 """Shortest line section: a piece of cable with a plug at each end, two plug
 bodies plus 20 mm of cable (common practice); anything shorter is a barrel."""
+DEFAULT_BARREL_M = 0.050
+"""Electrical length between two tees joined by a barrel adapter (female-female):
+the barrel, about 25-40 mm for UHF or N, plus the tees' through halves (from
+memory); 0: the solver never uses one."""
 DEFAULT_ANALYSER_MHZ = (0.1, 900.0)
 """Range of the analyser stubs are trimmed on: that of the common low-cost hobby
 vector network analysers (common practice, from memory)."""
@@ -189,6 +193,7 @@ class Allowances:
     drift_pct: float = DEFAULT_DRIFT_PCT
     min_stub_cut_m: float = DEFAULT_MIN_STUB_CUT_M
     min_line_m: float = DEFAULT_MIN_LINE_M
+    barrel_m: float = DEFAULT_BARREL_M
     analyser_lo_mhz: float = DEFAULT_ANALYSER_MHZ[0]
     analyser_hi_mhz: float = DEFAULT_ANALYSER_MHZ[1]
 
