@@ -78,6 +78,8 @@ VALID_FREQ_MHZ = (0.1, 6000.0)
 """Range over which the loss model may be evaluated at all, MHz."""
 DEFAULT_AT_MHZ = (1.8, 14.0, 146.0, 446.0)
 """Frequencies of the ``notchkit cables`` table when none are asked for."""
+NARROW_TABLE_RATIO = 4.0
+"""A table spanning less than this frequency ratio fits the conductor term only."""
 EDGE_SLACK = 0.02
 """A frequency within 2 % of a table's end counts as inside it."""
 
@@ -185,6 +187,8 @@ class Cable:
     loss_sources: tuple[LossSource, ...] = ()
     aliases: tuple[str, ...] = ()
     published_range_mhz: tuple[float, float] | None = None
+    from_memory: tuple[str, ...] = ()
+    """Fields whose figure is recalled, not taken from a document (shown as such)."""
     notes: str = field(default="", compare=False)
 
     def __post_init__(self) -> None:
@@ -308,7 +312,7 @@ class Cable:
         """
         if self.published_range_mhz is not None:
             return self.published_range_mhz
-        if not self.loss_table:
+        if not self.loss_table or "loss" in self.from_memory:
             return None
         return self.loss_table[0][0], self.loss_table[-1][0]
 
@@ -553,6 +557,8 @@ def fit_loss(
 
     Notes
     -----
+    A table spanning less than a factor of ``NARROW_TABLE_RATIO`` in frequency
+    cannot separate the terms: only ``k_sqrt`` is fitted (``k_lin = 0``).
     With two unknowns the non-negative least-squares problem is solved
     exactly by trying each face of the quadrant: the unconstrained
     ``numpy.linalg.lstsq`` solution, then each coefficient alone (clipped at
@@ -565,7 +571,13 @@ def fit_loss(
     loss = np.array([p[1] for p in points], dtype=float)
     g = np.ones_like(f) if cladding_um is None else _ccs_factor(f, cladding_um, centre_share)
     design = np.column_stack((np.sqrt(f) * g / loss, f / loss))
-    k_sqrt, k_lin = _nnls2(design, np.ones_like(f))
+    if f.max() < NARROW_TABLE_RATIO * f.min():
+        # Too narrow a table to tell the two terms apart: conductor loss only (it
+        # dominates at HF, where such tables are), not an arbitrary mix.
+        col = design[:, 0]
+        k_sqrt, k_lin = max(0.0, float(col.sum()) / float(col @ col)), 0.0
+    else:
+        k_sqrt, k_lin = _nnls2(design, np.ones_like(f))
     model = k_sqrt * np.sqrt(f) * g + k_lin * f
     residual = float(np.max(np.abs(model / loss - 1.0)) * 100.0)
     return float(k_sqrt), float(k_lin), residual
@@ -682,6 +694,20 @@ _CITED_KEYS = ("z0_ohm", "velocity_factor", "vf_tolerance", "max_voltage_v", "ou
                "loss_tangent", "max_power_w")
 
 
+MEMORY = "from memory (recalled, not re-read; never a test's check value)"
+
+
+def _cite(source: str, source_names: dict[str, str]) -> str:
+    """A source key's citation; every "from memory ..." note becomes one "from memory" entry."""
+    source = str(source)
+    m = re.fullmatch(r"from memory \((.+)\)", source)
+    if m and m.group(1) in source_names:
+        return source_names[m.group(1)]
+    if source.startswith("from memory"):
+        return MEMORY
+    return source_names.get(source, source)
+
+
 def _cable_from_entry(entry: dict, source_names: dict[str, str]) -> Cable:
     name = entry["name"]
     points: list[tuple[float, float]] = []
@@ -697,13 +723,18 @@ def _cable_from_entry(entry: dict, source_names: dict[str, str]) -> Cable:
         if not str(table["source"]).startswith("from memory"):
             published.extend(p[0] for p in pts)
         cited.append(table["source"])
-        groups.append(LossSource(source=source_names.get(table["source"], table["source"]),
-                                 points=pts))
+        groups.append(LossSource(source=_cite(table["source"], source_names), points=pts))
     for key in _CITED_KEYS:
         item = entry.get(key)
         if isinstance(item, dict) and "source" in item:
             cited.append(item["source"])
-    sources = tuple(dict.fromkeys(source_names.get(s, s) for s in cited))
+    sources = tuple(dict.fromkeys(_cite(s, source_names) for s in cited))
+    memory = tuple(
+        key for key in _CITED_KEYS
+        if isinstance(entry.get(key), dict)
+        and str(entry[key].get("source", "")).startswith("from memory")
+    ) + (("loss",) if any(str(t.get("source", "")).startswith("from memory")
+                          for t in entry.get("loss", ())) else ())
     extra: dict[str, Any] = {
         key: float(_value(entry, key)) for key in _FLOAT_KEYS if _value(entry, key) is not None
     }
@@ -720,6 +751,7 @@ def _cable_from_entry(entry: dict, source_names: dict[str, str]) -> Cable:
         loss_sources=tuple(groups),
         centre_conductor=str(_value(entry, "centre_conductor") or "copper"),
         published_range_mhz=(min(published), max(published)) if published else None,
+        from_memory=memory,
     )
     if entry.get("kind") == "balanced":
         extra.pop("cladding_um", None)
