@@ -1259,7 +1259,12 @@ class _Builder:
             from notchkit.cables import generic_hint
 
             generic = generic_hint(name)
-            close = difflib.get_close_matches(_fold(name), list(self.known), n=1, cutoff=0.6)
+            # the closest name; a tie goes to the one listed first (the library's order)
+            close = difflib.get_close_matches(_fold(name), list(self.known), n=3, cutoff=0.6)
+            if close:
+                score = {k: difflib.SequenceMatcher(None, _fold(name), k).ratio() for k in close}
+                best = max(score.values())
+                close = [next(k for k in self.known if k in score and score[k] == best)]
             hint = (f"trade names are not used: the generic type of that size is {generic!r}; "
                     if generic else f"did you mean {self.known[close[0]]!r}?; " if close else "")
             self.r.add(
