@@ -662,7 +662,8 @@ def extrapolation_note(cable: Any, freqs_mhz: Iterable[float]) -> str | None:
     out = [x for x, e in zip(f, cable.extrapolated(f), strict=True) if e]
     if not out:
         return None
-    shown = ", ".join(f"{x:g}" for x in out[:6]) + (" ..." if len(out) > 6 else "")
+    labels = list(dict.fromkeys(f"{x:.4g}" for x in out))
+    shown = ", ".join(labels[:6]) + (" ..." if len(labels) > 6 else "")
     if rng is None:
         return f"cable {cable.name}: no published loss table; loss at {shown} MHz is not modelled"
     return (f"cable {cable.name}: loss at {shown} MHz is extrapolated beyond its published "

@@ -457,6 +457,12 @@ def test_design_json_flags_extrapolated_loss():
     assert f1["cable_loss"]["extrapolated"] is True and "7, 7.3 MHz" in f1["cable_loss"]["note"]
     assert f1["cable_loss"]["table_mhz"] == [10.0, 850.0]
     assert f2["cable_loss"] == {"table_mhz": [10.0, 850.0], "extrapolated": False, "note": None}
+    # the plan's filter page prints the same note among its facts (report.text builds the
+    # rows the PDF, HTML and terminal share)
+    from notchkit.report.text import filter_text
+
+    (d,) = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-58").designs
+    assert any(x.startswith("Cable loss: cable RG-58: loss at 7, 7.3 MHz") for x in filter_text(d).facts)
 
 
 def test_design_command_prints_the_extrapolation_warning(capsys):
