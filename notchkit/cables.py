@@ -895,10 +895,10 @@ def cable_from_def(defn: Any) -> Cable:
 
 
 _SIZE_FAMILIES = {
-    "100": "foam-100", "195": "foam-195", "200": "foam-240", "240": "foam-240",
-    "400": "foam-400", "500": "foam-400", "600": "foam-600", "900": "hardline-7/8",
-    "1200": "hardline-7/8",
+    "200": "foam-240", "240": "foam-240", "400": "foam-400", "500": "foam-400",
+    "600": "foam-600", "900": "hardline-7/8",
 }
+"""Size numbers of trade-style names and the generic library type of about that size."""
 
 
 def generic_hint(name: str) -> str | None:
