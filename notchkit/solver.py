@@ -96,6 +96,9 @@ VERIFY_POINTS = 201
 CABLE_TIE_FRACTION = 0.10
 """Designs whose cable is within this fraction of the shortest meeting design
 (with the same number of stubs) are ranked by margin instead of by cable."""
+CABLE_TIE_M = 0.25
+"""... or within this many metres of it: a few centimetres of coax are not worth a
+worse design (common sense at UHF, where whole filters are tens of centimetres)."""
 IL_WEIGHT = 10.0
 """Weight of pass-band insertion loss against notch depth in the penalty:
 0.1 dB of excess insertion loss counts as 1 dB of missing rejection."""
@@ -910,7 +913,7 @@ def _rank_key(v: _Verified, target: float, pick: dict[int, tuple[float, float]])
     if _robust(v, target):
         goal, shortest = pick[n]
         has_goal = _notch_margin(v) >= goal - MARGIN_GOAL_SLACK_DB
-        near = has_goal and cable <= shortest * (1 + CABLE_TIE_FRACTION) + 1e-6
+        near = has_goal and cable <= max(shortest * (1 + CABLE_TIE_FRACTION), shortest + CABLE_TIE_M) + 1e-6
         return (0, n, 0 if has_goal else 1, 0 if near else 1, 0.0 if near else cable, -v.score, cable)
     if v.meets:
         return (1, -round(v.build_yield or 0.0, 2), n, 0, cable, -v.score, 0.0)
