@@ -1077,6 +1077,24 @@ def check_requirement(req: FilterRequirement) -> None:
                                   f"{_mhz(b.hi_mhz)} overlaps notch {_mhz(n.lo_mhz)}-{_mhz(n.hi_mhz)} MHz")
 
 
+def _check_build_settings(limits: Limits, allowances: Allowances | None) -> None:
+    """Refuse a yield target, margin goal or build rule no design could be ranked by."""
+    checks = [("yield_target_pct", getattr(limits, "yield_target_pct", 90.0), 0.0, 100.0),
+              ("margin_goal_db", getattr(limits, "margin_goal_db", 15.0), 0.0, 200.0)]
+    if allowances is not None:
+        for name, hi in (("min_stub_cut_m", 100.0), ("min_line_m", 100.0), ("barrel_m", 10.0),
+                         ("trim_step_mm", 1000.0), ("trim_freq_error_pct", 50.0), ("drift_pct", 50.0),
+                         ("cut_tolerance_mm", 1000.0)):
+            checks.append((name, getattr(allowances, name), 0.0, hi))
+        lo, hi = allowances.analyser_lo_mhz, allowances.analyser_hi_mhz
+        if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
+            raise DesignError(f"analyser range {lo!r}-{hi!r} MHz must have 0 < analyser_lo_mhz < "
+                              f"analyser_hi_mhz")
+    for name, value, lo, hi in checks:
+        if not (isinstance(value, int | float) and math.isfinite(value) and lo <= value <= hi):
+            raise DesignError(f"{name} {value!r} must be a number from {lo:g} to {hi:g}")
+
+
 def solve(
     req: FilterRequirement,
     *,
@@ -1134,6 +1152,7 @@ def solve(
     if not (limits.max_swr > 1.0 and limits.max_insertion_loss_db > 0):
         raise DesignError(f"limits: max_swr {limits.max_swr!r} must be > 1 and max_insertion_loss_db "
                           f"{limits.max_insertion_loss_db!r} must be > 0 dB")
+    _check_build_settings(limits, allowances)
     p = _Problem(req, cable, limits, tee_allowance_m, z_system, allowances)
     sweep, slices = verify_sweep_hz(req)
     say = progress or (lambda _msg: None)

@@ -321,3 +321,18 @@ def test_an_empty_analyser_range_is_one_clear_line(tmp_path):
     assert r.returncode == 2 and r.stdout == ""
     assert r.stderr.strip() == (f"{site}:9:20: allowances.analyser_hi_mhz: analyser range 500-400 MHz is "
                                 "empty (allowed: analyser_lo_mhz below analyser_hi_mhz)")
+
+
+@pytest.mark.parametrize("kw", [{"limits": {"yield_target_pct": 150.0}}, {"limits": {"margin_goal_db": -1.0}},
+                                {"allowances": {"analyser_lo_mhz": 10.0, "analyser_hi_mhz": 5.0}},
+                                {"allowances": {"min_stub_cut_m": float("nan")}}])
+def test_library_refuses_unusable_build_settings(kw):
+    import dataclasses
+
+    from notchkit.errors import DesignError
+    from notchkit.site.model import Limits
+
+    args = {"limits": dataclasses.replace(Limits(), **kw.get("limits", {})),
+            "allowances": dataclasses.replace(Allowances(), **kw.get("allowances", {}))}
+    with pytest.raises(DesignError):
+        design_request([(144.0, 148.0)], [(430.0, 440.0)], **args)
