@@ -595,7 +595,8 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                           rows=tuple(rows),
                           align=("left", "left", "right", "right", "right", "left", "right"),
                           widths=(0.6, 2.4, 0.6, 0.7, 0.8, 0.9, 0.8))
-    verdict_line = ("every filter meets its requirements on the lossy cable model." if designs
+    verdict_line = ("every filter meets its requirements on the lossy cable model, in at least its target "
+                    "share of simulated builds (build yield)." if designs
                     else "no filter is needed: no threat over the limit calls for a stub.")
     summary = (
         f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
