@@ -984,25 +984,28 @@ another class of remedy."""
 LARGE_SHORTFALL_DB = 10.0
 
 
-def remedy_class_advice(missing_db: float, required_db: float, where: str) -> str:
-    """The advice when stubs cannot do it: the classes of remedy and the stubs' ceiling."""
+def remedy_class_advice(short: Sequence[tuple[str, float, float]]) -> str:
+    """The advice when stubs cannot do it: the classes of remedy and the stubs' ceiling.
+
+    ``short`` holds ``(band, missing_db, required_db)`` for each notch too far short.
+    """
     lo, hi = STUB_CEILING_DB
-    return (f"{where}: {missing_db:.1f} dB short of {required_db:.1f} dB is more than stubs can close: one "
-            f"stub notches about {lo:.0f}-{hi:.0f} dB in practice, and each further stub adds less while the "
-            f"pass band pays; use another class of remedy: a band-pass filter or a cavity filter at the "
-            f"radio, more antenna spacing (vertical separation isolates best), or time-sharing (the two "
-            f"radios never on the air at once)")
+    where = "; ".join(f"{band} {miss:.1f} dB short of {req:.1f} dB" for band, miss, req in short)
+    return (f"more than stubs can close ({where}): one stub notches about {lo:.0f}-{hi:.0f} dB in practice, "
+            f"and each further stub adds less while the pass band pays; use another class of remedy: a "
+            f"band-pass filter or a cavity filter at the radio, more antenna spacing (vertical separation "
+            f"isolates best), or time-sharing (the two radios never on the air at once)")
 
 
 def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
     if v.meets:
         return ()
     out = []
-    for r in v.notches:
-        deep = r.required_db > STUB_CEILING_DB[1] * max(1, len(v.filt.stubs))
-        if not r.meets and (-r.margin_db >= LARGE_SHORTFALL_DB or deep):
-            out.append(remedy_class_advice(-r.margin_db, r.required_db,
-                                           f"notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz"))
+    beyond = [r for r in v.notches if not r.meets and (
+        -r.margin_db >= LARGE_SHORTFALL_DB or r.required_db > STUB_CEILING_DB[1] * max(1, len(v.filt.stubs)))]
+    if beyond:
+        out.append(remedy_class_advice([(f"notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz", -r.margin_db, r.required_db)
+                                        for r in beyond]))
     n_stubs = len(v.filt.stubs)
     if stubs_tried >= p.limits.max_stubs:
         out.append(f"allow another stub: no design with up to {p.limits.max_stubs} stub(s) meets every "
