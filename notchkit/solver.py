@@ -9,8 +9,9 @@ the same design).
 How it searches, simplest topology first:
 
 1. **One stub.** A dense 1-D scan of every length from the shortest stub that
-   can be cut (tee allowance + :data:`MIN_CUT_M`) up to :data:`STUB_SCAN_WAVELENGTHS` wavelengths at
-   the lowest band, for an open and for a shorted end, in one
+   can be made (tee allowance + ``allowances.min_stub_cut_m``, default
+   :data:`MIN_CUT_M`; and a first resonance inside the analyser's range) up to
+   :data:`STUB_SCAN_WAVELENGTHS` wavelengths at the lowest band, for an open and for a shorted end, in one
    :func:`~notchkit.filters.evaluate_batch` call each. The quarter- and
    half-wave families (open lambda/4 notches f, 3f, 5f and passes 2f, 4f;
    shorted lambda/4 passes f, 3f and notches 2f, 4f; the longer odd and even
@@ -35,10 +36,23 @@ How it searches, simplest topology first:
    each band, edge to edge (at least :data:`VERIFY_POINTS` points per band).
    ``meets`` is true only when that sweep meets every requirement.
 
-Among designs that meet: fewest stubs, then least cable (designs within
-:data:`CABLE_TIE_FRACTION` of the shortest count as equal), then most margin.
-When none meets, the one with the least violation is returned with
-``meets=False``, what is missing per band, and advice.
+5. **Build yield.** Every verified design that meets is given the share of
+   :data:`YIELD_SAMPLES` simulated builds that still meet (the trim workflow of
+   :mod:`notchkit.tolerance`: stubs trimmed to resonance, line sections cut to
+   length). When designs meet but none reaches ``limits.yield_target_pct``,
+   they are refined once more on the mean penalty over a few simulated builds
+   (:func:`_refine_robust`) before another stub is tried.
+
+Ranking (:func:`_rank_key`): robust designs (meet, and build yield at the
+target) first; then fewest stubs; then those with ``limits.margin_goal_db`` of
+notch margin (or within :data:`MARGIN_GOAL_SLACK_DB` of the most any robust
+design of as many stubs has); then least cable (within
+:data:`CABLE_TIE_FRACTION` or :data:`CABLE_TIE_M` of the shortest counts as
+equal); then most margin. Designs that meet only as designed follow, by build
+yield. When none meets, the one with the least violation is returned with
+``meets=False``, what is missing per band, and advice (naming the class of
+remedy when stubs cannot close the gap). The best few others are
+``Solution.alternatives``.
 
 Limits
 ------
@@ -46,7 +60,9 @@ Limits
 caps the cable (stub cut lengths plus line sections); when it is ``None`` the
 cap is :data:`DEFAULT_CABLE_WAVELENGTHS` wavelengths in the cable at the lowest
 band frequency. Every stub's electrical path is at least the tee allowance
-plus :data:`MIN_CUT_M`; every line section is at least :data:`MIN_LINE_M`.
+plus ``allowances.min_stub_cut_m``; every line section is at least
+``allowances.min_line_m``, or is a barrel adapter (``allowances.barrel_m``, a
+fixed length: :data:`BARREL` in the solver's kinds).
 
 References
 ----------
