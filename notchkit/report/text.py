@@ -450,7 +450,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
         else:
             length = f"first cut {format_length(c.first_cut_m, units)}"
         stub_labels.append(f"{c.stub_id} {c.termination}\n{length}")
-    line_labels = [f"{i} line section: {format_length(e.length_m, units)}"
+    line_labels = [f"{i}: {format_length(e.length_m, units)}"
                    for i, e in zip(ids, filt.elements, strict=True) if e.kind == "line"]
     cable = getattr(filt, "cable", None)
     vf = getattr(cable, "velocity_factor", None)
@@ -522,15 +522,17 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
         req = d.requirement
         where = f"{req.side} {req.radio}" if getattr(req, "radio", None) else ""
         for c in d.cuts:
-            trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz ({c.resonance_kind}), "
-                    f"about {format_length(c.cut_length_m, units)}" if getattr(c, "trimmable", True)
-                    else "do not trim (no resonance in the analyser's range)")
+            if getattr(c, "trimmable", True):
+                trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz ({c.resonance_kind})",
+                        f"about {format_length(c.cut_length_m, units)}; {c.trim_rate_mm_per_mhz:.1f} mm/MHz")
+            else:
+                trim = ("do not trim (no resonance in the analyser's range)",
+                        f"cut to {format_length(c.cut_length_m, units)}")
             out.append(Tag(stub_id=c.stub_id, lines=(
                 f"{c.stub_id}   {design_id(d)} {where}".rstrip(),
                 f"{cable}, {c.termination} end, tee {c.tee}",
                 f"FIRST CUT {format_length(c.first_cut_m, units)}",
-                trim,
-                f"{c.trim_rate_mm_per_mhz:.1f} mm per MHz raises the resonance",
+                *trim,
             )))
         for x in getattr(d, "lines", ()) or ():
             if getattr(x, "barrel", False):
