@@ -172,20 +172,16 @@ def _spans(d: Any, site: Any) -> tuple[list[Any], list[Any]]:
 
 
 def plan_json(site: Any, sv: Any, report: Any, *, date: str, version: str, units: str) -> dict[str, Any]:
-    """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey."""
-    doc = dict(report.to_json()) if hasattr(report, "to_json") else {"filters": []}
-    out: dict[str, Any] = {
-        "site": site.name,
-        "site_file": str(site.path),
-        "date": date,
-        "notchkit_version": version,
-        "units": units,
-        "meets": bool(all(getattr(d, "meets", False) for d in _designs(report))),
-    }
-    for k, v in doc.items():
-        out.setdefault(k, v)
-    out["survey"] = sv.to_json()
-    return out
+    """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey,
+    written through the plan file's types (:class:`notchkit.planfile.PlanDocument`)."""
+    from notchkit.design import design_record
+    from notchkit.planfile import PlanDocument
+
+    designs = _designs(report)
+    doc = PlanDocument(site=site.name, site_file=str(site.path), date=date, notchkit_version=version,
+                       units=units, meets=bool(all(getattr(d, "meets", False) for d in designs)),
+                       filters=tuple(design_record(d) for d in designs), survey=sv.to_json())
+    return doc.to_json()
 
 
 def plan(
