@@ -12,7 +12,7 @@ from notchkit.trim import SAFETY, inches_16ths, trim
 FLAGS = {
     "target_mhz": "--target-mhz", "length_m": "--length-m", "quarter_waves": "--quarter-waves",
     "allowance_m": "--allowance-m", "plan_path": "--plan", "stub_id": "--stub",
-    "plan_length": "--plan-length", "termination": "--termination",
+    "plan_length": "--plan-length", "termination": "--termination", "png_path": "--png",
 }
 """Library parameter -> flag, for error messages."""
 
