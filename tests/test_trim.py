@@ -337,3 +337,22 @@ def test_library_reads_without_writing(tmp_path):
         quarter_wave_hz(1, 0.66, 0.5) / 1e6, rel=5e-4)
     assert read_measurement(p).nports == 1
     assert os.stat(p).st_mtime_ns == mtime
+
+
+def test_library_names_parameters_and_the_command_line_its_flags(tmp_path, capsys):
+    # An open stub 0.5 m long (VF 0.66, scikit-rf) said to be 3 m long: the effective VF
+    # 4 L f / c would be about 4 (textbook quarter-wave relation); no coax exceeds 1.
+    f1 = quarter_wave_hz(1, 0.66, 0.5)
+    ntwk = stub_network(termination="open", ports=1, length_m=0.5, vf=0.66,
+                        start_mhz=f1 / 1e6 * 0.8, stop_mhz=f1 / 1e6 * 1.2)
+    path = write(ntwk, tmp_path, "stub")
+    with pytest.raises(MeasurementError) as info:
+        trim(path, cable="RG-213", termination="open", target_mhz=f1 / 1e6, length_m=3.0)
+    msg = str(info.value)
+    assert "impossible" in msg and "quarter_waves 1" in msg and "length_m" in msg and "--" not in msg
+    code = main(["trim", path, "--cable", "RG-213", "--termination", "open",
+                 "--target-mhz", str(f1 / 1e6), "--length-m", "3"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    assert "--quarter-waves 1" in err and "--length-m" in err
+    assert "quarter_waves" not in err and " length_m" not in err
