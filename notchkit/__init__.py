@@ -39,6 +39,7 @@ from notchkit.solver import Solution, solve
 from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.tolerance import Tolerance, tolerance
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
+from notchkit.verification import VerifyResult, verify
 
 __all__ = [
     "__version__",
@@ -56,6 +57,8 @@ __all__ = [
     "find_resonance",
     "TrimResult",
     "Resonance",
+    "verify",
+    "VerifyResult",
     "Cable",
     "cable_table",
     "get_cable",

@@ -165,7 +165,8 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
 
 def design(site: Any, *, progress: Progress | None = None, workers: int | None = None,
            meanwhile: Callable[[Any], None] | None = None,
-           on_design: Callable[[int, Design], None] | None = None) -> DesignReport:
+           on_design: Callable[[int, Design], None] | None = None,
+           calibration: Sequence[Any] = ()) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
     Parameters
@@ -193,6 +194,9 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     -------
     DesignReport
         Filters ``F1``, ``F2``, ... in the survey's order.
+    calibration : sequence of SpoolCalibration or path, optional
+        Measured cable spools (:mod:`notchkit.calibration`): their cable types are
+        designed with the spool's VF and loss, and the outputs say so.
 
     Raises
     ------
@@ -205,6 +209,10 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     from notchkit.survey import survey
 
     say = progress or (lambda _m: None)
+    if calibration:
+        from notchkit.calibration import apply
+
+        site = apply(site, calibration)
     if workers is not None and int(workers) < 1:
         raise DesignError(f"workers {workers!r} must be at least 1")
     sv = survey(site)

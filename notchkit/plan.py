@@ -192,6 +192,7 @@ def plan(
     outdir: str | os.PathLike[str] | None = None,
     units: str = "both",
     page_size: str = "a4",
+    calibration: Any = (),
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
 
@@ -211,6 +212,9 @@ def plan(
     units : {"metric", "imperial", "both"}
         Lengths in millimetres, inches to 1/16 in, or both.
     page_size : {"a4", "letter"}
+    calibration : sequence of SpoolCalibration or path, optional
+        Measured cable spools: first cuts and trim targets use their VF and loss
+        (:mod:`notchkit.calibration`), and the plan says so.
 
     Returns
     -------
@@ -244,6 +248,10 @@ def plan(
     else:
         _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
 
+    if calibration:
+        from notchkit.calibration import apply
+
+        site = apply(site, calibration)
     date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
     version = notchkit.__version__
     json_path = Path(outdir) / PLAN_JSON if outdir is not None else None

@@ -422,7 +422,7 @@ def filter_record(d: Any, *, extra: Mapping[str, Any] | None = None) -> FilterRe
         id=d.id, radio=r.radio, side=r.side,
         cable=CableRecord(type=str(getattr(cab, "name", r.cable)), z0_ohm=num(cab.z0_ohm),
                           velocity_factor=num(cab.velocity_factor),
-                          calibration=getattr(cab, "calibration", None)),
+                          calibration=_calibration_note(cab)),
         arrangement=describe(filt), elements=tuple(elements),
         passes=tuple(PassRecord(
             lo_mhz=num(p.lo_mhz), hi_mhz=num(p.hi_mhz),
@@ -435,6 +435,12 @@ def filter_record(d: Any, *, extra: Mapping[str, Any] | None = None) -> FilterRe
             worst_mhz=num(n.worst_mhz), meets=bool(n.meets)) for n in s.notches),
         meets=bool(s.meets), extra=dict(extra or {}),
     )
+
+
+def _calibration_note(cable: Any) -> Mapping[str, Any] | None:
+    from notchkit.calibration import note_of
+
+    return note_of(cable)
 
 
 # ------------------------------------------------------------------ the reader side

@@ -13,6 +13,7 @@ FLAGS = {
     "target_mhz": "--target-mhz", "length_m": "--length-m", "quarter_waves": "--quarter-waves",
     "allowance_m": "--allowance-m", "plan_path": "--plan", "stub_id": "--stub",
     "plan_length": "--plan-length", "termination": "--termination", "png_path": "--png",
+    "spool": "--spool", "calibration_path": "--calibration",
 }
 """Library parameter -> flag, for error messages."""
 
@@ -74,6 +75,11 @@ def add_parser(sub) -> None:
     p.add_argument("--allowance-m", type=str, metavar="A",
                    help="fixed electrical length inside the measurement that trimming does not "
                         "change (tee allowance), m; default: from the plan for a .s2p, else 0")
+    p.add_argument("--spool", metavar="NAME",
+                   help="name of the cable spool the stub was cut from (with --calibration)")
+    p.add_argument("--calibration", metavar="SPOOL.json",
+                   help="add this trim's effective VF (and loss, from Q) to the spool's calibration "
+                        "file (created if missing); `notchkit plan --calibration` then uses it")
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--png", metavar="FILE", help="write a plot of the measurement (PNG)")
     p.set_defaults(run=run)
@@ -147,6 +153,8 @@ def run(args) -> int:
     length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
     if (args.plan is None) != (args.stub is None):
         raise UsageError("--plan and --stub go together: give both or neither")
+    if (args.spool is None) != (args.calibration is None):
+        raise UsageError("--spool and --calibration go together: give both or neither")
     if args.termination is None and args.plan is None:
         raise UsageError("--termination: required (open or short) unless --plan gives it")
     try:
@@ -163,10 +171,23 @@ def run(args) -> int:
             allowance_m=_allowance(args.allowance_m),
             png_path=args.png,
         )
+        cal = None
+        if args.calibration is not None:
+            from notchkit.calibration import record, sample_from_trim
+
+            cal = record(args.calibration, spool=args.spool, cable=result.cable,
+                         sample=sample_from_trim(result, piece=args.stub))
     except NotchkitError as exc:
         raise with_flags(exc, FLAGS) from None
     if args.json:
-        print(json.dumps(result.to_json(), indent=2))
+        doc = result.to_json()
+        if cal is not None:
+            doc["calibration"] = {"file": args.calibration, **cal.note()}
+        print(json.dumps(doc, indent=2))
     else:
         print(format_text(result))
+        if cal is not None:
+            print(f"calibration  spool {cal.spool!r} ({args.calibration}): VF {cal.velocity_factor:.4f} "
+                  f"from {len(cal.vf_samples)} piece(s)"
+                  + ("" if cal.vf_spread is None else f", spread {cal.vf_spread:.4f}"))
     return EXIT_OK

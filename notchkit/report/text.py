@@ -436,7 +436,9 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
     cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, 'metric')} per stub "
                     "(drawing not to scale)")
-    facts = [f"Location: {_location(req)}.",
+    from notchkit.calibration import calibration_lines
+
+    facts = [f"Location: {_location(req)}.", *calibration_lines([cable] if cable is not None else []),
              f"{len(stub_ids)} stub(s) on {len(filt.tees())} tee(s); "
              f"cable used {format_length(filt.total_cable_m, units)}."]
     advice = getattr(getattr(d, "solution", None), "advice", None) or getattr(d, "advice", None) or ()
