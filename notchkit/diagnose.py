@@ -277,6 +277,7 @@ def _interpret(record: Any, kinds: tuple[str, ...], k: np.ndarray, loss: float, 
 def _findings(record: Any, elements: tuple[ElementFit, ...], vf: float | None, vf0: float, loss: float,
               swap_i: int | None, kinds: tuple[str, ...]) -> tuple[str, ...]:
     from notchkit.cutlist import format_length
+    from notchkit.trim import inches_16ths
 
     out = []
     if swap_i is not None:
@@ -288,13 +289,15 @@ def _findings(record: Any, elements: tuple[ElementFit, ...], vf: float | None, v
         pct = (vf0 / vf - 1.0) * 100.0
         out.append(f"the cable's effective velocity factor is {vf:.3f}, not the plan's {vf0:.3f}: every "
                    f"piece is {abs(pct):.1f} % {'long' if pct > 0 else 'short'} electrically; record the "
-                   "spool's VF (calibration) and re-trim each stub to its resonance")
+                   "spool's VF (verify --spool --calibration), make the plan again with it, re-trim each "
+                   "stub to its resonance and re-cut any line section")
     single = len(elements) == 1
     for e in elements:
         if not _named_fault(e):
             continue
         mm = e.error_mm
-        text = f"{format_length(abs(mm) / 1000.0)} (+-{e.error_sd_mm:.1f} mm)"
+        text = (f"{abs(mm):.1f} mm ({inches_16ths(abs(mm) / 1000.0)[1]}, +-{max(e.error_sd_mm, 0.1):.1f} mm "
+                "of fit)")
         if e.kind == "line":
             out.append(f"line section {e.id} is {text} too {'long' if mm > 0 else 'short'}: re-cut it to "
                        f"{format_length(e.planned_m)}")
