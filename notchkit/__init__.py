@@ -15,6 +15,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from notchkit.asbuilt import RecheckResult, recheck
 from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.cutlist import StubCut, cut_list, format_length
 from notchkit.design import Design, DesignReport, design, design_request
@@ -59,6 +60,8 @@ __all__ = [
     "Resonance",
     "verify",
     "VerifyResult",
+    "recheck",
+    "RecheckResult",
     "Cable",
     "cable_table",
     "get_cable",

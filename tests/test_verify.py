@@ -245,3 +245,41 @@ def test_a_sweep_the_model_cannot_explain_is_refused(ridge, tmp_path, capsys):
                          "--diagnose", "--json")
     d = json.loads(out)["diagnosis"]
     assert d["refused"] and "no diagnosis" in d["refused"] and d["findings"] == []
+
+
+# ------------------------------------------------------------------ the site's threats as built
+
+
+def test_threats_rechecked_with_a_measured_filter(ridge, tmp_path, capsys):
+    # F3 built with its first stub's end swapped: the threats F3 notches are re-checked with the
+    # measured S21 (recomputed here from scikit-rf), every other filter counts as designed.
+    rec = ridge.filter("F3")
+    net = build(rec, swap="F3-S1", seed=10)
+    path = write(net, tmp_path, "F3-built")
+    code, out, err = run_recheck(capsys, ridge.path, f"F3={path}", "--json")
+    got = json.loads(out)
+    assert code == 1 and got["meets"] is False
+    clean = build(rec, noise=0.0)  # as designed, scikit-rf's model
+    f = net.f / 1e6
+    by_f3 = [t for t in got["threats"] if t["filters"] == ["F3"]]
+    assert by_f3 and all(t["measured"] == ["F3"] for t in by_f3)
+    for t in by_f3:
+        m = (f >= t["lo_mhz"]) & (f <= t["hi_mhz"])
+        worst_built = float(np.min(-20 * np.log10(np.abs(net.s[m, 1, 0]))))
+        assert t["as_built_db"] == pytest.approx(worst_built, rel=1e-9)
+        # the designed figure is the design's lossy model; scikit-rf's agrees within 0.2 dB
+        worst_designed = float(np.min(-20 * np.log10(np.abs(clean.s[m, 1, 0]))))
+        assert t["designed_db"] == pytest.approx(worst_designed, abs=0.2)
+        assert t["meets"] == (t["as_built_db"] >= t["required_db"])
+        assert t["remaining_db"] == pytest.approx(t["excess_db"] - t["as_built_db"])
+    assert any(t["meets"] is False for t in by_f3)
+    others = [t for t in got["threats"] if t["filters"] and t["filters"] != ["F3"]]
+    assert others and all(t["as_built_db"] == t["designed_db"] and t["measured"] == [] for t in others)
+    code, out, err = run_recheck(capsys, ridge.path, "F9=x.s2p")
+    assert code == 2 and "F9" in err and "FILTER=SWEEP.s2p" in err
+
+
+def run_recheck(capsys, *argv):
+    code = main(["recheck", *argv])
+    out, err = capsys.readouterr()
+    return code, out, err
