@@ -75,8 +75,8 @@ class ElementFit:
     error_sd_mm: float
 
     def to_json(self) -> dict[str, Any]:
-        return {"id": self.id, "kind": self.kind, "planned_m": self.planned_m, "factor": self.factor,
-                "error_mm": self.error_mm, "error_sd_mm": self.error_sd_mm}
+        return {"id": self.id, "kind": self.kind, "planned_m": self.planned_m, "factor": _fin(self.factor),
+                "error_mm": _fin(self.error_mm), "error_sd_mm": _fin(self.error_sd_mm)}
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -103,11 +103,18 @@ class Diagnosis:
         return tuple(e.id for e in self.elements if _named_fault(e))
 
     def to_json(self) -> dict[str, Any]:
-        return {"refused": self.refused, "rms_residual": self.rms_residual, "points": self.points,
-                "velocity_factor": self.velocity_factor, "plan_velocity_factor": self.plan_velocity_factor,
-                "loss_scale": self.loss_scale, "loss_scale_sd": self.loss_scale_sd, "swapped": self.swapped,
+        return {"refused": self.refused, "rms_residual": _fin(self.rms_residual), "points": self.points,
+                "velocity_factor": _fin(self.velocity_factor),
+                "plan_velocity_factor": self.plan_velocity_factor,
+                "loss_scale": _fin(self.loss_scale), "loss_scale_sd": _fin(self.loss_scale_sd),
+                "swapped": self.swapped,
                 "faulty": list(self.faulty), "elements": [e.to_json() for e in self.elements],
                 "findings": list(self.findings)}
+
+
+def _fin(x: float | None) -> float | None:
+    """A finite float for JSON, else ``None`` (an undetermined standard error)."""
+    return None if x is None or not math.isfinite(x) else float(x)
 
 
 def _named_fault(e: ElementFit) -> bool:

@@ -265,7 +265,7 @@ def read_measurement(path: str | os.PathLike[str]):
         detail = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
         raise MeasurementError(f"{p}: not a readable Touchstone file ({detail})") from None
     if ntwk.nports not in (1, 2):
-        raise MeasurementError(f"{p}: has {ntwk.nports} ports; trim reads 1 (.s1p) or 2 (.s2p)")
+        raise MeasurementError(f"{p}: has {ntwk.nports} ports; notchkit reads 1 (.s1p) or 2 (.s2p)")
     f = np.asarray(ntwk.f, dtype=float)
     if f.size < MIN_POINTS:
         raise MeasurementError(

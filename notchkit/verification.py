@@ -39,7 +39,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from notchkit.errors import MeasurementError, UsageError
+from notchkit.errors import CableError, MeasurementError, UsageError
 from notchkit.resonance import named
 
 MIN_BAND_POINTS = 3
@@ -132,7 +132,9 @@ def check_bands(record: Any, network: Any) -> tuple[tuple[BandCheck, ...], tuple
     s = np.asarray(network.s)
     s11 = s[:, 0, 0]
     s21 = s[:, 1, 0] if network.nports == 2 else None
-    bound = -10.0 * np.log10(np.clip(1.0 - np.abs(s11) ** 2, 1e-30, 1.0))  # passive: |S21|^2 <= 1 - |S11|^2
+    # passive: |S21|^2 <= 1 - |S11|^2; a reflection of 1 or more (noise, calibration) bounds nothing
+    refl = np.abs(s11)
+    bound = np.where(refl < 1.0, -10.0 * np.log10(np.clip(1.0 - refl ** 2, 1e-30, 1.0)), np.nan)
     checks, warns = [], []
     bands = [("pass", b) for b in record.passes] + [("notch", n) for n in record.notches]
     for kind, b in bands:
@@ -163,7 +165,7 @@ def check_bands(record: Any, network: Any) -> tuple[tuple[BandCheck, ...], tuple
                                         meets=bool(il[i] <= b.max_insertion_loss_db),
                                         designed=b.worst_insertion_loss_db))
             else:
-                lb = bound[inside]
+                lb = np.nan_to_num(bound[inside], nan=0.0)
                 i = int(np.argmax(lb))
                 over = bool(lb[i] > b.max_insertion_loss_db)
                 checks.append(BandCheck(
@@ -181,6 +183,13 @@ def check_bands(record: Any, network: Any) -> tuple[tuple[BandCheck, ...], tuple
                                         meets=bool(att[i] >= b.required_db), designed=b.worst_attenuation_db))
             else:
                 lb = bound[inside]
+                if np.isnan(lb).any():
+                    checks.append(BandCheck(
+                        kind="notch", lo_mhz=b.lo_mhz, hi_mhz=b.hi_mhz, points=n, quantity="attenuation",
+                        required=b.required_db, measured=None, worst_mhz=None, meets=None,
+                        designed=b.worst_attenuation_db,
+                        note="|S11| of 1 or more in the band (noise or calibration): no bound"))
+                    continue
                 i = int(np.argmin(lb))
                 ok = bool(lb[i] >= b.required_db)
                 checks.append(BandCheck(
@@ -287,7 +296,10 @@ def verify(
     meets = all(c.meets for c in checks)
     diag = None
     if diagnose or (diagnose is None and not meets):
-        diag = _diagnose(record, ntwk, cable)
+        try:
+            diag = _diagnose(record, ntwk, cable)
+        except CableError as exc:
+            warns = (*warns, f"no diagnosis: {exc}")
     f = np.asarray(ntwk.f, dtype=float)
     where = (f"{record.side} filter at {record.radio}" if record.radio and record.side
              else f"filter at {record.radio}" if record.radio else "ad-hoc filter")
@@ -299,7 +311,6 @@ def verify(
 def _diagnose(record: Any, ntwk: Any, cable: Any) -> Any:
     from notchkit.cables import get_cable
     from notchkit.diagnose import diagnose
-    from notchkit.errors import CableError
 
     if cable is None:
         try:

@@ -283,3 +283,18 @@ def run_recheck(capsys, *argv):
     code = main(["recheck", *argv])
     out, err = capsys.readouterr()
     return code, out, err
+
+
+@pytest.mark.parametrize(("name", "content"), [
+    ("empty.s2p", b""), ("binary.s2p", b"\x00\x01\x02"), ("text.s2p", b"hello\n"),
+    ("three.s3p", b"# MHz S RI R 50\n1 0 0 0 0 0 0 0 0 0 0 0 0 0 0 0 0 0 0\n"),
+])
+def test_damaged_measurements_are_one_line_and_exit_2(ridge, tmp_path, capsys, name, content):
+    p = tmp_path / name
+    p.write_bytes(content)
+    for argv in (["verify", str(p), "--plan", ridge.path, "--filter", "F3"], ["recheck", ridge.path, f"F3={p}"]):
+        code = main(argv)
+        out, err = capsys.readouterr()
+        assert code == 2 and out == "" and err.startswith("error: ") and len(err.strip().splitlines()) == 1
+        assert "Traceback" not in err
+    assert p.read_bytes() == content
