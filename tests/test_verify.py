@@ -292,7 +292,8 @@ def run_recheck(capsys, *argv):
 def test_damaged_measurements_are_one_line_and_exit_2(ridge, tmp_path, capsys, name, content):
     p = tmp_path / name
     p.write_bytes(content)
-    for argv in (["verify", str(p), "--plan", ridge.path, "--filter", "F3"], ["recheck", ridge.path, f"F3={p}"]):
+    for argv in (["verify", str(p), "--plan", ridge.path, "--filter", "F3"],
+                 ["recheck", ridge.path, f"F3={p}"]):
         code = main(argv)
         out, err = capsys.readouterr()
         assert code == 2 and out == "" and err.startswith("error: ") and len(err.strip().splitlines()) == 1
