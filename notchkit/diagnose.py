@@ -234,7 +234,7 @@ def diagnose(record: Any, network: Any, *, cable: Any = None, z_system: float = 
     kinds = tuple(e.termination if e.kind == "stub" else "line" for e in record.elements)
     planned = np.array([e.length_m for e in record.elements], dtype=float)
     base = _Problem(kinds, planned, cab, f, s21, s11, z_system)
-    best = (*_fit(base), None, base)
+    best: tuple[Any, ...] = (*_fit(base), None, base)
     stubs = [i for i, kd in enumerate(kinds) if kd != "line"]
     for i in stubs:
         swapped = list(kinds)

@@ -34,9 +34,11 @@ import os
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Literal
+from typing import Any, Literal, NoReturn
 
 from notchkit.errors import InputError
+
+scanstring = json.decoder.scanstring  # type: ignore[attr-defined]  # the JSON string reader
 
 MAX_PLAN_BYTES = 64 * 1024 * 1024
 """Largest plan JSON read, bytes (a plan of the largest example is under 100 kB)."""
@@ -517,7 +519,7 @@ class _Reader:
             out += [int(i) for i in idx]
         return tuple(out)
 
-    def fail(self, field_path: str, message: str, pointer: tuple[str | int, ...] = ()) -> None:
+    def fail(self, field_path: str, message: str, pointer: tuple[str | int, ...] = ()) -> NoReturn:
         line, col = _locate(self.source, pointer) if self.source is not None else (0, 0)
         where = f"{self.path}:{line}:{col}" if line else self.path
         raise PlanFileError(f"{where}: {field_path or '(top level)'}: {message}")
@@ -554,7 +556,7 @@ class _Reader:
         if v is None:
             if optional:
                 return None
-            self.need(obj, key, where)
+            v = self.need(obj, key, where)
         ok = isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
         if ok and not signed:
             ok = v >= 0 if zero else v > 0
@@ -576,7 +578,7 @@ class _Reader:
         if v is None:
             if optional:
                 return None
-            self.need(obj, key, where)
+            v = self.need(obj, key, where)
         if isinstance(v, bool) or not isinstance(v, int) or not 1 <= v <= 100_000:
             self.fail(self._key(where, key), f"{v!r} is not allowed (a whole number from 1 to 100000)",
                       (*self.path_of(where), key))
@@ -644,7 +646,7 @@ def _locate(text: str, pointer: tuple[str | int, ...]) -> tuple[int, int]:
                     break
                 i, found = skip(pos + 1), None
                 while i < len(text) and text[i] == '"':
-                    key, i = json.decoder.scanstring(text, i + 1)
+                    key, i = scanstring(text, i + 1)
                     i = skip(skip(i) + 1)  # past the colon
                     if key == step:
                         found = i

@@ -57,7 +57,7 @@ import numpy as np
 from notchkit.errors import InputError, MeasurementError, UsageError
 from notchkit.fileio import write_bytes_atomic
 from notchkit.lines import C0
-from notchkit.planfile import StubRecord, read_plan
+from notchkit.planfile import StubRecord, read_plan, stub_alone_mhz
 from notchkit.resonance import (  # noqa: F401  (re-exported: the measuring step of trim)
     FIT_SPAN,
     MAX_QUARTER_WAVES,
@@ -351,7 +351,8 @@ def plan_target(
         if ports == 2:
             target_mhz, source = stub.resonance_mhz, f"plan {sid} resonance at the tee"
         else:
-            target_mhz, source = stub.resonance_alone_mhz, f"plan {sid} resonance of the stub alone"
+            alone = stub_alone_mhz(stub.resonance_mhz, stub.length_m, stub.cut_length_m)
+            target_mhz, source = alone, f"plan {sid} resonance of the stub alone"
     if allowance_m is None:
         allowance_m = stub.allowance_m if (stub is not None and ports == 2) else 0.0
     present, length_source = length_m, ("length_m" if length_m is not None else None)
