@@ -106,9 +106,10 @@ def _designed_db(record: Any, lo: float, hi: float) -> float:
 
 
 def _threats(doc: Any) -> list[dict[str, Any]]:
-    from notchkit.planfile import PlanFileError, _Reader
+    from notchkit.jsonread import Reader
+    from notchkit.planfile import PlanFileError
 
-    r = _Reader(doc.path or "plan", None)
+    r = Reader(doc.path or "plan", None, PlanFileError)
     if doc.survey is None:
         raise PlanFileError(f"{doc.path}: survey: missing (recheck needs a plan JSON from notchkit plan "
                             "--outdir, which holds the survey)")

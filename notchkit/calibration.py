@@ -11,8 +11,8 @@ calibrated design says so (the JSON's ``cable.calibration``, the plan's
 filter pages, the design text).
 
 The file is written and read by the types here (one format, one module),
-atomically, bounded (:data:`notchkit.planfile.MAX_PLAN_BYTES`), and every bad
-value is one line naming its key.
+atomically, bounded (:data:`MAX_CALIBRATION_BYTES`, :mod:`notchkit.jsonread`),
+and every bad value is one line naming its key.
 
 Which samples count: a VF from a trim whose length was known, within
 ``notchkit.trim.MIN_VF``-1 (trim refuses the rest); a loss scale only where the
@@ -34,14 +34,18 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.errors import UsageError
-from notchkit.planfile import PlanFileError, _read_text_bounded, _Reader
+from notchkit.jsonread import JsonFileError, Reader, parse_json, read_text_bounded
 
 NOTE_PREFIX = "calibrated "
 """How a calibrated :class:`notchkit.cables.Cable` carries its calibration (in ``notes``)."""
 MAX_SAMPLES = 10_000
 
 
-class CalibrationError(PlanFileError):
+MAX_CALIBRATION_BYTES = 16 * 1024 * 1024
+"""Largest calibration file read, bytes."""
+
+
+class CalibrationError(JsonFileError):
     """A calibration file that cannot be used."""
 
 
@@ -63,7 +67,7 @@ class Sample:
                 "loss_scale": self.loss_scale, "measurement": self.measurement}
 
     @classmethod
-    def from_json(cls, r: _Reader, node: Any, where: str) -> Sample:
+    def from_json(cls, r: Reader, node: Any, where: str) -> Sample:
         obj = r.obj(node, where)
         return cls(source=r.choice(obj, "source", where, ("trim", "verify")),
                    piece=r.text(obj, "piece", where),
@@ -113,14 +117,11 @@ class SpoolCalibration:
 
     @classmethod
     def from_json(cls, doc: Any, *, path: str, text: str | None = None) -> SpoolCalibration:
-        r = _Reader(path, text)
-        try:
-            obj = r.obj(doc, "")
-            samples = tuple(Sample.from_json(r, s, f"samples[{i}]")
-                            for i, s in enumerate(r.items(obj, "samples", "", MAX_SAMPLES)))
-            return cls(spool=r.text(obj, "spool", ""), cable=r.text(obj, "cable", ""), samples=samples)
-        except PlanFileError as exc:
-            raise CalibrationError(str(exc)) from None
+        r = Reader(path, text, CalibrationError)
+        obj = r.obj(doc, "")
+        samples = tuple(Sample.from_json(r, s, f"samples[{i}]")
+                        for i, s in enumerate(r.items(obj, "samples", "", MAX_SAMPLES)))
+        return cls(spool=r.text(obj, "spool", ""), cable=r.text(obj, "cable", ""), samples=samples)
 
 
 def read_calibration(path: str | os.PathLike[str]) -> SpoolCalibration:
@@ -132,16 +133,8 @@ def read_calibration(path: str | os.PathLike[str]) -> SpoolCalibration:
         Missing, unreadable, too large, not JSON, or a bad value (one line naming the key).
     """
     p = Path(path)
-    try:
-        text = _read_text_bounded(p, "calibration")
-    except PlanFileError as exc:
-        raise CalibrationError(str(exc)) from None
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise CalibrationError(f"{p}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg})") from None
-    except (RecursionError, ValueError):
-        raise CalibrationError(f"{p}: not a notchkit calibration file") from None
+    text = read_text_bounded(p, "calibration", MAX_CALIBRATION_BYTES, CalibrationError)
+    doc = parse_json(text, p, CalibrationError)
     return SpoolCalibration.from_json(doc, path=str(p), text=text)
 
 

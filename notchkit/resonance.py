@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 from numpy.typing import NDArray
@@ -272,39 +272,10 @@ def find_resonance(
     centre (its vertex) and from its bottom and curvature the stub's unloaded
     ``Q`` (``u`` doubles at ``|X| = R``).
     """
-    if termination not in ("open", "short"):
-        raise named(UsageError(f"termination: {termination!r} must be 'open' or 'short'"), "termination")
     ports = int(network.nports)
-    if ports not in (1, 2):
-        raise MeasurementError(f"has {ports} ports; trim reads 1 (.s1p) or 2 (.s2p)")
-    n = _default_quarter_waves(ports, termination) if quarter_waves is None else quarter_waves
-    if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= MAX_QUARTER_WAVES:
-        raise named(UsageError(f"quarter_waves: {n!r} must be a whole number from 1 to "
-                                f"{MAX_QUARTER_WAVES}"), "quarter_waves")
-    kind = _kind(termination, n)
-    if ports == 2 and kind != "series":
-        need = "odd (1, 3, ...)" if termination == "open" else "even (2, 4, ...)"
-        raise named(UsageError(
-            f"quarter_waves: {n} quarter waves of a{'n open' if termination == 'open' else ' shorted'}"
-            f" stub is transparent through a tee (no notch); use an {need} number for a .s2p"
-        ), "quarter_waves")
+    kind = _check_request(ports, termination, quarter_waves)
     f = np.asarray(network.f, dtype=float)
-
-    with np.errstate(divide="ignore", invalid="ignore"):
-        if ports == 1:
-            s = np.asarray(network.s[:, 0, 0], dtype=complex)
-            if kind == "series":
-                w = (1.0 + s) / (1.0 - s)  # Z / z_system
-            else:
-                w = (1.0 - s) / (1.0 + s)  # Y * z_system
-            contrast = -20.0 * np.log10(np.abs(w))
-        else:
-            p = np.abs(np.asarray(network.s[:, 1, 0], dtype=complex)) ** 2
-            p = np.clip(p, 1e-30, 1.0 - 1e-12)
-            u = p / (1.0 - p)
-            contrast = -10.0 * np.log10(p)
-    contrast = np.where(np.isfinite(contrast), contrast, 300.0)
-
+    w, contrast = _curve(network, ports, kind)
     strongest = int(np.argmax(contrast))
     regions = _merge_close(f, _regions(contrast >= MIN_DEPTH_DB))
     what = "notch" if ports == 2 else f"{kind} resonance"
@@ -328,34 +299,9 @@ def find_resonance(
                 break  # never fall back to another resonance when the wanted one is cut off
             continue
         try:
-            if ports == 1:
-                f0, slope, r0, r_std = _fit_crossing(f, w, float(f[i]))
-                limited = r0 <= NOISE_SIGMAS * r_std
-                if r0 > 0:
-                    bw = 2.0 * r0 / slope
-                    q = f0 / bw
-                    depth = -20.0 * math.log10(r0)
-                else:
-                    bw = q = None
-                    depth = float(contrast[i])
-            else:
-                f0, u_min, curv, u_std = _fit_notch(f, u, float(f[i]))
-                limited = u_min <= NOISE_SIGMAS * u_std
-                if u_min > 0:
-                    bw = 2.0 * math.sqrt(u_min / curv)
-                    q = f0 / bw
-                    depth = 10.0 * math.log10((1.0 + u_min) / u_min)
-                else:
-                    bw = q = None
-                    depth = float(contrast[i])
+            return _fit_candidate(f, w, contrast, i, ports, kind)
         except _NoResonance as exc:
             problems.append((str(exc), i))
-            continue
-        return Resonance(
-            freq_hz=float(f0), kind=kind, ports=ports, depth_db=float(depth),
-            q=None if q is None else float(q), bandwidth_hz=None if bw is None else float(bw),
-            q_noise_limited=bool(limited),
-        )
     why, i = problems[0]
     at = f"{f[i] / 1e6:.4g} MHz"
     if why == "edge":
@@ -369,6 +315,65 @@ def find_resonance(
     )
     raise named(MeasurementError(f"no clear {what}: {quantity} near {at} (check termination and "
                                   f"quarter_waves)"), "termination", "quarter_waves")
+
+
+def _check_request(ports: int, termination: str, quarter_waves: int | None) -> Literal["series", "parallel"]:
+    """The kind of resonance asked for, or a refusal naming the parameter."""
+    if termination not in ("open", "short"):
+        raise named(UsageError(f"termination: {termination!r} must be 'open' or 'short'"), "termination")
+    if ports not in (1, 2):
+        raise MeasurementError(f"has {ports} ports; notchkit reads 1 (.s1p) or 2 (.s2p)")
+    n = _default_quarter_waves(ports, termination) if quarter_waves is None else quarter_waves
+    if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= MAX_QUARTER_WAVES:
+        raise named(UsageError(f"quarter_waves: {n!r} must be a whole number from 1 to "
+                                f"{MAX_QUARTER_WAVES}"), "quarter_waves")
+    kind = _kind(termination, n)
+    if ports == 2 and kind != "series":
+        need = "odd (1, 3, ...)" if termination == "open" else "even (2, 4, ...)"
+        raise named(UsageError(
+            f"quarter_waves: {n} quarter waves of a{'n open' if termination == 'open' else ' shorted'}"
+            f" stub is transparent through a tee (no notch); use an {need} number for a .s2p"
+        ), "quarter_waves")
+    return kind
+
+
+def _curve(network: Any, ports: int, kind: str) -> tuple[NDArray[np.complex128], NDArray[np.float64]]:
+    """What the fit works on and the contrast (dB) the resonance is looked for in.
+
+    One port: ``w`` the normalised impedance (series) or admittance (parallel).
+    Two ports: ``w`` holds ``u = |S21|^2 / (1 - |S21|^2)`` (real).
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if ports == 1:
+            s = np.asarray(network.s[:, 0, 0], dtype=complex)
+            w = (1.0 + s) / (1.0 - s) if kind == "series" else (1.0 - s) / (1.0 + s)
+            contrast = -20.0 * np.log10(np.abs(w))
+        else:
+            p = np.abs(np.asarray(network.s[:, 1, 0], dtype=complex)) ** 2
+            p = np.clip(p, 1e-30, 1.0 - 1e-12)
+            w = (p / (1.0 - p)).astype(complex)
+            contrast = -10.0 * np.log10(p)
+    return w, np.where(np.isfinite(contrast), contrast, 300.0)
+
+
+def _fit_candidate(f: NDArray[np.float64], w: NDArray[np.complex128], contrast: NDArray[np.float64], i: int,
+                   ports: int, kind: Literal["series", "parallel"]) -> Resonance:
+    """The resonance around sample ``i`` (raises :class:`_NoResonance` when there is none)."""
+    if ports == 1:
+        f0, slope, r0, r_std = _fit_crossing(f, w, float(f[i]))
+        limited = r0 <= NOISE_SIGMAS * r_std
+        bw = 2.0 * r0 / slope if r0 > 0 else None
+        depth = -20.0 * math.log10(r0) if r0 > 0 else float(contrast[i])
+    else:
+        f0, u_min, curv, u_std = _fit_notch(f, w.real, float(f[i]))
+        limited = u_min <= NOISE_SIGMAS * u_std
+        bw = 2.0 * math.sqrt(u_min / curv) if u_min > 0 else None
+        depth = 10.0 * math.log10((1.0 + u_min) / u_min) if u_min > 0 else float(contrast[i])
+    return Resonance(
+        freq_hz=float(f0), kind=kind, ports=ports, depth_db=float(depth),
+        q=None if bw is None else float(f0 / bw), bandwidth_hz=None if bw is None else float(bw),
+        q_noise_limited=bool(limited),
+    )
 
 
 __all__ = ["Resonance", "find_resonance", "named"]
