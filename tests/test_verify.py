@@ -299,3 +299,21 @@ def test_damaged_measurements_are_one_line_and_exit_2(ridge, tmp_path, capsys, n
         assert code == 2 and out == "" and err.startswith("error: ") and len(err.strip().splitlines()) == 1
         assert "Traceback" not in err
     assert p.read_bytes() == content
+
+
+@pytest.mark.parametrize(("kw", "expect"), [
+    ({"scale": {"F3-S1": 1.01}}, "F3-S1"), ({"swap": "F3-S1"}, "swap"), ({"loss": 3.0}, "loss"),
+])
+def test_a_one_port_sweep_into_a_load_is_diagnosed_too(ridge, tmp_path, kw, expect):
+    rec = ridge.filter("F3")
+    net = build(rec, ports=1, seed=12, **kw)
+    res = verify(write(net, tmp_path, "one"), plan_path=plan_path(ridge), filter_id="F3", diagnose=True)
+    d = res.diagnosis
+    assert d.refused is None
+    if expect == "F3-S1":
+        true_mm = 0.01 * rec.elements[0].length_m * 1000
+        assert d.faulty == ("F3-S1",) and d.elements[0].error_mm == pytest.approx(true_mm, abs=1.0)
+    elif expect == "swap":
+        assert d.swapped == "F3-S1" and d.faulty == ()
+    else:
+        assert d.loss_scale == pytest.approx(3.0, rel=0.1) and d.faulty == ()
