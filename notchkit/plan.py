@@ -178,9 +178,11 @@ def plan_json(site: Any, sv: Any, report: Any, *, date: str, version: str, units
     from notchkit.planfile import PlanDocument
 
     designs = _designs(report)
+    whole = report.to_json() if hasattr(report, "to_json") else {}
     doc = PlanDocument(site=site.name, site_file=str(site.path), date=date, notchkit_version=version,
                        units=units, meets=bool(all(getattr(d, "meets", False) for d in designs)),
-                       filters=tuple(design_record(d) for d in designs), survey=sv.to_json())
+                       filters=tuple(design_record(d) for d in designs), survey=sv.to_json(),
+                       extra={k: v for k, v in whole.items() if k not in ("site", "meets", "filters")})
     return doc.to_json()
 
 

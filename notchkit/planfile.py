@@ -336,6 +336,8 @@ class PlanDocument:
     notchkit_version: str | None = None
     units: str | None = None
     survey: Mapping[str, Any] | None = None
+    extra: Mapping[str, Any] = field(default_factory=dict)
+    """Top-level keys no reader uses, as written."""
     path: str | None = field(default=None, compare=False)
     """The file it was read from (not written)."""
 
@@ -368,6 +370,8 @@ class PlanDocument:
                 out[key] = v
         out["meets"] = self.meets
         out["filters"] = [f.to_json() for f in self.filters]
+        for k, v in self.extra.items():
+            out.setdefault(k, v)
         if self.survey is not None:
             out["survey"] = self.survey
         return out
@@ -388,7 +392,9 @@ class PlanDocument:
         survey = obj.get("survey")
         if survey is not None and not isinstance(survey, dict):
             r.fail("survey", "must be an object", ("survey",))
-        return cls(filters=filters, meets=r.flag(obj, "meets", ""), survey=survey, path=path, **meta)
+        known = {"filters", "meets", "survey", *meta}
+        return cls(filters=filters, meets=r.flag(obj, "meets", ""), survey=survey, path=path,
+                   extra={k: v for k, v in obj.items() if k not in known}, **meta)
 
 
 # ------------------------------------------------------------------ the writer side
