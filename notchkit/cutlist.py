@@ -102,9 +102,8 @@ class StubCut:
     resonance_mhz: float
     """The resonance the stub is trimmed to, ``n c VF / (4 l)``: the series resonance
     (input looks like a short; n odd open, even shorted) nearest the notch the stub
-    exists for, or, for a stub that notches nothing by itself, its parallel resonance
-    (input looks open) nearest a pass band; always inside the analyser's range when
-    one exists (see :func:`trim_resonance`)."""
+    exists for, or, for a stub that notches nothing by itself, its lowest; always
+    inside the analyser's range when one exists (see :func:`trim_resonance`)."""
     quarter_waves: int
     """``n`` above: how many quarter waves long the stub is at ``resonance_mhz``."""
     serves_notch_mhz: float | None
@@ -114,8 +113,7 @@ class StubCut:
     end: str
     dc_note: str
     resonance_kind: str = "series"
-    """``"series"`` (impedance minimum: a notch through the tee) or ``"parallel"``
-    (impedance maximum: the stub alone looks open)."""
+    """Always ``"series"``: an impedance minimum, a notch through the tee."""
     trimmable: bool = True
     """The trim resonance lies inside the analyser's range (else: cut to length)."""
 
@@ -238,39 +236,33 @@ def trim_resonance(
     velocity_factor: float,
     *,
     serves_mhz: float | None,
-    pass_mhz: Sequence[float] = (),
     analyser_mhz: tuple[float, float] = ANALYSER_MHZ,
 ) -> tuple[float, int, str, bool]:
     """The resonance a stub is trimmed to: ``(resonance_mhz, n, kind, in_range)``.
 
-    The stub exists for the notch at ``serves_mhz``: its series resonance there
-    (``n`` odd for an open stub, even for a shorted one) nearest that notch. A stub
-    that notches nothing by itself (``serves_mhz`` ``None``) is trimmed at its
-    parallel resonance nearest a pass band. Only orders whose frequency lies inside
-    ``analyser_mhz`` are taken; where none of the kind does, the other kind nearest
-    the same frequency, else the lowest series resonance with ``in_range`` false.
-    ``f_n = n c VF / (4 l)`` (Pozar sec. 2.3).
+    Always a series resonance (``n`` odd for an open stub, even for a shorted one):
+    the stub's input looks like a short, a notch through the tee, which is what the
+    trimming steps measure. The stub exists for the notch at ``serves_mhz``: the
+    order nearest that notch; a stub that notches nothing by itself (``serves_mhz``
+    ``None``: it matches or passes) is trimmed at its lowest series resonance. Only
+    orders inside ``analyser_mhz`` are taken; with none in range, the lowest series
+    resonance is returned with ``in_range`` false (the stub is cut to length).
+    ``f_n = n c VF / (4 l)`` (Pozar sec. 2.3); ``kind`` is ``"series"``.
     """
     if not (math.isfinite(length_m) and length_m > 0):
         raise DesignError(f"stub length_m {length_m!r} must be > 0 to have a resonance")
     f1 = C0 * velocity_factor / (4.0 * length_m) / 1e6
     lo, hi = analyser_mhz
     n_lo, n_hi = max(1, int(math.ceil(lo / f1 - 1e-9))), int(math.floor(hi / f1 + 1e-9))
-    series = 1 if termination == "open" else 0
-    wants = []
-    if serves_mhz is not None:
-        wants.append((float(serves_mhz), series, "series"))
-    for f in pass_mhz:
-        wants.append((float(f), 1 - series, "parallel"))
-    if serves_mhz is not None:
-        wants.append((float(serves_mhz), 1 - series, "parallel"))
-    for f in pass_mhz:
-        wants.append((float(f), series, "series"))
-    for target, parity, kind in wants:
-        n = _order_near(f1, target, parity, n_lo, n_hi)
-        if n is not None:
-            return n * f1, n, kind, True
+    parity = 1 if termination == "open" else 0
     first = 1 if termination == "open" else 2
+    n = None
+    if serves_mhz is not None:
+        n = _order_near(f1, float(serves_mhz), parity, n_lo, n_hi)
+    if n is None:
+        n = _order_near(f1, max(lo, first * f1), parity, n_lo, n_hi)  # the lowest in range
+    if n is not None:
+        return n * f1, n, "series", True
     return first * f1, first, "series", False
 
 
@@ -465,7 +457,7 @@ def cut_list(
         extra = max(cut_m * trim_margin_pct / 100.0, MIN_TRIM_EXTRA_M)
         served = _serves(filt, e, notches)
         res, q, kind, in_range = trim_resonance(e.termination, e.length_m, vf, serves_mhz=served,
-                                                pass_mhz=passes, analyser_mhz=analyser_mhz)
+                                                analyser_mhz=analyser_mhz)
         elec = tuple(
             ElectricalLength(freq_mhz=f, degrees=electrical_degrees(e.length_m, f, vf), role=role)
             for role, fs in (("notch", notches), ("pass", passes))
@@ -556,10 +548,8 @@ def format_length(m: float, units: str = "both") -> str:
 
 
 def resonance_text(c: StubCut) -> str:
-    """``438.0 MHz (series, 1 x quarter wave)``: the trim target and what it is."""
-    how = ("impedance minimum: a notch through the tee" if c.resonance_kind == "series"
-           else "impedance maximum: the stub alone looks open")
-    return f"{c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave, {how})"
+    """``438.0000 MHz (1 x quarter wave, a notch through the tee)``: the trim target."""
+    return f"{c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave, a notch through the tee)"
 
 
 def format_cut_list(cuts: Sequence[StubCut], units: str = "both",

@@ -311,8 +311,11 @@ class _Problem:
         # resonance (quarter wave) within the analyser's range; a line section is cable
         # with a plug at each end.
         a = self.allowances
-        first_res = C0 * vf / (4.0 * float(a.analyser_hi_mhz) * 1e6)
-        self.stub_min = max(self.tee + float(a.min_stub_cut_m), first_res)
+        # the first series resonance (open: quarter wave; shorted: half wave) below the top
+        quarter = C0 * vf / (4.0 * float(a.analyser_hi_mhz) * 1e6)
+        self.kind_min = {"open": max(self.tee + float(a.min_stub_cut_m), quarter),
+                         "short": max(self.tee + float(a.min_stub_cut_m), 2.0 * quarter)}
+        self.stub_min = min(self.kind_min.values())
         self.line_min = float(a.min_line_m)
         self.barrel = float(getattr(a, "barrel_m", 0.0))
         scan_top = STUB_SCAN_WAVELENGTHS * self.lam_low + self.stub_min
@@ -439,7 +442,7 @@ class _Problem:
     # ---- bounds
 
     def bounds(self, kinds: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
-        lo = np.array([self.barrel if k == BARREL else self.line_min if k == "line" else self.stub_min
+        lo = np.array([self.barrel if k == BARREL else self.line_min if k == "line" else self.kind_min[k]
                        for k in kinds])
         hi = np.array([self.barrel if k == BARREL else self.line_max if k == "line" else self.stub_max
                        for k in kinds])
@@ -461,7 +464,7 @@ def _rule_seeds(p: _Problem) -> dict[str, list[float]]:
         lam = C0 * vf / (b.centre_mhz * 1e6)
         seeds["short"] += [(2 * k + 1) * lam / 4 for k in range(3)]  # shorted odd quarter waves pass
         seeds["open"] += [k * lam / 2 for k in range(1, 3)]  # open half waves pass
-    return {k: [x for x in v if p.stub_min <= x <= p.stub_max] for k, v in seeds.items()}
+    return {k: [x for x in v if p.kind_min[k] <= x <= p.stub_max] for k, v in seeds.items()}
 
 
 def _compensation_lengths(p: _Problem, b_siemens: float, kind: str, freq_hz: float) -> list[float]:
@@ -478,7 +481,7 @@ def _compensation_lengths(p: _Problem, b_siemens: float, kind: str, freq_hz: flo
     out = []
     for m in range(3):
         length = (theta + m * math.pi) / beta
-        if p.stub_min <= length <= p.stub_max:
+        if p.kind_min[kind] <= length <= p.stub_max:
             out.append(length)
     return out[:2]
 
@@ -543,6 +546,7 @@ def _scan_one_stub(p: _Problem):
     best_single: list[tuple[str, float]] = []  # the best resonance of each kind for each notch
     for kind in ("open", "short"):
         lengths = np.unique(np.r_[grid_l, seeds[kind]])
+        lengths = lengths[lengths >= p.kind_min[kind]]
         s21, s11 = p.evaluate((kind,), lengths[:, None], p.scan)
         j, viol, margin, worst = p.objective((kind,), lengths[:, None], p.scan, s21, s11)
         idx = _local_minima(j)
@@ -637,6 +641,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
                     for b, f in zip(b_row, f_pass, strict=True):
                         new += _compensation_lengths(p, float(b), kind, float(f))
                     new_arr = np.round(np.asarray(new), 6)  # repeats go in the unique() below
+                    new_arr = new_arr[new_arr >= p.kind_min[kind] - 1e-6]
                     rows = np.column_stack([np.repeat(row[None, :], new_arr.size, axis=0), new_arr])
                     by_topology.setdefault((*base_kinds, kind), []).append(rows)
     out_k: list[tuple[str, ...]] = []
