@@ -38,6 +38,7 @@ from typing import Any
 from notchkit.elements import OPEN, SHORT, element_ids, kind_of
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
+from notchkit.hardware import reference_plane
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0
 
@@ -95,6 +96,8 @@ class StubCut:
     """Millimetres to cut off to raise ``resonance_mhz`` by 1 MHz (``l / f``)."""
     end: str
     dc_note: str
+    reference_plane: str = ""
+    """Where ``cut_length_m`` is measured from (notchkit.hardware.reference_plane)."""
 
     @property
     def dc_path_to_ground(self) -> bool:
@@ -126,6 +129,7 @@ class StubCut:
             "dc_path_to_ground": self.dc_path_to_ground,
             "end": self.end,
             "dc_note": self.dc_note,
+            "reference_plane": self.reference_plane,
         }
 
 
@@ -245,6 +249,8 @@ def cut_list(
             )
         extra = max(cut_m * trim_margin_pct / 100.0, MIN_TRIM_EXTRA_M)
         res, q, served = stub_resonance_mhz(e.termination, e.length_m, vf, notches)
+        if hasattr(filt.cable, "stub_resonance_mhz"):  # hardware / RLGC model: refine on the model
+            res = filt.cable.stub_resonance_mhz(e.kind, e.length_m, res)
         elec = tuple(
             ElectricalLength(freq_mhz=f, degrees=electrical_degrees(e.length_m, f, vf), role=role)
             for role, fs in (("notch", notches), ("pass", passes))
@@ -269,6 +275,7 @@ def cut_list(
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
                 end=e.kind.end_text,
                 dc_note=e.kind.dc_text,
+                reference_plane=reference_plane(filt),
             )
         )
     return tuple(cuts)
@@ -337,6 +344,8 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both") -> str:
             f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
             f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
         )
+        if c.reference_plane:
+            lines.append(f"    cut length measured {c.reference_plane}")
         lines.append(
             f"    resonance {c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave); "
             f"trim {c.trim_rate_mm_per_mhz:.1f} mm per MHz to raise it"

@@ -229,8 +229,10 @@ def evaluate_batch(
     scikit-rf on uniform, banded and irregular grids.
     """
     kinds = tuple(kind_of(k) for k in kinds)
-    if hasattr(cable, "evaluate_batch") and not cable.is_plain:  # a notchkit.hardware.Model
-        return cable.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
+    if hasattr(cable, "evaluate_batch"):  # a notchkit.hardware.Model
+        if not cable.is_plain:
+            return cable.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
+        cable = cable.cable
     lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")

@@ -234,6 +234,8 @@ class Model:
     source: Any = None
     rlgc: bool = False
     depth_ceiling_db: float | None = DEFAULT_DEPTH_CEILING_DB
+    out_of_band_swr: float = DEFAULT_OUT_OF_BAND_SWR
+    """Mismatch for the report's load spread when no load is given."""
 
     def __getattr__(self, name: str) -> Any:  # everything else is the cable's
         if name.startswith("__"):
@@ -336,6 +338,14 @@ class Model:
         ``z_system``; the ceiling adds a leakage path in power:
         ``|s21|^2 + 10^(-ceiling/10)``.
         """
+        if (self.hardware is None and self.load is None and self.source is None and not self.rlgc):
+            # Only the ceiling: the fast core on the bare cable, then the leakage path.
+            from notchkit.filters import evaluate_batch
+
+            s21, s11 = evaluate_batch(kinds, lengths_m, self.cable, freq_hz, z_system)
+            if self.depth_ceiling_db is not None:
+                s21 = apply_ceiling(s21, self.depth_ceiling_db)
+            return s21, s11
         lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
         f = np.asarray(freq_hz, dtype=float).ravel()
         if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f <= 0):
@@ -355,6 +365,33 @@ class Model:
 
     def with_(self, **changes: Any) -> Model:
         return replace(self, **changes)
+
+    def stub_resonance_mhz(self, kind: Any, length_m: float, guess_mhz: float) -> float:
+        """The stub's own series resonance as measured alone at its plug's mating face, MHz.
+
+        The cable-only formula ``n c VF / (4 l)`` (``guess_mhz``) is refined on
+        the model: the plug, the short's inductance and the RLGC line shift it.
+        Found as the sign change of ``Im Z_in`` (from below to above zero,
+        where ``|Z_in|`` is small) nearest the guess, within 25 %.
+        """
+        k = kind_of(kind)
+        hw = self.hardware
+        if (hw is None and not self.rlgc) or not k.shunt:
+            return guess_mhz
+        f = np.linspace(0.75, 1.25, 2001) * guess_mhz * 1e6
+        bare = replace(self, hardware=None if hw is None else replace(
+            hw, family=replace(hw.family, tee_side_mm=0.0, tee_through_mm=0.0), barrels_per_port=0),
+            load=None, source=None, depth_ceiling_db=None)
+        a, b, c, d = bare.abcd((k,), np.array([[length_m]]), f)
+        y = c[0]  # a lone shunt element: C = Y
+        z = 1.0 / y
+        x = z.imag
+        cross = np.flatnonzero((x[:-1] < 0) & (x[1:] >= 0) & (np.abs(z[:-1]) < np.abs(z).mean()))
+        if cross.size == 0:
+            return guess_mhz
+        i = cross[np.argmin(np.abs(f[cross] - guess_mhz * 1e6))]
+        t = x[i] / (x[i] - x[i + 1])
+        return float((f[i] + t * (f[i + 1] - f[i])) / 1e6)
 
 
 def terminate(a, b, c, d, zs, zl, z_system: float = 50.0):
@@ -396,3 +433,114 @@ def ceiling_note(ceiling_db: float | None) -> str:
             "coax hardware and the dynamic range of a hobby analyser limit what can be built and "
             "verified; a deeper requirement needs better hardware (double-shielded cable, N "
             "connectors), physical separation or a cavity filter")
+
+
+# ---------------------------------------------------------------- from a site, and what the report says
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class ConstantZ:
+    """A port of one impedance at every frequency (a radio's port)."""
+
+    z: complex
+
+    def z_ohm(self, freq_hz: ArrayLike) -> NDArray[np.complex128]:
+        return np.full(np.shape(freq_hz), complex(self.z))
+
+
+def hardware_of(settings: Any) -> Hardware | None:
+    """:class:`Hardware` from a site's ``hardware:`` settings (None: no block)."""
+    if settings is None:
+        return None
+    over = {k: getattr(settings, k) for k in ("z_pair_ohm", "plug_mm", "tee_through_mm", "tee_side_mm")}
+    if over["z_pair_ohm"] is not None:
+        over["tee_z_ohm"] = over["z_pair_ohm"]
+    short = settings.short_nh if settings.short_nh is not None else DEFAULT_SHORT_NH
+    return Hardware.of(settings.family, short_nh=short, barrels_per_port=int(settings.barrels_per_port),
+                       **over)
+
+
+def model_for(cable: Any, *, settings: Any = None, load: Any = None,
+              depth_ceiling_db: float | None = None) -> Model:
+    """The :class:`Model` a site asks for: its ``hardware:`` settings, one radio's ``load:``
+    (:class:`notchkit.site.model.RadioLoad`) and its ceiling (default :data:`DEFAULT_DEPTH_CEILING_DB`)."""
+    from notchkit.loads import read_load
+
+    z_load = source = None
+    swr = DEFAULT_OUT_OF_BAND_SWR
+    if load is not None:
+        if getattr(load, "file", None):
+            z_load = read_load(load.file)
+        if getattr(load, "swr", None) is not None:
+            swr = float(load.swr)
+        if getattr(load, "radio_ohm", None) is not None:
+            source = ConstantZ(z=complex(load.radio_ohm))
+    return Model(cable=cable, hardware=hardware_of(settings), load=z_load, source=source,
+                 rlgc=getattr(settings, "line_model", "classic") == "rlgc",
+                 depth_ceiling_db=DEFAULT_DEPTH_CEILING_DB if depth_ceiling_db is None else depth_ceiling_db,
+                 out_of_band_swr=swr)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class ModelReport:
+    """What the design was verified against, and how far an unknown load can move it."""
+
+    lines: tuple[str, ...]
+    data: dict
+
+    def to_json(self) -> dict[str, Any]:
+        return self.data
+
+
+def reference_plane(filt: Any) -> str:
+    """Where every cut length of ``filt`` is measured from (stated in the cut list)."""
+    hw = getattr(filt.cable, "hardware", None) if isinstance(filt.cable, Model) else None
+    if hw is None:
+        return (f"from the tee's port reference plane (the connector's mating face) to the stub's end, "
+                f"the tee allowance of {filt.tee_allowance_m * 1000:.0f} mm already taken off")
+    return (f"from the mating face of the stub's {hw.family.name.upper()} plug to the stub's end, the plug's "
+            f"{hw.family.plug_mm:g} mm included (tee arms modelled separately)")
+
+
+def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.0) -> ModelReport:
+    """The model's facts for the report: hardware, line model, load (or its spread), ceiling."""
+    from notchkit.loads import load_spread, spread_lines
+
+    m = filt.cable if isinstance(filt.cable, Model) else Model(cable=filt.cable, depth_ceiling_db=None)
+    lines: list[str] = []
+    data: dict[str, Any] = {}
+    if m.hardware is None:
+        lines.append(f"Model: ideal tees; tee allowance {filt.tee_allowance_m * 1000:.0f} mm of stub cable "
+                     "per stub; cut lengths run from the tee's port reference plane (the connector's mating "
+                     "face) to the stub's end, the allowance taken off.")
+        data["hardware"] = None
+    else:
+        f = m.hardware.family
+        lines.append(f"Model: {f.name.upper()} hardware, mated pair {f.z_pair_ohm:g} ohm, tee arms "
+                     f"{f.tee_through_mm:g} mm through / {f.tee_side_mm:g} mm side ({f.tee_z_ohm:g} ohm), "
+                     f"short {m.hardware.short_nh:g} nH, {m.hardware.barrels_per_port} barrel(s) per port.")
+        lines.append(m.hardware.reference_planes())
+        data["hardware"] = m.hardware.to_json()
+    lines.append("Line: RLGC (internal inductance: phase velocity falls at HF, complex Z0)." if m.rlgc else
+                 "Line: lossless-VF phase with the cable's loss (classic model).")
+    data["line_model"] = "rlgc" if m.rlgc else "classic"
+    if m.load is not None:
+        lo, hi = m.load.freq_hz[0] / 1e6, m.load.freq_hz[-1] / 1e6
+        lines.append(f"Verified into the given antenna load ({m.load.source}, {lo:g}-{hi:g} MHz); outside "
+                     "that range the load is taken as 50 ohm.")
+        data["load"] = m.load.to_json()
+        freqs = [x for x in list(notch_mhz) + list(pass_mhz) if not lo <= x <= hi]
+        uncovered = [x for x in notch_mhz if not lo <= x <= hi]
+        passes = [x for x in pass_mhz if not lo <= x <= hi]
+        spreads = (load_spread(filt, uncovered, passes, swr=m.out_of_band_swr, z_system=z_system)
+                   if freqs else ())
+    else:
+        data["load"] = None
+        spreads = load_spread(filt, notch_mhz, pass_mhz, swr=m.out_of_band_swr, z_system=z_system)
+    lines += spread_lines(spreads, m.out_of_band_swr)
+    data["load_spread_swr"] = m.out_of_band_swr
+    data["load_spread"] = [s.to_json() for s in spreads]
+    note = ceiling_note(m.depth_ceiling_db)
+    lines.append(note[0].upper() + note[1:] + ".")
+    data["depth_ceiling_db"] = m.depth_ceiling_db
+    return ModelReport(lines=tuple(lines), data=data)
