@@ -175,7 +175,7 @@ def _section(z: float | NDArray, vf: float, length_m: float, f: NDArray[np.float
 
 
 def _chain(*mats):
-    """Product of 2x2 ABCD tuples (each entry an array or None-matrix skipped)."""
+    """Product of 2x2 ABCD tuples (entries arrays or scalars; None matrices skipped)."""
     out = None
     for m in mats:
         if m is None:
@@ -202,6 +202,26 @@ def _y_through_section(y, z: float, vf: float, length_m: float, f):
 
 
 # ---------------------------------------------------------------- the model
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class _OtherVf:
+    """A cable with another velocity factor, everything else its own."""
+
+    base: Any
+    velocity_factor: float
+
+    def __getattr__(self, name: str) -> Any:
+        if name.startswith("__"):
+            raise AttributeError(name)
+        return getattr(object.__getattribute__(self, "base"), name)
+
+    @property
+    def z0_ohm(self) -> float:
+        return self.base.z0_ohm
+
+    def alpha_np_per_m(self, freq_hz: ArrayLike) -> NDArray[np.float64]:
+        return self.base.alpha_np_per_m(freq_hz)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -282,7 +302,12 @@ class Model:
 
     # -- the evaluation: ABCD entries (rows x freqs) ------------------------------------------
     def abcd(self, kinds, lengths: NDArray[np.float64], f: NDArray[np.float64]):
-        """ABCD entries ``(A, B, C, D)`` of candidates ``lengths`` (rows, elements) over ``f``."""
+        """ABCD entries ``(A, B, C, D)`` of candidates ``lengths`` (rows, elements) over ``f``.
+
+        Fixed parts (tee arms, plugs, barrels) depend on frequency only: consecutive
+        ones are multiplied together first (arrays over ``f``) and applied to the
+        candidates' running product only when a candidate's element comes.
+        """
         kinds = [kind_of(k) for k in kinds]
         zc, g = self.line_constants(f)
         yc = 1.0 / zc
@@ -295,39 +320,66 @@ class Model:
                          * hw.barrels_per_port) if fam and hw.barrels_per_port else None)
         plug_m = fam.plug_mm * mm if fam else 0.0
         short_l = (hw.short_nh * 1e-9) if hw is not None else 0.0
-        rows = lengths.shape[0]
-        one = np.ones((rows, f.size), dtype=complex)
-        zero = np.zeros((rows, f.size), dtype=complex)
-        m = _chain((one, zero, zero, one), barrel)
+        yl_short = 1.0 / (1j * 2 * np.pi * f * short_l) if short_l > 0 else None
+        # tanh(j b l) = j tan(b l) of the plug and the side arm, once per call
+        t_plug = 1j * np.tan(2 * np.pi * f * plug_m / (C0 * fam.pair_vf)) if fam and plug_m > 0 else None
+        side_m = fam.tee_side_mm * mm if fam else 0.0
+        t_side = 1j * np.tan(2 * np.pi * f * side_m / (C0 * fam.tee_vf)) if fam and side_m > 0 else None
+        tanh_gl = self._tanh_gl(g)
+        m: Any = (1.0, 0.0, 0.0, 1.0)  # exact scalars until a candidate's element comes
+        pending = barrel  # fixed parts not yet applied to m
+
+        def flush(m):
+            return _chain(m, pending) if pending is not None else m
+
         for j, k in enumerate(kinds):
             x = lengths[:, j:j + 1]
-            first_at_tee = k.shunt and (j == 0 or not kinds[j - 1].shunt)
-            last_at_tee = k.shunt and (j == len(kinds) - 1 or not kinds[j + 1].shunt)
             if k.shunt:
-                if first_at_tee:
-                    m = _chain(m, arm)
+                if j == 0 or not kinds[j - 1].shunt:  # the first stub at this tee
+                    pending = _chain(pending, arm)
+                m, pending = flush(m), None
                 lc = np.maximum(x - plug_m, 0.0)
-                t = np.tanh(g * lc)
                 if k.termination == "open":
-                    y = yc * t
-                elif short_l > 0:
-                    yl = 1.0 / (1j * 2 * np.pi * f * short_l)
-                    y = _transform_y(yl, yc, t)
+                    y = yc * tanh_gl(lc)
+                elif yl_short is not None:
+                    y = _transform_y(yl_short, yc, tanh_gl(lc))
                 else:
-                    y = yc / np.tanh(g * np.maximum(lc, 1e-9))
-                if fam:
-                    y = _y_through_section(y, fam.z_pair_ohm, fam.pair_vf, plug_m, f)
-                    y = _y_through_section(y, fam.tee_z_ohm, fam.tee_vf, fam.tee_side_mm * mm, f)
+                    y = yc / tanh_gl(np.maximum(lc, 1e-9))
+                if t_plug is not None:
+                    y = _transform_y(y, 1.0 / fam.z_pair_ohm, t_plug)
+                if t_side is not None:
+                    y = _transform_y(y, 1.0 / fam.tee_z_ohm, t_side)
                 a, b, c, d = m
                 m = (a + b * y, b, c + d * y, d)
-                if last_at_tee:
-                    m = _chain(m, arm)
+                if j == len(kinds) - 1 or not kinds[j + 1].shunt:  # the last stub at this tee
+                    pending = arm
             else:
+                pending = _chain(pending, plug)
+                m, pending = flush(m), None
                 lc = np.maximum(x - 2 * plug_m, 0.0)
-                gl = g * lc
-                ch, sh = np.cosh(gl), np.sinh(gl)
-                m = _chain(m, plug, (ch, zc * sh, sh * yc, ch), plug)
-        return _chain(m, barrel)
+                ep = np.exp(g * lc)  # e^{gl}; cosh and sinh from it and its reciprocal
+                em = 1.0 / ep
+                ch, sh = 0.5 * (ep + em), 0.5 * (ep - em)
+                m = _chain(m, (ch, zc * sh, sh * yc, ch))
+                pending = plug
+        m = _chain(m, _chain(pending, barrel) if pending is not None else barrel)
+        rows = lengths.shape[0]
+        return tuple(np.broadcast_to(v, (rows, f.size)) for v in m)
+
+    def _tanh_gl(self, g):
+        """``x -> tanh(g x)`` for a column of lengths ``x``: from real ``tan`` and ``expm1`` on the
+        classic line (``g = a + j b``, about half the cost of a complex ``tanh``), complex otherwise."""
+        if self.rlgc:
+            return lambda x: np.tanh(g * x)
+        a, b = g.real, g.imag
+
+        def tanh_gl(x):
+            e = np.expm1(-2.0 * a * x)
+            th = -e / (2.0 + e)  # tanh(a x), exact for small a x
+            tn = np.tan(b * x)
+            return (th + 1j * tn) / (1.0 + 1j * th * tn)
+
+        return tanh_gl
 
     def evaluate_batch(self, kinds, lengths_m: ArrayLike, freq_hz: ArrayLike, z_system: float = 50.0):
         """``(s21, s11)`` like :func:`notchkit.filters.evaluate_batch`, with hardware, load and ceiling.
@@ -365,6 +417,10 @@ class Model:
 
     def with_(self, **changes: Any) -> Model:
         return replace(self, **changes)
+
+    def with_velocity_factor(self, velocity_factor: float) -> Model:
+        """The same model on the cable with another velocity factor (tolerance runs)."""
+        return replace(self, cable=_OtherVf(base=self.cable, velocity_factor=float(velocity_factor)))
 
     def stub_resonance_mhz(self, kind: Any, length_m: float, guess_mhz: float) -> float:
         """The stub's own series resonance as measured alone at its plug's mating face, MHz.

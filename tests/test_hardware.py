@@ -266,3 +266,87 @@ def test_depth_ceiling_hand_values():
     lq = C0 * cable.velocity_factor / (4 * 146e6)
     deep = evaluate_batch(("open", "open"), [[lq, lq]], Model(cable=cable), [146e6])[0]
     assert -20 * np.log10(abs(deep[0, 0])) <= 60.0 + 1e-9
+
+
+# ---------------------------------------------------------------- the design route
+
+
+def test_trim_target_includes_the_short_inductance():
+    # Hand: the short's 3 nH acts as dl = L v / Z0 of extra cable (above), so a shorted
+    # half-wave stub of cable length l resonates at about f0 * l / (l + dl).
+    cable = get_cable("RG-213")
+    hw = Hardware.of("n", short_nh=3.0, plug_mm=0.0, tee_through_mm=0.0, tee_side_mm=0.0)
+    model = Model(cable=cable, hardware=hw, depth_ceiling_db=None)
+    length = 0.678
+    f0 = 2 * C0 * cable.velocity_factor / (4 * length) / 1e6  # n = 2, textbook n c VF / 4 l
+    dl = 3e-9 * cable.velocity_factor * C0 / cable.z0_ohm
+    got = model.stub_resonance_mhz("short", length, f0)
+    assert got == pytest.approx(f0 * length / (length + dl), rel=2e-3)
+    assert Model(cable=cable).stub_resonance_mhz("short", length, f0) == f0  # classic: the formula
+
+
+def test_tolerance_keeps_the_hardware():
+    from notchkit.requirements import NotchSpec
+    from notchkit.tolerance import tolerance
+
+    cable = get_cable("RG-213")
+    model = Model(cable=cable, hardware=Hardware.of("uhf"))
+    lq = C0 * cable.velocity_factor / (4 * 146e6)
+    filt = Filter(elements=(Stub(termination="open", length_m=lq),), cable=model)
+    notch = NotchSpec(lo_mhz=145.0, hi_mhz=147.0, required_db=10.0)
+    tol = tolerance(filt, [notch], cut_tolerance_mm=0.001, vf_spread=1e-6, samples=200, seed=1)
+    f = np.linspace(145e6, 147e6, 41)
+    nominal = (-20 * np.log10(np.abs(evaluate_batch(("open",), [[lq]], model, f)[0]))).min()
+    # With next to no spread every build is the nominal hardware filter, not the bare cable one.
+    assert tol.notches[0].nominal_worst_db == pytest.approx(nominal, abs=1e-6)
+    assert tol.notches[0].median_worst_db == pytest.approx(nominal, abs=0.3)  # the drawn builds too
+    bare = (-20 * np.log10(np.abs(evaluate_batch(("open",), [[lq]], cable, f)[0]))).min()
+    assert abs(bare - nominal) > 1.0  # the hardware matters here, so the check can fail
+
+
+def test_site_hardware_and_load_reach_the_design(tmp_path):
+    from notchkit.design import design
+    from notchkit.site import load_site
+
+    (tmp_path / "ant.txt").write_text("140 20 -30\n160 25 -10\n")
+    site = tmp_path / "s.yaml"
+    site.write_text(
+        "site: Fictional Knoll\ncable: RG-213\n"
+        "transmitters:\n  - name: vhf\n    freq_mhz: 146.5\n    power_w: 50\n"
+        "    load: {file: ant.txt, radio_ohm: 50}\n"
+        "receivers:\n  - name: uhf\n    freq_mhz: 440.0\n"
+        "couplings:\n  - between: [vhf, uhf]\n    isolation_db: 25\n"
+        "hardware: {family: bnc, short_nh: 2}\ndepth_ceiling_db: 55\n")
+    report = design(load_site(site), workers=1)
+    assert report.designs
+    for d in report.designs:
+        m = d.filter.cable
+        assert isinstance(m, Model) and m.hardware.family.name == "bnc" and m.hardware.short_nh == 2.0
+        assert m.depth_ceiling_db == 55.0
+        j = d.to_json()
+        assert j["model"]["hardware"]["family"] == "bnc" and j["model"]["depth_ceiling_db"] == 55.0
+        assert all("mating face of the stub's BNC plug" in c["reference_plane"] for c in j["cut_list"])
+        for n in j["notch"]:
+            assert n["worst_attenuation_db"] <= 55.0 + 1e-6
+    tx = [d for d in report.designs if d.requirement.radio == "vhf"]
+    if tx:
+        assert tx[0].filter.cable.load is not None
+        assert tx[0].to_json()["model"]["load"]["source"] == "ant.txt"
+
+
+def test_cli_design_load_option(tmp_path, capsys):
+    from notchkit.cli import main
+
+    (tmp_path / "ant.txt").write_text("100 30 -20\n500 70 40\n")
+    code = main(["design", "--pass", "144-148", "--notch", "440-450:20", "--load", str(tmp_path / "ant.txt"),
+                 "--json"])
+    out = capsys.readouterr().out
+    import json
+
+    doc = json.loads(out)
+    assert code in (0, 1)
+    assert doc["filters"][0]["model"]["load"]["source"] == "ant.txt"
+    (tmp_path / "bad.txt").write_text("100 30\n")
+    code = main(["design", "--pass", "144-148", "--notch", "440-450:20", "--load", str(tmp_path / "bad.txt")])
+    err = capsys.readouterr().err
+    assert code == 2 and "bad.txt:1:1: load: row '100 30' is not a valid point" in err
