@@ -49,8 +49,20 @@ DEFAULT_TRIM_MARGIN_PCT = 3.0
 MIN_TRIM_EXTRA_M = 0.010
 """The first cut is never less than this much longer than the cut length."""
 
-END_SHORT, DC_SHORT = SHORT.end_text, SHORT.dc_text  # the kinds own their end and DC texts
-END_OPEN, DC_OPEN = OPEN.end_text, OPEN.dc_text
+END_SHORT, END_OPEN = SHORT.end_text, OPEN.end_text  # the kinds own their coax end texts
+END_SHORT_BALANCED = (
+    "shorted end (balanced line): bridge the two wires with a short, straight strap of heavy "
+    "copper wire or strip soldered across both (as short as the spacing allows: its length adds "
+    "to the stub), clear of metal; the tee end connects through a 1:1 current balun, never "
+    "straight to coax"
+)
+END_OPEN_BALANCED = (
+    "open end (balanced line): cut both wires square at the same length, keep them apart and "
+    "clear of metal, ground and people, and support the end on an insulator (the open end "
+    "carries the highest voltage of the stub); the tee end connects through a 1:1 current "
+    "balun, never straight to coax"
+)
+DC_SHORT, DC_OPEN = SHORT.dc_text, OPEN.dc_text
 
 UNITS = ("metric", "imperial", "both")
 
@@ -273,12 +285,19 @@ def cut_list(
                 quarter_waves=q,
                 serves_notch_mhz=served,
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
-                end=e.kind.end_text,
+                end=_end_note(e.termination, filt.cable),
                 dc_note=e.kind.dc_text,
                 reference_plane=reference_plane(filt),
             )
         )
     return tuple(cuts)
+
+
+def _end_note(termination: str, cable: object) -> str:
+    """How to make a stub's far end: coax, or a balanced line (``cable.balanced``)."""
+    if getattr(cable, "balanced", False):
+        return END_SHORT_BALANCED if termination == "short" else END_OPEN_BALANCED
+    return END_SHORT if termination == "short" else END_OPEN
 
 
 def inches_16ths(m: float) -> tuple[int, int]:
