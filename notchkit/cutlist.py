@@ -40,6 +40,7 @@ import numpy as np
 from notchkit.elements import OPEN, SHORT, element_ids, kind_of
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
+from notchkit.hardware import reference_plane
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0
 from notchkit.site.model import DEFAULT_ANALYSER_MHZ
@@ -51,8 +52,7 @@ DEFAULT_TRIM_MARGIN_PCT = 3.0
 MIN_TRIM_EXTRA_M = 0.010
 """The first cut is never less than this much longer than the cut length."""
 
-END_SHORT, DC_SHORT = SHORT.end_text, SHORT.dc_text  # the kinds own their end and DC texts
-END_OPEN, DC_OPEN = OPEN.end_text, OPEN.dc_text
+END_SHORT, END_OPEN = SHORT.end_text, OPEN.end_text  # the kinds own their coax end texts
 END_SHORT_BALANCED = (
     "shorted end (balanced line): bridge the two wires with a short, straight strap of heavy "
     "copper wire or strip soldered across both (as short as the spacing allows: its length adds "
@@ -65,6 +65,7 @@ END_OPEN_BALANCED = (
     "carries the highest voltage of the stub); the tee end connects through a 1:1 current "
     "balun, never straight to coax"
 )
+DC_SHORT, DC_OPEN = SHORT.dc_text, OPEN.dc_text
 
 UNITS = ("metric", "imperial", "both")
 
@@ -116,6 +117,8 @@ class StubCut:
     """Always ``"series"``: an impedance minimum, a notch through the tee."""
     trimmable: bool = True
     """The trim resonance lies inside the analyser's range (else: cut to length)."""
+    reference_plane: str = ""
+    """Where ``cut_length_m`` is measured from (notchkit.hardware.reference_plane)."""
 
     @property
     def dc_path_to_ground(self) -> bool:
@@ -149,6 +152,7 @@ class StubCut:
             "dc_path_to_ground": self.dc_path_to_ground,
             "end": self.end,
             "dc_note": self.dc_note,
+            "reference_plane": self.reference_plane,
         }
 
 
@@ -458,6 +462,8 @@ def cut_list(
         served = _serves(filt, e, notches)
         res, q, kind, in_range = trim_resonance(e.termination, e.length_m, vf, serves_mhz=served,
                                                 analyser_mhz=analyser_mhz)
+        if hasattr(filt.cable, "stub_resonance_mhz"):  # hardware / RLGC model: refine on the model
+            res = filt.cable.stub_resonance_mhz(e.kind, e.length_m, res)
         elec = tuple(
             ElectricalLength(freq_mhz=f, degrees=electrical_degrees(e.length_m, f, vf), role=role)
             for role, fs in (("notch", notches), ("pass", passes))
@@ -484,6 +490,7 @@ def cut_list(
                 dc_note=e.kind.dc_text,
                 resonance_kind=kind,
                 trimmable=in_range,
+                reference_plane=reference_plane(filt),
             )
         )
     return tuple(cuts)
@@ -574,6 +581,8 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both",
             f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
             f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
         )
+        if c.reference_plane:
+            out.append(f"    cut length measured {c.reference_plane}")
         if c.electrical:
             degs = ", ".join(f"{e.degrees:.1f} deg at {e.freq_mhz:g} MHz ({e.role})" for e in c.electrical)
             out.append(f"    {degs}")

@@ -93,6 +93,8 @@ class Design:
             out.insert(0, _yield_advice(self))
         out += [f"cannot be built: {x}" for x in self.build_problems]
         return tuple(out)
+    model: Any = None
+    """What the filter was verified against (:class:`notchkit.hardware.ModelReport`)."""
 
     @property
     def meets(self) -> bool:
@@ -120,7 +122,8 @@ class Design:
 
         s = self.solution
         freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
-        return extrapolation_note(self.cable, freqs)
+        bare = getattr(self.cable, "cable", self.cable)  # the cable inside a notchkit.hardware.Model
+        return extrapolation_note(bare, freqs)
 
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
@@ -183,15 +186,18 @@ def design_filter(
                 z_system=z_system, progress=lambda m: say(f"{filter_id}: {m}"), allowances=allowances)
     cuts, tol, power = _build_checks(req, sol, limits, allowances, filter_id, z_system, tolerance_samples)
     from notchkit.cutlist import buildability, hardware_notes, line_cuts
+    from notchkit.hardware import model_report
 
     centres = [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches] + [b.centre_mhz for b in req.pass_bands]
     problems = buildability(sol.filter, cuts, min_stub_cut_m=allowances.min_stub_cut_m,
                             min_line_m=allowances.min_line_m, barrel_m=allowances.barrel_m)
+    model = model_report(sol.filter, [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches],
+                         [b.centre_mhz for b in req.pass_bands], z_system)
     return Design(id=filter_id, requirement=req, solution=sol, cable=cable, cuts=cuts, tolerance=tol,
                   power=power, lines=line_cuts(sol.filter, freq_mhz=centres, filter_id=filter_id,
                                                 barrel_m=allowances.barrel_m),
                   hardware=hardware_notes(sol.filter), build_problems=problems,
-                  yield_target=float(limits.yield_target_pct) / 100.0)
+                  yield_target=float(limits.yield_target_pct) / 100.0, model=model)
 
 
 def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
@@ -285,8 +291,18 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         site = apply(site, calibration)
     if workers is not None and int(workers) < 1:
         raise DesignError(f"workers {workers!r} must be at least 1")
+    from notchkit.hardware import model_for
+
     sv = survey(site)
-    jobs = [(req, get_cable(req.cable, site.cables), site.limits, site.allowances, f"F{i}")
+    hw = getattr(site, "hardware", None)
+    allowances = site.allowances if hw is None else dataclasses.replace(site.allowances, tee_allowance_m=0.0)
+
+    def medium(req: FilterRequirement) -> Any:  # the cable with the site's hardware, load and ceiling
+        radio = next((r for r in site.radios if r.name == req.radio), None)
+        return model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),
+                         depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
+
+    jobs = [(req, medium(req), site.limits, allowances, f"F{i}")
             for i, req in enumerate(sv.filters, start=1)]
     n = len(jobs)
     designs: list[Design] = []
@@ -401,6 +417,7 @@ def design_request(
     power_mhz: float | None = None,
     z_system: float = 50.0,
     progress: Progress | None = None,
+    load: str | os.PathLike | None = None,
 ) -> DesignReport:
     """Design one ad-hoc filter: pass these bands, notch those.
 
@@ -417,6 +434,9 @@ def design_request(
         Defaults of :class:`~notchkit.site.model.Limits` / ``Allowances``.
     power_w, power_mhz : float, optional
         A carrier through the filter for the power check.
+    load : path, optional
+        The antenna's impedance (``.s1p`` or R+jX table, :mod:`notchkit.loads`): the
+        filter is designed and verified into it.
 
     Returns
     -------
@@ -439,6 +459,11 @@ def design_request(
     bands = tuple(_band(b, "pass") for b in pass_bands)
     specs = tuple(_notch(n) for n in notches)
     cab = get_cable(cable) if isinstance(cable, str) else cable
+    from notchkit.hardware import Model, model_for
+    from notchkit.site.model import RadioLoad
+
+    if not isinstance(cab, Model):
+        cab = model_for(cab, load=RadioLoad(file=os.fspath(load)) if load is not None else None)
     req = FilterRequirement(radio=None, side=None, pass_bands=bands, notches=specs,
                             cable=getattr(cab, "name", str(cable)), power_w=power_w, power_mhz=power_mhz)
     d = design_filter(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
@@ -543,6 +568,7 @@ def design_record(d: Design) -> Any:
     ]
     out["tolerance"] = d.tolerance.to_json() if d.tolerance is not None else None
     out["power"] = d.power.to_json() if d.power is not None else None
+    out["model"] = d.model.to_json() if d.model is not None else None
     # the verdict: meets as designed, buildable, and the build yield at its target
     return dataclasses.replace(filter_record(d, extra=out), meets=bool(d.meets))
 

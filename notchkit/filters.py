@@ -229,6 +229,10 @@ def evaluate_batch(
     scikit-rf on uniform, banded and irregular grids.
     """
     kinds = tuple(kind_of(k) for k in kinds)
+    if hasattr(cable, "evaluate_batch"):  # a notchkit.hardware.Model
+        if not cable.is_plain:
+            return cable.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
+        cable = cable.cable
     lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
@@ -609,6 +613,12 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
     """
     f = np.asarray(freq_hz, dtype=float).ravel()
     _check_freq(f)
+    if hasattr(filt.cable, "abcd") and not filt.cable.is_plain:  # a notchkit.hardware.Model
+        # The filter with its hardware between z_system ports (no load, no ceiling: a Touchstone
+        # file describes the filter itself).
+        a, b, c, d = filt.cable.abcd(filt.kinds, filt.lengths_m[None, :], f)
+        return abcd_to_s(np.stack([np.stack([a[0], b[0]], -1), np.stack([c[0], d[0]], -1)], -2),
+                         z_system, z_system)
     g = gamma(f, filt.cable.alpha_np_per_m(f), filt.cable.velocity_factor)
     z0 = float(filt.cable.z0_ohm)
     mats = []

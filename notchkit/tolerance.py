@@ -415,7 +415,9 @@ def tolerance(
     for b in range(n_bins):
         rows = np.flatnonzero(bin_of == b)
         if rows.size:
-            medium = _Medium(filt.cable, float(vf_bin[rows[0]])) if spread > 0 else filt.cable
+            v = float(vf_bin[rows[0]])
+            vary = getattr(filt.cable, "with_velocity_factor", None)  # a hardware.Model keeps its parts
+            medium = (vary(v) if vary else _Medium(filt.cable, v)) if spread > 0 else filt.cable
             reduce(rows, drawn[rows], medium)
     reduce(slice(n_samples, n_rows), probes, filt.cable)
 

@@ -235,6 +235,8 @@ _MODEL = {
     "limits": model.Limits,
     "allowances": model.Allowances,
     "cable": model.CableDef,
+    "hardware": model.HardwareSettings,
+    "load": model.RadioLoad,
 }
 
 
@@ -252,6 +254,8 @@ def _heading_for(section: str, rows: dict[str, dict[str, list[str]]]) -> str:
         "limits": "`limits:`",
         "allowances": "`allowances:`",
         "cable": "`cables:`",
+        "hardware": "`hardware:`",
+        "load": "`load:`",
     }[section]
     (heading,) = [h for h in rows if wanted in h]
     return heading

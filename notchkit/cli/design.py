@@ -60,6 +60,9 @@ def add_parser(sub) -> None:
                    help="first cut this much long, percent (default 3)")
     g.add_argument("--cut-tolerance-mm", metavar="MM", type=str, default=None,
                    help="how close to a mark you cut, mm (default 2)")
+    p.add_argument("--load", metavar="FILE", default=None,
+                   help="the antenna's impedance, a .s1p or an R+jX table (freq_mhz r_ohm x_ohm); "
+                        "without a site file")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type; with a site file): lengths use its VF and loss")
@@ -164,9 +167,9 @@ def run(args) -> int:
     progress = _progress(args)
     if args.site is not None:
         given = [n for n in _AD_HOC if getattr(args, n, None) is not None]
-        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or given:
-            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs and the ad-hoc "
-                             "limits, not both (a site file sets its limits and allowances itself)")
+        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or given or args.load:
+            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load and the "
+                             "ad-hoc limits, not both (a site file sets its limits and allowances itself)")
         from notchkit.site import load_site
 
         report = design(load_site(args.site), progress=progress, calibration=args.calibration)
@@ -185,7 +188,7 @@ def run(args) -> int:
         cable = get_cable(args.cable or DEFAULT_CABLE)
         limits, allowances, power_w, power_mhz = ad_hoc_settings(args, passes)
         report = design_request(passes, notches, cable=cable, limits=limits, allowances=allowances,
-                                power_w=power_w, power_mhz=power_mhz, progress=progress)
+                                power_w=power_w, power_mhz=power_mhz, progress=progress, load=args.load)
     if progress is not None:
         print("", file=sys.stderr)
     written = ()
@@ -259,6 +262,9 @@ def format_design(d) -> str:
         tail = "ok" if n.meets else f"FAILS: {-n.margin_db:.1f} dB missing"
         lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
                      f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
+    model = getattr(d, "model", None)
+    if model is not None:
+        lines += ["  " + x for x in model.lines]
     if d.cuts:
         lines.append("  cut list:")
         text = format_cut_list(d.cuts, lines=d.lines, hardware=d.hardware)

@@ -204,6 +204,7 @@ _RADIO_COMMON = {
         default=None,
         doc="Cable for this radio's stubs; default: the site's cable.",
     ),
+    "load": Field(kind="section", section="load", doc="The antenna's impedance (docs/hardware.md)."),
 }
 _NAME = Field(
     kind="name",
@@ -241,6 +242,14 @@ SECTIONS: dict[str, dict[str, Field]] = {
             num=Num(lo=2, hi=20, integer=True),
             default=m.DEFAULT_MAX_HARMONIC,
             doc="Highest harmonic order the survey considers.",
+        ),
+        "hardware": Field(kind="section", section="hardware",
+                          doc="Connectors, tees and the short of the filters (docs/hardware.md); "
+                          "default: ideal tees with the tee allowance."),
+        "depth_ceiling_db": Field(
+            kind="number", num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
+            doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
+            "default: 60 dB.",
         ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
@@ -424,6 +433,33 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=m.DEFAULT_ANALYSER_MHZ[1],
             doc="Highest frequency of the analyser stubs are trimmed on, in MHz.",
         ),
+    },
+    "hardware": {
+        "family": Field(kind="text", default="uhf", doc="Connector family: uhf, n or bnc."),
+        "z_pair_ohm": Field(kind="number", num=Num(lo=10.0, hi=150.0, unit="ohm"), default=None,
+                            doc="Impedance of a mated connector pair; default: the family's."),
+        "plug_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                         doc="Plug length from its mating face; default: the family's."),
+        "tee_through_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                                doc="Tee through arm, port face to junction; default: the family's."),
+        "tee_side_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                             doc="Tee side arm, port face to junction; default: the family's."),
+        "short_nh": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="nH"), default=None,
+                          doc="Inductance of a stub's short, nH; default: 3 nH."),
+        "barrels_per_port": Field(kind="number", num=Num(lo=0, hi=4, integer=True), default=0,
+                                  doc="Barrels at each filter port."),
+        "line_model": Field(kind="text", default="classic",
+                            doc="classic (lossless-VF line) or rlgc (internal inductance, complex Z0)."),
+    },
+    "load": {
+        "file": Field(kind="text", default=None,
+                      doc="Measured .s1p or R+jX table (freq_mhz r_ohm x_ohm), relative to the site file; "
+                      "read when the filter is designed."),
+        "swr": Field(kind="number", num=Num(lo=1.0, hi=100.0), default=None,
+                     doc="SWR bound of the antenna out of its band (where no file covers it); "
+                     "default: 6 (docs/hardware.md)."),
+        "radio_ohm": Field(kind="number", num=Num(lo=1.0, hi=1000.0, unit="ohm"), default=None,
+                           doc="The radio's port resistance; default: 50 ohm."),
     },
     "cable": {
         "name": Field(kind="text", required=True, doc="Cable type name, unique in the file."),
@@ -1153,7 +1189,7 @@ class _Builder:
         self.names[key] = node
         return name
 
-    def common(self, d: dict, site_cable: str) -> dict[str, Any]:
+    def common(self, d: dict, site_cable: str, path: str = "") -> dict[str, Any]:
         out: dict[str, Any] = {}
         if "antenna" in d:
             out["antenna"] = m.Antenna(**_opt(d["antenna"][0], ("x_m", "y_m", "height_m", "gain_dbi")))
@@ -1165,7 +1201,16 @@ class _Builder:
                 )
         if "stub_cable" in d:
             out["stub_cable"] = d["stub_cable"][0]
+        if "load" in d and isinstance(d["load"][0], dict):
+            out["load"] = self.load(d["load"][0], _join(path, "load"))
         return out
+
+    def load(self, d: dict, path: str) -> m.RadioLoad:
+        """A radio's ``load:`` (its file is read when the filter is designed: notchkit.loads)."""
+        opts = _opt(d, ("file", "swr", "radio_ohm"))
+        if isinstance(opts.get("file"), str):
+            opts["file"] = os.path.join(os.path.dirname(self.r.path), opts["file"])
+        return m.RadioLoad(**opts)
 
     def transmit(self, d: dict, band: m.Band | None, shared_bw: float | None) -> m.Transmit | None:
         if band is None or "power_w" not in d:
@@ -1229,7 +1274,7 @@ class _Builder:
             ok = tx is not None and rx is not None
         if name is None or not ok:
             return None
-        return m.Radio(name=name, tx=tx, rx=rx, **self.common(d, site_cable))
+        return m.Radio(name=name, tx=tx, rx=rx, **self.common(d, site_cable, path))
 
     def build(self, root: yaml.Node) -> m.Site | None:
         r = self.r
@@ -1263,6 +1308,7 @@ class _Builder:
         self.resolve_cables()
         couplings = self.couplings(top)
         self.analyser_range(top)
+        hardware = self.hardware(top)
         if r.problems or "site" not in top:
             return None
         return m.Site(
@@ -1283,7 +1329,27 @@ class _Builder:
                 else {}
             ),
             **({"max_harmonic": top["max_harmonic"][0]} if "max_harmonic" in top else {}),
+            **hardware,
         )
+
+    def hardware(self, top: dict) -> dict[str, Any]:
+        """``hardware:`` and ``depth_ceiling_db`` (notchkit.hardware), checked here."""
+        out: dict[str, Any] = {}
+        if "depth_ceiling_db" in top:
+            out["depth_ceiling_db"] = top["depth_ceiling_db"][0]
+        if "hardware" in top and isinstance(top["hardware"][0], dict):
+            from notchkit.hardware import FAMILIES
+
+            d = top["hardware"][0]
+            opts = _opt(d, tuple(SECTIONS["hardware"]))
+            for key, allowed in (("family", tuple(FAMILIES)), ("line_model", ("classic", "rlgc"))):
+                if key in opts:
+                    opts[key] = str(opts[key]).lower()
+                    if opts[key] not in allowed:
+                        self.r.add(d[key][1], f"hardware.{key}",
+                                   f"{opts[key]!r} is not known (allowed: {', '.join(allowed)})")
+            out["hardware"] = m.HardwareSettings(**opts)
+        return out
 
     # -- cables -----------------------------------------------------------
 
