@@ -1136,8 +1136,9 @@ class _Builder:
     ) -> m.Receive | None:
         cls = d.get("receiver_class")
         if cls is not None and cls[0] not in m.RECEIVER_CLASSES:
+            allowed = ", ".join(m.RECEIVER_CLASSES)
             self.r.add(cls[1], _join(path, "receiver_class"),
-                       f"{cls[0]!r} is not a receiver class (allowed: {', '.join(m.RECEIVER_CLASSES)})")  # fmt: skip
+                       f"{cls[0]!r} is not a receiver class (allowed: {allowed})")  # fmt: skip
             return None
         if band is None:
             return None

@@ -89,7 +89,7 @@ def survey(
             left_out.append(("intermod", outcome.left_over, outcome.left_under))
             ww = outcome.worst
             left_worst = tuple(
-                (sa.names[t], sa.names[r], float(ww[t, r])) for t, r in zip(*np.nonzero(np.isfinite(ww)))
+                (sa.names[t], sa.names[r], float(ww[t, r])) for t, r in np.argwhere(np.isfinite(ww)).tolist()
             )
             notes.append(
                 f"intermodulation: {outcome.products} products land in receivers; the "

@@ -306,7 +306,7 @@ class _State:
     # ------------------------------------------------------------ levels
     def evaluate(self, coeffs, radios_c, ci, ki, vic, plo, phi, flo, fhi) -> dict:
         """Levels of every route of each hit; collects notches; returns the rows (arrays)."""
-        sa, ctx = self.sa, self.ctx
+        sa = self.sa
         src = radios_c[ci]
         h, k = src.shape
         coef = coeffs[ki]
@@ -424,8 +424,8 @@ class _State:
         for kk, (s, c, _) in sorted(info.items()):
             v, o = divmod(kk, n)
             more = f" and {int(count[v, o]) - 1} more" if count[v, o] > 1 else ""
-            ctx.feed(v, "rx", float(sa.tx_lo[o]), float(sa.tx_hi[o]), float(best[v, o]),
-                     f"{names[o]} mixing in {names[v]}'s front end: IM {self._label(s, c)}{more}")  # fmt: skip
+            reason = f"{names[o]} mixing in {names[v]}'s front end: IM {self._label(s, c)}{more}"
+            ctx.feed(v, "rx", float(sa.tx_lo[o]), float(sa.tx_hi[o]), float(best[v, o]), reason)
 
     # ------------------------------------------------------------ objects
     def _label(self, s: tuple, c: tuple) -> str:
@@ -457,7 +457,8 @@ class _State:
         # isolation of the worst route, computed exactly for the kept rows only
         src_a, best_a, vic_a = rows["src"], rows["best"].astype(np.int64), rows["victim"].astype(np.int64)
         tx_b = best_a < 3
-        strongest = np.argmax(np.where(src_a >= 0, self.arr[np.maximum(src_a, 0), vic_a[:, None]], -np.inf), axis=1)
+        arriving = np.where(src_a >= 0, self.arr[np.maximum(src_a, 0), vic_a[:, None]], -np.inf)
+        strongest = np.argmax(arriving, axis=1)
         frm = np.where(tx_b, src_a[np.arange(h), np.minimum(best_a, 2)], src_a[np.arange(h), strongest])
         f_iso = np.where(tx_b, flo, sa.tx_lo[frm])
         _, iso_a, meth_a = sa.path_db(frm, vic_a, f_iso)

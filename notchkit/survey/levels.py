@@ -117,7 +117,7 @@ def degeneracy_db(abs_coeffs: np.ndarray) -> np.ndarray:
     abs_coeffs : ndarray of int, shape (..., k)
         |coefficients| of each product (zeros allowed: 0! = 1).
     """
-    a = np.asarray(abs_coeffs, dtype=int)
+    a = np.abs(np.asarray(abs_coeffs, dtype=int))
     n = a.sum(axis=-1)
     top = int(max(int(n.max(initial=1)), 1))
     log_fact = np.array([math.log10(math.factorial(i)) for i in range(top + 1)])
