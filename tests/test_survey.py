@@ -44,7 +44,7 @@ from notchkit.survey import (
     vertical_isolation_db,
 )
 from notchkit.survey.isolation import estimate_isolation_db
-from notchkit.survey.products import THREE_TONE, TWO_TONE
+from notchkit.survey.products import THREE_TONE
 
 
 def band(lo, hi=None):

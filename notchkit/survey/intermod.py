@@ -429,10 +429,14 @@ class _State:
 
     # ------------------------------------------------------------ objects
     def _label(self, s: tuple, c: tuple) -> str:
+        """The product as text, signed so that it is positive at the band centres."""
         key = (s, c)
         text = self.labels.get(key)
         if text is None:
-            pairs = [(ci, self.ctx.names[i]) for i, ci in zip(s, c, strict=True) if i >= 0]
+            sa = self.sa
+            centre = sum(ci * 0.5 * (sa.tx_lo[i] + sa.tx_hi[i]) for i, ci in zip(s, c, strict=True) if i >= 0)
+            sign = -1 if centre < 0 else 1
+            pairs = [(sign * ci, self.ctx.names[i]) for i, ci in zip(s, c, strict=True) if i >= 0]
             text = self.labels[key] = products.product_label([a for a, _ in pairs], [b for _, b in pairs])
         return text
 
