@@ -350,3 +350,29 @@ def test_cap_keeps_the_worst_and_counts_the_rest():
     assert capped.filters == full.filters  # notches come from every product, kept or not
     left = [{"mechanism": "intermod", "over_limit": over, "under_limit": under}]
     assert capped.to_json()["left_out"] == left
+
+
+# ---------------------------------------------------------------- the plan's grouping
+
+
+def test_threat_table_shows_the_worst_of_each_pair_and_caps_rows():
+    from notchkit.report.text import threat_groups, threat_table
+
+    rng = np.random.default_rng(11)
+    freqs = np.round(rng.uniform(144, 148, 7), 3).tolist()
+    radios = [radio(f"T{i}", t=tx(f), x=9.0 * i) for i, f in enumerate(freqs)]
+    radios += [radio(f"R{i}", r=rx(lo, lo + 2.0), x=200 + 5.0 * i) for i, lo in enumerate((141, 146))]
+    res = survey(site(*radios))
+    pairs = {(tuple(sorted(t.sources)), t.victim) for t in res.threats}
+    groups = threat_groups(res.threats)
+    assert len(groups) == len(pairs) < len(res.threats)
+    def key(t):
+        return tuple(sorted(t.sources)), t.victim
+
+    for worst, n in groups:
+        same = [t for t in res.threats if key(t) == key(worst)]
+        assert n == len(same) and worst.excess_db == max(t.excess_db for t in same)
+    table = threat_table(res)
+    assert len(table.rows) == len(pairs)
+    capped = threat_table(res, max_rows=4)
+    assert len(capped.rows) == 4 and f"{len(pairs) - 4} more source-victim pairs" in capped.note

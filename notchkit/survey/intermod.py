@@ -36,6 +36,9 @@ GRID = 9
 """Frequencies (log-spaced, band edges included) at which each transmitter-to-receiver
 path is computed; a product's path is interpolated in log f between them."""
 
+COVER_BINS = 1 << 20
+"""Bins of the frequency axis (0 to the highest receiver edge) in the coverage map."""
+
 CHUNK_PRODUCTS = 1 << 18
 """Products (combination x coefficient set) evaluated per numpy chunk."""
 
@@ -251,6 +254,17 @@ class _State:
             members = members[o]
             w = float((sa.rx_hi[members] - sa.rx_lo[members]).max())
             self.groups.append((members, sa.rx_lo[members], sa.rx_hi[members], w))
+        # Coverage map: bins of the frequency axis that some receiver's band touches, as a
+        # prefix count, so a product that lands nowhere is dropped in O(1).
+        top = float(sa.rx_hi[rx].max()) * (1.0 + 1e-9) + 1e-9
+        self.bin_mhz = top / COVER_BINS
+        mark = np.zeros(COVER_BINS + 1, dtype=np.int64)
+        b0 = np.minimum((sa.rx_lo[rx] / self.bin_mhz).astype(np.int64), COVER_BINS - 1)
+        b1 = np.minimum((sa.rx_hi[rx] / self.bin_mhz).astype(np.int64), COVER_BINS - 1)
+        np.add.at(mark, b0, 1)
+        np.add.at(mark, b1 + 1, -1)
+        covered = np.cumsum(mark[:-1]) > 0
+        self.cover = np.concatenate([[0], np.cumsum(covered)]).astype(np.int32)
         with np.errstate(invalid="ignore"):
             self.simplex = (sa.tx_lo <= sa.rx_hi) & (sa.rx_lo <= sa.tx_hi)
         self.notch_tx = (np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
@@ -267,13 +281,32 @@ class _State:
         part in the receiver lo, hi), or None.
         """
         sa = self.sa
-        plo, phi = products.combine(coeffs, sa.tx_lo[radios_c], sa.tx_hi[radios_c])
+        lo, hi = sa.tx_lo[radios_c], sa.tx_hi[radios_c]
         nc = coeffs.shape[0]
-        plo, phi = plo.ravel(), phi.ravel()
+        # Coarse, in float32: centre +- half-width of each product, widened by a bin each side
+        # (float32 error << a bin); does it touch a covered bin? Most products land nowhere.
+        c32 = coeffs.T.astype(np.float32)
+        mid = np.abs(((lo + hi) * 0.5).astype(np.float32) @ c32).ravel()
+        half = (((hi - lo) * 0.5).astype(np.float32) @ np.abs(c32)).ravel()
+        inv = np.float32(1.0 / self.bin_mhz)
+        b0 = np.clip(((mid - half) * inv).astype(np.int32) - 1, 0, COVER_BINS)
+        b1 = np.clip(((mid + half) * inv).astype(np.int32) + 1, -1, COVER_BINS - 1)
+        near = np.nonzero(self.cover[b1 + 1] > self.cover[np.minimum(b0, b1 + 1)])[0]
+        if near.size == 0:
+            return None
+        # Exact intervals (float64) for those only.
+        cn, kn = near // nc, near % nc
+        cf = coeffs[kn].astype(float)
+        pos, neg = np.maximum(cf, 0.0), np.minimum(cf, 0.0)
+        lo_n, hi_n = lo[cn], hi[cn]
+        low = (lo_n * pos + hi_n * neg).sum(axis=1)
+        high = (hi_n * pos + lo_n * neg).sum(axis=1)
+        nlo = np.maximum(np.maximum(low, -high), 0.0)  # as products.combine
+        nhi = np.maximum(-low, high)
         got_p, got_v = [], []
         for members, rlo, rhi, w in self.groups:
-            a = np.searchsorted(rlo, plo - w, side="left")
-            b = np.searchsorted(rlo, phi, side="right")
+            a = np.searchsorted(rlo, nlo - w, side="left")
+            b = np.searchsorted(rlo, nhi, side="right")
             cnt = b - a
             nz = np.nonzero(cnt)[0]
             if nz.size == 0:
@@ -282,7 +315,7 @@ class _State:
             p = np.repeat(nz, c)
             start = np.repeat(np.cumsum(c) - c, c)
             cand = np.repeat(a[nz], c) + (np.arange(p.size) - start)
-            ok = rhi[cand] >= plo[p]
+            ok = rhi[cand] >= nlo[p]
             got_p.append(p[ok])
             got_v.append(members[cand[ok]])
         if not got_p:
@@ -291,7 +324,7 @@ class _State:
         vic = np.concatenate(got_v)
         if p.size == 0:
             return None
-        ci, ki = p // nc, p % nc
+        ci, ki = cn[p], kn[p]
         # A simplex radio (transmit and receive bands overlap) does not receive while it
         # transmits, so a product that needs its own carrier cannot reach its receiver.
         member = (radios_c[ci] == vic[:, None]).any(axis=1)
@@ -300,7 +333,7 @@ class _State:
             ci, ki, vic, p = ci[keep], ki[keep], vic[keep], p[keep]
         if p.size == 0:
             return None
-        a_lo, a_hi = plo[p], phi[p]
+        a_lo, a_hi = nlo[p], nhi[p]
         return ci, ki, vic, a_lo, a_hi, np.maximum(a_lo, sa.rx_lo[vic]), np.minimum(a_hi, sa.rx_hi[vic])
 
     # ------------------------------------------------------------ levels

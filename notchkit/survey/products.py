@@ -96,8 +96,10 @@ def combine(coeffs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndar
     pos, neg = np.maximum(c, 0.0), np.minimum(c, 0.0)
     low = lo @ pos + hi @ neg
     high = hi @ pos + lo @ neg
-    plo = np.where(low >= 0, low, np.where(high <= 0, -high, 0.0))
-    phi = np.where(low >= 0, high, np.maximum(-low, high))
+    # low <= high: the physical interval is [max(low, -high, 0), max(-low, high)]
+    # (low >= 0: [low, high]; high <= 0: [-high, -low]; straddling 0: [0, max(-low, high)])
+    plo = np.maximum(np.maximum(low, -high), 0.0)
+    phi = np.maximum(-low, high)
     return plo, phi
 
 
