@@ -376,3 +376,18 @@ def test_threat_table_shows_the_worst_of_each_pair_and_caps_rows():
     assert len(table.rows) == len(pairs)
     capped = threat_table(res, max_rows=4)
     assert len(capped.rows) == 4 and f"{len(pairs) - 4} more source-victim pairs" in capped.note
+
+
+def test_large_site_matrix_becomes_a_list_of_worst_pairs():
+    from notchkit.report.text import MATRIX_MAX_RECEIVERS, matrix_table
+
+    n = MATRIX_MAX_RECEIVERS + 2
+    radios = [radio(f"T{i}", t=tx(146.0 + 0.1 * i), x=5.0 * i) for i in range(3)]
+    radios += [radio(f"R{i}", r=rx(150.0 + 2.0 * i), x=100.0 + 3.0 * i) for i in range(n)]
+    res = survey(site(*radios))
+    table = matrix_table(res)
+    m = res.matrix()
+    over = sorted((v for row in m.excess_db for v in row if v is not None and v > 0), reverse=True)
+    assert over and len(table.rows) == len(over)
+    assert [float(r[2]) for r in table.rows] == pytest.approx(over, abs=0.05)
+    assert len(matrix_table(res, max_rows=2).rows) == 2

@@ -196,13 +196,40 @@ def design_title(d: Any) -> str:
 # ---------------------------------------------------------------- survey
 
 
-def matrix_table(sv: Any) -> Table:
-    """Transmitter (rows) x receiver (columns): worst excess in dB; ``-`` where nothing reaches."""
+MAX_THREAT_ROWS = 300
+"""Rows of the plan's threat table at most (the worst groups); the JSON has every threat."""
+
+
+MATRIX_MAX_RECEIVERS = 14
+"""Above this many receivers the matrix is printed as a list of the worst pairs (a grid of
+more columns does not fit a page); the JSON keeps the full matrix."""
+
+
+def matrix_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
+    """Transmitter (rows) x receiver (columns): worst excess in dB; ``-`` where nothing reaches.
+
+    On a site with more than :data:`MATRIX_MAX_RECEIVERS` receivers: the transmitter-receiver
+    pairs over the limit, worst first (at most ``max_rows``).
+    """
     m = sv.matrix()
+    n = len(m.receivers)
+    if n > MATRIX_MAX_RECEIVERS:
+        pairs = [(v, tx, rx) for tx, row in zip(m.transmitters, m.excess_db, strict=True)
+                 for rx, v in zip(m.receivers, row, strict=True) if v is not None and v > 0]  # fmt: skip
+        pairs.sort(key=lambda p: -p[0])
+        more = len(pairs) - max_rows
+        return Table(
+            title="Transmitter-receiver pairs over the limit, worst first (worst excess, dB)",
+            header=("Transmitter", "Receiver", "Worst excess (dB)"),
+            rows=tuple((tx, rx, f"{v:+.1f}") for v, tx, rx in pairs[:max_rows]),
+            align=("left", "left", "right"), widths=(2.0, 2.0, 1.4),
+            note=f"{len(m.transmitters)} transmitters x {n} receivers: too many for a grid; "
+                 f"{len(pairs)} pairs over the limit" + (f", {more} not shown" if more > 0 else "")
+                 + ". The plan's JSON has the full matrix (survey.matrix).",
+        )
     rows = []
     for tx, row in zip(m.transmitters, m.excess_db, strict=True):
         rows.append((tx, *[DASH if v is None else f"{v:+.1f}" for v in row]))
-    n = len(m.receivers)
     return Table(
         title="Worst excess over the receiver's limit, dB (transmitter row -> receiver column)",
         header=("TX \\ RX", *m.receivers), rows=tuple(rows),
@@ -218,10 +245,6 @@ def threat_where(t: Any) -> str:
     if locs:
         return ", ".join(locs)
     return t.remedy if t.remedy.lower().startswith("no stub") else f"no stub: {t.remedy}"
-
-
-MAX_THREAT_ROWS = 300
-"""Rows of the plan's threat table at most (the worst groups); the JSON has every threat."""
 
 
 def threat_groups(threats: Sequence[Any]) -> list[tuple[Any, int]]:
