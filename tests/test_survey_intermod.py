@@ -278,6 +278,12 @@ def test_product_never_exceeds_the_weakest_carrier_forming_it():
     t = _product(survey(s), "2*A - B")
     assert 2 * (P50 - 20) + (P50 - 26) + 40 > P50 - 26  # the raw power law would be above
     assert t.level_dbm == pytest.approx(P50 - 26, abs=1e-9)
+    assert levels.CLAMP_NOTE in t.details
+    # and a route inside the power law's range carries no such note
+    low = survey(site(radio("A", t=tx(150.0)), radio("B", t=tx(160.0)),
+                      radio("R", r=rx(140.0, iip3_dbm=-5.0), x=30.0),
+                      couplings=couple(AB=150.0, AR=80.0, BR=80.0)))  # fmt: skip
+    assert levels.CLAMP_NOTE not in _product(low, "2*A - B").details
 
 
 def test_receiver_class_defaults_and_given_figures():

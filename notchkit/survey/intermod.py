@@ -348,6 +348,7 @@ class _State:
         deg = levels.degeneracy_db(coeffs)[ki] if h else np.zeros(0)
         thr = sa.rx_threshold[vic]
         routes = np.full((h, 4), -np.inf)  # columns 0..k-1: mixer position; 3: receiver
+        held = np.zeros((h, 4), dtype=bool)  # the route was held at its weakest carrier
         with np.errstate(divide="ignore", invalid="ignore"):
             u = np.log(flo / self.rx_lo_f[vic]) / self.log_span[vic] * (GRID - 1)
         u = np.clip(np.nan_to_num(u, nan=0.0, posinf=0.0), 0.0, GRID - 1.0)
@@ -360,6 +361,7 @@ class _State:
             incoming = self.inc[others, mixer[:, None]]
             conv = levels.conversion_db(self.l3[mixer], self.step[mixer], order)
             formed = levels.tx_route_dbm(sa.p_dbm[mixer], incoming, np.delete(absc, p, axis=1), conv, deg)
+            held[:, p] = formed >= incoming.min(axis=1)
             at = mixer.astype(np.int64) * (self.n * GRID) + base
             a0 = self.path_grid[at]
             total = a0 + t * (self.path_grid[at + 1] - a0)
@@ -370,6 +372,7 @@ class _State:
             inp = self.arr[src[idx], vic[idx, None]]
             iip = self.iip[order[idx], vic[idx]]
             routes[idx, 3] = levels.rx_route_dbm(inp, absc[idx], iip, deg[idx])
+            held[idx, 3] = routes[idx, 3] >= inp.min(axis=1)
         best = np.argmax(routes, axis=1)
         rows_i = np.arange(h)
         level = routes[rows_i, best]
@@ -382,7 +385,7 @@ class _State:
         return {
             "src": pad, "coef": cpad, "victim": vic.astype(np.int32), "plo": plo, "phi": phi,
             "flo": flo, "fhi": fhi, "level": level, "excess": excess, "best": best.astype(np.int8),
-            "routes": routes,
+            "routes": routes, "held": held[np.arange(h), best],
         }  # fmt: skip
 
     def worst(self, rows: dict, worst: np.ndarray) -> None:
@@ -502,6 +505,7 @@ class _State:
         iso_l, meth_l = iso_a.tolist(), meth_a.tolist()
         frm_l, f_iso_l = frm.tolist(), f_iso.tolist()
         routes_l = routes.tolist()
+        held_l = rows["held"].tolist()
         out = []
         for j in range(h):
             s = tuple(x for x in src_l[j] if x >= 0)
@@ -517,6 +521,8 @@ class _State:
             m = None if rx_route else s[b]
             iso_text = ctx.iso_text(frm_l[j], v, f_iso_l[j], iso_l[j], meth_l[j])
             details = (self._route_text(s, c, v, b, order), self._routes_line(s, routes_l[j]))
+            if held_l[j]:
+                details += (levels.CLAMP_NOTE,)
             out.append(
                 Threat(
                     sources=tuple(names[i] for i in s), victim=names[v], mechanism="intermod",
