@@ -397,3 +397,14 @@ def test_large_site_matrix_becomes_a_list_of_worst_pairs():
     assert over and len(table.rows) == len(over)
     assert [float(r[2]) for r in table.rows] == pytest.approx(over, abs=0.05)
     assert len(matrix_table(res, max_rows=2).rows) == 2
+
+
+def test_max_threats_must_be_a_whole_number():
+    from notchkit.errors import UsageError
+
+    s = site(radio("A", t=tx(150.0)), radio("B", t=tx(160.0)), radio("R", r=rx(140.0), x=30.0))
+    for bad in (-1, 2.5, True):
+        with pytest.raises(UsageError, match="max_threats"):
+            survey(s, max_threats=bad)
+    notes = " ".join(survey(s).notes)
+    assert "class mobile (default)" in notes and "R" in notes

@@ -84,6 +84,7 @@ def survey(
             max_threats=DEFAULT_MAX_THREATS if max_threats is None else max_threats,
         )
         threats += im
+        notes += outcome.notes or []
         threats += blocking_threats(ctx, tx, rx)
         if outcome.left_over or outcome.left_under:
             left_out.append(("intermod", outcome.left_over, outcome.left_under))

@@ -29,6 +29,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from notchkit.errors import UsageError
 from notchkit.survey import levels, products
 from notchkit.survey.result import Threat
 
@@ -62,6 +63,8 @@ class IMOutcome:
     worst: np.ndarray | None = None
     """Worst excess per (transmitter, receiver) radio index over every hit, n x n
     (-inf where none; for the matrix)."""
+    notes: list[str] | None = None
+    """Which radios rest on the documented level defaults."""
 
 
 def intermod_threats(
@@ -81,10 +84,13 @@ def intermod_threats(
     max_threats : int
         Threat objects kept (the worst); the others are counted in the outcome.
     """
+    if isinstance(max_threats, bool) or not isinstance(max_threats, int | np.integer) or max_threats < 0:
+        raise UsageError(f"max_threats: {max_threats!r} is not allowed (an integer >= 0)")
     outcome = IMOutcome()
     if tx.size < 2 or rx.size == 0 or max_order < 2:
         return [], outcome
     st = _State(ctx, tx, rx)
+    outcome.notes = st.default_notes()
     outcome.worst = np.full((st.n, st.n), -np.inf)
     keep = _Keep(max_threats)
     for k in (2, 3):
@@ -272,6 +278,26 @@ class _State:
         self.labels: dict[tuple, str] = {}
         self.texts: dict[tuple, str] = {}
         self.remedies: dict[tuple, tuple] = {}
+
+    def default_notes(self) -> list[str]:
+        names, radios = self.ctx.names, self.sa.site.radios
+        out = []
+        step = [names[i] for i in range(self.n) if radios[i].tx is not None
+                and getattr(radios[i].tx, "im_order_step_db", None) is None]  # fmt: skip
+        if step:
+            out.append(f"default IM conversion step {levels.DEFAULT_IM_ORDER_STEP_DB:g} dB per order away "
+                       "from 3rd (common practice, rough) for: " + ", ".join(step))  # fmt: skip
+        by_class: dict[str, list[str]] = {}
+        for v in self.rx.tolist():
+            r = radios[v].rx
+            if r.iip2_dbm is None or r.iip3_dbm is None:
+                cls = r.receiver_class or f"{levels.DEFAULT_RECEIVER_CLASS} (default)"
+                by_class.setdefault(cls, []).append(names[v])
+        for cls, who in by_class.items():
+            i2, i3, _ = levels.RECEIVER_CLASSES[cls.split()[0]]
+            out.append(f"receiver intercept points of class {cls} (IIP2 {i2:+g}, IIP3 {i3:+g} dBm, "
+                       "from memory, see docs/survey.md) for: " + ", ".join(who))  # fmt: skip
+        return out
 
     # ------------------------------------------------------------ enumeration
     def land(self, coeffs: np.ndarray, radios_c: np.ndarray):
