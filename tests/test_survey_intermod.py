@@ -169,7 +169,7 @@ def test_combinatorial_factor_matches_fft_of_power_series(n):
 
 def _three(couplings, **rx_kw):
     radios = [radio("A", t=tx(150.0)), radio("B", t=tx(160.0)), radio("C", t=tx(175.0)),
-              radio("R", r=rx(100.0, 400.0, **rx_kw), x=30.0)]  # fmt: skip
+              radio("R", r=rx(10.0, 700.0, **rx_kw), x=30.0)]  # fmt: skip
     return survey(site(*radios, couplings=couplings))
 
 
@@ -198,6 +198,16 @@ def test_transmitter_route_levels_by_hand():
         "3*A - 2*B": (130.0, P50 - (l3 + 2 * step) + 2 * (inc - P50) + 20 * math.log10(2)),
         # A + B: 2nd order, P_B - L2, L2 = L3 + step
         "A + B": (310.0, inc - (l3 + step)),
+        # 3A - B: 4th order (3, 1), P_B - L4
+        "3*A - B": (290.0, inc - (l3 + step)),
+        # 2B - 2A: 4th order (2, 2), P_A - L4 + 2 (P_B - P_A) + 20log10(3!/(2!2!))
+        "2*B - 2*A": (20.0, P50 - (l3 + step) + 2 * (inc - P50) + 20 * math.log10(1.5)),
+        # 2C - A - B: three-tone 4th order, + (P_B - P_A) + 2 (P_C - P_A) + 20log10(3!/2!)
+        "2*C - A - B": (40.0, P50 - (l3 + step) + 3 * (inc - P50) + 20 * math.log10(3)),
+        # 2A + B - 2C: three-tone 5th order, + (P_B - P_A) + 2 (P_C - P_A) + 20log10(4!/(2!2!))
+        "2*A + B - 2*C": (110.0, P50 - (l3 + 2 * step) + 3 * (inc - P50) + 20 * math.log10(6)),
+        # 3A - B - C: three-tone 5th order (3, 1, 1), 20log10(4!/3!)
+        "3*A - B - C": (115.0, P50 - (l3 + 2 * step) + 2 * (inc - P50) + 20 * math.log10(4)),
     }
     for label, (f, at_mixer) in cases.items():
         t = _product(res, label)
@@ -214,7 +224,7 @@ def test_each_input_moves_the_product_by_its_exponent():
     base = _three(TX_COUPLINGS, iip2_dbm=120.0, iip3_dbm=80.0)
     radios = [radio("A", t=tx(150.0)), radio("B", t=tx(160.0, power_w=50.0 * 10**0.1)),
               radio("C", t=tx(175.0)),
-              radio("R", r=rx(100.0, 400.0, iip2_dbm=120.0, iip3_dbm=80.0), x=30.0)]  # fmt: skip
+              radio("R", r=rx(10.0, 700.0, iip2_dbm=120.0, iip3_dbm=80.0), x=30.0)]  # fmt: skip
     up = survey(site(*radios, couplings=TX_COUPLINGS))
     for label, slope in (("2*A - B", 1), ("2*B - A", 2), ("A + B - C", 1), ("3*A - 2*B", 2)):
         rise = _product(up, label).level_dbm - _product(base, label).level_dbm
