@@ -418,3 +418,25 @@ def test_max_threats_must_be_a_whole_number():
             survey(s, max_threats=bad)
     notes = " ".join(survey(s).notes)
     assert "class mobile (default)" in notes and "R" in notes
+
+
+def test_cli_max_threats(tmp_path, capsys):
+    from notchkit.cli import main
+
+    f = tmp_path / "s.yaml"
+    f.write_text(
+        "site: Test Hill\n"
+        "transmitters:\n"
+        "  - {name: A, freq_mhz: 150.0, power_w: 50}\n"
+        "  - {name: B, freq_mhz: 160.0, power_w: 50, antenna: {x_m: 10}}\n"
+        "receivers:\n"
+        "  - {name: R, band_mhz: [10, 700], antenna: {x_m: 30}}\n"
+    )
+    assert main(["survey", str(f), "--json", "--max-threats", "3"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert sum(t["mechanism"] == "intermod" for t in doc["threats"]) == 3
+    (left,) = doc["left_out"]
+    assert left["over_limit"] + left["under_limit"] > 0
+    assert main(["survey", str(f), "--max-threats", "-1"]) == 2
+    err = capsys.readouterr().err
+    assert "max_threats: -1" in err and "Traceback" not in err

@@ -63,13 +63,6 @@ DEFAULT_IM_ORDER_STEP_DB = 5.0
 rough (an output stage's tuned network and push-pull balance work against even
 orders, and higher orders fall off); settable per transmitter (``im_order_step_db``)."""
 
-REFERENCE_INCOMING_DBC = 30.0
-"""Incoming level below the carrier at which conversion figures are usually
-measured (from memory: the land-mobile intermodulation-attenuation test uses
-30 dB). In the power-law model the (n-1, 1) route is linear in the incoming
-level, so the figure holds at any level; this is recorded in the route text."""
-
-
 RECEIVER_CLASSES: dict[str, tuple[float, float, str]] = {
     # name: (IIP2 dBm, IIP3 dBm, source)
     "hf": (
