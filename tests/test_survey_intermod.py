@@ -440,3 +440,27 @@ def test_cli_max_threats(tmp_path, capsys):
     assert main(["survey", str(f), "--max-threats", "-1"]) == 2
     err = capsys.readouterr().err
     assert "max_threats: -1" in err and "Traceback" not in err
+
+
+def test_coarse_stage_misses_nothing_at_high_frequencies():
+    # Products near 6 GHz whose terms are large (float32 rounding in the coarse stage): the
+    # survey finds exactly what an exact float64 brute force finds (independent loops).
+    rng = np.random.default_rng(17)
+    freqs = {f"T{i}": float(np.round(rng.uniform(1500.0, 5900.0), 4)) for i in range(6)}
+    radios = [radio(n, t=tx(f), x=10.0 * k) for k, (n, f) in enumerate(freqs.items())]
+    hits = []
+    names = list(freqs)
+    for k in (2, 3):
+        for combo in itertools.combinations(names, k):
+            for c in sorted(brute_coefficients(k, 5)):
+                f = abs(sum(ci * freqs[n] for ci, n in zip(c, combo, strict=True)))
+                if 1000.0 < f < 5990.0:
+                    hits.append(f)
+    chosen = sorted(rng.choice(hits, 12, replace=False).tolist())
+    # receivers exactly one channel wide around chosen products (edges touching the product)
+    radios += [radio(f"R{i}", r=Receive(band=Band(lo_mhz=f, hi_mhz=f), bandwidth_khz=1.0), x=500.0 + i)
+               for i, f in enumerate(chosen)]  # fmt: skip
+    res = survey(site(*radios))
+    got = sorted(round(t.f_mhz, 6) for t in res.threats if t.mechanism == "intermod")
+    expected = sorted(round(f, 6) for f in hits for g in chosen if abs(f - g) <= 0.0005 + 1e-9)
+    assert got == expected and len(got) >= 12

@@ -313,7 +313,8 @@ class _State:
         # (float32 error << a bin); does it touch a covered bin? Most products land nowhere.
         c32 = coeffs.T.astype(np.float32)
         mid = np.abs(((lo + hi) * 0.5).astype(np.float32) @ c32).ravel()
-        half = (((hi - lo) * 0.5).astype(np.float32) @ np.abs(c32)).ravel()
+        # half-width plus 1e-6 of each term (~16 float32 roundings: a safe bound on the error)
+        half = (((hi - lo) * 0.5 + (hi + lo) * 0.5e-6).astype(np.float32) @ np.abs(c32)).ravel()
         inv = np.float32(1.0 / self.bin_mhz)
         b0 = np.clip(((mid - half) * inv).astype(np.int32) - 1, 0, COVER_BINS)
         b1 = np.clip(((mid + half) * inv).astype(np.int32) + 1, -1, COVER_BINS - 1)
