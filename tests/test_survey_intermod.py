@@ -464,3 +464,18 @@ def test_coarse_stage_misses_nothing_at_high_frequencies():
     got = sorted(round(t.f_mhz, 6) for t in res.threats if t.mechanism == "intermod")
     expected = sorted(round(f, 6) for f in hits for g in chosen if abs(f - g) <= 0.0005 + 1e-9)
     assert got == expected and len(got) >= 12
+
+
+def test_low_receivers_with_high_products_stay_exact():
+    # Receivers near 2 MHz (a fine coverage map) and transmitters at 3-5.9 GHz (products up to
+    # tens of GHz, far beyond the map): only the difference products land, as the loops say.
+    freqs = {"A": 3000.0, "B": 3001.5, "C": 5900.0}
+    radios = [radio(n, t=tx(f), x=10.0 * k) for k, (n, f) in enumerate(freqs.items())]
+    radios.append(radio("R", r=rx(1.0, 3.0), x=100.0))
+    got = sorted(round(t.f_mhz, 6) for t in survey(site(*radios)).threats if t.mechanism == "intermod")
+    def f_of(c, combo):
+        return abs(sum(ci * freqs[n] for ci, n in zip(c, combo, strict=True)))
+
+    want = sorted(round(f_of(c, combo), 6) for k in (2, 3) for combo in itertools.combinations(freqs, k)
+                  for c in brute_coefficients(k, 5) if 1.0 - 0.0005 <= f_of(c, combo) <= 3.0005)  # fmt: skip
+    assert got == want and got  # 3001.5 - 3000 = 1.5 MHz at least

@@ -316,8 +316,9 @@ class _State:
         # half-width plus 1e-6 of each term (~16 float32 roundings: a safe bound on the error)
         half = (((hi - lo) * 0.5 + (hi + lo) * 0.5e-6).astype(np.float32) @ np.abs(c32)).ravel()
         inv = np.float32(1.0 / self.bin_mhz)
-        b0 = np.clip(((mid - half) * inv).astype(np.int32) - 1, 0, COVER_BINS)
-        b1 = np.clip(((mid + half) * inv).astype(np.int32) + 1, -1, COVER_BINS - 1)
+        cap = np.float32(COVER_BINS + 2)  # clip before the integer cast (no overflow)
+        b0 = np.clip(np.minimum((mid - half) * inv, cap).astype(np.int32) - 1, 0, COVER_BINS)
+        b1 = np.clip(np.minimum((mid + half) * inv, cap).astype(np.int32) + 1, -1, COVER_BINS - 1)
         near = np.nonzero(self.cover[b1 + 1] > self.cover[np.minimum(b0, b1 + 1)])[0]
         if near.size == 0:
             return None
