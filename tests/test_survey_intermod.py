@@ -479,3 +479,20 @@ def test_low_receivers_with_high_products_stay_exact():
     want = sorted(round(f_of(c, combo), 6) for k in (2, 3) for combo in itertools.combinations(freqs, k)
                   for c in brute_coefficients(k, 5) if 1.0 - 0.0005 <= f_of(c, combo) <= 3.0005)  # fmt: skip
     assert got == want and got  # 3001.5 - 3000 = 1.5 MHz at least
+
+
+def test_example_sites_survey_as_documented():
+    # docs/survey.md, "Example sites": threats / over the limit / filter locations after this model
+    import re
+    from pathlib import Path
+
+    from notchkit.site import load_site
+
+    root = Path(__file__).resolve().parents[1]
+    text = (root / "docs" / "survey.md").read_text(encoding="utf-8")
+    rows = re.findall(r"^\| ([\w-]+) \| [\d ]+/[\d ]+/[\d ]+ \| (\d+) / (\d+) / (\d+) \|", text, re.M)
+    assert {r[0] for r in rows} == {p.stem for p in (root / "sites").glob("*.yaml")}
+    for name, n, over, locs in rows:
+        res = survey(load_site(str(root / "sites" / f"{name}.yaml")))
+        got = (len(res.threats), sum(t.excess_db > 0 for t in res.threats), len(res.filters))
+        assert got == (int(n), int(over), int(locs)), name
