@@ -9,12 +9,14 @@ Not a timed test: run ``python benchmarks/design.py [SITE.yaml ...]``.
 
 from __future__ import annotations
 
+import dataclasses
 import sys
 import time
 from pathlib import Path
 
 from notchkit.cables import get_cable
 from notchkit.design import design_filter
+from notchkit.hardware import model_for
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import load_site
 from notchkit.site.model import Allowances, Band, Limits
@@ -64,17 +66,24 @@ def main(argv: list[str]) -> None:
         site = load_site(path)
         sv = survey(site)
         print(f"-- {path.name}: {len(sv.filters)} filters")
+        hw = getattr(site, "hardware", None)
+        allowances = (site.allowances if hw is None
+                      else dataclasses.replace(site.allowances, tee_allowance_m=0.0))
         for i, req in enumerate(sv.filters, start=1):
-            cable = get_cable(req.cable, site.cables)
+            # the cable as notchkit.design gives it: with the site's hardware, load and ceiling
+            radio = next((r for r in site.radios if r.name == req.radio), None)
+            cable = model_for(get_cable(req.cable, site.cables), settings=hw,
+                              load=getattr(radio, "load", None),
+                              depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
             label = f"F{i} {req.side} {req.radio} ({len(req.notches)} notches)"
-            worst = max(worst, _row(label, req, cable, site.limits, site.allowances, f"F{i}"))
+            worst = max(worst, _row(label, req, cable, site.limits, allowances, f"F{i}"))
     print("-- ad-hoc examples")
     for label, passes, notches, cable_name in AD_HOC:
         req = FilterRequirement(
             radio=None, side=None, pass_bands=tuple(Band(lo_mhz=a, hi_mhz=b) for a, b in passes),
             notches=tuple(NotchSpec(lo_mhz=a, hi_mhz=b, required_db=r) for a, b, r in notches),
             cable=cable_name)
-        worst = max(worst, _row(label, req, get_cable(cable_name), Limits(), Allowances(), "F1"))
+        worst = max(worst, _row(label, req, model_for(get_cable(cable_name)), Limits(), Allowances(), "F1"))
     print(f"worst filter: {worst:.3f} s wall = {worst / TARGET_S:.2f} x the {TARGET_S:g} s target")
 
 
