@@ -91,7 +91,7 @@ class Design:
 
         s = self.solution
         freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
-        return extrapolation_note(self.cable, freqs)
+        return extrapolation_note(getattr(self.cable, "cable", self.cable), freqs)  # a hardware.Model's cable
 
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
