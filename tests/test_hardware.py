@@ -350,3 +350,61 @@ def test_cli_design_load_option(tmp_path, capsys):
     code = main(["design", "--pass", "144-148", "--notch", "440-450:20", "--load", str(tmp_path / "bad.txt")])
     err = capsys.readouterr().err
     assert code == 2 and "bad.txt:1:1: load: row '100 30' is not a valid point" in err
+
+
+def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
+    # A design with N hardware, rebuilt from its own JSON (elements and the model's figures) with
+    # scikit-rf parts only, gives the reported worst figures (leakage floor added as stated).
+    from notchkit.design import design
+    from notchkit.site import load_site
+
+    site = tmp_path / "s.yaml"
+    site.write_text(
+        "site: Fictional Knoll\ncable: RG-213\n"
+        "transmitters:\n  - name: vhf\n    freq_mhz: 146.5\n    power_w: 50\n"
+        "receivers:\n  - name: uhf\n    freq_mhz: 440.0\n"
+        "couplings:\n  - between: [vhf, uhf]\n    isolation_db: 25\n"
+        "hardware: {family: n}\n")
+    report = design(load_site(site), workers=1)
+    assert report.designs
+    for d in report.designs:
+        fj = d.to_json()
+        hwj = fj["model"]["hardware"]
+        fam = FAMILIES["n"]
+        assert hwj["plug_mm"] == fam.plug_mm and hwj["tee_through_mm"] == fam.tee_through_mm
+        cable = get_cable(fj["cable"]["type"])
+        ceiling = fj["model"]["depth_ceiling_db"]
+
+        def rebuild(f, fj=fj, fam=fam, cable=cable, hwj=hwj, ceiling=ceiling):
+            cab = _cable_media(cable, f)
+            arm = _lossless(f, fam.tee_z_ohm, fam.tee_vf).line(fam.tee_through_mm * 1e-3, unit="m")
+            plug = _lossless(f, fam.z_pair_ohm, fam.pair_vf).line(fam.plug_mm * 1e-3, unit="m")
+            parts, prev_stub = [], False
+            for e in fj["elements"]:
+                if e["kind"] == "stub":
+                    if not prev_stub:
+                        parts.append(arm)
+                    parts.append(cab.shunt(_skrf_stub(cable, fam, hwj["short_nh"], e["length_m"],
+                                                      e["termination"], f)))
+                    prev_stub = True
+                else:
+                    if prev_stub:
+                        parts.append(arm)
+                    parts += [plug, cab.line(e["length_m"] - 2 * fam.plug_mm * 1e-3, unit="m"), plug]
+                    prev_stub = False
+            if prev_stub:
+                parts.append(arm)
+            net = parts[0]
+            for p in parts[1:]:
+                net = net ** p
+            s21 = np.sqrt(np.abs(net.s[:, 1, 0]) ** 2 + 10 ** (-ceiling / 10))
+            return -20 * np.log10(s21), np.abs(net.s[:, 0, 0])
+
+        for band in fj["notch"]:
+            att, _ = rebuild(np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
+            assert att.min() == pytest.approx(band["worst_attenuation_db"], abs=0.1)
+            assert att.min() <= ceiling + 1e-9
+        for band in fj["pass"]:
+            att, rho = rebuild(np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
+            assert att.max() == pytest.approx(band["worst_insertion_loss_db"], abs=0.05)
+            assert (1 + rho.max()) / (1 - rho.max()) == pytest.approx(band["worst_swr"], rel=0.02)
