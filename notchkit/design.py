@@ -235,15 +235,15 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
 
     sv = survey(site)
     hw = getattr(site, "hardware", None)
-    allowances = site.allowances if hw is None else dataclasses.replace(site.allowances, tee_allowance_m=0.0)
+    no_allowance = dataclasses.replace(site.allowances, tee_allowance_m=0.0)  # the tee's arms are modelled
 
     def medium(req: FilterRequirement) -> Any:  # the cable with the site's hardware, load and ceiling
         radio = next((r for r in site.radios if r.name == req.radio), None)
         return model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),
                          depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
 
-    jobs = [(req, medium(req), site.limits, allowances, f"F{i}")
-            for i, req in enumerate(sv.filters, start=1)]
+    jobs = [(req, m, site.limits, site.allowances if m.hardware is None else no_allowance, f"F{i}")
+            for i, req, m in ((i, req, medium(req)) for i, req in enumerate(sv.filters, start=1))]
     n = len(jobs)
     designs: list[Design] = []
     pending = [meanwhile] if meanwhile is not None else []

@@ -531,7 +531,10 @@ def model_for(cable: Any, *, settings: Any = None, load: Any = None,
             swr = float(load.swr)
         if getattr(load, "radio_ohm", None) is not None:
             source = ConstantZ(z=complex(load.radio_ohm))
-    return Model(cable=cable, hardware=hardware_of(settings), load=z_load, source=source,
+    hw = hardware_of(settings)
+    if getattr(cable, "balanced", False):
+        hw = None  # coax connectors and tees do not apply to a balanced line (it joins through a balun)
+    return Model(cable=cable, hardware=hw, load=z_load, source=source,
                  rlgc=getattr(settings, "line_model", "classic") == "rlgc",
                  depth_ceiling_db=DEFAULT_DEPTH_CEILING_DB if depth_ceiling_db is None else depth_ceiling_db,
                  out_of_band_swr=swr)
@@ -565,7 +568,11 @@ def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.
     m = filt.cable if isinstance(filt.cable, Model) else Model(cable=filt.cable, depth_ceiling_db=None)
     lines: list[str] = []
     data: dict[str, Any] = {}
-    if m.hardware is None:
+    if m.hardware is None and getattr(m.cable, "balanced", False):
+        lines.append("Model: balanced line: no coax connector model (the junctions are the tee allowance; "
+                     "the line joins coax through a balun).")
+        data["hardware"] = None
+    elif m.hardware is None:
         lines.append(f"Model: ideal tees; tee allowance {filt.tee_allowance_m * 1000:.0f} mm of stub cable "
                      "per stub; cut lengths run from the tee's port reference plane (the connector's mating "
                      "face) to the stub's end, the allowance taken off.")
