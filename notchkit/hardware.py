@@ -587,6 +587,28 @@ def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.
     lines.append("Line: RLGC (internal inductance: phase velocity falls at HF, complex Z0)." if m.rlgc else
                  "Line: lossless-VF phase with the cable's loss (classic model).")
     data["line_model"] = "rlgc" if m.rlgc else "classic"
+    data["other_line_model"] = None
+    if notch_mhz and hasattr(m.cable, "z0_ohm"):
+        # The same filter on the other line model, at each notch centre: how much the choice matters.
+        f = np.asarray(list(notch_mhz), dtype=float) * 1e6
+        other = m.with_(rlgc=not m.rlgc)
+        try:
+            rows = filt.lengths_m[None, :]
+            a = -20 * np.log10(np.abs(m.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
+            b = -20 * np.log10(np.abs(other.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
+        except (ValueError, ZeroDivisionError, FloatingPointError):  # a cable without a loss split
+            a = b = None
+        if a is not None:
+            name = "RLGC" if other.rlgc else "classic"
+            data["other_line_model"] = {"model": name, "notch_mhz": [float(x) for x in notch_mhz],
+                                        "this_db": [round(float(x), 2) for x in a],
+                                        "other_db": [round(float(x), 2) for x in b]}
+            moved = [(x, y, z) for x, y, z in zip(notch_mhz, a, b, strict=True) if abs(y - z) >= 1.0]
+            if moved:
+                lines.append(f"On the {name} line the notch centres would read "
+                             + ", ".join(f"{x:g} MHz {z:.1f} dB (here {y:.1f})" for x, y, z in moved)
+                             + ("; at HF the conductor's internal inductance slows the wave "
+                                "(docs/hardware.md)." if other.rlgc else "."))
     if m.load is not None:
         lo, hi = m.load.freq_hz[0] / 1e6, m.load.freq_hz[-1] / 1e6
         lines.append(f"Verified into the given antenna load ({m.load.source}, {lo:g}-{hi:g} MHz); outside "

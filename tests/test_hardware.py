@@ -408,3 +408,18 @@ def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
             att, rho = rebuild(np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
             assert att.max() == pytest.approx(band["worst_insertion_loss_db"], abs=0.05)
             assert (1 + rho.max()) / (1 - rho.max()) == pytest.approx(band["worst_swr"], rel=0.02)
+
+
+def test_report_shows_the_rlgc_line_beside_the_classic_one():
+    # A 40 m notch on RG-58 designed on the classic line: the report gives the RLGC line's figure
+    # at the notch centre, computed on that line (hand: the quarter wave is ~1.9 % short there).
+    from notchkit.design import design_request
+
+    (d,) = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-58").designs
+    other = d.to_json()["model"]["other_line_model"]
+    assert other["model"] == "RLGC" and other["notch_mhz"] == [7.15]
+    m = Model(cable=get_cable("RG-58"), rlgc=True)
+    s21 = evaluate_batch(d.filter.kinds, d.filter.lengths_m[None, :], m, [7.15e6])[0][0, 0]
+    assert other["other_db"][0] == pytest.approx(-20 * math.log10(abs(s21)), abs=0.01)
+    assert other["other_db"][0] < other["this_db"][0] - 1.0
+    assert any(line.startswith("On the RLGC line") for line in d.model.lines)
