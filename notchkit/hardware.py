@@ -321,11 +321,23 @@ class Model:
         plug_m = fam.plug_mm * mm if fam else 0.0
         short_l = (hw.short_nh * 1e-9) if hw is not None else 0.0
         yl_short = 1.0 / (1j * 2 * np.pi * f * short_l) if short_l > 0 else None
-        # tanh(j b l) = j tan(b l) of the plug and the side arm, once per call
-        t_plug = 1j * np.tan(2 * np.pi * f * plug_m / (C0 * fam.pair_vf)) if fam and plug_m > 0 else None
         side_m = fam.tee_side_mm * mm if fam else 0.0
-        t_side = 1j * np.tan(2 * np.pi * f * side_m / (C0 * fam.tee_vf)) if fam and side_m > 0 else None
         tanh_gl = self._tanh_gl(g)
+        # Each stub kind's admittance at the junction is a Moebius map of t = tanh(gamma l_c) with
+        # coefficients over f only: the end (open, the short's inductance, an ideal short) through
+        # the cable, then the fixed plug and side arm, composed once (one complex division a point).
+        fixed = _chain(_section(fam.tee_z_ohm, fam.tee_vf, side_m, f) if fam else None,
+                       _section(fam.z_pair_ohm, fam.pair_vf, plug_m, f) if fam else None)
+        ends = {"open": (yc, 0.0, 0.0, 1.0)}
+        ends["short"] = ((yc * yc, yc * yl_short, yl_short, yc) if yl_short is not None
+                         else (0.0, yc, 1.0, 0.0))
+        maps = {}
+        for name, (p_, q_, r_, s_) in ends.items():
+            if fixed is None:
+                maps[name] = (p_, q_, r_, s_)
+            else:
+                fa, fb, fc, fd = fixed  # Y_in = (C + D Y) / (A + B Y)
+                maps[name] = (fc * r_ + fd * p_, fc * s_ + fd * q_, fa * r_ + fb * p_, fa * s_ + fb * q_)
         m: Any = (1.0, 0.0, 0.0, 1.0)  # exact scalars until a candidate's element comes
         pending = barrel  # fixed parts not yet applied to m
 
@@ -339,16 +351,11 @@ class Model:
                     pending = _chain(pending, arm)
                 m, pending = flush(m), None
                 lc = np.maximum(x - plug_m, 0.0)
-                if k.termination == "open":
-                    y = yc * tanh_gl(lc)
-                elif yl_short is not None:
-                    y = _transform_y(yl_short, yc, tanh_gl(lc))
-                else:
-                    y = yc / tanh_gl(np.maximum(lc, 1e-9))
-                if t_plug is not None:
-                    y = _transform_y(y, 1.0 / fam.z_pair_ohm, t_plug)
-                if t_side is not None:
-                    y = _transform_y(y, 1.0 / fam.tee_z_ohm, t_side)
+                if k.termination == "short" and yl_short is None:
+                    lc = np.maximum(lc, 1e-9)  # an ideal short at 0 m: a finite dead short
+                al, be, ga, de = maps[k.termination]
+                u, v = tanh_gl(lc)  # tanh = u / v
+                y = (al * u + be * v) / (ga * u + de * v)
                 a, b, c, d = m
                 m = (a + b * y, b, c + d * y, d)
                 if j == len(kinds) - 1 or not kinds[j + 1].shunt:  # the last stub at this tee
@@ -367,17 +374,18 @@ class Model:
         return tuple(np.broadcast_to(v, (rows, f.size)) for v in m)
 
     def _tanh_gl(self, g):
-        """``x -> tanh(g x)`` for a column of lengths ``x``: from real ``tan`` and ``expm1`` on the
-        classic line (``g = a + j b``, about half the cost of a complex ``tanh``), complex otherwise."""
+        """``x -> (u, v)`` with ``tanh(g x) = u / v`` for a column of lengths ``x``: from real ``tan``
+        and ``expm1`` on the classic line (``g = a + j b``; the division is left to the caller's
+        Moebius map), a complex ``tanh`` (``v = 1``) on the RLGC line."""
         if self.rlgc:
-            return lambda x: np.tanh(g * x)
+            return lambda x: (np.tanh(g * x), 1.0)
         a, b = g.real, g.imag
 
-        def tanh_gl(x):
+        def tanh_gl(x):  # (u, v) with tanh(g x) = u / v
             e = np.expm1(-2.0 * a * x)
             th = -e / (2.0 + e)  # tanh(a x), exact for small a x
             tn = np.tan(b * x)
-            return (th + 1j * tn) / (1.0 + 1j * th * tn)
+            return th + 1j * tn, 1.0 + 1j * (th * tn)
 
         return tanh_gl
 
