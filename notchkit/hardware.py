@@ -189,18 +189,6 @@ def _chain(*mats):
     return out
 
 
-def _transform_y(y, y0, t):
-    """Admittance seen through a line of admittance ``y0`` with ``t = tanh(gamma l)``."""
-    return y0 * (y + y0 * t) / (y0 + y * t)
-
-
-def _y_through_section(y, z: float, vf: float, length_m: float, f):
-    if length_m <= 0:
-        return y
-    t = 1j * np.tan(2 * np.pi * f * length_m / (C0 * vf))
-    return _transform_y(y, 1.0 / z, t)
-
-
 # ---------------------------------------------------------------- the model
 
 
