@@ -186,6 +186,7 @@ def spread_lines(spreads, swr: float) -> list[str]:
             lines.append(f"  notch {s.freq_mhz:g} MHz: {s.nominal_db:.1f} dB into 50 ohm, "
                          f"{s.worst_db:.1f} to {s.best_db:.1f} dB")
         else:
-            lines.append(f"  pass {s.freq_mhz:g} MHz: loss {s.nominal_db:.2f} dB into 50 ohm, up to "
-                         f"{s.worst_db:.2f} dB; SWR at the radio up to {s.worst_swr:.2f}")
+            lines.append(f"  pass {s.freq_mhz:g} MHz, were the antenna this mismatched there: loss "
+                         f"{s.nominal_db:.2f} dB into 50 ohm, up to {s.worst_db:.2f} dB; SWR at the radio "
+                         f"up to {s.worst_swr:.2f} (the antenna's own mismatch included)")
     return lines
