@@ -237,6 +237,12 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     hw = getattr(site, "hardware", None)
     no_allowance = dataclasses.replace(site.allowances, tee_allowance_m=0.0)  # the tee's arms are modelled
 
+    from notchkit.loads import read_load
+
+    for radio in site.radios:  # every given load file is read (a bad one is refused) before designing
+        if getattr(getattr(radio, "load", None), "file", None):
+            read_load(radio.load.file)
+
     def medium(req: FilterRequirement) -> Any:  # the cable with the site's hardware, load and ceiling
         radio = next((r for r in site.radios if r.name == req.radio), None)
         return model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),

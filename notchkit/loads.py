@@ -31,7 +31,7 @@ from numpy.typing import ArrayLike, NDArray
 from notchkit.errors import InputError
 
 
-@dataclass(frozen=True, slots=True, kw_only=True)
+@dataclass(frozen=True, slots=True, kw_only=True, eq=False)
 class Load:
     """A measured or tabulated load impedance over frequency."""
 

@@ -423,3 +423,32 @@ def test_report_shows_the_rlgc_line_beside_the_classic_one():
     assert other["other_db"][0] == pytest.approx(-20 * math.log10(abs(s21)), abs=0.01)
     assert other["other_db"][0] < other["this_db"][0] - 1.0
     assert any(line.startswith("On the RLGC line") for line in d.model.lines)
+
+
+def test_site_refuses_an_unknown_family_at_its_place(tmp_path):
+    from notchkit.errors import SiteError
+    from notchkit.site import load_site
+
+    site = tmp_path / "s.yaml"
+    site.write_text("site: Fictional Knoll\ntransmitters:\n  - name: vhf\n    freq_mhz: 146.5\n"
+                    "    power_w: 50\nhardware:\n  family: sma\n  line_model: exact\n")
+    with pytest.raises(SiteError) as info:
+        load_site(site)
+    text = str(info.value)
+    assert "s.yaml:7:11: hardware.family: 'sma' is not known (allowed: uhf, n, bnc)" in text
+    assert "s.yaml:8:15: hardware.line_model: 'exact' is not known (allowed: classic, rlgc)" in text
+
+
+def test_design_command_refuses_a_bad_load_file_with_one_line(tmp_path, capsys):
+    from notchkit.cli import main
+
+    (tmp_path / "ant.txt").write_text("146 50 0\n140 40 -10\n")
+    site = tmp_path / "s.yaml"
+    site.write_text("site: Fictional Knoll\ntransmitters:\n  - name: vhf\n    freq_mhz: 146.5\n"
+                    "    power_w: 50\n    load: {file: ant.txt}\nreceivers:\n  - name: uhf\n"
+                    "    freq_mhz: 440.0\n")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    assert main(["design", str(site)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "ant.txt:2:1: load: frequency 140 MHz does not rise" in err[0]
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
