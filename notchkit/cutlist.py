@@ -359,10 +359,14 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both") -> str:
             f"{c.stub_id}  {c.termination} stub at tee {c.tee}: cut {format_length(c.cut_length_m, units)}"
             f" (first cut {format_length(c.first_cut_m, units)}, +{c.trim_margin_pct:g} %)"
         )
-        lines.append(
-            f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
-            f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
-        )
+        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
+            lines.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
+                         f"VF {c.velocity_factor:g}")
+        else:
+            lines.append(
+                f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
+                f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
+            )
         if c.reference_plane:
             lines.append(f"    cut length measured {c.reference_plane}")
         lines.append(
