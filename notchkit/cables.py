@@ -143,8 +143,18 @@ class Cable:
         -------
         ndarray
             ``k_sqrt * sqrt(f) + k_lin * f``, same shape as ``freq_mhz``.
+
+        Raises
+        ------
+        CableError
+            A frequency that is negative, NaN or infinite.
         """
         f = np.asarray(freq_mhz, dtype=float)
+        ok = np.isfinite(f) & (f >= 0.0)
+        if not ok.all():
+            bad = float(f[~ok].flat[0])
+            raise CableError(f"cable {self.name}: loss asked at {bad:g} MHz "
+                             "(allowed: finite frequencies >= 0 MHz)")
         return self.k_sqrt * np.sqrt(f) + self.k_lin * f
 
     def loss_db_per_100ft(self, freq_mhz: npt.ArrayLike) -> np.ndarray:

@@ -37,7 +37,6 @@ D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, section 6.3
 from __future__ import annotations
 
 import io
-import json
 import math
 import os
 import warnings
@@ -291,14 +290,9 @@ def read_measurement(path: str | os.PathLike[str]):
             f"{p}: extension {p.suffix or '(none)'!r} is not a one- or two-port Touchstone "
             f"file (use .s1p for the stub alone, .s2p through the tee)"
         )
-    try:
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise MeasurementError(f"{p}: no such measurement file") from None
-    except IsADirectoryError:
-        raise MeasurementError(f"{p}: is a directory, not a Touchstone file") from None
-    except OSError as exc:
-        raise MeasurementError(f"{p}: cannot be read ({exc.strerror or exc})") from None
+    from notchkit.bounded import read_measurement_bytes
+
+    data = read_measurement_bytes(p)
     if not data.strip():
         raise MeasurementError(f"{p}: is empty (expected a Touchstone {suffix} sweep)")
     if b"\0" in data:
@@ -321,6 +315,11 @@ def read_measurement(path: str | os.PathLike[str]):
     if ntwk.nports not in (1, 2):
         raise MeasurementError(f"{p}: has {ntwk.nports} ports; trim reads 1 (.s1p) or 2 (.s2p)")
     f = np.asarray(ntwk.f, dtype=float)
+    from notchkit.bounded import MAX_SWEEP_POINTS
+
+    if f.size > MAX_SWEEP_POINTS:
+        raise MeasurementError(f"{p}: has {f.size} frequency points; at most {MAX_SWEEP_POINTS} "
+                               f"are read (sweep fewer points)")
     if f.size < MIN_POINTS:
         raise MeasurementError(
             f"{p}: has {f.size} frequency points; need at least {MIN_POINTS} (a sweep)"
@@ -626,19 +625,10 @@ def load_plan_stub(plan_path: str | os.PathLike[str], stub_id: str) -> PlanStub:
     InputError
         Missing or unreadable file, not JSON, no such stub, bad length values.
     """
+    from notchkit.bounded import read_json_file
+
     p = Path(plan_path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(f"{p}: no such plan file") from None
-    except IsADirectoryError:
-        raise InputError(f"{p}: is a directory, not a plan JSON file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{p}: cannot be read ({exc})") from None
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{p}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg})") from None
+    doc = read_json_file(p, error=InputError, what="plan JSON file")
     filters = doc.get("filters") if isinstance(doc, dict) else None
     if not isinstance(filters, list):
         raise InputError(f"{p}: filters: missing or not a list (expected a notchkit plan JSON)")
