@@ -72,6 +72,9 @@ SAFETY = (
     "Safety: trim with the transmitter off; never trim a stub connected to a transmitter. "
     "Open stub ends carry high voltage at power."
 )
+MAX_LENGTH_M = 10_000.0
+"""Longest present stub length (and tee allowance) trim works with, m: far beyond any
+stub, small enough that every figure stays finite."""
 INCH_M = 0.0254
 """Metres per inch (exact by definition)."""
 
@@ -736,11 +739,17 @@ def trim(
         raise UsageError(f"--target-mhz: {target_mhz!r} must be a frequency in MHz > 0")
     if target_mhz is None and plan_path is None:
         raise UsageError("--target-mhz: required unless --plan gives the stub's resonance_mhz")
-    if length_m is not None and not _finite_positive(length_m):
-        raise UsageError(f"--length-m: {length_m!r} must be the present stub length in metres > 0")
+    if length_m is not None and not (_finite_positive(length_m) and float(length_m) <= MAX_LENGTH_M):
+        raise UsageError(f"--length-m: {length_m!r} must be the present stub length in metres > 0 "
+                         f"and at most {MAX_LENGTH_M:g}")
+    if png_path is not None:  # the plot's file, checked against the inputs before any work
+        from notchkit.report.files import plan_outputs
+
+        plan_outputs([(png_path, "--png")], inputs=[(measurement_path, "measurement"),
+                                                        (plan_path, "plan JSON")])
     if allowance_m is not None:
         try:
-            ok = math.isfinite(float(allowance_m)) and float(allowance_m) >= 0.0
+            ok = math.isfinite(float(allowance_m)) and 0.0 <= float(allowance_m) <= MAX_LENGTH_M
         except (TypeError, ValueError):
             ok = False
         if not ok:
@@ -847,6 +856,9 @@ def trim(
                 )
 
     vf = target_len = cut = None
+    if present is not None and not (present + allowance_m <= MAX_LENGTH_M):
+        raise UsageError(f"{source}: {present:g} m (+ {allowance_m:g} m allowance) is longer than any "
+                         f"stub (allowed: at most {MAX_LENGTH_M:g} m)")
     if present is not None:
         le = present + allowance_m
         vf = 4.0 * le * res.freq_hz / (n * C0)

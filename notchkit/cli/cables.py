@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-import json
 import math
 
 from notchkit.cables import DEFAULT_AT_MHZ, VALID_FREQ_MHZ, cable_table
 from notchkit.errors import EXIT_OK, UsageError
+from notchkit.jsonvalues import dumps
 
 
 def add_parser(sub) -> None:
@@ -89,7 +89,7 @@ def format_table(rows) -> str:
 def run(args) -> int:
     rows = cable_table(parse_at(args.at))
     if args.json:
-        print(json.dumps([r.to_json() for r in rows], indent=2))
+        print(dumps([r.to_json() for r in rows], indent=2))
     else:
         print(format_table(rows))
     return EXIT_OK

@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-import json
 import math
 import re
 import sys
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+from notchkit.jsonvalues import dumps
 
 CAUTION = (
     "Safety: open stub ends carry the highest voltage of the filter (kilovolts at high power); "
@@ -92,6 +92,10 @@ def run(args) -> int:
     from notchkit.design import design, design_request, write_touchstones
 
     progress = _progress(args)
+    if args.touchstone is not None:  # before any work: the folder (its files are named after the survey)
+        from notchkit.report.files import check_dir_writable
+
+        check_dir_writable(args.touchstone, "--touchstone")
     if args.site is not None:
         if args.pass_bands or args.notches or args.cable or args.max_stubs is not None:
             raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs, not both")
@@ -114,9 +118,9 @@ def run(args) -> int:
         print("", file=sys.stderr)
     written = ()
     if args.touchstone is not None:
-        written = write_touchstones(report, args.touchstone)
+        written = write_touchstones(report, args.touchstone, inputs=[(args.site, "site file")])
     if args.json:
-        print(json.dumps(report.to_json(), indent=2, allow_nan=False))
+        print(dumps(report.to_json(), indent=2))
     else:
         print(format_report(report))
         for path in written:

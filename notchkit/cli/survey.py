@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-import json
-
 from notchkit.errors import EXIT_OK
+from notchkit.jsonvalues import dumps
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
@@ -42,7 +41,7 @@ def run(args) -> int:
 
     result = survey(load_site(args.site), max_harmonic=args.max_harmonic)
     if args.json:
-        print(json.dumps(result.to_json(), indent=2, allow_nan=False))
+        print(dumps(result.to_json(), indent=2))
     else:
         print(format_result(result))
     return EXIT_OK

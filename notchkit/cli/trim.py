@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import json
 import math
 
 from notchkit.errors import EXIT_OK, UsageError
+from notchkit.jsonvalues import dumps
 from notchkit.trim import SAFETY, inches_16ths, trim
 
 DESCRIPTION = """\
@@ -21,7 +21,11 @@ transparent through a tee; its notch is the half wave, at twice the frequency).
 """
 
 
-def _positive_float(name: str):
+MAX_TARGET_MHZ = 1e6
+"""Largest --target-mhz (1 THz; the sweep must cover it anyway)."""
+
+
+def _positive_float(name: str, hi: float, unit: str = ""):
     def parse(text: str) -> float:
         try:
             value = float(text)
@@ -29,6 +33,9 @@ def _positive_float(name: str):
             raise UsageError(f"{name}: {text!r} is not a number") from None
         if not (math.isfinite(value) and value > 0):
             raise UsageError(f"{name}: {text} must be > 0")
+        if value > hi:
+            raise UsageError(f"{name}: {text} is too large (allowed: more than 0 and at most {hi:g}"
+                             f"{unit})")
         return value
 
     return parse
@@ -86,8 +93,10 @@ def _allowance(text: str | None) -> float | None:
         value = float(text)
     except ValueError:
         raise UsageError(f"--allowance-m: {text!r} is not a number") from None
-    if not (math.isfinite(value) and value >= 0):
-        raise UsageError(f"--allowance-m: {text} must be a length in metres >= 0")
+    from notchkit.trim import MAX_LENGTH_M
+
+    if not (math.isfinite(value) and 0 <= value <= MAX_LENGTH_M):
+        raise UsageError(f"--allowance-m: {text} must be a length in metres from 0 to {MAX_LENGTH_M:g}")
     return value
 
 
@@ -131,8 +140,12 @@ def format_text(result) -> str:
 
 
 def run(args) -> int:
-    target = None if args.target_mhz is None else _positive_float("--target-mhz")(args.target_mhz)
-    length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
+    from notchkit.trim import MAX_LENGTH_M
+
+    target = (None if args.target_mhz is None
+              else _positive_float("--target-mhz", MAX_TARGET_MHZ, " MHz")(args.target_mhz))
+    length = (None if args.length_m is None
+              else _positive_float("--length-m", MAX_LENGTH_M, " m")(args.length_m))
     if (args.plan is None) != (args.stub is None):
         raise UsageError("--plan and --stub go together: give both or neither")
     if args.termination is None and args.plan is None:
@@ -151,7 +164,7 @@ def run(args) -> int:
         png_path=args.png,
     )
     if args.json:
-        print(json.dumps(result.to_json(), indent=2))
+        print(dumps(result.to_json(), indent=2))
     else:
         print(format_text(result))
     return EXIT_OK
