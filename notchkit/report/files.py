@@ -94,6 +94,15 @@ def check_writable(path: str | os.PathLike, what: str = "output") -> Path:
     label = f"{what} path {_q(p)}"
     if not str(path) or p.name in ("", ".", ".."):
         raise InputError(f"{label} is not a file name (give a file name, e.g. plan.pdf)")
+    folder = p.parent if str(p.parent) else Path(".")
+    limit = name_max(_nearest_existing(folder))
+    if len(os.fsencode(p.name)) > limit:
+        raise InputError(f"{label}: the file name is {len(os.fsencode(p.name))} bytes long "
+                         f"(allowed: at most {limit} bytes)")
+    full = os.fsencode(os.path.abspath(p))
+    if len(full) >= _path_max(_nearest_existing(folder)):
+        raise InputError(f"{label}: the path is {len(full)} bytes long (allowed: less than "
+                         f"{_path_max(_nearest_existing(folder))} bytes)")
     try:
         st = os.stat(p)
     except FileNotFoundError:
@@ -107,19 +116,10 @@ def check_writable(path: str | os.PathLike, what: str = "output") -> Path:
         if kind is not None:
             raise InputError(f"{label} is {kind}, not a regular file (notchkit writes only regular "
                              "files; give a file name)")
-    folder = p.parent if str(p.parent) else Path(".")
     if not folder.exists():
         raise InputError(f"{label}: folder {_q(folder)} does not exist (create it first)")
     if not folder.is_dir():
         raise InputError(f"{label}: {_q(folder)} is not a folder")
-    limit = name_max(folder)
-    if len(os.fsencode(p.name)) > limit:
-        raise InputError(f"{label}: the file name is {len(os.fsencode(p.name))} bytes long "
-                         f"(allowed: at most {limit} bytes)")
-    full = os.fsencode(os.path.abspath(p))
-    if len(full) >= _path_max(folder):
-        raise InputError(f"{label}: the path is {len(full)} bytes long (allowed: less than "
-                         f"{_path_max(folder)} bytes)")
     if not os.access(folder, os.W_OK | os.X_OK):
         raise InputError(f"{label}: folder {_q(folder)} is not writable")
     if st is not None and not os.access(p, os.W_OK):
@@ -229,6 +229,7 @@ def plan_outputs(outputs: Sequence[tuple[str | os.PathLike[str], str]], *,
         ident = _identity(s)
         hit = seen.get(key) or (ids.get(ident) if ident is not None else None)
         if hit is not None:
-            raise InputError(f"{hit[1]} {_q(hit[0])} is the {iw} itself, {_q(s)} (choose another "
+            also = "" if str(s) == str(hit[0]) else f" {_q(s)}"
+            raise InputError(f"{hit[1]} {_q(hit[0])} is the {iw}{also} itself (choose another "
                              "output name; notchkit never writes over its inputs)")
     return out

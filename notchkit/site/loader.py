@@ -55,6 +55,14 @@ _FRACTION_TEXT = r"(?:\d+\s+)?\d+/\d+"
 LENGTH_PATTERN = rf"^\s*(?:{_NUMBER_TEXT}|{_FRACTION_TEXT})\s*(?:m|cm|mm|ft|in)\s*$"
 """The text form of a length (also the JSON Schema pattern): a number and a unit,
 e.g. ``"12 ft"``, ``"3.5 m"``, ``"1/16 in"``, ``"3 1/2 in"``."""
+MAX_RADIOS = 256
+"""Most radios (transmitters, receivers and transceivers together) in one site file."""
+MAX_TRANSMITTERS = 229
+"""Most transmitting radios: C(229, 3) = 1 975 354 three-transmitter combinations, the
+largest count within :data:`MAX_IM_TRIPLES`."""
+MAX_IM_TRIPLES = 2_000_000
+"""Most three-transmitter intermodulation combinations the survey enumerates; checked
+here, before any enumeration, so a huge site is one clear line, not a huge allocation."""
 MAX_NUMBER_CHARS = 40
 """Longest text of one number (a float's repr is at most 24 characters); longer is refused
 before it is converted (Python's int() of thousands of digits is slow or refused)."""
@@ -1177,6 +1185,8 @@ class _Builder:
         site_cable = _val(top, "cable", m.DEFAULT_CABLE)
         radios: list[m.Radio] = []
         n_entries = 0
+        n_tx = 0
+        too_many_tx = False
         lists_ok = True
         for knode, _ in root.value:
             key = getattr(knode, "value", None)
@@ -1187,9 +1197,22 @@ class _Builder:
                 continue
             for d, node, path in top[key][0]:
                 n_entries += 1
+                if n_entries == MAX_RADIOS + 1:
+                    r.add(node, path, f"more than {MAX_RADIOS} radios in one site (allowed: at most "
+                          f"{MAX_RADIOS} transmitters, receivers and transceivers together; split the "
+                          "site into groups that share no antenna space)")
                 radio = self.radio(key, d, node, path, site_cable)
                 if radio is not None:
                     radios.append(radio)
+                    if radio.tx is not None:
+                        n_tx += 1
+                        if n_tx >= 3 and n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES \
+                                and not too_many_tx:
+                            too_many_tx = True
+                            r.add(node, path, f"{n_tx} transmitters make "
+                                  f"{n_tx * (n_tx - 1) * (n_tx - 2) // 6} three-transmitter "
+                                  f"intermodulation combinations (allowed: at most {MAX_IM_TRIPLES}, "
+                                  f"{MAX_TRANSMITTERS} transmitters)")
         if n_entries == 0 and lists_ok:
             r.add(
                 root,
