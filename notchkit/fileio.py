@@ -94,6 +94,12 @@ def hold_interrupts() -> Iterator[list[int]]:
             raise KeyboardInterrupt
 
 
+def _swallowed_interrupt() -> bool:
+    from notchkit.interrupts import interrupted
+
+    return interrupted()
+
+
 def write_all(files: Sequence[tuple[str | os.PathLike[str], bytes, str]], *,
               make_dir: str | os.PathLike[str] | None = None) -> list[Path]:
     """Write every ``(path, data, what)`` atomically, all or none.
@@ -148,6 +154,8 @@ def write_all(files: Sequence[tuple[str | os.PathLike[str], bytes, str]], *,
                     os.close(fd)
                 if interrupted:
                     raise KeyboardInterrupt
+            if _swallowed_interrupt():  # a Ctrl-C some library caught: write nothing
+                raise KeyboardInterrupt
             done = []
             for tmp, p, what in temps:
                 try:

@@ -26,10 +26,9 @@ writing the outputs (:func:`notchkit.fileio.hold_interrupts`)
 
 from __future__ import annotations
 
+import _signal  # the C module: nothing to import or run before Ctrl-C is handled
 import os
-import signal
 import sys
-import threading
 from collections.abc import Callable
 from typing import Any
 
@@ -51,11 +50,10 @@ def running_as_command() -> bool:
 
 def guard_startup() -> None:
     """Ctrl-C during start-up: one line, exit 130, nothing else (see the module docstring)."""
-    if threading.current_thread() is threading.main_thread():
-        try:
-            signal.signal(signal.SIGINT, _die)
-        except (ValueError, OSError):  # pragma: no cover - not the main interpreter
-            pass
+    try:
+        _signal.signal(_signal.SIGINT, _die)
+    except (ValueError, OSError):  # not the main thread or interpreter: leave Python's handler
+        pass
 
 
 def _raise(_signum: int, _frame: Any) -> None:
@@ -66,15 +64,13 @@ def _raise(_signum: int, _frame: Any) -> None:
 def install() -> Callable[[], None]:
     """Ctrl-C raises ``KeyboardInterrupt`` and is remembered; returns a function restoring the old handler."""
     _state["hit"] = False
-    if threading.current_thread() is not threading.main_thread():
-        return lambda: None
     try:
-        old = signal.signal(signal.SIGINT, _raise)
-    except (ValueError, OSError):  # pragma: no cover
+        old = _signal.signal(_signal.SIGINT, _raise)
+    except (ValueError, OSError):  # not the main thread: Python's own handling
         return lambda: None
 
     def restore() -> None:
-        signal.signal(signal.SIGINT, old)
+        _signal.signal(_signal.SIGINT, old)
 
     return restore
 
