@@ -336,7 +336,6 @@ def test_failed_atomic_write_keeps_the_old_file_and_leaves_no_temporary(tmp_path
 
 def test_failed_touchstone_write_keeps_the_old_file(tmp_path, monkeypatch):
     """The disk fills half way through writing the new .s2p: the old file stays, no temporary."""
-    import builtins
 
     from notchkit.cables import get_cable
     from notchkit.filters import Filter, Stub, write_touchstone
