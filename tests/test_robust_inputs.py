@@ -329,3 +329,31 @@ def test_numbers_too_long_to_read_are_refused_with_their_position(tmp_path):
         load_site(p)
     assert exc.value.problems[0].line == 3 and "400" not in exc.value.problems[0].field
     assert "too long for a number" in exc.value.problems[0].message
+
+
+# ---------------------------------------------------------------------------
+# command-line options that set the amount of work
+# ---------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("value", ["21", "100000000", "-3", "x", "1e3"])
+def test_survey_max_harmonic_is_bounded_like_the_site_file(capsys, value):
+    """``--max-harmonic 100000000`` ran without end; the site file allows 2-20 (1: none)."""
+    one_error_line(capsys, ["survey", str(ROOT / "sites" / "ridge-eoc.yaml"), f"--max-harmonic={value}"],
+                   "--max-harmonic")
+
+
+def test_library_survey_max_harmonic_is_bounded():
+    from notchkit.errors import UsageError
+    from notchkit.site import load_site
+    from notchkit.survey import survey
+
+    with pytest.raises(UsageError, match="1 to 20"):
+        survey(load_site(ROOT / "sites" / "ridge-eoc.yaml"), max_harmonic=10**8)
+
+
+def test_design_band_counts_are_bounded(capsys):
+    from notchkit.cli.design import MAX_BANDS
+
+    notches = [f"--notch={400 + k}-{400.5 + k}" for k in range(MAX_BANDS + 1)]
+    one_error_line(capsys, ["design", "--pass=144-148", *notches], f"at most {MAX_BANDS}")

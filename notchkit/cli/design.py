@@ -16,6 +16,9 @@ CAUTION = (
     "and tower work."
 )
 
+MAX_BANDS = 32
+"""Most --pass and most --notch bands of one ad-hoc filter."""
+
 _NUM = r"([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)"
 _BAND = re.compile(rf"^\s*{_NUM}\s*-\s*{_NUM}\s*$")
 
@@ -107,6 +110,9 @@ def run(args) -> int:
             raise UsageError("give SITE.yaml, or at least one --pass LO-HI and one --notch LO-HI[:DB]")
         if args.max_stubs is not None and not 1 <= args.max_stubs <= 8:
             raise UsageError(f"--max-stubs {args.max_stubs}: must be from 1 to 8")
+        for option, given in (("--pass", args.pass_bands), ("--notch", args.notches)):
+            if len(given) > MAX_BANDS:
+                raise UsageError(f"{option} given {len(given)} times (allowed: at most {MAX_BANDS})")
         passes = [parse_band(t) for t in args.pass_bands]
         notches = [parse_notch(t) for t in args.notches]
         from notchkit.cables import get_cable

@@ -11,6 +11,23 @@ CAUTION = (
 )
 
 
+MAX_HARMONIC = 20
+"""Highest --max-harmonic, the same as a site file's max_harmonic allows."""
+
+
+def _harmonic(text: str) -> int:
+    from notchkit.errors import UsageError
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise UsageError(f"--max-harmonic: {text!r} is not a whole number "
+                         f"(allowed: 1 to {MAX_HARMONIC})") from None
+    if not 1 <= value <= MAX_HARMONIC:
+        raise UsageError(f"--max-harmonic: {value} is outside 1 to {MAX_HARMONIC} (1: no harmonics)")
+    return value
+
+
 def add_parser(sub) -> None:
     p = sub.add_parser(
         "survey",
@@ -28,7 +45,7 @@ def add_parser(sub) -> None:
     p.add_argument(
         "--max-harmonic",
         metavar="N",
-        type=int,
+        type=_harmonic,
         default=None,
         help="highest harmonic evaluated (>= 1; default: the site's max_harmonic, else 5)",
     )

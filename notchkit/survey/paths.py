@@ -168,8 +168,9 @@ class SiteArrays:
 
 def check_max_harmonic(value: object) -> int:
     """Validate a harmonic limit: an integer >= 1 (1: harmonics not evaluated)."""
-    if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
-        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer >= 1)")
+    if isinstance(value, bool) or not isinstance(value, int | np.integer) or not 1 <= value <= 20:
+        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer from 1 to 20, as a site "
+                         "file allows)")
     return int(value)
 
 
