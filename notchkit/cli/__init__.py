@@ -84,6 +84,10 @@ def main(argv: list[str] | None = None) -> int:
             except KeyboardInterrupt:
                 print("error: interrupted", file=sys.stderr)
                 return 130
+            except MemoryError:  # the caps (docs/robustness.md) should make this unreachable
+                print("error: out of memory (the input is too large for this machine; the limits are "
+                      "in docs/robustness.md)", file=sys.stderr)
+                return EXIT_BAD_INPUT
             _print_warnings(caught, mpl_log)
             if interrupts.interrupted():  # Ctrl-C that some library caught and went on
                 print("error: interrupted", file=sys.stderr)
