@@ -121,6 +121,10 @@ class SafeStream:
         self._stream.write(clean(s))
         return len(s)
 
+    def write_control(self, s: str) -> int:
+        """Write a control sequence the program itself composed (redrawing a progress line)."""
+        return self._stream.write(s)
+
     def writelines(self, lines) -> None:  # noqa: ANN001
         for line in lines:
             self.write(line)

@@ -139,7 +139,9 @@ def _progress(args):
         return None
 
     def show(message: str) -> None:
-        sys.stderr.write("\r\x1b[K" + message[:100])
+        err = sys.stderr  # the line is redrawn in place: its own control sequence, the text sanitised
+        getattr(err, "write_control", err.write)("\r\x1b[K")
+        err.write(message[:100])
         sys.stderr.flush()
 
     return show
