@@ -301,3 +301,91 @@ def stub_s2p(tmp_path) -> Path:
     path = tmp_path / "stub.s2p"
     path.write_text(touchstone_text(f, s), encoding="utf-8")
     return path
+
+
+# ---------------------------------------------------------------------------
+# property: the planner refuses exactly the unsafe plans; what it accepts is written whole
+# ---------------------------------------------------------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+CHOICES = ["a", "b", "new1", "new2", "dir", "fifo", "link_a", "hard_a", "sub/new1", "sub/a", "link_sub/new1",
+           "link_sub/a", "sub/../a", "missing/x"]
+
+
+def _world(root: Path) -> None:
+    (root / "a").write_text("input a\n", encoding="utf-8")
+    (root / "b").write_text("input b\n", encoding="utf-8")
+    (root / "dir").mkdir()
+    os.mkfifo(root / "fifo")
+    (root / "link_a").symlink_to(root / "a")
+    os.link(root / "a", root / "hard_a")
+    (root / "sub").mkdir()
+    (root / "sub" / "a").write_text("another a\n", encoding="utf-8")
+    (root / "link_sub").symlink_to(root / "sub")
+
+
+def _oracle(root: Path, outputs: list[str], inputs: list[str]) -> bool:
+    """Whether the plan is safe, decided independently of notchkit: by each path's real folder
+    and name, and by device and inode for files that exist (POSIX stat)."""
+    def ident(rel: str):
+        full = os.path.abspath(root / rel)
+        folder, name = os.path.split(full)
+        if not os.path.isdir(folder):
+            return None
+        key = (os.path.realpath(folder), name)
+        try:
+            st_ = os.stat(full)
+        except FileNotFoundError:
+            return key, None
+        return key, (st_.st_dev, st_.st_ino, stat.S_ISREG(st_.st_mode))
+
+    seen_keys, seen_inodes = set(), set()
+    for rel in outputs:
+        got = ident(rel)
+        if got is None:  # its folder is missing
+            return False
+        key, node = got
+        if node is not None and not node[2]:  # exists and is not a regular file
+            return False
+        if key in seen_keys or (node is not None and node[:2] in seen_inodes):
+            return False
+        seen_keys.add(key)
+        if node is not None:
+            seen_inodes.add(node[:2])
+    for rel in inputs:
+        key, node = ident(rel)
+        if key in seen_keys or (node is not None and node[:2] in seen_inodes):
+            return False
+    return True
+
+
+@settings(derandomize=True, deadline=None, database=None, max_examples=120,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(st.sampled_from(CHOICES), min_size=1, max_size=4),
+       st.lists(st.sampled_from(["a", "b"]), max_size=2, unique=True))
+def test_the_planner_refuses_exactly_the_unsafe_plans(tmp_path_factory, outputs, inputs):
+    from notchkit.fileio import write_all
+    from notchkit.report.files import plan_outputs
+
+    root = tmp_path_factory.mktemp("world")
+    _world(root)
+    before = {rel: (root / rel).read_bytes() for rel in ("a", "b", "sub/a")}
+    safe = _oracle(root, outputs, inputs)
+    try:
+        paths = plan_outputs([(root / rel, f"out{k}") for k, rel in enumerate(outputs)],
+                             inputs=[root / rel for rel in inputs])
+    except InputError as exc:
+        assert not safe, (outputs, inputs, str(exc))
+        assert "\n" not in str(exc)
+        assert {rel: (root / rel).read_bytes() for rel in before} == before
+        return
+    assert safe, (outputs, inputs)
+    data = [f"output {k}\n".encode() for k in range(len(paths))]
+    write_all([(p, d, "out") for p, d in zip(paths, data, strict=True)])
+    for p, d in zip(paths, data, strict=True):
+        assert p.read_bytes() == d
+    for rel in inputs:
+        assert (root / rel).read_bytes() == before[rel]
+    assert not [p for p in root.rglob(".*.part")]
