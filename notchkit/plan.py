@@ -11,7 +11,6 @@ computation; every file is written atomically; the site file is only read.
 from __future__ import annotations
 
 import datetime as _dt
-import json
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -329,7 +328,9 @@ def plan(
             writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
                        (folder / f"{stem}.csv", curve_csv_text(curve).encode("utf-8"), "--outdir CSV"),
                        (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
-        writes.append((json_path, (json.dumps(doc, indent=2, allow_nan=False) + "\n").encode("utf-8"),
+        from notchkit.jsonvalues import dumps
+
+        writes.append((json_path, (dumps(doc, indent=2) + "\n").encode("utf-8"),
                        "plan JSON"))
     from notchkit.fileio import write_all
 
