@@ -133,7 +133,9 @@ class _UnderWay:
         matrix, threats = matrix_table(sv), threat_table(sv)
         # The site's own strings decide the font (only they can hold characters outside
         # Windows-1252); the finished plan checks the choice.
-        font = choose_font([*strings_of(self.site), str(self.site.path), self.footer,
+        from notchkit.textsafe import clean
+
+        font = choose_font([*strings_of(self.site), clean(str(self.site.path), one_line=True), self.footer,
                             *strings_of((matrix, threats))])
         self.pdf = PlanPdf(title=plan_title(self.site.name), font=font, page_size=self.page_size,
                            footer=self.footer)
