@@ -162,3 +162,20 @@ def test_json_dumps_refuses_non_finite_numbers():
     for bad in (float("inf"), float("nan"), -float("inf")):
         with pytest.raises(DesignError, match="non-finite"):
             dumps({"a": [bad]})
+
+
+def test_a_site_file_name_with_odd_bytes_is_escaped_in_every_output(tmp_path, capsys):
+    """A file name that is not UTF-8 (byte 0xFF: a lone surrogate in Python) with an ESC in it:
+    the plan is written, and the PDF, HTML and terminal show escapes, never the raw characters."""
+    import pypdf
+
+    name = os.fsdecode(b"odd\xffname\x1b.yaml")
+    site = tmp_path / name
+    site.write_bytes((ROOT / "sites" / "ridge-eoc.yaml").read_bytes())
+    rc = main(["plan", str(site), "-o", str(tmp_path / "p.pdf"), "--html", str(tmp_path / "p.html")])
+    out, err = capsys.readouterr()
+    assert rc in (EXIT_OK, EXIT_UNMET), err
+    assert raw_control(out) is None and raw_control(err) is None
+    text = pypdf.PdfReader(str(tmp_path / "p.pdf")).pages[0].extract_text()
+    assert "odd\\udcffname\\x1b.yaml" in text
+    assert raw_control((tmp_path / "p.html").read_text(encoding="utf-8")) is None
