@@ -357,3 +357,18 @@ def test_design_band_counts_are_bounded(capsys):
 
     notches = [f"--notch={400 + k}-{400.5 + k}" for k in range(MAX_BANDS + 1)]
     one_error_line(capsys, ["design", "--pass=144-148", *notches], f"at most {MAX_BANDS}")
+
+
+def test_a_site_built_in_python_is_held_to_the_same_caps(tmp_path):
+    import dataclasses
+
+    from notchkit.errors import SiteError
+    from notchkit.site import load_site
+    from notchkit.survey import survey
+
+    p = tmp_path / "s.yaml"
+    p.write_text(_transceivers(200), encoding="utf-8")
+    site = load_site(p)
+    more = tuple(dataclasses.replace(r, name=f"{r.name}b") for r in site.radios[:57])
+    with pytest.raises(SiteError, match="more than 256"):
+        survey(dataclasses.replace(site, radios=site.radios + more))

@@ -218,5 +218,14 @@ def validate(site: Site) -> None:
     for k, c in enumerate(site.couplings):
         if not finite(c.isolation_db):
             bad(f"couplings[{k}].isolation_db", c.isolation_db, "must be a finite number of dB")
+    # The loader's caps on the survey's work, for sites built in Python too (docs/robustness.md).
+    from notchkit.site.loader import MAX_IM_TRIPLES, MAX_RADIOS
+
+    n_tx = sum(1 for r in site.radios if r.tx is not None)
+    if len(site.radios) > MAX_RADIOS:
+        bad("radios", len(site.radios), f"radios are more than {MAX_RADIOS} in one site")
+    if n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES:
+        bad("radios", n_tx, f"transmitters make more than {MAX_IM_TRIPLES} three-transmitter "
+            "intermodulation combinations")
     if problems:
         raise SiteError(problems)
