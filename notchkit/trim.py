@@ -948,17 +948,6 @@ def plot_measurement(network, result: TrimResult, path: str | os.PathLike[str]) 
         raise InputError(f"--png {out}: folder {folder} does not exist")
     if out.is_dir():
         raise InputError(f"--png {out}: is a directory")
-    import matplotlib
-
-    from notchkit.report.curves import MPL_RC
-
-    with matplotlib.rc_context(MPL_RC):  # text as written: a '$' in a file name is no mathtext
-        data = _plot_png(network, result, Figure, FigureCanvasAgg)
-    write_bytes_atomic(out, data, what="--png")
-    return out
-
-
-def _plot_png(network, result: TrimResult, Figure, FigureCanvasAgg) -> bytes:  # noqa: N803
     f_mhz = np.asarray(network.f, dtype=float) / 1e6
     fig = Figure(figsize=(8, 4.5), dpi=100)
     FigureCanvasAgg(fig)
@@ -984,10 +973,11 @@ def _plot_png(network, result: TrimResult, Figure, FigureCanvasAgg) -> bytes:  #
     if result.cut_mm is not None:
         title += (f" - cut {result.cut_mm:.1f} mm" if not result.too_short
                   else f" - {-result.cut_mm:.1f} mm too short")
-    ax.set_title(title, fontsize=10)
+    ax.set_title(title, fontsize=10, usetex=False, parse_math=False)  # a '$' in a name is a '$'
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8, loc="best")
     fig.tight_layout()
     buf = io.BytesIO()
     fig.savefig(buf, format="png")
-    return buf.getvalue()
+    write_bytes_atomic(out, buf.getvalue(), what="--png")
+    return out
