@@ -4,8 +4,10 @@
 on a site, builds every printed row once (:mod:`notchkit.report.text`) and
 writes the PDF, and optionally a self-contained HTML page and an output
 folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
-plan's JSON. Every output path is checked for writability before the long
-computation; every file is written atomically; the site file is only read.
+plan's JSON. Every output is planned and checked together before the long
+computation (:func:`notchkit.report.files.plan_outputs`; the per-filter names
+again once the survey is done), and all are written together, all or none
+(:func:`notchkit.fileio.write_all`); the site file is only read.
 """
 
 from __future__ import annotations
@@ -162,7 +164,7 @@ def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
     return filt, curve_data(filt, spans[0] + spans[1]), spans
 
 
-def touchstone_name_of(d: Any) -> str:
+def _stem_of(d: Any) -> str:
     """A design's file stem in ``outdir`` (``F1-wx-alert-rx``)."""
     from notchkit.design import touchstone_name
 
@@ -290,7 +292,7 @@ def plan(
 
         sv = survey(site)
     designs = _designs(report)
-    stems = [touchstone_name_of(d) for d in designs]
+    stems = [_stem_of(d) for d in designs]
     _check_outputs(out_pdf, html, outdir, site_path, stems)
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
                    plan_json=json_name)
@@ -309,7 +311,7 @@ def plan(
                 z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
                 touchstone = (touchstone_sweep_hz(d.requirement), z_system,
                               f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
-                              touchstone_name_of(d))
+                              _stem_of(d))
             jobs.append((filt, curve, spans, ft, touchstone))
         made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
     images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
