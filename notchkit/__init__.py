@@ -20,6 +20,7 @@ from notchkit import interrupts as _interrupts  # noqa: E402 - before numpy: Ctr
 if _interrupts.running_as_command():
     _interrupts.guard_startup()
 
+from notchkit.asbuilt import RecheckResult, recheck  # noqa: E402
 from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.cutlist import StubCut, cut_list, format_length
 from notchkit.design import Design, DesignReport, design, design_request
@@ -44,6 +45,7 @@ from notchkit.solver import Solution, solve
 from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.tolerance import Tolerance, tolerance
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
+from notchkit.verification import VerifyResult, verify
 
 __all__ = [
     "__version__",
@@ -61,6 +63,10 @@ __all__ = [
     "find_resonance",
     "TrimResult",
     "Resonance",
+    "verify",
+    "VerifyResult",
+    "recheck",
+    "RecheckResult",
     "Cable",
     "cable_table",
     "get_cable",

@@ -214,14 +214,14 @@ def load_json(data: bytes | str, *, max_depth: int = MAX_JSON_DEPTH,
 
     def number(s: str) -> float | int:
         if len(s) > max_number_chars:
-            raise ValueError(f"number of {len(s)} characters (at most {max_number_chars})")
+            raise ValueError(f"a number of {len(s)} characters (allowed: at most {max_number_chars})")
         v = float(s) if any(c in s for c in ".eE") else int(s)
         if isinstance(v, float) and not math.isfinite(v):
-            raise ValueError(f"number {s} is beyond a float's range")
+            raise ValueError(f"number {s} is beyond a float's range (finite numbers only)")
         return v
 
     def constant(s: str) -> Any:
-        raise ValueError(f"{s} is not a number JSON allows (finite numbers only)")
+        raise ValueError(f"{s} is not a JSON number (finite numbers only)")
 
     try:
         return json.loads(text, parse_int=number, parse_float=number, parse_constant=constant)
@@ -230,7 +230,7 @@ def load_json(data: bytes | str, *, max_depth: int = MAX_JSON_DEPTH,
     except ValueError as exc:
         # raised by number()/constant(): json does not say where; find the first such token
         line, col = _first_bad_number(text, max_number_chars)
-        raise JsonRefused(f"{exc} (plan values are ordinary finite numbers)", line, col) from None
+        raise JsonRefused(str(exc), line, col) from None
     except RecursionError:  # pragma: no cover - the depth check comes first
         raise JsonRefused(f"nested deeper than {max_depth} levels", 0, 0) from None
 

@@ -139,9 +139,9 @@ PLANS = {
     "huge-float": ('{"filters": [{"elements": [{"kind": "stub", "id": "F1-S1", "cut_length_m": 1e999}]}]}',
                    "1:76", "beyond a float's range"),
     "huge-int": ('{"filters": [{"elements": [{"kind": "stub", "id": "F1-S1", "cut_length_m": '
-                 + "9" * 5000 + "}]}]}", "1:76", "number of 5000 characters"),
+                 + "9" * 5000 + "}]}]}", "1:76", "a number of 5000 characters"),
     "nan": ('{"filters": [{"elements": [{"kind": "stub", "id": "F1-S1", "cut_length_m": NaN}]}]}',
-            "1:76", "NaN is not a number JSON allows"),
+            "1:76", "NaN is not a JSON number"),
     "infinity": ('{"filters": [{"elements": [{"kind": "stub", "id": "F1-S1", "cut_length_m": -Infinity}]}]}',
                  "1:76", "finite numbers only"),
 }

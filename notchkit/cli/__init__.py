@@ -20,7 +20,7 @@ from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
 from notchkit.textsafe import clean
 
-COMMANDS = ("check", "cables", "survey", "design", "plan", "trim")
+COMMANDS = ("check", "cables", "survey", "design", "plan", "trim", "verify", "recheck")
 
 EPILOG = """\
 exit codes:
