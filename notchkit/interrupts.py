@@ -22,6 +22,9 @@ the command (:func:`install`)
 writing the outputs (:func:`notchkit.fileio.hold_interrupts`)
     Held off for the fraction of a second the files take, so an output is
     either not written at all or complete.
+
+after the command (:func:`hold_until_exit`)
+    Blocked: the outputs are complete and the exit code is decided.
 """
 
 from __future__ import annotations
@@ -56,6 +59,19 @@ def guard_startup() -> None:
         pass
 
 
+def hold_until_exit() -> None:
+    """Block SIGINT for the rest of the process: the command has finished (its outputs are
+    complete), and Python's shutdown restores the default handler, under which a late
+    Ctrl-C would kill the process with no message and a signal status."""
+    try:
+        _signal.pthread_sigmask(_signal.SIG_BLOCK, [_signal.SIGINT])
+    except (AttributeError, OSError, ValueError):  # no pthread_sigmask: ignore it instead
+        try:
+            _signal.signal(_signal.SIGINT, _signal.SIG_IGN)
+        except (ValueError, OSError):
+            pass
+
+
 def _raise(_signum: int, _frame: Any) -> None:
     _state["hit"] = True
     raise KeyboardInterrupt
@@ -80,4 +96,4 @@ def interrupted() -> bool:
     return bool(_state["hit"])
 
 
-__all__ = ["guard_startup", "install", "interrupted", "running_as_command"]
+__all__ = ["guard_startup", "hold_until_exit", "install", "interrupted", "running_as_command"]

@@ -544,8 +544,9 @@ them, spellings Python or JSON read differently, and text meant for a terminal o
 def trim_options(draw) -> list[str]:
     """A few of trim's numeric options, each with a hostile or an ordinary value."""
     out: list[str] = []
-    for opt in draw(st.lists(st.sampled_from(["--length-m", "--target-mhz", "--allowance-m", "--order"]),
-                             unique=True, max_size=4)):
+    options = ["--length-m", "--target-mhz", "--allowance-m",
+               "--quarter-waves" if has_option("trim", "--quarter-waves") else "--order"]
+    for opt in draw(st.lists(st.sampled_from(options), unique=True, max_size=4)):
         value = draw(st.one_of(st.sampled_from(HOSTILE_NUMBER_TEXT),
                                st.floats(allow_nan=True, allow_infinity=True).map(repr),
                                st.integers(-10**30, 10**30).map(str)))

@@ -178,7 +178,11 @@ def test_trim_refuses_absurd_lengths(capsys, stub_s2p, value):
 
 
 def test_trim_json_is_always_finite_json(capsys, stub_s2p):
-    rc = main(["trim", str(stub_s2p), *TRIM, "--length-m", "9999", "--allowance-m", "0", "--json"])
+    from notchkit.cables import get_cable
+    from notchkit.lines import C0
+
+    length = C0 * get_cable("RG-213").velocity_factor / (4 * 146e6)  # the stub measured (Pozar 6.3)
+    rc = main(["trim", str(stub_s2p), *TRIM, "--length-m", repr(length * 1.01), "--json"])
     out, err = capsys.readouterr()
     assert rc == EXIT_OK, err
 
@@ -190,14 +194,29 @@ def test_trim_json_is_always_finite_json(capsys, stub_s2p):
 
 
 def test_library_trim_refuses_a_huge_plan_length(tmp_path, stub_s2p):
-    from notchkit.errors import UsageError
+    """A real plan JSON (written by ``plan --outdir``) whose stub claims 1e300 m: one clear
+    refusal, not an overflow."""
+    from notchkit.errors import NotchkitError
     from notchkit.trim import trim
 
-    plan = tmp_path / "plan.json"
-    plan.write_text(json.dumps({"filters": [{"elements": [
-        {"kind": "stub", "id": "F1-S1", "termination": "open", "cut_length_m": 1e300}]}]}), encoding="utf-8")
-    with pytest.raises(UsageError, match="longer than any stub"):
-        trim(stub_s2p, cable="RG-213", termination=None, target_mhz=146.0, plan_path=plan, stub_id="F1-S1")
+    site = tmp_path / "flat.yaml"
+    site.write_text("site: Fictional Flat\ntransmitters:\n"
+                    "  - {name: TX2M, freq_mhz: 146.52, power_w: 50,"
+                    " antenna: {x_m: 0, y_m: 0, height_m: 10}}\n"
+                    "receivers:\n"
+                    "  - {name: RXWX, freq_mhz: 155.34, antenna: {x_m: 5, y_m: 0, height_m: 10}}\n",
+                    encoding="utf-8")
+    assert main(["plan", str(site), "-o", str(tmp_path / "p.pdf"), "--outdir", str(tmp_path / "o")]) in (0, 1)
+    doc = json.loads((tmp_path / "o" / "plan.json").read_text(encoding="utf-8"))
+    stub = next(e for e in doc["filters"][0]["elements"] if e["kind"] == "stub")
+    for key in ("length_m", "cut_length_m", "first_cut_m"):
+        stub[key] = 1e300
+    plan = tmp_path / "huge.json"
+    plan.write_text(json.dumps(doc), encoding="utf-8")
+    with pytest.raises(NotchkitError) as exc:
+        trim(stub_s2p, cable="RG-213", target_mhz=146.0, plan_path=plan, stub_id=stub["id"])
+    assert "\n" not in str(exc.value) and ("longer than any stub" in str(exc.value)
+                                           or "not allowed" in str(exc.value))
 
 
 # ---------------------------------------------------------------------------

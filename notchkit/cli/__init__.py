@@ -176,11 +176,11 @@ def entry() -> None:
     usual. Together about 0.3 s of a 2.5 s plan (docs/performance.md). The
     library functions leave the caller's collector alone.
     """
-    from notchkit.interrupts import guard_startup
+    from notchkit.interrupts import hold_until_exit
 
     gc.freeze()
     code = main()
-    guard_startup()  # from here to the exit, Ctrl-C is one line and exit 130, as at start-up
+    hold_until_exit()  # the command is over: a Ctrl-C from here on changes nothing
     gc.freeze()
     if code == 130:
         # Interrupted: every finally has run; end now, before interpreter shutdown can
