@@ -1,7 +1,8 @@
 """Bounded reading of every input file: regular files only, byte caps, JSON caps.
 
-Every file notchkit reads (a site file, a Touchstone measurement, a plan JSON)
-goes through :func:`read_regular`, which
+Every file notchkit reads (a site file, a Touchstone measurement, a plan or
+calibration JSON through :mod:`notchkit.jsonread`) goes through
+:func:`read_regular`, which
 
 - opens without blocking (``O_NONBLOCK``), so a FIFO with no writer cannot hang
   the command, and refuses anything but a regular file (a FIFO, a socket, a
@@ -38,8 +39,6 @@ MAX_SWEEP_POINTS = 100_001
 """Most frequency points in a measured sweep. 100 001 is the largest sweep of the
 usual bench vector network analysers (from memory; common practice is 201-1601
 points for a stub)."""
-MAX_PLAN_BYTES = 64 * 1024 * 1024
-"""Largest plan JSON ``trim --plan`` reads (a plan of 200 radios is a few MB)."""
 MAX_JSON_DEPTH = 64
 """Deepest nesting of a plan JSON (notchkit writes at most 6 levels)."""
 MAX_JSON_NUMBER_CHARS = 40
@@ -254,27 +253,7 @@ def _first_bad_number(text: str, max_chars: int) -> tuple[int, int]:
     return 0, 0
 
 
-def read_json_file(path: str | os.PathLike[str], *, error: type[Exception], what: str = "plan file",
-                   limit: int = MAX_PLAN_BYTES, max_depth: int = MAX_JSON_DEPTH) -> Any:
-    """Read and parse a JSON file within the caps; any refusal raises ``error`` with one line.
-
-    The line is ``FILE: what is wrong (what is allowed)``, or
-    ``FILE:LINE:COL: ...`` for a problem inside the JSON.
-    """
-    shown = shown_path(path)
-    try:
-        data = read_regular(path, limit)
-    except ReadRefused as exc:
-        hint = {"missing": f"no such {what}", "directory": f"is a directory, not a {what}",
-                "special": f"{exc.reason} (give a {what})"}.get(exc.kind, exc.reason)
-        raise error(f"{shown}: {hint}") from None
-    try:
-        return load_json(data, max_depth=max_depth)
-    except JsonRefused as exc:
-        raise error(f"{shown}:{exc.line}:{exc.col}: {exc.message}") from None
-
-
 __all__ = [
-    "MAX_JSON_DEPTH", "MAX_MEASUREMENT_BYTES", "MAX_PLAN_BYTES", "MAX_SWEEP_POINTS", "JsonRefused",
-    "ReadRefused", "load_json", "read_json_file", "read_measurement_bytes", "read_regular",
+    "MAX_JSON_DEPTH", "MAX_MEASUREMENT_BYTES", "MAX_SWEEP_POINTS", "JsonRefused", "ReadRefused",
+    "load_json", "read_measurement_bytes", "read_regular",
 ]
