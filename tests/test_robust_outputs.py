@@ -389,3 +389,42 @@ def test_the_planner_refuses_exactly_the_unsafe_plans(tmp_path_factory, outputs,
     for rel in inputs:
         assert (root / rel).read_bytes() == before[rel]
     assert not [p for p in root.rglob(".*.part")]
+
+
+# ---------------------------------------------------------------------------
+# trim and verify --calibration: the spool file is planned with the other outputs
+# ---------------------------------------------------------------------------
+
+
+def _trim_cal(stub: Path, *extra: str) -> list[str]:
+    from notchkit.cables import get_cable
+    from notchkit.lines import C0
+
+    length = C0 * get_cable("RG-213").velocity_factor / (4 * 146e6)  # the stub measured (Pozar 6.3)
+    return ["trim", str(stub), "--cable", "RG-213", "--termination", "open", "--target-mhz", "146",
+            "--length-m", repr(length), *extra]
+
+
+def test_calibration_onto_the_png_or_an_input_is_refused(tmp_path, capsys, stub_s2p):
+    digest = sha(stub_s2p)
+    refused(capsys, _trim_cal(stub_s2p, "--spool", "reel-1", "--calibration", str(stub_s2p)),
+            "measurement itself")
+    same = tmp_path / "x.json"
+    refused(capsys, _trim_cal(stub_s2p, "--spool", "reel-1", "--calibration", str(same), "--png", str(same)),
+            "same file")
+    assert sha(stub_s2p) == digest and tree(tmp_path) == ["stub.s2p"]
+
+
+def test_a_refused_calibration_leaves_no_png(tmp_path, capsys, stub_s2p):
+    """The spool file belongs to another spool: exit 2, and the plot asked for with it is not
+    written either (both, or neither)."""
+    cal = tmp_path / "reel.json"
+    assert main(_trim_cal(stub_s2p, "--spool", "reel-1", "--calibration", str(cal))) == EXIT_OK
+    capsys.readouterr()
+    before = sha(cal)
+    png = tmp_path / "plot.png"
+    refused(capsys, _trim_cal(stub_s2p, "--spool", "reel-2", "--calibration", str(cal), "--png", str(png)),
+            "reel-1")
+    assert not png.exists() and sha(cal) == before
+    assert main(_trim_cal(stub_s2p, "--spool", "reel-1", "--calibration", str(cal), "--png", str(png))) == 0
+    assert png.read_bytes().startswith(b"\x89PNG") and sha(cal) != before

@@ -170,6 +170,12 @@ def run(args) -> int:
         raise UsageError("--spool and --calibration go together: give both or neither")
     if args.termination is None and args.plan is None:
         raise UsageError("--termination: required (open or short) unless --plan gives it")
+    together = args.calibration is not None and args.png is not None
+    if args.calibration is not None:  # every output checked against the inputs before any work
+        from notchkit.report.files import plan_outputs
+
+        plan_outputs([(args.calibration, "--calibration"), *([(args.png, "--png")] if args.png else [])],
+                     inputs=[(args.measurement, "measurement"), (args.plan, "plan JSON")])
     try:
         result = trim(
             args.measurement,
@@ -182,14 +188,22 @@ def run(args) -> int:
             plan_length=args.plan_length,
             quarter_waves=_quarter_waves(args.quarter_waves),
             allowance_m=_allowance(args.allowance_m),
-            png_path=args.png,
+            png_path=None if together else args.png,
         )
         cal = None
         if args.calibration is not None:
-            from notchkit.calibration import record, sample_from_trim
+            from notchkit.calibration import calibration_bytes, record, sample_from_trim
 
             cal = record(args.calibration, spool=args.spool, cable=result.cable,
-                         sample=sample_from_trim(result, piece=args.stub))
+                         sample=sample_from_trim(result, piece=args.stub), write=not together)
+            if together:  # the plot and the calibration: both written, or neither
+                from notchkit.fileio import write_all
+                from notchkit.report.measurement import measurement_png
+                from notchkit.trim import read_measurement
+
+                png = measurement_png(read_measurement(args.measurement), result)
+                write_all([(args.png, png, "--png"),
+                           (args.calibration, calibration_bytes(cal), "--calibration")])
     except NotchkitError as exc:
         raise with_flags(exc, FLAGS) from None
     if args.json:
