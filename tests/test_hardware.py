@@ -450,5 +450,8 @@ def test_design_command_refuses_a_bad_load_file_with_one_line(tmp_path, capsys):
     before = sorted(p.name for p in tmp_path.iterdir())
     assert main(["design", str(site)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and "ant.txt:2:1: load: frequency 140 MHz does not rise" in err[0]
+    assert len(err) == 1 and "s.yaml:6:18: transmitters[0].load.file: " in err[0]
+    assert "ant.txt:2:1: frequency 140 MHz does not rise (allowed: rows in rising frequency)" in err[0]
+    assert main(["check", str(site)]) == 2  # the same file is refused by check: no later surprise
+    capsys.readouterr()
     assert sorted(p.name for p in tmp_path.iterdir()) == before
