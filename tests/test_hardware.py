@@ -455,3 +455,18 @@ def test_design_command_refuses_a_bad_load_file_with_one_line(tmp_path, capsys):
     assert main(["check", str(site)]) == 2  # the same file is refused by check: no later surprise
     capsys.readouterr()
     assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_check_shows_hardware_ceiling_and_loads(capsys):
+    from pathlib import Path
+
+    from notchkit.cli import main
+
+    site = Path(__file__).resolve().parents[1] / "sites" / "harbour-ops.yaml"
+    assert main(["check", str(site)]) == 0
+    out = capsys.readouterr().out
+    fam = FAMILIES["n"]  # MIL-STD-348 impedance; lengths from memory (docs/hardware.md)
+    assert (f"Hardware: N, mated pair {fam.z_pair_ohm:g} ohm, plug {fam.plug_mm:g} mm, tee arms "
+            f"{fam.tee_through_mm:g}/{fam.tee_side_mm:g} mm, short 3 nH; classic line") in out
+    assert "Depth ceiling: 60 dB" in out
+    assert "Load of club-2m: file " in out and "harbour-ops-antenna-2m.txt; SWR bound 6 elsewhere" in out

@@ -418,7 +418,8 @@ SECTIONS: dict[str, dict[str, Field]] = {
     "hardware": {
         "family": Field(kind="text", default="uhf", doc="Connector family: uhf, n or bnc."),
         "z_pair_ohm": Field(kind="number", num=Num(lo=10.0, hi=150.0, unit="ohm"), default=None,
-                            doc="Impedance of a mated connector pair and the tee body; default: the family's."),
+                            doc="Impedance of a mated connector pair and the tee body; "
+                            "default: the family's."),
         "plug_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
                          doc="Plug length from its mating face; default: the family's."),
         "tee_through_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
