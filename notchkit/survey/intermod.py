@@ -40,7 +40,7 @@ def intermod_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
     n = len(sa.names)
     # Carrier of transmitter o arriving at transmitter m's output stage: inc[o, m] (dBm).
     oo, mm = (a.ravel() for a in np.meshgrid(tx, tx, indexing="ij"))
-    total, iso_in, meth_in = sa.path_db(oo, mm, sa.tx_lo[oo])
+    total, iso_in, meth_in = sa.path_db(oo, mm, sa.tx_lo[oo], into="tx")
     inc = np.full((n, n), -np.inf)
     inc_iso = np.zeros((n, n))
     inc_meth = np.zeros((n, n), dtype=int)
@@ -65,6 +65,9 @@ def intermod_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
         if combos.size == 0:
             continue
         radios_c = tx[combos]  # (n_comb, k) radio indices
+        radios_c = radios_c[ctx.combos_ok(radios_c)]  # operating layer: radios active together
+        if radios_c.size == 0:
+            continue
         plo, phi = products.combine(coeffs, sa.tx_lo[radios_c], sa.tx_hi[radios_c])
         olo, ohi, hit = products.intersect(
             plo[:, :, None], phi[:, :, None], sa.rx_lo[rx][None, None, :], sa.rx_hi[rx][None, None, :]
@@ -77,7 +80,7 @@ def intermod_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
             member = (radios_c[ci] == vic[:, None]).any(axis=1)
             with np.errstate(invalid="ignore"):
                 simplex = (sa.tx_lo[vic] <= sa.rx_hi[vic]) & (sa.rx_lo[vic] <= sa.tx_hi[vic])
-            keep = ~(member & simplex)
+            keep = ~(member & simplex) & ctx.victims_ok(radios_c[ci], vic)
             ci, ki, ri = ci[keep], ki[keep], ri[keep]
         if ci.size:
             out += state.threats(
