@@ -37,19 +37,26 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
     by_loc: dict[tuple[str, str], list] = {}
     for f in feeds:
         by_loc.setdefault((f.radio, f.side), []).append(f)
-    index = {name: i for i, name in enumerate(sa.names)}
+    index = {r.name: i for i, r in enumerate(site.radios)}
     out = []
     for radio in site.radios:
         for side in ("tx", "rx"):
             feeds = by_loc.get((radio.name, side))
             if not feeds:
                 continue
-            notches, reasons = _merge(feeds)
-            i = index[radio.name]
+            notches, reasons, bands = _merge(feeds)
+            i = sa.unit_of(index[radio.name])
+            band_use = _band_use(sa, index[radio.name], bands)
+            if band_use:
+                reasons = tuple(
+                    r + " [needed on " + ", ".join(b) + "]" if b else r
+                    for r, b in zip(reasons, bands, strict=True)
+                )  # fmt: skip
             out.append(
                 FilterRequirement(
                     radio=radio.name,
                     side=side,
+                    band_use=band_use,
                     pass_bands=tuple(Band(lo_mhz=lo, hi_mhz=hi) for lo, hi in sa.pass_bands(i)),
                     notches=notches,
                     cable=radio.stub_cable or site.cable,
@@ -61,7 +68,17 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
     return tuple(out)
 
 
-def _merge(feeds) -> tuple[tuple[NotchSpec, ...], tuple[str, ...]]:
+def _band_use(sa, radio: int, bands) -> tuple[tuple[str, tuple[int, ...]], ...]:
+    """(band, notch indices needed on it) for a radio working several bands, else ()."""
+    labels = [sa.op.labels[u] for u in range(len(sa.names)) if int(sa.radio_of[u]) == radio]
+    if len(labels) < 2:
+        return ()
+    return tuple(
+        (lab, tuple(k for k, used in enumerate(bands) if lab in used)) for lab in labels
+    )  # fmt: skip
+
+
+def _merge(feeds) -> tuple[tuple[NotchSpec, ...], tuple[str, ...], tuple[tuple[str, ...], ...]]:
     feeds = sorted(feeds, key=lambda f: (f.lo_mhz, f.hi_mhz))
     groups: list[list] = []
     for f in feeds:
@@ -70,14 +87,16 @@ def _merge(feeds) -> tuple[tuple[NotchSpec, ...], tuple[str, ...]]:
             g[1] = max(g[1], f.hi_mhz)
             g[2] = max(g[2], f.required_db)
             g[3].setdefault(f.reason, None)
+            g[4].update(dict.fromkeys(f.bands))
         else:
-            groups.append([f.lo_mhz, f.hi_mhz, f.required_db, {f.reason: None}])
-    notches = tuple(NotchSpec(lo_mhz=lo, hi_mhz=hi, required_db=req) for lo, hi, req, _ in groups)
+            groups.append([f.lo_mhz, f.hi_mhz, f.required_db, {f.reason: None}, dict.fromkeys(f.bands)])
+    notches = tuple(NotchSpec(lo_mhz=lo, hi_mhz=hi, required_db=req) for lo, hi, req, *_ in groups)
+    bands = tuple(tuple(g[4]) for g in groups)
     reasons = []
-    for *_, found in groups:
+    for *_, found, _b in groups:
         rs = list(found)
         text = "; ".join(rs[:MAX_REASONS])
         if len(rs) > MAX_REASONS:
             text += f"; and {len(rs) - MAX_REASONS} more"
         reasons.append(text)
-    return notches, tuple(reasons)
+    return notches, tuple(reasons), bands
