@@ -201,7 +201,7 @@ def _operate(ctx, threats: list[Threat]) -> list[Threat]:
                 None if t.mixer is None else phys[uidx[t.mixer]],
             )
         sources, victim, scen, ops, inst, mixer = hit
-        rclass, remedy, filters = _classify(ctx, t)
+        rclass, remedy, filters = _classify(ctx, t, int(src_u[k]))
         out.append(
             dataclasses.replace(
                 t, sources=sources, victim=victim, mixer=mixer, scenario=scen, operating=ops,
@@ -212,7 +212,7 @@ def _operate(ctx, threats: list[Threat]) -> list[Threat]:
     return out
 
 
-def _classify(ctx, t: Threat) -> tuple[str, str, tuple]:
+def _classify(ctx, t: Threat, source: int) -> tuple[str, str, tuple]:
     """Remedy class: none, stub, or not a stub job (band-pass filter, cavity, spacing, time-sharing)."""
     if t.excess_db <= 0:
         return "none", t.remedy, t.filters
@@ -220,6 +220,17 @@ def _classify(ctx, t: Threat) -> tuple[str, str, tuple]:
         return "time-sharing", t.remedy, t.filters
     ceiling = ctx.ceiling
     f = t.f_mhz
+    sa = ctx.sa
+    if t.mechanism == "noise" and not t.filters and (
+        t.f_lo_mhz <= sa.tx_hi[source] * 1.03 and sa.tx_lo[source] * 0.97 <= t.f_hi_mhz
+    ):
+        # transmitter noise on (or next to) its own band: no filter at the transmitter can
+        # pass its carrier and stop its noise; only distance or taking turns
+        cls = "spacing" if t.required_db <= ceiling + limits.SPACING_PLUS_DB else "time-sharing"
+        return cls, (
+            f"not a stub job: transmitter noise on its own band; remedy class: {cls} ("
+            + _class_hint(cls, t) + "); " + t.remedy
+        ), ()
     if t.required_db > ceiling:
         cls = limits.remedy_class(t.required_db, ceiling, f)
         return cls, (
@@ -258,7 +269,9 @@ class _Ctx:
             np.hypot(sa.x[:, None] - sa.x[None, :], sa.y[:, None] - sa.y[None, :]),
             sa.h[:, None] - sa.h[None, :],
         ).tolist()
-        self.pass_bands = [sa.pass_bands(i) for i in range(len(sa.names))]
+        # a notch is checked against the bands of the operating choice that asks for it;
+        # build_filters makes a band-switched set when one filter cannot pass every band
+        self.pass_bands = [sa.unit_pass_bands(i) for i in range(len(sa.names))]
         self._iso_cache: dict[tuple, str] = {}
         self._clash_cache: dict[tuple, tuple[float, float] | None] = {}
         self._feeds: dict[tuple, list] = {}
@@ -304,9 +317,9 @@ class _Ctx:
             side = "tx"
         phys = int(self.sa.radio_of[radio])
         band = self.sa.op.labels[radio]
-        entry = self._feeds.get((phys, side, lo, hi))
+        entry = self._feeds.get((phys, side, lo, hi, band))
         if entry is None:
-            self._feeds[(phys, side, lo, hi)] = [required, {reason: None}, {band: None}]
+            self._feeds[(phys, side, lo, hi, band)] = [required, {reason: None}, {band: None}]
         else:
             entry[0] = max(entry[0], required)
             entry[1].setdefault(reason, None)
@@ -343,7 +356,7 @@ class _Ctx:
         out = [
             NotchFeed(radio=self.sa.physical.radios[r].name, side=side, lo_mhz=lo, hi_mhz=hi,
                       required_db=req, reason="; ".join(reasons), bands=tuple(b for b in bands if b))
-            for (r, side, lo, hi), (req, reasons, bands) in self._feeds.items()
+            for (r, side, lo, hi, _), (req, reasons, bands) in self._feeds.items()
         ]  # fmt: skip
         for (m, o), (req, count, product, v) in self._im.items():
             more = f" and {count - 1} more" if count > 1 else ""

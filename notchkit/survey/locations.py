@@ -33,6 +33,12 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
 
     Overlapping (or touching) notch bands at one location are unioned and the
     deeper requirement kept; pass bands are the radio's own tx and rx bands.
+
+    A radio working several bands one at a time gets one filter that passes
+    every band, with ``band_use`` saying which notch each band needs; when a
+    notch lies too close to another of its bands (a harmonic of 80 m on 40 m),
+    it gets a band-switched set instead: one filter per band, each passing that
+    band and holding the notches needed while it is in use.
     """
     by_loc: dict[tuple[str, str], list] = {}
     for f in feeds:
@@ -44,9 +50,19 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
             feeds = by_loc.get((radio.name, side))
             if not feeds:
                 continue
+            common = {
+                "radio": radio.name, "side": side, "cable": radio.stub_cable or site.cable,
+                "power_w": None if radio.tx is None else radio.tx.power_w,
+                "power_mhz": None if radio.tx is None else radio.tx.band.centre_mhz,
+            }  # fmt: skip
+            ri = index[radio.name]
             notches, reasons, bands = _merge(feeds)
-            i = sa.unit_of(index[radio.name])
-            band_use = _band_use(sa, index[radio.name], bands)
+            all_pass = sa.pass_bands(sa.unit_of(ri))
+            units = sa.units_of(ri)
+            if len(units) > 1 and any(too_close(n.lo_mhz, n.hi_mhz, all_pass) for n in notches):
+                out += _switched_set(sa, units, feeds, common)
+                continue
+            band_use = _band_use(sa, ri, bands)
             if band_use:
                 reasons = tuple(
                     r + " [needed on " + ", ".join(b) + "]" if b else r
@@ -54,18 +70,32 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
                 )  # fmt: skip
             out.append(
                 FilterRequirement(
-                    radio=radio.name,
-                    side=side,
-                    band_use=band_use,
-                    pass_bands=tuple(Band(lo_mhz=lo, hi_mhz=hi) for lo, hi in sa.pass_bands(i)),
-                    notches=notches,
-                    cable=radio.stub_cable or site.cable,
-                    power_w=None if radio.tx is None else radio.tx.power_w,
-                    power_mhz=None if radio.tx is None else radio.tx.band.centre_mhz,
-                    reasons=reasons,
+                    band_use=band_use, notches=notches, reasons=reasons,
+                    pass_bands=tuple(Band(lo_mhz=lo, hi_mhz=hi) for lo, hi in all_pass),
+                    **common,
                 )
-            )
+            )  # fmt: skip
     return tuple(out)
+
+
+def _switched_set(sa, units, feeds, common) -> list[FilterRequirement]:
+    """One filter per operating band: switched in with the band (a band-switched set)."""
+    out = []
+    for u in units:
+        label = sa.op.labels[u]
+        mine = [f for f in feeds if label in f.bands]
+        if not mine:
+            continue
+        notches, reasons, _ = _merge(mine)
+        reasons = tuple(f"{r} [band-switched: in line on {label} only]" for r in reasons)
+        out.append(
+            FilterRequirement(
+                band_use=((label, tuple(range(len(notches)))),), notches=notches, reasons=reasons,
+                pass_bands=tuple(Band(lo_mhz=lo, hi_mhz=hi) for lo, hi in sa.unit_pass_bands(u)),
+                **common,
+            )
+        )  # fmt: skip
+    return out
 
 
 def _band_use(sa, radio: int, bands) -> tuple[tuple[str, tuple[int, ...]], ...]:

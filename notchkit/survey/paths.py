@@ -346,6 +346,22 @@ class SiteArrays:
                 merged.append((lo, hi))
         return tuple(merged)
 
+    def unit_pass_bands(self, i: int) -> tuple[tuple[float, float], ...]:
+        """The bands unit i itself uses: its tx and rx emission intervals, merged."""
+        bands = []
+        if not math.isnan(self.tx_lo[i]):
+            bands.append((float(self.tx_lo[i]), float(self.tx_hi[i])))
+        if not math.isnan(self.rx_lo[i]):
+            bands.append((float(self.rx_lo[i]), float(self.rx_hi[i])))
+        bands.sort()
+        if len(bands) == 2 and bands[1][0] <= bands[0][1]:
+            return ((bands[0][0], max(bands[0][1], bands[1][1])),)
+        return tuple(bands)
+
+    def units_of(self, radio_index: int) -> list[int]:
+        """The units (operating choices) of a physical radio."""
+        return np.nonzero(self.radio_of == radio_index)[0].tolist()
+
     def unit_of(self, radio_index: int) -> int:
         """The first unit of a physical radio."""
         return int(np.nonzero(self.radio_of == radio_index)[0][0])
