@@ -215,17 +215,27 @@ def matrix_table(sv: Any) -> Table:
 def threat_where(t: Any) -> str:
     """Where a stub helps: the filter locations the threat feeds, or the remedy when none."""
     locs = [f"{r} {s}" for r, s in t.filters]
+    scen = tuple(getattr(t, "scenario", ()) or ())
+    tail = "" if scen in ((), ("all at once",)) else " [scenario: " + ", ".join(scen) + "]"
     if locs:
-        return ", ".join(locs)
-    return t.remedy if t.remedy.lower().startswith("no stub") else f"no stub: {t.remedy}"
+        return ", ".join(locs) + tail
+    if t.remedy.lower().startswith(("no stub", "not a stub job")):
+        return t.remedy + tail
+    return f"no stub: {t.remedy}" + tail
+
+
+def _on_band(names: str, t: Any) -> str:
+    """``run (7-7.3 MHz)``: a band-switched radio with the band it works in this threat."""
+    bands = dict(o.split(": ", 1) for o in (getattr(t, "operating", ()) or ()))
+    return ", ".join(f"{n} ({bands[n]})" if n in bands else n for n in names.split(", "))
 
 
 def threat_table(sv: Any) -> Table:
     rows = []
     for i, t in enumerate(sv.threats, start=1):
-        source = t.product if t.mechanism == "intermod" else ", ".join(t.sources)
+        source = t.product if t.mechanism == "intermod" else _on_band(", ".join(t.sources), t)
         rows.append((
-            str(i), source, t.victim, t.mechanism, str(t.order), mhz4(t.f_mhz),
+            str(i), source, _on_band(t.victim, t), t.mechanism, str(t.order), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), threat_where(t),
         ))
     return Table(
@@ -236,8 +246,18 @@ def threat_table(sv: Any) -> Table:
         align=("right", "left", "left", "left", "right", "right", "right", "right", "right", "left"),
         widths=(0.35, 1.7, 1.1, 1.0, 0.65, 0.9, 0.75, 0.75, 0.75, 2.6),
         note="Level at the victim's receiver input; limit is its threshold; excess = level - limit. "
-             "For intermodulation the source is the product that lands in the receiver.",
+             "For intermodulation the source is the product that lands in the receiver."
+             + "".join(" " + n[:1].upper() + n[1:] + "." for n in _operating_notes(sv)),
     )
+
+
+_OPERATING_NOTES = ("scenarios", "in no scenario", "radios working several bands", "installed filter")
+
+
+def _operating_notes(sv: Any) -> list[str]:
+    """What the survey took into account about how the site operates (scenarios,
+    band-switched radios, installed filters), for the plan."""
+    return [n for n in (getattr(sv, "notes", ()) or ()) if n.startswith(_OPERATING_NOTES)]
 
 
 # ---------------------------------------------------------------- one filter
