@@ -171,45 +171,67 @@ def _operating_notes(sa: SiteArrays) -> list[str]:
 
 def _operate(ctx, threats: list[Threat]) -> list[Threat]:
     """Name the physical radios, the scenario, the operating choices, the installed
-    rejection used and the remedy class of every threat (the mechanisms name units)."""
+    rejection used and the remedy class of every threat (the mechanisms name units).
+
+    The threats are new objects that nothing else has seen yet, so their new fields
+    are set in place (``object.__setattr__`` on the frozen, slotted dataclass): a
+    ``dataclasses.replace`` per threat took most of a large survey's time.
+    """
     if not threats:
         return threats
     sa = ctx.sa
     op = sa.op
     uidx = {n: i for i, n in enumerate(sa.names)}
     phys = sa.radio_names
-    src_u = np.array([uidx[t.mixer if t.mixer is not None else t.sources[0]] for t in threats])
-    vic_u = np.array([uidx[t.victim] for t in threats])
+    labels = op.labels
+    any_label = any(labels)
+    one_scenario = op.scenario_names if len(op.scenario_names) == 1 else None
+    src_u = [uidx[t.mixer if t.mixer is not None else t.sources[0]] for t in threats]
+    vic_u = [uidx[t.victim] for t in threats]
     f_lo = np.array([t.f_lo_mhz for t in threats], dtype=float)
-    out_db = sa.installed_db(src_u, f_lo, OUT_PORTS)
-    in_db = sa.installed_db(vic_u, f_lo, ("rx", "antenna"))
-    cache: dict[tuple, tuple] = {}
-    out = []
+    if sa.has_installed:
+        inst_db = (sa.installed_db(np.array(src_u), f_lo, OUT_PORTS)
+                   + sa.installed_db(np.array(vic_u), f_lo, ("rx", "antenna"))).tolist()  # fmt: skip
+    else:
+        inst_db = [0.0] * len(threats)
+    names_of: dict[tuple[str, ...], tuple] = {}
+    scen_of: dict[frozenset, tuple[str, ...]] = {}
+    inst_of: dict[tuple[int, int], tuple[str, ...]] = {}
+    setf = object.__setattr__
     for k, t in enumerate(threats):
-        su = tuple(uidx[n] for n in t.sources)
-        v = int(vic_u[k])
-        key = (su, v, int(src_u[k]))
-        hit = cache.get(key)
-        if hit is None:
-            ops = tuple(f"{phys[u]}: {op.labels[u]}" for u in (*su, v) if op.labels[u])
-            inst = tuple(
-                f"{phys[u]}: {n}" for u, ports in ((int(src_u[k]), OUT_PORTS), (v, ("rx", "antenna")))
+        units = names_of.get(t.sources)
+        if units is None:
+            su = tuple(uidx[n] for n in t.sources)
+            units = names_of[t.sources] = (su, tuple(phys[u] for u in su))
+        su, sources = units
+        v, src = vic_u[k], src_u[k]
+        if one_scenario is not None:
+            scen = one_scenario
+        else:
+            rk = frozenset(int(sa.radio_of[u]) for u in (*su, v))
+            scen = scen_of.get(rk)
+            if scen is None:
+                scen = scen_of[rk] = op.scenarios_of((*su, v))
+        ops = tuple(f"{phys[u]}: {labels[u]}" for u in (*su, v) if labels[u]) if any_label else ()
+        inst = inst_of.get((src, v))
+        if inst is None:
+            inst = inst_of[(src, v)] = tuple(
+                f"{phys[u]}: {n}" for u, ports in ((src, OUT_PORTS), (v, ("rx", "antenna")))
                 for n in sa.installed_names(u, ports)
             )  # fmt: skip
-            hit = cache[key] = (
-                tuple(phys[u] for u in su), phys[v], op.scenarios_of((*su, v)), ops, inst,
-                None if t.mixer is None else phys[uidx[t.mixer]],
-            )
-        sources, victim, scen, ops, inst, mixer = hit
-        rclass, remedy, filters = _classify(ctx, t, int(src_u[k]))
-        out.append(
-            dataclasses.replace(
-                t, sources=sources, victim=victim, mixer=mixer, scenario=scen, operating=ops,
-                installed_db=float(out_db[k] + in_db[k]), installed=inst, remedy_class=rclass,
-                remedy=remedy, filters=filters,
-            )
-        )  # fmt: skip
-    return out
+        setf(t, "sources", sources)
+        setf(t, "victim", phys[v])
+        if t.mixer is not None:
+            setf(t, "mixer", phys[uidx[t.mixer]])
+        setf(t, "scenario", scen)
+        setf(t, "operating", ops)
+        setf(t, "installed_db", inst_db[k])
+        setf(t, "installed", inst)
+        rclass, remedy, filters = _classify(ctx, t, src)
+        setf(t, "remedy_class", rclass)
+        setf(t, "remedy", remedy)
+        setf(t, "filters", filters)
+    return threats
 
 
 def _classify(ctx, t: Threat, source: int) -> tuple[str, str, tuple]:

@@ -64,6 +64,7 @@ class SiteArrays:
         self.notes: list[str] = []
         self._feeds = self._feedlines(radios, site)
         self._installed = self._installed_filters(radios)
+        self.has_installed = bool(self._installed)
         nan = np.full(n, np.nan)
         self.p_dbm = nan.copy()
         self.tx_lo, self.tx_hi, self.rx_lo, self.rx_hi = nan.copy(), nan.copy(), nan.copy(), nan.copy()
