@@ -451,3 +451,59 @@ def test_bad_operating_keys_give_one_line_and_exit_2(tmp_path, monkeypatch, caps
     assert err[0].startswith(f"s.yaml:{where}: {says}"), err[0]
     assert "Traceback" not in err[0]
     assert (tmp_path / "s.yaml").read_bytes() == before
+
+
+# ---------------------------------------------------------------- the new examples
+
+ROOT = __import__("pathlib").Path(__file__).resolve().parent.parent
+
+
+def test_contest_example_asks_stubs_only_for_what_stubs_can_do():
+    site = load_site(ROOT / "sites" / "contest-two-position.yaml")
+    res = survey(site)
+    ceiling = L.stub_ceiling_db(site.limits.max_stub_rejection_db, site.limits.max_filter_rejection_db,
+                                site.limits.max_stubs)  # fmt: skip
+    above = [t for t in res.threats if t.excess_db > 0]
+    assert above
+    for t in above:
+        assert t.remedy_class in L.REMEDY_CLASSES[1:], t.remedy_class
+        if t.remedy_class == "stub":
+            assert t.filters and t.required_db <= ceiling
+        else:
+            assert not t.filters
+    for f in res.filters:
+        assert all(n.required_db <= ceiling for n in f.notches)
+    # both positions on one band: a carrier inside the other's band, time-sharing
+    same = [t for t in above if t.mechanism == "fundamental" and {t.sources[0], t.victim} == {"run", "mult"}
+            and t.operating[0].split(": ")[1] == t.operating[1].split(": ")[1]]  # fmt: skip
+    assert len(same) == 10 and {t.remedy_class for t in same} == {"time-sharing"}
+    # the run radio's 80 m second harmonic lands in 40 m (2 x 3.5-4.0 = 7.0-8.0 MHz, hand
+    # arithmetic): a stub at run, switched in on 80 m only, since run also works 40 m
+    (h,) = [t for t in above if t.mechanism == "harmonic" and t.sources == ("run",)
+            and t.operating == ("run: 3.5-4 MHz", "mult: 7-7.3 MHz")]  # fmt: skip
+    assert h.filters == (("run", "tx"),) and h.scenario == ("contest",)
+    assert h.coupling_source == "measured"
+    # the 80 m band-pass at run and the 40 m band-pass at mult are both in the path at 7 MHz
+    assert h.installed == (
+        "run: 80 m band-pass (band-pass, antenna)", "mult: 40 m band-pass (band-pass, antenna)"
+    )
+    on80 = [f for f in res.filters if f.radio == "run" and f.band_use[0][0] == "3.5-4 MHz"]
+    assert len(on80) == 1 and [b.lo_mhz for b in on80[0].pass_bands] == pytest.approx([3.49865])
+    # the skimmer is never evaluated against the run position (different scenarios)
+    assert not [t for t in res.threats if "run" in t.sources and t.victim == "skimmer"]
+
+
+def test_repeater_example_duplexer_already_covers_the_six_metre_carrier():
+    site = load_site(ROOT / "sites" / "copper-butte-repeaters.yaml")
+    res = survey(site)
+    (f,) = [t for t in res.threats if t.mechanism == "fundamental" and t.sources == ("rpt-6m",)
+            and t.victim == "rpt-70cm"]  # fmt: skip
+    # 6 m duplexer tx branch at 53.004 MHz: between its 53.01 (1.5 dB) and 52.5 (30 dB) rows,
+    # by hand in dB against log f; 70 cm duplexer rx branch at 53 MHz: between 50 (65 dB) and
+    # 150 MHz (55 dB)
+    f0 = 53.01 - 0.005625
+    six = interp_log(f0, 52.5, 30.0, 53.01, 1.5)
+    seventy = interp_log(f0, 50.0, 65.0, 150.0, 55.0)
+    assert f.installed_db == pytest.approx(six + seventy, abs=1e-6)
+    assert f.excess_db < 0 and f.remedy_class == "none"
+    assert not [n for r in res.filters if r.radio == "rpt-70cm" for n in r.notches]
