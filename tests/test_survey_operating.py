@@ -507,3 +507,18 @@ def test_repeater_example_duplexer_already_covers_the_six_metre_carrier():
     assert f.installed_db == pytest.approx(six + seventy, abs=1e-6)
     assert f.excess_db < 0 and f.remedy_class == "none"
     assert not [n for r in res.filters if r.radio == "rpt-70cm" for n in r.notches]
+
+
+def test_plan_text_says_which_notch_each_band_needs():
+    from notchkit.report.text import band_use_text
+
+    base = two_band_site()
+    w = Radio(name="W", rx=Receive(band=band(42.0, 42.9)), antenna=Antenna(x_m=200.0))
+    z = tx_radio("Z", 50.1, x=-200.0)
+    (req,) = [f for f in survey(mk(base.radios[0], w, z)).filters if f.radio == "X"]
+    text = band_use_text(req)
+    assert "on 21-21.45 MHz: notch 1, notch 2; on 28-29.7 MHz: notch 2." in text
+    contest = survey(load_site(ROOT / "sites" / "contest-two-position.yaml"))
+    switched = [f for f in contest.filters if f.radio == "run"]
+    assert len(switched) == 4  # one per band that needs a stub (15 m needs none)
+    assert band_use_text(switched[0]).startswith("Band-switched: this filter is in line only while run works")

@@ -313,7 +313,20 @@ def requirement_table(d: Any) -> Table:
         header=("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
         rows=tuple(rows), align=("left", "left", "left", "left", "left", "right", "left"),
         widths=(0.5, 1.6, 1.55, 1.45, 0.7, 0.6, 2.3),
+        **({"note": band_use_text(req)} if getattr(req, "band_use", ()) else {}),
     )
+
+
+def band_use_text(req: Any) -> str:
+    """Which notches (numbered from 1 in the table's order) each band a radio works needs."""
+    use = tuple(req.band_use)
+    if len(use) == 1:
+        return (f"Band-switched: this filter is in line only while {req.radio} works {use[0][0]}; "
+                f"{req.radio} has one such filter per band that needs one.")  # fmt: skip
+    parts = [f"on {band}: " + (", ".join(f"notch {k + 1}" for k in idx) if idx else "none")
+             for band, idx in use]  # fmt: skip
+    return (f"{req.radio} works one band at a time; this filter passes every band. Notches needed "
+            "(a stub whose notch a band does not need may be switched out on it): " + "; ".join(parts) + ".")
 
 
 def _short(s: str, n: int) -> str:
