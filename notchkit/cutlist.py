@@ -57,6 +57,18 @@ END_OPEN = (
     "braid strand touches the centre conductor, then seal the end against water (the open end "
     "carries the highest voltage of the stub)"
 )
+END_SHORT_BALANCED = (
+    "shorted end (balanced line): bridge the two wires with a short, straight strap of heavy "
+    "copper wire or strip soldered across both (as short as the spacing allows: its length adds "
+    "to the stub), clear of metal; the tee end connects through a 1:1 current balun, never "
+    "straight to coax"
+)
+END_OPEN_BALANCED = (
+    "open end (balanced line): cut both wires square at the same length, keep them apart and "
+    "clear of metal, ground and people, and support the end on an insulator (the open end "
+    "carries the highest voltage of the stub); the tee end connects through a 1:1 current "
+    "balun, never straight to coax"
+)
 DC_SHORT = (
     "DC path: a shorted stub puts the antenna side at DC ground (good for static drain), but it "
     "shorts any DC fed up the coax to a masthead preamplifier or remote antenna switch"
@@ -280,11 +292,18 @@ def cut_list(
                 quarter_waves=q,
                 serves_notch_mhz=served,
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
-                end=END_SHORT if e.termination == "short" else END_OPEN,
+                end=_end_note(e.termination, filt.cable),
                 dc_note=DC_SHORT if e.termination == "short" else DC_OPEN,
             )
         )
     return tuple(cuts)
+
+
+def _end_note(termination: str, cable: object) -> str:
+    """How to make a stub's far end: coax, or a balanced line (``cable.balanced``)."""
+    if getattr(cable, "balanced", False):
+        return END_SHORT_BALANCED if termination == "short" else END_OPEN_BALANCED
+    return END_SHORT if termination == "short" else END_OPEN
 
 
 def inches_16ths(m: float) -> tuple[int, int]:

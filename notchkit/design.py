@@ -81,6 +81,15 @@ class Design:
             return "ad-hoc filter"
         return f"{r.side} filter at {r.radio}" if r.side else f"filter at {r.radio}"
 
+    @property
+    def cable_note(self) -> str | None:
+        """A line when a pass band or notch lies outside the cable's published loss table."""
+        from notchkit.cables import extrapolation_note
+
+        s = self.solution
+        freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
+        return extrapolation_note(self.cable, freqs)
+
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
         return _design_json(self)
@@ -467,6 +476,10 @@ def _design_json(d: Design) -> dict[str, Any]:
     out["side"] = r.side
     out["cable"] = {"type": str(getattr(cab, "name", r.cable)), "z0_ohm": _f(cab.z0_ohm),
                     "velocity_factor": _f(cab.velocity_factor)}
+    rng = getattr(cab, "table_range_mhz", None)
+    note = d.cable_note
+    out["cable_loss"] = {"table_mhz": None if rng is None else [_f(rng[0]), _f(rng[1])],
+                         "extrapolated": note is not None, "note": note}
     out["arrangement"] = describe(d.filter)
     out["elements"] = _elements_json(d)
     out["pass"] = [

@@ -185,6 +185,10 @@ def _f(x: float) -> float:
 
 def _loss_split(cable: Any, freq_hz: float) -> tuple[float, float]:
     """``(alpha_c, alpha_d)`` in Np/m: conductor (sqrt f) and dielectric (f) parts of the loss."""
+    split = getattr(cable, "alpha_split_np_per_m", None)
+    if split is not None:  # the cable's own split (copper-clad-steel rise included)
+        a_c, a_d = split(freq_hz)
+        return float(a_c), float(a_d)
     alpha = float(np.asarray(cable.alpha_np_per_m(freq_hz)))
     ks, kl = float(getattr(cable, "k_sqrt", 0.0) or 0.0), float(getattr(cable, "k_lin", 0.0) or 0.0)
     f_mhz = freq_hz / 1e6

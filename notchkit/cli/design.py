@@ -193,6 +193,9 @@ def format_design(d) -> str:
                              f"({x.missing_db:.1f} dB of return loss short)")
         for a in s.advice:
             lines.append(f"  advice: {a}")
+    note = getattr(d, "cable_note", None)
+    if note:
+        lines.append(f"  warning: {note}")
     return "\n".join(lines)
 
 

@@ -459,9 +459,15 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
     cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, 'metric')} per stub "
                     "(drawing not to scale)")
+    if getattr(cable, "balanced", False):
+        cable_label += ("; balanced line: each stub joins its tee through a 1:1 current balun, "
+                        "its far end strapped (short) or insulated (open)")
     facts = [f"Location: {_location(req)}.",
              f"{len(stub_ids)} stub(s) on {len(filt.tees())} tee(s); "
              f"cable used {format_length(filt.total_cable_m, units)}."]
+    cable_note = getattr(d, "cable_note", None)
+    if isinstance(cable_note, str):
+        facts.append(f"Cable loss: {cable_note}.")
     advice = getattr(getattr(d, "solution", None), "advice", None) or getattr(d, "advice", None) or ()
     if isinstance(advice, str):
         advice = (advice,)

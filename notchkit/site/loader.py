@@ -1580,11 +1580,20 @@ class _Builder:
 
     def cables(self, top: dict) -> tuple[m.CableDef, ...]:
         """The site's own cable types; they take precedence over library types of the same name."""
-        from notchkit.cables import library
+        from notchkit.cables import library, site_library
+        from notchkit.errors import CableError
 
         out: list[m.CableDef] = []
         seen: dict[str, yaml.Node] = {}
         self.known = {_fold(c.name): c.name for c in library()}
+        for c in library():
+            self.known.update({_fold(a): c.name for a in c.aliases})
+        try:  # a cable library kept next to the site file (notchkit-cables.yaml)
+            beside = site_library(self.r.path) if self.r.path else ()
+        except CableError as exc:
+            self.r.add(None, "cables", str(exc))
+            beside = ()
+        self.known.update({_fold(c.name): c.name for c in beside})
         for d, _node, path in _val(top, "cables", []):
             if not all(k in d for k in ("name", "z0_ohm", "velocity_factor")):
                 continue
@@ -1607,15 +1616,25 @@ class _Builder:
             )
         for c in out:
             self.known[_fold(c.name)] = c.name
-        return tuple(out)
+        own = {_fold(c.name) for c in out}
+        return tuple(c for c in beside if _fold(c.name) not in own) + tuple(out)
 
     def resolve_cables(self) -> None:
         """Report every cable name that is neither in the library nor defined in the file."""
         for name, node, path in self.r.cable_refs:
             if _fold(name) in self.known:
                 continue
-            close = difflib.get_close_matches(_fold(name), list(self.known), n=1, cutoff=0.6)
-            hint = f"did you mean {self.known[close[0]]!r}?; " if close else ""
+            from notchkit.cables import generic_hint
+
+            generic = generic_hint(name)
+            # the closest name; a tie goes to the one listed first (the library's order)
+            close = difflib.get_close_matches(_fold(name), list(self.known), n=3, cutoff=0.6)
+            if close:
+                score = {k: difflib.SequenceMatcher(None, _fold(name), k).ratio() for k in close}
+                best = max(score.values())
+                close = [next(k for k in self.known if k in score and score[k] == best)]
+            hint = (f"trade names are not used: the generic type of that size is {generic!r}; "
+                    if generic else f"did you mean {self.known[close[0]]!r}?; " if close else "")
             self.r.add(
                 node,
                 path,
