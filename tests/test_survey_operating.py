@@ -522,3 +522,28 @@ def test_plan_text_says_which_notch_each_band_needs():
     switched = [f for f in contest.filters if f.radio == "run"]
     assert len(switched) == 4  # one per band that needs a stub (15 m needs none)
     assert band_use_text(switched[0]).startswith("Band-switched: this filter is in line only while run works")
+
+
+def test_sites_built_in_python_are_checked_too():
+    from notchkit.errors import SiteError
+
+    a = tx_radio("A", 146.52, installed=(InstalledFilter(name="f", port="mast", rejection=()),))
+    r = Radio(name="R", rx=Receive(band=band(440.0), receiver_class="scanner",
+                                   selectivity=((1.0, -20.0), (0.5, -30.0))))  # fmt: skip
+    with pytest.raises(SiteError) as info:
+        survey(mk(a, r))
+    fields = sorted(p.field for p in info.value.problems)
+    assert fields == ["radios[0].installed[0].port", "radios[0].installed[0].rejection",
+                      "radios[1].rx.receiver_class", "radios[1].rx.selectivity"]  # fmt: skip
+
+
+def test_inverted_l_and_yagi_out_of_band():
+    # a 160 m inverted-L (1.8-2.0 MHz, 0 dBi) and a 10 dBi 2 m yagi 78 m apart: at 1.8 MHz the
+    # yagi is far from resonance, so no gain above 0 dBi is credited; 78 m is beyond
+    # lambda/(2 pi) = 26.5 m, so ITU-R P.525 applies: 32.45 + 20 log 1.8 + 20 log 0.078
+    inv_l = Radio(name="L", tx=Transmit(band=band(1.8, 2.0), power_w=1000.0, bandwidth_khz=2.7),
+                  antenna=Antenna())  # fmt: skip
+    yagi = Radio(name="Y", rx=Receive(band=band(144.0, 148.0)), antenna=Antenna(x_m=78.0, gain_dbi=10.0))
+    f = only(survey(mk(inv_l, yagi)).threats, mechanism="fundamental")
+    assert f.isolation_db == pytest.approx(fsl(1.8 - 0.00135, 78.0), abs=1e-9)
+    assert f.isolation_db == pytest.approx(15.39, abs=0.01)  # hand arithmetic

@@ -419,5 +419,61 @@ def validate(site: Site) -> None:
     for k, c in enumerate(site.couplings):
         if not finite(c.isolation_db):
             bad(f"couplings[{k}].isolation_db", c.isolation_db, "must be a finite number of dB")
+        if c.freq_mhz is not None and not (finite(c.freq_mhz) and c.freq_mhz > 0):
+            bad(f"couplings[{k}].freq_mhz", c.freq_mhz, "must be > 0 MHz")
+    _validate_operating(site, bad, finite)
     if problems:
         raise SiteError(problems)
+
+
+def _rising(rows, finite, x_positive: bool = True) -> bool:
+    """Rows of two finite numbers, the first rising (and > 0 where it is a frequency or offset)."""
+    if not rows:
+        return False
+    xs = [r[0] for r in rows]
+    ok = all(len(r) == 2 and finite(r[0]) and finite(r[1]) for r in rows)
+    return ok and all(b > a for a, b in zip(xs, xs[1:], strict=False)) and (not x_positive or xs[0] > 0)
+
+
+def _validate_operating(site: Site, bad, finite) -> None:
+    """The keys of how a site operates, for sites built in Python (the loader checks files)."""
+    from notchkit.site.model import INSTALLED_PORTS
+    from notchkit.survey.limits import RECEIVER_CLASSES
+
+    for i, r in enumerate(site.radios):
+        where = f"radios[{i}]"
+        for side in ("tx", "rx"):
+            part = getattr(r, side)
+            if part is None:
+                continue
+            for k, b in enumerate(part.bands):
+                if not (finite(b.lo_mhz) and finite(b.hi_mhz) and 0 < b.lo_mhz <= b.hi_mhz):
+                    bad(f"{where}.{side}.bands[{k}]", (b.lo_mhz, b.hi_mhz),
+                        "must be finite, 0 < lo <= hi MHz")  # fmt: skip
+        if r.tx is not None and r.rx is not None:
+            nt, nr = len(r.tx.choices), len(r.rx.choices)
+            if nt > 1 and nr > 1 and nt != nr:
+                bad(f"{where}.rx.bands", nr, f"must be {nt} bands (paired with tx) or one")
+        if r.rx is not None:
+            rx = r.rx
+            if rx.receiver_class is not None and rx.receiver_class not in RECEIVER_CLASSES:
+                bad(f"{where}.rx.receiver_class", rx.receiver_class,
+                    "is not one of " + ", ".join(RECEIVER_CLASSES))  # fmt: skip
+            if rx.selectivity and not _rising(rx.selectivity, finite):
+                bad(f"{where}.rx.selectivity", rx.selectivity, "must be finite rows with offsets > 0 rising")
+            if rx.band_noise_dbm is not None and not finite(rx.band_noise_dbm):
+                bad(f"{where}.rx.band_noise_dbm", rx.band_noise_dbm, "must be a finite number")
+        a = r.antenna
+        if a.gain_table and not _rising(a.gain_table, finite):
+            bad(f"{where}.antenna.gain_table", a.gain_table,
+                "must be finite rows with frequencies > 0 rising")  # fmt: skip
+        if not (finite(a.out_of_band_loss_db) and a.out_of_band_loss_db >= 0):
+            bad(f"{where}.antenna.out_of_band_loss_db", a.out_of_band_loss_db, "must be >= 0 dB")
+        for k, f in enumerate(r.installed):
+            if f.port not in INSTALLED_PORTS:
+                bad(f"{where}.installed[{k}].port", f.port, "must be one of " + ", ".join(INSTALLED_PORTS))
+            if not _rising(f.rejection, finite):
+                bad(f"{where}.installed[{k}].rejection", f.rejection,
+                    "must be at least one finite row, frequencies > 0 rising")  # fmt: skip
+    if not (finite(site.near_field_isolation_db) and site.near_field_isolation_db >= 0):
+        bad("near_field_isolation_db", site.near_field_isolation_db, "must be >= 0 dB")
