@@ -97,6 +97,6 @@ def test_table_matrix_and_remedies(tmp_path, capsys):
     assert main(["survey", str(path)]) == 0
     out = capsys.readouterr().out
     # 146.52 vs 147.00 MHz: 0.33 % apart, inside the 3 % rule: no stub, a remedy instead
-    assert "no stub (see remedies)" in out
+    assert "no stub: cavity (see remedies)" in out
     assert "Remedies where no stub" in out and "cavities" in out
     assert "tx \\ rx" in out and "R1 = rx-b" in out

@@ -224,7 +224,7 @@ def threat_where(t: Any) -> str:
     return f"no stub: {t.remedy}" + tail
 
 
-def _on_band(names: str, t: Any) -> str:
+def on_band(names: str, t: Any) -> str:
     """``run (7-7.3 MHz)``: a band-switched radio with the band it works in this threat."""
     bands = dict(o.split(": ", 1) for o in (getattr(t, "operating", ()) or ()))
     return ", ".join(f"{n} ({bands[n]})" if n in bands else n for n in names.split(", "))
@@ -233,9 +233,9 @@ def _on_band(names: str, t: Any) -> str:
 def threat_table(sv: Any) -> Table:
     rows = []
     for i, t in enumerate(sv.threats, start=1):
-        source = t.product if t.mechanism == "intermod" else _on_band(", ".join(t.sources), t)
+        source = t.product if t.mechanism == "intermod" else on_band(", ".join(t.sources), t)
         rows.append((
-            str(i), source, _on_band(t.victim, t), t.mechanism, str(t.order), mhz4(t.f_mhz),
+            str(i), source, on_band(t.victim, t), t.mechanism, str(t.order), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), threat_where(t),
         ))
     return Table(

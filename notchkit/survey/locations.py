@@ -88,6 +88,9 @@ def _switched_set(sa, units, feeds, common) -> list[FilterRequirement]:
             continue
         notches, reasons, _ = _merge(mine)
         reasons = tuple(f"{r} [band-switched: in line on {label} only]" for r in reasons)
+        unit = sa.site.radios[u]
+        if unit.tx is not None:  # the carrier through this filter is the band it is switched in on
+            common = {**common, "power_mhz": unit.tx.band.centre_mhz}
         out.append(
             FilterRequirement(
                 band_use=((label, tuple(range(len(notches)))),), notches=notches, reasons=reasons,
