@@ -15,6 +15,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from notchkit.asbuilt import RecheckResult, recheck
 from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.cutlist import StubCut, cut_list, format_length
 from notchkit.design import Design, DesignReport, design, design_request
@@ -39,6 +40,7 @@ from notchkit.solver import Solution, solve
 from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.tolerance import Tolerance, tolerance
 from notchkit.trim import Resonance, TrimResult, find_resonance, trim
+from notchkit.verification import VerifyResult, verify
 
 __all__ = [
     "__version__",
@@ -56,6 +58,10 @@ __all__ = [
     "find_resonance",
     "TrimResult",
     "Resonance",
+    "verify",
+    "VerifyResult",
+    "recheck",
+    "RecheckResult",
     "Cable",
     "cable_table",
     "get_cable",

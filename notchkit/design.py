@@ -23,7 +23,7 @@ from typing import Any
 import numpy as np
 
 from notchkit.errors import DesignError, InputError
-from notchkit.filters import Filter, Line, write_touchstone
+from notchkit.filters import Filter, write_touchstone
 from notchkit.jsonvalues import finite
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
@@ -174,7 +174,8 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
 
 def design(site: Any, *, progress: Progress | None = None, workers: int | None = None,
            meanwhile: Callable[[Any], None] | None = None,
-           on_design: Callable[[int, Design], None] | None = None) -> DesignReport:
+           on_design: Callable[[int, Design], None] | None = None,
+           calibration: Sequence[Any] = ()) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
     Parameters
@@ -202,6 +203,9 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     -------
     DesignReport
         Filters ``F1``, ``F2``, ... in the survey's order.
+    calibration : sequence of SpoolCalibration or path, optional
+        Measured cable spools (:mod:`notchkit.calibration`): their cable types are
+        designed with the spool's VF and loss, and the outputs say so.
 
     Raises
     ------
@@ -214,6 +218,10 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     from notchkit.survey import survey
 
     say = progress or (lambda _m: None)
+    if calibration:
+        from notchkit.calibration import apply
+
+        site = apply(site, calibration)
     if workers is not None and int(workers) < 1:
         raise DesignError(f"workers {workers!r} must be at least 1")
     sv = survey(site)
@@ -433,69 +441,23 @@ def _f(x: float, digits: int | None = None) -> float:
     return finite(x, "a design result", clip_inf=True, digits=digits)
 
 
-def _elements_json(d: Design) -> list[dict[str, Any]]:
-    filt = d.filter
-    cuts = {c.element_index: c for c in d.cuts}
-    out = []
-    n_line = 0
-    n_stub = 0
-    tee_of = {}
-    for t, idx in enumerate(filt.tees(), start=1):
-        for i in idx:
-            tee_of[i] = t
-    for i, e in enumerate(filt.elements):
-        if isinstance(e, Line):
-            n_line += 1
-            out.append({"kind": "line", "id": f"{d.id}-L{n_line}", "length_m": _f(e.length_m)})
-            continue
-        n_stub += 1
-        item: dict[str, Any] = {
-            "kind": "stub",
-            "id": f"{d.id}-S{n_stub}",
-            "tee": tee_of[i],
-            "termination": e.termination,
-            "length_m": _f(e.length_m),
-            "cut_length_m": _f(filt.cut_length_m(e)),
-        }
-        c = cuts.get(i)
-        if c is not None:
-            item["first_cut_m"] = _f(c.first_cut_m)
-            item["trim_rate_mm_per_mhz"] = _f(c.trim_rate_mm_per_mhz)
-            item["resonance_mhz"] = _f(c.resonance_mhz)
-        out.append(item)
-    return out
-
-
 def _design_json(d: Design) -> dict[str, Any]:
+    return design_record(d).to_json()
+
+
+def design_record(d: Design) -> Any:
+    """One filter as a :class:`notchkit.planfile.FilterRecord`: the typed record every
+    reader of the design and plan JSON shares, plus the keys no reader uses."""
+    from notchkit.planfile import filter_record
+
     r = d.requirement
     s = d.solution
     cab = d.cable
-    out: dict[str, Any] = {"id": d.id}
-    if r.radio is not None:
-        out["radio"] = r.radio
-    out["side"] = r.side
-    out["cable"] = {"type": str(getattr(cab, "name", r.cable)), "z0_ohm": _f(cab.z0_ohm),
-                    "velocity_factor": _f(cab.velocity_factor)}
     rng = getattr(cab, "table_range_mhz", None)
     note = d.cable_note
+    out: dict[str, Any] = {}
     out["cable_loss"] = {"table_mhz": None if rng is None else [_f(rng[0]), _f(rng[1])],
                          "extrapolated": note is not None, "note": note}
-    out["arrangement"] = describe(d.filter)
-    out["elements"] = _elements_json(d)
-    out["pass"] = [
-        {"lo_mhz": _f(p.lo_mhz), "hi_mhz": _f(p.hi_mhz),
-         "worst_insertion_loss_db": _f(p.worst_insertion_loss_db),
-         "worst_swr": _f(p.worst_swr), "max_insertion_loss_db": _f(p.max_insertion_loss_db),
-         "max_swr": _f(p.max_swr), "meets": p.meets}
-        for p in s.passes
-    ]
-    out["notch"] = [
-        {"lo_mhz": _f(n.lo_mhz), "hi_mhz": _f(n.hi_mhz), "required_db": _f(n.required_db),
-         "worst_attenuation_db": _f(n.worst_attenuation_db), "margin_db": _f(n.margin_db),
-         "worst_mhz": _f(n.worst_mhz), "meets": n.meets}
-        for n in s.notches
-    ]
-    out["meets"] = s.meets
     out["margin_db"] = _f(s.margin_db)
     out["total_cable_m"] = _f(s.total_cable_m)
     out["max_total_cable_m"] = _f(s.max_total_cable_m)
@@ -510,13 +472,14 @@ def _design_json(d: Design) -> dict[str, Any]:
     out["cut_list"] = [c.to_json() for c in d.cuts]
     out["tolerance"] = d.tolerance.to_json() if d.tolerance is not None else None
     out["power"] = d.power.to_json() if d.power is not None else None
-    return out
+    return filter_record(d, extra=out)
 
 
 __all__ = [
     "design",
     "design_request",
     "design_filter",
+    "design_record",
     "write_touchstones",
     "touchstone_sweep_hz",
     "touchstone_name",

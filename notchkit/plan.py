@@ -172,20 +172,18 @@ def _spans(d: Any, site: Any) -> tuple[list[Any], list[Any]]:
 
 
 def plan_json(site: Any, sv: Any, report: Any, *, date: str, version: str, units: str) -> dict[str, Any]:
-    """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey."""
-    doc = dict(report.to_json()) if hasattr(report, "to_json") else {"filters": []}
-    out: dict[str, Any] = {
-        "site": site.name,
-        "site_file": str(site.path),
-        "date": date,
-        "notchkit_version": version,
-        "units": units,
-        "meets": bool(all(getattr(d, "meets", False) for d in _designs(report))),
-    }
-    for k, v in doc.items():
-        out.setdefault(k, v)
-    out["survey"] = sv.to_json()
-    return out
+    """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey,
+    written through the plan file's types (:class:`notchkit.planfile.PlanDocument`)."""
+    from notchkit.design import design_record
+    from notchkit.planfile import PlanDocument
+
+    designs = _designs(report)
+    whole = report.to_json() if hasattr(report, "to_json") else {}
+    doc = PlanDocument(site=site.name, site_file=str(site.path), date=date, notchkit_version=version,
+                       units=units, meets=bool(all(getattr(d, "meets", False) for d in designs)),
+                       filters=tuple(design_record(d) for d in designs), survey=sv.to_json(),
+                       extra={k: v for k, v in whole.items() if k not in ("site", "meets", "filters")})
+    return doc.to_json()
 
 
 def plan(
@@ -196,6 +194,7 @@ def plan(
     outdir: str | os.PathLike[str] | None = None,
     units: str = "both",
     page_size: str = "a4",
+    calibration: Any = (),
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
 
@@ -215,6 +214,9 @@ def plan(
     units : {"metric", "imperial", "both"}
         Lengths in millimetres, inches to 1/16 in, or both.
     page_size : {"a4", "letter"}
+    calibration : sequence of SpoolCalibration or path, optional
+        Measured cable spools: first cuts and trim targets use their VF and loss
+        (:mod:`notchkit.calibration`), and the plan says so.
 
     Returns
     -------
@@ -248,6 +250,10 @@ def plan(
     else:
         _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
 
+    if calibration:
+        from notchkit.calibration import apply
+
+        site = apply(site, calibration)
     date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
     version = notchkit.__version__
     json_path = Path(outdir) / PLAN_JSON if outdir is not None else None

@@ -29,7 +29,8 @@ def test_every_command_is_one_library_function():
     from notchkit.cli import COMMANDS
 
     functions = {"check": notchkit.check, "cables": notchkit.cable_table, "survey": notchkit.survey,
-                 "design": notchkit.design, "plan": notchkit.plan, "trim": notchkit.trim}
+                 "design": notchkit.design, "plan": notchkit.plan, "trim": notchkit.trim,
+                 "verify": notchkit.verify, "recheck": notchkit.recheck}
     assert set(functions) == set(COMMANDS)
     assert all(callable(f) for f in functions.values())
 

@@ -107,7 +107,7 @@ def test_recovers_vf_resonance_and_cut(
     args = [path, "--cable", "RG-213", "--termination", termination,
             "--target-mhz", str(target_mhz), "--length-m", str(length_m)]
     if order != 1:
-        args += ["--order", str(order)]
+        args += ["--quarter-waves", str(order)]
     got = run_json(capsys, *args)
 
     # resonance within 0.05 % of the textbook n c VF / (4 L)
@@ -126,7 +126,7 @@ def test_recovers_vf_resonance_and_cut(
     assert got["q"] == pytest.approx(beta / (2 * alpha), rel=0.10)
     # inches to 1/16 in, rounded toward the smaller cut (exact inch definition)
     assert got["cut_in"] == math.floor(got["cut_mm"] / 25.4 * 16) / 16
-    assert got["order"] == order
+    assert got["quarter_waves"] == order
 
 
 def test_fixed_json_keys(tmp_path, capsys):
@@ -183,78 +183,6 @@ def test_without_length_reports_ratio(tmp_path, capsys):
     assert "shorten" in got["advice"]
 
 
-def test_plan_lengths_and_allowance(tmp_path, capsys):
-    # A shorted stub through the tee: its electrical path is the cut cable plus the tee
-    # allowance, so scikit-rf's stub is built with cut + allowance.
-    vf, cut_len, allowance, first_cut = 0.66, 0.690, 0.030, 0.710
-    electrical = cut_len + allowance
-    f_true = quarter_wave_hz(2, vf, electrical)
-    ntwk = stub_network(termination="short", ports=2, length_m=electrical, vf=vf,
-                        start_mhz=f_true / 1e6 * 0.8, stop_mhz=f_true / 1e6 * 1.2, seed=5)
-    path = write(ntwk, tmp_path, "planned")
-    plan = {"filters": [{"elements": [
-        {"kind": "stub", "id": "F1-S1", "termination": "open", "length_m": 0.4,
-         "cut_length_m": 0.37},
-        {"kind": "stub", "id": "F1-S2", "termination": "short", "length_m": electrical,
-         "cut_length_m": cut_len, "first_cut_m": first_cut},
-    ]}]}
-    plan_path = tmp_path / "plan.json"
-    plan_path.write_text(json.dumps(plan))
-    target = 140.0
-    got = run_json(capsys, path, "--cable", "RG-213", "--target-mhz", str(target),
-                   "--plan", str(plan_path), "--stub", "F1-S2")
-    assert got["termination"] == "short" and got["order"] == 2
-    assert got["present_length_m"] == pytest.approx(cut_len)
-    assert "cut_length_m" in got["length_source"]
-    assert got["allowance_m"] == pytest.approx(allowance)
-    assert got["velocity_factor"] == pytest.approx(vf, rel=2e-3)
-    want_electrical = 2 * C * vf / (4 * target * 1e6)  # textbook, true VF
-    assert got["target_length_m"] == pytest.approx(want_electrical - allowance, abs=1e-3)
-    assert got["cut_mm"] == pytest.approx((electrical - want_electrical) * 1000, abs=1.0)
-
-    # --plan-length first-cut reads first_cut_m; --length-m overrides both
-    got = run_json(capsys, path, "--cable", "RG-213", "--target-mhz", str(target),
-                   "--plan", str(plan_path), "--stub", "F1-S2", "--plan-length", "first-cut")
-    assert got["present_length_m"] == pytest.approx(first_cut)
-    got = run_json(capsys, path, "--cable", "RG-213", "--target-mhz", str(target),
-                   "--plan", str(plan_path), "--stub", "F1-S2", "--length-m", "0.7")
-    assert got["present_length_m"] == pytest.approx(0.7)
-
-    code = main(["trim", path, "--cable", "RG-213", "--target-mhz", "140",
-                 "--plan", str(plan_path), "--stub", "F9-S9"])
-    err = capsys.readouterr().err
-    assert code == 2 and "F9-S9" in err and "F1-S2" in err
-
-
-def test_plan_target_and_order_for_stub_alone(tmp_path, capsys):
-    # The plan designs an open stub of 3 quarter waves on a 0.975 m path (0.030 m of it in
-    # the tee). Measured alone (.s1p), the stub has only its cut cable, so its resonance
-    # sits higher than the plan's figure at the tee by length_m / cut_length_m.
-    vf, path_len, allowance = 0.66, 0.975, 0.030
-    plan_f = quarter_wave_hz(3, vf, path_len) / 1e6  # textbook, at the tee
-    cut_now = 0.960  # cut a little long: 15 mm of trim margin
-    f_alone = quarter_wave_hz(3, vf, cut_now)
-    ntwk = stub_network(termination="open", ports=1, length_m=cut_now, vf=vf,
-                        start_mhz=f_alone / 1e6 * 0.85, stop_mhz=f_alone / 1e6 * 1.15, seed=9)
-    path = write(ntwk, tmp_path, "alone")
-    plan = {"filters": [{"elements": [
-        {"kind": "stub", "id": "F2-S1", "termination": "open", "length_m": path_len,
-         "tee_allowance_m": allowance, "cut_length_m": path_len - allowance,
-         "first_cut_m": cut_now, "resonance_mhz": plan_f, "quarter_waves": 3},
-    ]}]}
-    plan_path = tmp_path / "plan.json"
-    plan_path.write_text(json.dumps(plan))
-    got = run_json(capsys, path, "--cable", "RG-213", "--plan", str(plan_path),
-                   "--stub", "F2-S1", "--plan-length", "first-cut")
-    assert got["order"] == 3
-    assert got["allowance_m"] == 0.0  # the tee is not in an .s1p
-    assert got["target_mhz"] == pytest.approx(plan_f * path_len / (path_len - allowance))
-    assert got["velocity_factor"] == pytest.approx(vf, rel=2e-3)
-    # trimmed to plan: the cut cable the plan asks for
-    assert got["target_length_m"] == pytest.approx(path_len - allowance, abs=1e-3)
-    assert got["cut_mm"] == pytest.approx((cut_now - (path_len - allowance)) * 1000, abs=1.0)
-
-
 def test_picks_resonance_nearest_target():
     # physical property: an open stub has series resonances at 1, 3, 5 quarter waves
     vf, length_m = 0.66, 0.5
@@ -262,7 +190,7 @@ def test_picks_resonance_nearest_target():
     ntwk = stub_network(termination="open", ports=1, length_m=length_m, vf=vf,
                         start_mhz=f1 / 1e6 * 0.5, stop_mhz=f1 / 1e6 * 3.5, points=1201)
     low = find_resonance(ntwk, "open", near_hz=f1)
-    high = find_resonance(ntwk, "open", order=3, near_hz=3 * f1)
+    high = find_resonance(ntwk, "open", quarter_waves=3, near_hz=3 * f1)
     assert low.freq_hz == pytest.approx(f1, rel=5e-4)
     assert high.freq_hz == pytest.approx(3 * f1, rel=5e-4)
     # the shorted stub's quarter wave is a parallel resonance (|Z| maximum)
@@ -395,8 +323,8 @@ def test_shorted_quarter_wave_has_no_notch_through_tee(tmp_path, capsys):
     ntwk = stub_network(termination="short", ports=2, length_m=0.5, vf=0.66,
                         start_mhz=80, stop_mhz=220)
     p = write(ntwk, tmp_path, "tee")
-    line = _bad(tmp_path, capsys, p, "--order", "1", termination="short")
-    assert "--order" in line and "even" in line
+    line = _bad(tmp_path, capsys, p, "--quarter-waves", "1", termination="short")
+    assert "--quarter-waves" in line and "even" in line
 
 
 def test_library_reads_without_writing(tmp_path):
@@ -409,3 +337,22 @@ def test_library_reads_without_writing(tmp_path):
         quarter_wave_hz(1, 0.66, 0.5) / 1e6, rel=5e-4)
     assert read_measurement(p).nports == 1
     assert os.stat(p).st_mtime_ns == mtime
+
+
+def test_library_names_parameters_and_the_command_line_its_flags(tmp_path, capsys):
+    # An open stub 0.5 m long (VF 0.66, scikit-rf) said to be 3 m long: the effective VF
+    # 4 L f / c would be about 4 (textbook quarter-wave relation); no coax exceeds 1.
+    f1 = quarter_wave_hz(1, 0.66, 0.5)
+    ntwk = stub_network(termination="open", ports=1, length_m=0.5, vf=0.66,
+                        start_mhz=f1 / 1e6 * 0.8, stop_mhz=f1 / 1e6 * 1.2)
+    path = write(ntwk, tmp_path, "stub")
+    with pytest.raises(MeasurementError) as info:
+        trim(path, cable="RG-213", termination="open", target_mhz=f1 / 1e6, length_m=3.0)
+    msg = str(info.value)
+    assert "impossible" in msg and "quarter_waves 1" in msg and "length_m" in msg and "--" not in msg
+    code = main(["trim", path, "--cable", "RG-213", "--termination", "open",
+                 "--target-mhz", str(f1 / 1e6), "--length-m", "3"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    assert "--quarter-waves 1" in err and "--length-m" in err
+    assert "quarter_waves" not in err and " length_m" not in err

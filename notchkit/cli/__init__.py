@@ -17,7 +17,7 @@ import warnings
 from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
 
-COMMANDS = ("check", "cables", "survey", "design", "plan", "trim")
+COMMANDS = ("check", "cables", "survey", "design", "plan", "trim", "verify", "recheck")
 
 EPILOG = """\
 exit codes:

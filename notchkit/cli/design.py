@@ -42,6 +42,9 @@ def add_parser(sub) -> None:
                    help="stub cable type for --pass/--notch designs (see `notchkit cables`; default RG-213)")
     p.add_argument("--max-stubs", metavar="N", type=int, default=None,
                    help="largest number of stubs to try (default: 3)")
+    p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
+                   help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
+                        "type; with a site file): lengths use its VF and loss")
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--touchstone", metavar="DIR", default=None,
                    help="also write one .s2p file per filter into DIR (created if missing)")
@@ -97,8 +100,10 @@ def run(args) -> int:
             raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs, not both")
         from notchkit.site import load_site
 
-        report = design(load_site(args.site), progress=progress)
+        report = design(load_site(args.site), progress=progress, calibration=args.calibration)
     else:
+        if args.calibration:
+            raise UsageError("--calibration: give it with SITE.yaml (the site's cable types are calibrated)")
         if not args.notches or not args.pass_bands:
             raise UsageError("give SITE.yaml, or at least one --pass LO-HI and one --notch LO-HI[:DB]")
         if args.max_stubs is not None and not 1 <= args.max_stubs <= 8:
@@ -156,6 +161,9 @@ def format_design(d) -> str:
         f"{d.id}: {d.where} on {getattr(cab, 'name', '?')} ({cab.z0_ohm:g} ohm, VF {cab.velocity_factor:g})"
         f" - {status}",
     ]
+    from notchkit.calibration import calibration_lines
+
+    lines += [f"  {x}" for x in calibration_lines([cab])]
     for why in d.requirement.reasons:
         lines.append(f"  why: {why}")
     lines.append(f"  arrangement: {describe(d.filter)}")

@@ -36,6 +36,9 @@ def add_parser(sub) -> None:
                    help="lengths in mm, inches (to 1/16 in) or both (default both)")
     p.add_argument("--page-size", choices=("a4", "letter"), default="a4",
                    help="paper size of the PDF (default a4)")
+    p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
+                   help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
+                        "type): first cuts and trim targets use its VF and loss")
     p.set_defaults(run=run)
 
 
@@ -43,7 +46,7 @@ def run(args) -> int:
     from notchkit.plan import plan
 
     result = plan(args.site, args.output, html=args.html, outdir=args.outdir, units=args.units,
-                  page_size=args.page_size)
+                  page_size=args.page_size, calibration=args.calibration)
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:

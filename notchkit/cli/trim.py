@@ -5,8 +5,17 @@ from __future__ import annotations
 import json
 import math
 
-from notchkit.errors import EXIT_OK, UsageError
+from notchkit.cli.flags import with_flags
+from notchkit.errors import EXIT_OK, NotchkitError, UsageError
 from notchkit.trim import SAFETY, inches_16ths, trim
+
+FLAGS = {
+    "target_mhz": "--target-mhz", "length_m": "--length-m", "quarter_waves": "--quarter-waves",
+    "allowance_m": "--allowance-m", "plan_path": "--plan", "stub_id": "--stub",
+    "plan_length": "--plan-length", "termination": "--termination", "png_path": "--png",
+    "spool": "--spool", "calibration_path": "--calibration",
+}
+"""Library parameter -> flag, for error messages."""
 
 DESCRIPTION = """\
 Read an analyser sweep of a stub (Touchstone .s1p of the stub alone at its input,
@@ -14,10 +23,14 @@ or .s2p through the tee with the stub in place), find its resonance, and with th
 present length back-compute the effective velocity factor and say how much to cut
 off to move the resonance to the target.
 
---target-mhz is where the measured resonance should be, and --order the number of
-quarter waves of that resonance. Defaults: 1 for a .s1p; for a .s2p 1 for an open
-stub (its quarter-wave notch) and 2 for a shorted stub (a shorted quarter wave is
-transparent through a tee; its notch is the half wave, at twice the frequency).
+--target-mhz is where the measured resonance should be, and --quarter-waves the
+number of quarter waves of that resonance. With --plan and --stub both come from
+the plan: the resonance the stub is trimmed to, of the stub alone for a .s1p and
+at the tee for a .s2p. Without a plan the defaults are 1 quarter wave for a .s1p;
+for a .s2p 1 for an open stub (its quarter-wave notch) and 2 for a shorted stub (a
+shorted quarter wave is transparent through a tee; its notch is the half wave).
+An effective velocity factor no cable has (below 0.3 or above 1) is an error, not
+advice: the length, the quarter waves or the stub is wrong.
 """
 
 
@@ -49,7 +62,7 @@ def add_parser(sub) -> None:
     p.add_argument("--target-mhz", metavar="F", type=str,
                    help="where the measured resonance should be, MHz (default with --plan: "
                         "the stub's resonance_mhz, moved to the stub alone for a .s1p)")
-    p.add_argument("--order", type=str, metavar="N",
+    p.add_argument("--quarter-waves", type=str, metavar="N",
                    help="quarter waves of the measured resonance (see above; with --plan: "
                         "the stub's quarter_waves)")
     p.add_argument("--length-m", type=str, metavar="L",
@@ -62,20 +75,25 @@ def add_parser(sub) -> None:
     p.add_argument("--allowance-m", type=str, metavar="A",
                    help="fixed electrical length inside the measurement that trimming does not "
                         "change (tee allowance), m; default: from the plan for a .s2p, else 0")
+    p.add_argument("--spool", metavar="NAME",
+                   help="name of the cable spool the stub was cut from (with --calibration)")
+    p.add_argument("--calibration", metavar="SPOOL.json",
+                   help="add this trim's effective VF (and loss, from Q) to the spool's calibration "
+                        "file (created if missing); `notchkit plan --calibration` then uses it")
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--png", metavar="FILE", help="write a plot of the measurement (PNG)")
     p.set_defaults(run=run)
 
 
-def _order(text: str | None) -> int | None:
+def _quarter_waves(text: str | None) -> int | None:
     if text is None:
         return None
     try:
         value = int(text)
     except ValueError:
-        raise UsageError(f"--order: {text!r} must be a whole number of quarter waves >= 1") from None
+        raise UsageError(f"--quarter-waves: {text!r} must be a whole number >= 1") from None
     if value < 1:
-        raise UsageError(f"--order: {value} must be a whole number of quarter waves >= 1")
+        raise UsageError(f"--quarter-waves: {value} must be a whole number >= 1")
     return value
 
 
@@ -98,20 +116,20 @@ def format_text(result) -> str:
     lines = [
         f"measurement  {result.measurement} ({r.ports}-port, "
         f"{result.sweep_mhz[0]:.4g}-{result.sweep_mhz[1]:.4g} MHz)",
-        f"stub         {result.termination}, {result.cable}, order {result.order} "
-        f"(quarter waves)",
+        f"stub         {result.termination}, {result.cable}, {result.quarter_waves} quarter waves",
         f"resonance    {r.freq_mhz:.4f} MHz {kind}, depth {r.depth_db:.1f} dB, "
         + ("Q not resolved" if r.q is None else f"Q {r.q:.0f}")
         + ("" if result.q_expected is None else f" (cable alone ~{result.q_expected:.0f})"),
         f"target       {result.target_mhz:.4f} MHz"
-        + ("" if result.target_source == "--target-mhz" else f" ({result.target_source})")
+        + ("" if result.target_source == "target_mhz" else f" ({result.target_source})")
         + f": measured/target {result.ratio:.5f} "
         f"({'shorten' if result.shorten_pct >= 0 else 'lengthen'} by "
         f"{abs(result.shorten_pct):.2f} %)",
     ]
     if result.present_length_m is not None:
         lines.append(
-            f"length       {result.present_length_m:.4f} m now ({result.length_source})"
+            f"length       {result.present_length_m:.4f} m now "
+            f"({FLAGS.get(result.length_source or '', result.length_source)})"
             + (f" + {result.allowance_m:.4f} m allowance" if result.allowance_m else "")
             + f"; effective VF {result.velocity_factor:.4f} "
             f"(nominal {result.nominal_velocity_factor:.3f})"
@@ -135,23 +153,41 @@ def run(args) -> int:
     length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
     if (args.plan is None) != (args.stub is None):
         raise UsageError("--plan and --stub go together: give both or neither")
+    if (args.spool is None) != (args.calibration is None):
+        raise UsageError("--spool and --calibration go together: give both or neither")
     if args.termination is None and args.plan is None:
         raise UsageError("--termination: required (open or short) unless --plan gives it")
-    result = trim(
-        args.measurement,
-        cable=args.cable,
-        termination=args.termination,
-        target_mhz=target,
-        length_m=length,
-        plan_path=args.plan,
-        stub_id=args.stub,
-        plan_length=args.plan_length,
-        order=_order(args.order),
-        allowance_m=_allowance(args.allowance_m),
-        png_path=args.png,
-    )
+    try:
+        result = trim(
+            args.measurement,
+            cable=args.cable,
+            termination=args.termination,
+            target_mhz=target,
+            length_m=length,
+            plan_path=args.plan,
+            stub_id=args.stub,
+            plan_length=args.plan_length,
+            quarter_waves=_quarter_waves(args.quarter_waves),
+            allowance_m=_allowance(args.allowance_m),
+            png_path=args.png,
+        )
+        cal = None
+        if args.calibration is not None:
+            from notchkit.calibration import record, sample_from_trim
+
+            cal = record(args.calibration, spool=args.spool, cable=result.cable,
+                         sample=sample_from_trim(result, piece=args.stub))
+    except NotchkitError as exc:
+        raise with_flags(exc, FLAGS) from None
     if args.json:
-        print(json.dumps(result.to_json(), indent=2))
+        doc = result.to_json()
+        if cal is not None:
+            doc["calibration"] = {"file": args.calibration, **cal.note()}
+        print(json.dumps(doc, indent=2))
     else:
         print(format_text(result))
+        if cal is not None:
+            print(f"calibration  spool {cal.spool!r} ({args.calibration}): VF {cal.velocity_factor:.4f} "
+                  f"from {len(cal.vf_samples)} piece(s)"
+                  + ("" if cal.vf_spread is None else f", spread {cal.vf_spread:.4f}"))
     return EXIT_OK

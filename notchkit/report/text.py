@@ -418,23 +418,33 @@ def power_lines(d: Any) -> tuple[str, ...]:
 
 
 def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tuple[str, ...]:
+    """The trimming steps; each stub's command and its target are for the same set-up (the
+    stub alone, ``.s1p``), read back by ``notchkit trim`` from the same plan JSON."""
+    from notchkit.planfile import stub_alone_mhz
+
     steps = [
         "1. Cut each stub to its FIRST CUT length (longer than the final length on purpose) and fit its "
         "connector; finish the end as listed (open: square and sealed; short: braid to centre, "
         "shortest joint).",
-        "2. Connect the stub alone to the analyser through the tee it will use; find its resonance "
-        "(the dip of the notch, or where the impedance at the tee is lowest).",
-        "3. The resonance reads low because the stub is long: trim by the trim rate (mm per MHz of "
-        "error) in small steps, re-measuring each time; stop at the target resonance. Never trim past it.",
-        "4. Or save the analyser sweep of the stub (Touchstone .s1p at the stub's input) and let notchkit "
-        "say how much to cut:",
+        "2. Calibrate the analyser at the end of its test cable, connect the stub alone there (no tee) and "
+        "find the resonance it is trimmed to: the impedance minimum nearest the target below. The stub "
+        "alone resonates higher than at the tee (the Resonance column) because the tee's path is missing.",
+        "3. The resonance reads low because the stub is long: trim in small steps (the rate below is mm per "
+        "MHz of error), re-measuring each time; stop at the target. Never trim past it.",
+        "4. Or save the sweep of the stub alone (Touchstone .s1p) and let notchkit say how much to cut "
+        "(after a first trim, add --length-m with the length now):",
     ]
     cable = design_cable_name(d)
     for c in d.cuts:
+        alone = stub_alone_mhz(c.resonance_mhz, c.length_m, c.cut_length_m)
         steps.append(f"   notchkit trim SWEEP-{c.stub_id}.s1p --cable {cable} --plan {plan_json} "
-                     f"--stub {c.stub_id}   (target {mhz(round(c.resonance_mhz, 4))} MHz, "
-                     f"{c.trim_rate_mm_per_mhz:.1f} mm/MHz)")
-    steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use.")
+                     f"--stub {c.stub_id} --plan-length first-cut   (stub alone: target "
+                     f"{mhz(round(alone, 4))} MHz, {c.quarter_waves} quarter waves, "
+                     f"{1000.0 * c.cut_length_m / alone:.1f} mm/MHz)")
+    steps.append("   A sweep through the tee with the stub in place (.s2p) works too: its target is the "
+                 "Resonance column of the cut list.")
+    steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use "
+                 "(notchkit verify checks the sweep against the requirements).")
     return tuple(steps)
 
 
@@ -462,7 +472,9 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     if getattr(cable, "balanced", False):
         cable_label += ("; balanced line: each stub joins its tee through a 1:1 current balun, "
                         "its far end strapped (short) or insulated (open)")
-    facts = [f"Location: {_location(req)}.",
+    from notchkit.calibration import calibration_lines
+
+    facts = [f"Location: {_location(req)}.", *calibration_lines([cable] if cable is not None else []),
              f"{len(stub_ids)} stub(s) on {len(filt.tees())} tee(s); "
              f"cable used {format_length(filt.total_cable_m, units)}."]
     cable_note = getattr(d, "cable_note", None)
