@@ -547,3 +547,16 @@ def test_inverted_l_and_yagi_out_of_band():
     f = only(survey(mk(inv_l, yagi)).threats, mechanism="fundamental")
     assert f.isolation_db == pytest.approx(fsl(1.8 - 0.00135, 78.0), abs=1e-9)
     assert f.isolation_db == pytest.approx(15.39, abs=0.01)  # hand arithmetic
+
+
+def test_unreadable_touchstone_is_one_line(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "junk.s2p").write_text("not a sweep\n1 2 3\n", encoding="utf-8")
+    (tmp_path / "s.yaml").write_text(BASE.replace(
+        "freq_mhz: 146.52\n", "freq_mhz: 146.52\n    installed: [{name: p, touchstone: junk.s2p}]\n"),
+        encoding="utf-8")  # fmt: skip
+    assert main(["check", "s.yaml"]) == 2
+    err = capsys.readouterr().err.splitlines()
+    assert len(err) == 1 and err[0].startswith(
+        "s.yaml:9:39: receivers[0].installed[0].touchstone: 'junk.s2p' could not be read as Touchstone"
+    ), err

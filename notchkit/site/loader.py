@@ -1523,21 +1523,23 @@ class _Builder:
         if not os.path.isfile(full):
             self.r.add(node, path, f"no file {full!r} (allowed: a .s2p path from the site file's folder)")
             return None
-        try:
-            import warnings
+        import gc
+        import warnings
 
-            import skrf
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # the reader's own warnings, and a file it leaves open
+            try:
+                import skrf
 
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
                 ntw = skrf.Network(full)
-            f_mhz = ntw.f / 1e6
-            mag = np.abs(ntw.s[:, 1, 0])
-        except Exception as exc:  # noqa: BLE001 - any reader failure is the file's problem
-            first = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
-            self.r.add(node, path, f"{name!r} could not be read as Touchstone ({first}) "
-                       "(allowed: a two-port .s2p file)")  # fmt: skip
-            return None
+                f_mhz = ntw.f / 1e6
+                mag = np.abs(ntw.s[:, 1, 0])
+            except Exception as exc:  # noqa: BLE001 - any reader failure is the file's problem
+                gc.collect()  # close what the failed reader left open, while its warning is ignored
+                first = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
+                self.r.add(node, path, f"{name!r} could not be read as Touchstone ({first}) "
+                           "(allowed: a two-port .s2p file)")  # fmt: skip
+                return None
         ok = (f_mhz > 0) & np.isfinite(mag) & (mag > 0)
         if ok.sum() < 2 or np.any(np.diff(f_mhz[ok]) <= 0):
             self.r.add(node, path, f"{name!r} has fewer than two usable rising frequency points "
