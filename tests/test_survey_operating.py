@@ -560,3 +560,21 @@ def test_unreadable_touchstone_is_one_line(tmp_path, monkeypatch, capsys):
     assert len(err) == 1 and err[0].startswith(
         "s.yaml:9:39: receivers[0].installed[0].touchstone: 'junk.s2p' could not be read as Touchstone"
     ), err
+
+
+def test_installed_filter_at_the_victim_lowers_an_intermod_product_by_its_rejection():
+    # 2 x 147 - 146 = 148 MHz (hand arithmetic); a receive-path filter giving 30 dB from
+    # 147.5 to 149 MHz at R takes exactly 30 dB off the product's level
+    t1, t2 = tx_radio("T1", 146.0), tx_radio("T2", 147.0, x=20.0)
+    pre = InstalledFilter(name="pre", port="rx", rejection=((147.5, 30.0), (149.0, 30.0)))
+    bare = rx_radio("R", 148.0, x=40.0)
+    fitted = Radio(name="R", rx=bare.rx, antenna=bare.antenna, installed=(pre,))
+
+    def product(res):
+        (t,) = [t for t in res.threats if t.mechanism == "intermod" and t.victim == "R"
+                and abs(t.f_mhz - 148.0) < 1e-6]  # fmt: skip
+        return t
+
+    a, b = product(survey(mk(t1, t2, bare))), product(survey(mk(t1, t2, fitted)))
+    assert a.level_dbm - b.level_dbm == pytest.approx(30.0, abs=1e-9)
+    assert b.installed_db == pytest.approx(30.0) and b.installed == ("R: pre (band-pass, rx)",)
