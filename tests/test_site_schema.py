@@ -171,9 +171,9 @@ def test_the_validator_can_fail():
     assert "$.transmitters[0].freq_mhz: matches 0 of oneOf" in errors
     assert "$.transmitters[0]: unknown key colour" in errors
     # a receiver class is one of the documented words
-    errors = validate({"site": "x", "receivers": [{"name": "r", "freq_mhz": 5, "receiver_class": "hf"}]},
+    errors = validate({"site": "x", "receivers": [{"name": "r", "freq_mhz": 5, "receiver_class": "hf-rig"}]},
                       schema, schema)  # fmt: skip
-    assert errors == ["$.receivers[0].receiver_class: 'hf' is not one of the allowed words"]
+    assert errors == ["$.receivers[0].receiver_class: 'hf-rig' is not one of the allowed words"]
     assert validate({"site": "x", "limits": {"max_swr": 1.0}}, schema, schema) == [
         "$.limits.max_swr: 1.0 <= exclusiveMinimum"
     ]

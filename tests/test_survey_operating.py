@@ -268,7 +268,7 @@ def test_selectivity_table_by_offset_from_the_band_edge():
 @pytest.mark.parametrize(
     ("offset_mhz", "expected_dbm"),
     [
-        # vhf-uhf-fm class: -29 dBm flat from 1 to 10 MHz (84 dBuV e.m.f. into 50 ohm:
+        # base class (VHF/UHF FM): -29 dBm flat from 1 to 10 MHz (84 dBuV e.m.f. into 50 ohm:
         # 84 - 6 - 107 = -29 dBm, EN 300 086 from memory); 10 kHz: -47 dBm; halfway in
         # log offset between 0.01 and 1 MHz (0.1 MHz): -38 dBm (hand interpolation)
         (5.0, -29.0),
@@ -276,18 +276,18 @@ def test_selectivity_table_by_offset_from_the_band_edge():
         (0.001, -47.0),  # held below the first row
     ],
 )
-def test_vhf_uhf_fm_class_default(offset_mhz, expected_dbm):
+def test_fm_class_default(offset_mhz, expected_dbm):
     a = tx_radio("A", 150.0)
     # receiver band edge `offset_mhz` above the carrier's edge (both 16 kHz wide)
     f_rx = 150.0 + 0.016 + offset_mhz
-    r = rx_radio("R", f_rx, x=300.0, receiver_class="vhf-uhf-fm")
+    r = rx_radio("R", f_rx, x=300.0, receiver_class="base")
     f = only(survey(mk(a, r)).threats, mechanism="fundamental")
     assert f.threshold_dbm == pytest.approx(expected_dbm, abs=1e-6)
     assert "EN 300 086" in f.threshold_source
 
 
 def test_every_class_default_names_its_source():
-    for name, (table, src) in L.RECEIVER_CLASSES.items():
+    for name, (table, src) in L.SELECTIVITY_BY_CLASS.items():
         assert table and all(o > 0 for o, _ in table), name
         assert "from memory" in src or "common practice" in src, name
     # the emf-to-available-power conversion behind -29 dBm (50 ohm, matched: half the emf)
@@ -528,7 +528,7 @@ def test_sites_built_in_python_are_checked_too():
     from notchkit.errors import SiteError
 
     a = tx_radio("A", 146.52, installed=(InstalledFilter(name="f", port="mast", rejection=()),))
-    r = Radio(name="R", rx=Receive(band=band(440.0), receiver_class="scanner",
+    r = Radio(name="R", rx=Receive(band=band(440.0), receiver_class="radar",
                                    selectivity=((1.0, -20.0), (0.5, -30.0))))  # fmt: skip
     with pytest.raises(SiteError) as info:
         survey(mk(a, r))

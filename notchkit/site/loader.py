@@ -152,7 +152,7 @@ _FREQ_FIELDS = {
 }
 _OFFSET = Num(lo=0.0001, hi=10_000.0, unit="MHz")
 _REJ_DB = Num(lo=0.0, hi=200.0, unit="dB")
-_RECEIVER_CLASSES = ("hf-transceiver", "vhf-uhf-fm", "sdr-dongle")
+
 _TX_FIELDS = {
     "power_w": Field(kind="number", num=_POWER, required=True, doc="Carrier power in watts."),
     "bandwidth_khz": Field(
@@ -211,10 +211,11 @@ _RX_FIELDS = {
     ),
     "receiver_class": Field(
         kind="choice",
-        choices=_RECEIVER_CLASSES,
+        choices=m.RECEIVER_CLASSES,
         default=None,
-        doc="Receiver class whose documented selectivity table applies; "
-        "default: the flat blocking level.",
+        doc="Receiver class: hf (HF transceiver with band filters), base or mobile (VHF/UHF FM), "
+        "scanner (no front-end filter); gives documented blocking by offset; default: none "
+        "(the flat blocking level).",
     ),
     "selectivity": Field(
         kind="table",

@@ -25,6 +25,11 @@ DEFAULT_CHANNEL_BANDWIDTH_KHZ = 16.0
 DEFAULT_NOISE_FIGURE_DB = 8.0
 DEFAULT_ANTENNA_HEIGHT_M = 10.0
 DEFAULT_MAX_HARMONIC = 5
+RECEIVER_CLASSES = ("hf", "base", "mobile", "scanner")
+"""Receiver classes: ``hf`` an HF transceiver with switched band-pass filters,
+``base`` / ``mobile`` a VHF/UHF FM land-mobile radio, ``scanner`` a scanner or SDR
+dongle with no front-end filter; their selectivity defaults and sources are
+notchkit.survey.limits.SELECTIVITY_BY_CLASS (docs/survey.md)."""
 DEFAULT_MAX_STUBS = 3
 DEFAULT_CUT_TOLERANCE_MM = 2.0
 DEFAULT_MAX_STUB_REJECTION_DB = 40.0
@@ -144,8 +149,8 @@ class Receive:
     """Every band or channel the radio receives, one at a time (``band`` is the
     first); empty: ``band`` only."""
     receiver_class: str | None = None
-    """Receiver class whose documented selectivity table applies (``hf-transceiver``,
-    ``vhf-uhf-fm``, ``sdr-dongle``); ``None``: the flat blocking level."""
+    """Receiver class (:data:`RECEIVER_CLASSES`) whose documented selectivity table
+    applies; ``None``: the flat blocking level."""
     selectivity: tuple[tuple[float, float], ...] = ()
     """(offset_mhz, blocking_dbm) rows: the off-channel level that starts to
     desensitise the receiver at that offset from its band edge; empty: the class's

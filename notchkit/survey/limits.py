@@ -110,33 +110,36 @@ def im_conversion_db(given_db: float | None, order: int) -> tuple[float, str]:
 # Receiver selectivity by offset, receiver classes, band noise
 # ---------------------------------------------------------------------------
 
-RECEIVER_CLASSES: dict[str, tuple[tuple[tuple[float, float], ...], str]] = {
-    "hf-transceiver": (
-        ((0.002, -30.0), (0.02, -10.0), (0.5, 0.0), (5.0, 10.0)),
-        "class hf-transceiver (HF transceiver with switched band-pass filters): "
-        "-30 dBm at 2 kHz, -10 dBm at 20 kHz, 0 dBm at 500 kHz, +10 dBm at 5 MHz and beyond; "
-        "from memory: published lab blocking dynamic ranges of about 100 dB at 2 kHz and "
-        "120-125 dB at 20 kHz spacing above an MDS near -130 dBm; beyond the band the band "
-        "filter adds rejection, capped at +10 dBm for the front end's safety (common practice)",
-    ),
-    "vhf-uhf-fm": (
-        ((0.01, -47.0), (1.0, -29.0), (10.0, -29.0), (100.0, -10.0)),
-        "class vhf-uhf-fm (VHF/UHF FM radio): -47 dBm at 10 kHz from the channel edge "
-        "(adjacent-channel selectivity 70 dB above a -117 dBm reference sensitivity), -29 dBm "
-        "from 1 to 10 MHz (blocking 84 dBuV e.m.f. = 78 dBuV across 50 ohm = -29 dBm), from "
-        "memory: ETSI EN 300 086 limits; -10 dBm at 100 MHz and beyond (front-end helical "
-        "filters; from memory)",
-    ),
-    "sdr-dongle": (
+_HF_TABLE = ((0.002, -30.0), (0.02, -10.0), (0.5, 0.0), (5.0, 10.0))
+_HF_SOURCE = (
+    "-30 dBm at 2 kHz, -10 dBm at 20 kHz, 0 dBm at 500 kHz, +10 dBm at 5 MHz and beyond; from "
+    "memory: published lab blocking dynamic ranges of about 100 dB at 2 kHz and 120-125 dB at "
+    "20 kHz spacing above an MDS near -130 dBm; beyond the band the band filter adds rejection, "
+    "capped at +10 dBm for the front end's safety (common practice)"
+)
+_FM_TABLE = ((0.01, -47.0), (1.0, -29.0), (10.0, -29.0), (100.0, -10.0))
+_FM_SOURCE = (
+    "-47 dBm at 10 kHz from the channel edge (adjacent-channel selectivity 70 dB above a "
+    "-117 dBm reference sensitivity), -29 dBm from 1 to 10 MHz (blocking 84 dBuV e.m.f. = "
+    "78 dBuV across 50 ohm = -29 dBm), from memory: ETSI EN 300 086 limits; -10 dBm at "
+    "100 MHz and beyond (front-end helical filters; from memory)"
+)
+SELECTIVITY_BY_CLASS: dict[str, tuple[tuple[tuple[float, float], ...], str]] = {
+    "hf": (_HF_TABLE, "class hf (HF transceiver with switched band-pass filters): " + _HF_SOURCE),
+    "base": (_FM_TABLE, "class base (VHF/UHF FM land-mobile base radio): " + _FM_SOURCE),
+    "mobile": (_FM_TABLE, "class mobile (VHF/UHF FM mobile or handheld radio): " + _FM_SOURCE),
+    "scanner": (
         ((0.001, -40.0), (1000.0, -40.0)),
-        "class sdr-dongle (scanner or SDR dongle with no front-end filter): -40 dBm at every "
+        "class scanner (scanner or SDR dongle with no front-end filter): -40 dBm at every "
         "offset, the wideband tuner's overload level (from memory: 8-bit dongles clip near "
         "-40 to -30 dBm of total input at usual gain settings)",
     ),
 }
-"""Documented selectivity defaults by receiver class: ((offset_mhz, blocking_dbm), ...)
-with their source. Offsets count from the edge of the receiver's band (its tuning
-range), the conservative reading of "offset from the tuned frequency"."""
+"""Documented selectivity defaults by receiver class (``receiver_class``, the
+names of :data:`notchkit.site.model.RECEIVER_CLASSES`): ((offset_mhz,
+blocking_dbm), ...) with their source. Offsets count from the edge of the
+receiver's band (its tuning range), the conservative reading of "offset from
+the tuned frequency"."""
 
 
 def selectivity_table(rx) -> tuple[tuple[tuple[float, float], ...], str]:
@@ -150,7 +153,7 @@ def selectivity_table(rx) -> tuple[tuple[tuple[float, float], ...], str]:
             "interpolated in dB against log offset)"
         )
     if rx.receiver_class is not None:
-        table, src = RECEIVER_CLASSES[rx.receiver_class]
+        table, src = SELECTIVITY_BY_CLASS[rx.receiver_class]
         return table, "default selectivity " + src
     if rx.blocking_dbm is not None:
         return (), "blocking_dbm"

@@ -438,7 +438,7 @@ def _rising(rows, finite, x_positive: bool = True) -> bool:
 def _validate_operating(site: Site, bad, finite) -> None:
     """The keys of how a site operates, for sites built in Python (the loader checks files)."""
     from notchkit.site.model import INSTALLED_PORTS
-    from notchkit.survey.limits import RECEIVER_CLASSES
+    from notchkit.survey.limits import SELECTIVITY_BY_CLASS as RECEIVER_CLASSES
 
     for i, r in enumerate(site.radios):
         where = f"radios[{i}]"
