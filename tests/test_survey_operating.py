@@ -563,11 +563,14 @@ def test_unreadable_touchstone_is_one_line(tmp_path, monkeypatch, capsys):
 
 
 def test_installed_filter_at_the_victim_lowers_an_intermod_product_by_its_rejection():
-    # 2 x 147 - 146 = 148 MHz (hand arithmetic); a receive-path filter giving 30 dB from
-    # 147.5 to 149 MHz at R takes exactly 30 dB off the product's level
+    # 2 x 147 - 146 = 148 MHz (hand arithmetic), formed in a transmitter's output stage and
+    # radiated to R 2 km away; a receive-path filter giving 30 dB from 147.5 to 149 MHz at R
+    # takes exactly 30 dB off it (the carriers at 146 and 147 MHz pass it unchanged; R is an
+    # HF-class receiver, so where products formed in its own front end are modelled they are
+    # far weaker than this one)
     t1, t2 = tx_radio("T1", 146.0), tx_radio("T2", 147.0, x=20.0)
     pre = InstalledFilter(name="pre", port="rx", rejection=((147.5, 30.0), (149.0, 30.0)))
-    bare = rx_radio("R", 148.0, x=40.0)
+    bare = rx_radio("R", 148.0, x=2000.0, receiver_class="hf")
     fitted = Radio(name="R", rx=bare.rx, antenna=bare.antenna, installed=(pre,))
 
     def product(res):
@@ -578,3 +581,10 @@ def test_installed_filter_at_the_victim_lowers_an_intermod_product_by_its_reject
     a, b = product(survey(mk(t1, t2, bare))), product(survey(mk(t1, t2, fitted)))
     assert a.level_dbm - b.level_dbm == pytest.approx(30.0, abs=1e-9)
     assert b.installed_db == pytest.approx(30.0) and b.installed == ("R: pre (band-pass, rx)",)
+
+
+def test_stated_blocking_level_wins_over_the_class_table():
+    a = tx_radio("A", 150.0)
+    r = rx_radio("R", 150.0 + 0.016 + 5.0, x=300.0, receiver_class="base", blocking_dbm=-12.0)
+    f = only(survey(mk(a, r)).threats, mechanism="fundamental")
+    assert f.threshold_dbm == -12.0 and f.threshold_source == "blocking_dbm"

@@ -1354,8 +1354,9 @@ class _Builder:
         return m.Receive(band=bands[0], **more, **extra)
 
     def check_rx(self, d: dict, path: str) -> None:
-        """A flat blocking level and a blocking-by-offset table are not given together."""
-        for other in ("receiver_class", "selectivity"):
+        """A flat blocking level and a blocking-by-offset table are not given together (a
+        class's table gives way to a stated blocking_dbm)."""
+        for other in ("selectivity",):
             if other in d and "blocking_dbm" in d:
                 self.r.add(
                     d["blocking_dbm"][1], _join(path, "blocking_dbm"),

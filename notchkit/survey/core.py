@@ -225,6 +225,12 @@ def _operate(ctx, threats: list[Threat]) -> list[Threat]:
             setf(t, "mixer", phys[uidx[t.mixer]])
         setf(t, "scenario", scen)
         setf(t, "operating", ops)
+        if getattr(t, "route", None) == "receiver" and sa.has_installed:
+            # formed in the victim's front end: the carriers passed the filters, at their frequencies
+            f_src = np.array([sa.tx_lo[u] for u in su])
+            per = sa.installed_db(np.array(su), f_src, OUT_PORTS) + sa.installed_db(
+                np.full(len(su), v), f_src, ("rx", "antenna"))
+            inst_db[k] = float(per.min())
         setf(t, "installed_db", inst_db[k])
         setf(t, "installed", inst)
         rclass, remedy, filters = _classify(ctx, t, src)

@@ -145,18 +145,19 @@ the tuned frequency"."""
 def selectivity_table(rx) -> tuple[tuple[tuple[float, float], ...], str]:
     """The receiver's blocking table and its source text.
 
-    Returns ``((), text)`` when the flat ``blocking_dbm`` (or the flat default) applies.
+    In order: its own ``selectivity`` table, its flat ``blocking_dbm``, its class's
+    table, the flat default. Returns ``((), text)`` when a flat level applies.
     """
     if rx.selectivity:
         return tuple(rx.selectivity), (
             "radio's selectivity table (blocking level by offset from the band edge, "
             "interpolated in dB against log offset)"
         )
+    if rx.blocking_dbm is not None:
+        return (), "blocking_dbm"
     if rx.receiver_class is not None:
         table, src = SELECTIVITY_BY_CLASS[rx.receiver_class]
         return table, "default selectivity " + src
-    if rx.blocking_dbm is not None:
-        return (), "blocking_dbm"
     return (), f"default blocking {DEFAULT_BLOCKING_DBM:g} dBm (documented default)"
 
 
