@@ -182,6 +182,12 @@ _TX_FIELDS = {
         doc="Conversion loss of the output stage for intermodulation in dB; "
         "default: the survey's documented value.",
     ),
+    "im_order_step_db": Field(
+        kind="number",
+        num=Num(lo=0.0, hi=30.0, unit="dB"),
+        default=None,
+        doc="Extra conversion loss per order away from 3rd in dB; default: the survey's value.",
+    ),
 }
 _RX_FIELDS = {
     "bandwidth_khz": Field(
@@ -209,13 +215,25 @@ _RX_FIELDS = {
         default=_d(m.Receive, "noise_figure_db"),
         doc="Receiver noise figure in dB.",
     ),
+    "iip2_dbm": Field(
+        kind="number",
+        num=Num(lo=-60.0, hi=120.0, unit="dBm"),
+        default=None,
+        doc="Input 2nd-order intercept point in dBm; default: from receiver_class.",
+    ),
+    "iip3_dbm": Field(
+        kind="number",
+        num=Num(lo=-60.0, hi=80.0, unit="dBm"),
+        default=None,
+        doc="Input 3rd-order intercept point in dBm; default: from receiver_class.",
+    ),
     "receiver_class": Field(
         kind="choice",
         choices=m.RECEIVER_CLASSES,
         default=None,
         doc="Receiver class: hf (HF transceiver with band filters), base or mobile (VHF/UHF FM), "
-        "scanner (no front-end filter); gives documented blocking by offset; default: none "
-        "(the flat blocking level).",
+        "scanner (no front-end filter); gives documented blocking by offset and intercept points; "
+        f"default: none (the flat blocking level; intercept points of {m.DEFAULT_RECEIVER_CLASS}).",
     ),
     "selectivity": Field(
         kind="table",
@@ -284,6 +302,12 @@ SECTIONS: dict[str, dict[str, Field]] = {
             num=Num(lo=2, hi=20, integer=True),
             default=m.DEFAULT_MAX_HARMONIC,
             doc="Highest harmonic order the survey considers.",
+        ),
+        "max_im_order": Field(
+            kind="number",
+            num=Num(lo=2, hi=9, integer=True),
+            default=m.DEFAULT_MAX_IM_ORDER,
+            doc="Highest intermodulation order the survey enumerates (2 to 9).",
         ),
         "scenarios": Field(
             kind="list",
@@ -1253,9 +1277,10 @@ def _opt(d: dict[str, tuple[Any, yaml.Node]], keys: tuple[str, ...]) -> dict[str
     return {k: d[k][0] for k in keys if k in d}
 
 
-_TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db")
+_TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db",
+            "im_order_step_db")  # fmt: skip
 _RX_KEYS = (
-    "bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db",
+    "bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db", "iip2_dbm", "iip3_dbm",
     "receiver_class", "selectivity", "band_noise_dbm",
 )  # fmt: skip
 
@@ -1344,7 +1369,7 @@ class _Builder:
         more = {"bands": bands} if len(bands) > 1 else {}
         return m.Transmit(band=bands[0], power_w=d["power_w"][0], **more, **extra)
 
-    def receive(self, d: dict, bands, shared_bw: float | None) -> m.Receive | None:
+    def receive(self, d: dict, bands, shared_bw: float | None, path: str = "") -> m.Receive | None:
         if bands is None:
             return None
         extra = _opt(d, _RX_KEYS)
@@ -1393,7 +1418,7 @@ class _Builder:
                 tx = self.transmit(d, band, None)
                 ok = tx is not None
             else:
-                rx = self.receive(d, band, None)
+                rx = self.receive(d, band, None, path)
                 ok = rx is not None
         else:
             shared, shared_given = self.freq(d, node, path)
@@ -1424,7 +1449,7 @@ class _Builder:
             if "tx" in d:
                 tx = self.transmit(d["tx"][0], parts.get("tx"), shared_bw)
             rx_d = d["rx"][0] if "rx" in d else {}
-            rx = self.receive(rx_d, parts.get("rx"), shared_bw)
+            rx = self.receive(rx_d, parts.get("rx"), shared_bw, _join(path, "rx"))
             ok = tx is not None and rx is not None and self.check_choices(tx, rx, node, path)
         if name is None or not ok:
             return None
@@ -1484,6 +1509,7 @@ class _Builder:
                 else {}
             ),
             **({"max_harmonic": top["max_harmonic"][0]} if "max_harmonic" in top else {}),
+            **({"max_im_order": top["max_im_order"][0]} if "max_im_order" in top else {}),
         )
 
     # -- installed filters and scenarios -----------------------------------

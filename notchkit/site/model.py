@@ -29,7 +29,12 @@ RECEIVER_CLASSES = ("hf", "base", "mobile", "scanner")
 """Receiver classes: ``hf`` an HF transceiver with switched band-pass filters,
 ``base`` / ``mobile`` a VHF/UHF FM land-mobile radio, ``scanner`` a scanner or SDR
 dongle with no front-end filter; their selectivity defaults and sources are
-notchkit.survey.limits.SELECTIVITY_BY_CLASS (docs/survey.md)."""
+notchkit.survey.limits.SELECTIVITY_BY_CLASS, and their default intercept points
+notchkit.survey.levels.RECEIVER_CLASSES (docs/survey.md)."""
+DEFAULT_MAX_IM_ORDER = 5
+DEFAULT_RECEIVER_CLASS = "mobile"
+"""Class whose intercept points apply when a receiver gives none (its blocking
+level stays the flat default unless a class or table is given)."""
 DEFAULT_MAX_STUBS = 3
 DEFAULT_CUT_TOLERANCE_MM = 2.0
 DEFAULT_MAX_STUB_REJECTION_DB = 40.0
@@ -132,6 +137,8 @@ class Transmit:
     @property
     def choices(self) -> tuple[Band, ...]:
         return self.bands or (self.band,)
+    im_order_step_db: float | None = None
+    """Extra conversion loss per order away from 3rd, in dB; ``None``: survey default."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -148,9 +155,14 @@ class Receive:
     bands: tuple[Band, ...] = ()
     """Every band or channel the radio receives, one at a time (``band`` is the
     first); empty: ``band`` only."""
+    iip2_dbm: float | None = None
+    """Input 2nd-order intercept point, dBm; ``None``: from ``receiver_class``."""
+    iip3_dbm: float | None = None
+    """Input 3rd-order intercept point, dBm; ``None``: from ``receiver_class``."""
     receiver_class: str | None = None
-    """Receiver class (:data:`RECEIVER_CLASSES`) whose documented selectivity table
-    applies; ``None``: the flat blocking level."""
+    """Receiver class (:data:`RECEIVER_CLASSES`): its documented selectivity table and
+    intercept points apply; ``None``: the flat blocking level and the intercept points
+    of :data:`DEFAULT_RECEIVER_CLASS`."""
     selectivity: tuple[tuple[float, float], ...] = ()
     """(offset_mhz, blocking_dbm) rows: the off-channel level that starts to
     desensitise the receiver at that offset from its band edge; empty: the class's
@@ -282,6 +294,7 @@ class Site:
     allowances: Allowances = field(default_factory=Allowances)
     cables: tuple[CableDef, ...] = ()
     max_harmonic: int = DEFAULT_MAX_HARMONIC
+    max_im_order: int = DEFAULT_MAX_IM_ORDER
     path: str = ""
     scenarios: tuple[Scenario, ...] = ()
     """Which radios can be active at once; empty: all of them at once."""
