@@ -588,3 +588,27 @@ def test_stated_blocking_level_wins_over_the_class_table():
     r = rx_radio("R", 150.0 + 0.016 + 5.0, x=300.0, receiver_class="base", blocking_dbm=-12.0)
     f = only(survey(mk(a, r)).threats, mechanism="fundamental")
     assert f.threshold_dbm == -12.0 and f.threshold_source == "blocking_dbm"
+
+
+def test_front_end_selectivity_lowers_products_formed_in_the_receiver():
+    # Carriers 9 and 18 MHz off a receiver with the class-hf table: front-end selectivity
+    # A = B(gap) - B(1 MHz), with B(1 MHz) = 0 + 10 log(1/0.5)/log(5/0.5) = 3.01 dBm and
+    # B(>= 5 MHz) = +10 dBm (hand interpolation in dB against log offset): A = 6.99 dB each.
+    # The same receiver with a flat table (no rise) gets none.
+    b1 = interp_log(1.0, 0.5, 0.0, 5.0, 10.0)
+    assert b1 == pytest.approx(3.0103, abs=1e-4)
+    t1, t2 = tx_radio("T1", 130.0), tx_radio("T2", 139.0, x=20.0)  # 2 x 139 - 130 = 148 MHz
+    flat = ((0.001, 10.0), (1000.0, 10.0))  # the same far-off level, but no front-end rise
+
+    def level(sel):
+        r = rx_radio("R", 148.0, x=60.0, receiver_class="hf", selectivity=sel)
+        res = survey(mk(t1, t2, r))
+        (t,) = [t for t in res.threats if t.mechanism == "intermod" and t.victim == "R"
+                and abs(t.f_mhz - 148.0) < 1e-6]  # fmt: skip
+        return t
+
+    cls = L.SELECTIVITY_BY_CLASS["hf"][0]
+    a, b = level(cls), level(flat)
+    assert a.route == b.route == "receiver"
+    # 2 f2 - f1 in the front end: 2 x A(T2) + 1 x A(T1), both carriers >= 5 MHz away
+    assert b.level_dbm - a.level_dbm == pytest.approx(3 * (10.0 - b1), abs=1e-6)

@@ -205,7 +205,8 @@ class _State:
         self.arr = np.full((n, n), -np.inf)
         self.arr_iso = np.zeros((n, n))
         self.arr_meth = np.zeros((n, n), dtype=int)
-        self.arr[oo, vv] = sa.p_dbm[oo] - total
+        # carriers at the victim's first non-linear stage: less its front-end selectivity
+        self.arr[oo, vv] = sa.p_dbm[oo] - total - sa.front_end_db(vv, sa.tx_lo[oo], sa.tx_hi[oo])
         self.arr_iso[oo, vv], self.arr_meth[oo, vv] = iso, meth
         both = np.intersect1d(tx, rx)
         self.arr[both, both] = -np.inf  # a transceiver's own carrier: the duplexer's job

@@ -142,6 +142,13 @@ receiver's band (its tuning range), the conservative reading of "offset from
 the tuned frequency"."""
 
 
+FRONT_END_REF_MHZ = 1.0
+"""Offset beyond which a blocking curve's rise is taken as front-end (preselector)
+selectivity, protecting the first non-linear stages: carriers reaching a receiver
+are reduced by it before products formed in its front end are computed (common
+practice reading of a blocking curve, rough; closer in the curve is the IF filters')."""
+
+
 def selectivity_table(rx) -> tuple[tuple[tuple[float, float], ...], str]:
     """The receiver's blocking table and its source text.
 

@@ -126,6 +126,29 @@ class SiteArrays:
                 out[m] = np.interp(x, log_off, lev)
         return out
 
+    def front_end_db(self, r: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+        """Front-end selectivity (dB, >= 0) of receiver unit r[k] for a carrier at [lo, hi] MHz.
+
+        The rise of the receiver's blocking level beyond :data:`limits.FRONT_END_REF_MHZ`
+        of offset, read off its selectivity table: A = max(0, B(gap) - B(1 MHz)) for gaps
+        beyond 1 MHz, else 0. Closer in, a blocking curve is shaped by the IF filters,
+        which come after the first non-linear stages; farther out, by the preselector
+        in front of them. A receiver with no table gets 0 (common practice reading of a
+        blocking curve, rough).
+        """
+        r = np.asarray(r, dtype=int)
+        out = np.zeros(r.shape, dtype=float)
+        if not self._selectivity:
+            return out
+        gap = np.maximum(np.maximum(np.asarray(lo) - self.rx_hi[r], self.rx_lo[r] - np.asarray(hi)), 0.0)
+        ref = np.log10(limits.FRONT_END_REF_MHZ)
+        for i, (log_off, lev, _) in self._selectivity.items():
+            m = (r == i) & (gap > limits.FRONT_END_REF_MHZ)
+            if np.any(m):
+                far = np.interp(np.log10(gap[m]), log_off, lev)
+                out[m] = np.maximum(far - np.interp(ref, log_off, lev), 0.0)
+        return out
+
     # ------------------------------------------------------------ couplings, antennas
     def _couplings(self, site: Site) -> None:
         """Measured couplings per pair of physical radios: sorted (log f, dB) rows."""
