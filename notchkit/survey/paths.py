@@ -393,8 +393,9 @@ class SiteArrays:
 
 def check_max_harmonic(value: object) -> int:
     """Validate a harmonic limit: an integer >= 1 (1: harmonics not evaluated)."""
-    if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
-        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer >= 1)")
+    if isinstance(value, bool) or not isinstance(value, int | np.integer) or not 1 <= value <= 20:
+        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer from 1 to 20, as a site "
+                         "file allows)")
     return int(value)
 
 
@@ -445,6 +446,15 @@ def validate(site: Site) -> None:
         if c.freq_mhz is not None and not (finite(c.freq_mhz) and c.freq_mhz > 0):
             bad(f"couplings[{k}].freq_mhz", c.freq_mhz, "must be > 0 MHz")
     _validate_operating(site, bad, finite)
+    # The loader's caps on the survey's work, for sites built in Python too (docs/robustness.md).
+    from notchkit.site.loader import MAX_IM_TRIPLES, MAX_RADIOS
+
+    n_tx = sum(len(r.tx.choices) for r in site.radios if r.tx is not None)  # bands worked count
+    if len(site.radios) > MAX_RADIOS:
+        bad("radios", len(site.radios), f"radios are more than {MAX_RADIOS} in one site")
+    if n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES:
+        bad("radios", n_tx, f"transmitters make more than {MAX_IM_TRIPLES} three-transmitter "
+            "intermodulation combinations")
     if problems:
         raise SiteError(problems)
 
