@@ -410,7 +410,6 @@ class _Ctx:
 
     def all_feeds(self) -> list[NotchFeed]:
         names = self.sa.radio_names
-        ro = self.sa.radio_of
         labels = self.sa.op.labels
         out = [
             NotchFeed(radio=self.sa.physical.radios[r].name, side=side, lo_mhz=lo, hi_mhz=hi,
@@ -428,7 +427,6 @@ class _Ctx:
                     bands=(labels[m],) if labels[m] else (),
                 )
             )  # fmt: skip
-        del ro
         return out
 
 
