@@ -219,6 +219,16 @@ class SiteArrays:
                 out[m] = np.interp(np.log10(f[m]), lf, gt)
         return out
 
+    def _gain1(self, i: int, f: float) -> float:
+        """gain_at for one unit and one frequency, without arrays (for the texts)."""
+        table = self._gain_tables.get(i)
+        if table is not None:
+            return float(np.interp(math.log10(f), table[0], table[1]))
+        g = float(self.g[i])
+        if self.ant_lo[i] <= f <= self.ant_hi[i]:
+            return g
+        return min(g, 0.0) - float(self.ant_oob[i])
+
     # ------------------------------------------------------------ feedlines
     def _feedlines(self, radios: tuple[Radio, ...], site: Site) -> dict[int, tuple[object, float]]:
         feeds: dict[int, tuple[object, float]] = {}
@@ -345,8 +355,7 @@ class SiteArrays:
             return self._measured_text[(ra, rb)]
         dh = float(np.hypot(self.x[a] - self.x[b], self.y[a] - self.y[b]))
         dv = float(abs(self.h[a] - self.h[b]))
-        ga = float(self.gain_at(np.array([a]), np.array([freq_mhz]))[0])
-        gb = float(self.gain_at(np.array([b]), np.array([freq_mhz]))[0])
+        ga, gb = self._gain1(a, freq_mhz), self._gain1(b, freq_mhz)
         text = describe_estimate(method, freq_mhz, dh, dv, iso, near_field_db=self.near_field_db)
         if method in (HORIZONTAL, SLANT) and (ga != self.g[a] or gb != self.g[b]):
             text += f"; gains at {freq_mhz:g} MHz {ga:g} / {gb:g} dBi"
