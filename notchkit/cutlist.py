@@ -577,10 +577,14 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both",
             out.append(f"    no resonance inside the analyser's range: cut to "
                        f"{format_length(c.cut_length_m, units)}"
                        f" and do not trim (nearest resonance {c.resonance_mhz:.4f} MHz)")
-        out.append(
-            f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
-            f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
-        )
+        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
+            out.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
+                       f"VF {c.velocity_factor:g}")
+        else:
+            out.append(
+                f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
+                f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
+            )
         if c.reference_plane:
             out.append(f"    cut length measured {c.reference_plane}")
         if c.electrical:

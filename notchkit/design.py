@@ -23,8 +23,8 @@ from typing import Any
 
 import numpy as np
 
-from notchkit.errors import DesignError, InputError
-from notchkit.filters import Filter, write_touchstone
+from notchkit.errors import DesignError
+from notchkit.filters import Filter
 from notchkit.jsonvalues import finite
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
@@ -122,8 +122,7 @@ class Design:
 
         s = self.solution
         freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
-        bare = getattr(self.cable, "cable", self.cable)  # the cable inside a notchkit.hardware.Model
-        return extrapolation_note(bare, freqs)
+        return extrapolation_note(getattr(self.cable, "cable", self.cable), freqs)  # a hardware.Model's cable
 
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
@@ -295,15 +294,21 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
 
     sv = survey(site)
     hw = getattr(site, "hardware", None)
-    allowances = site.allowances if hw is None else dataclasses.replace(site.allowances, tee_allowance_m=0.0)
+    no_allowance = dataclasses.replace(site.allowances, tee_allowance_m=0.0)  # the tee's arms are modelled
+
+    from notchkit.loads import read_load
+
+    for radio in site.radios:  # every given load file is read (a bad one is refused) before designing
+        if getattr(getattr(radio, "load", None), "file", None):
+            read_load(radio.load.file)
 
     def medium(req: FilterRequirement) -> Any:  # the cable with the site's hardware, load and ceiling
         radio = next((r for r in site.radios if r.name == req.radio), None)
         return model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),
                          depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
 
-    jobs = [(req, medium(req), site.limits, allowances, f"F{i}")
-            for i, req in enumerate(sv.filters, start=1)]
+    jobs = [(req, m, site.limits, site.allowances if m.hardware is None else no_allowance, f"F{i}")
+            for i, req, m in ((i, req, medium(req)) for i, req in enumerate(sv.filters, start=1))]
     n = len(jobs)
     designs: list[Design] = []
     pending = [meanwhile] if meanwhile is not None else []
@@ -492,30 +497,33 @@ def touchstone_name(d: Design) -> str:
     return f"{stem}.s2p"
 
 
-def write_touchstones(report: DesignReport, folder: str | os.PathLike) -> tuple[Path, ...]:
-    """Write one ``.s2p`` per filter into ``folder`` (created if missing), atomically each.
+def write_touchstones(report: DesignReport, folder: str | os.PathLike,
+                      inputs: Sequence[str | os.PathLike | None] = ()) -> tuple[Path, ...]:
+    """Write one ``.s2p`` per filter into ``folder`` (created if missing): all or none.
+
+    ``inputs`` are the files the command read (the site file): no output may be one of them.
 
     Raises
     ------
     InputError
-        The folder cannot be created or written (checked before any file is written).
+        The folder cannot be created or written, or an output would replace an
+        input or another output (checked before any file is written).
     """
+    from notchkit.fileio import write_all
+    from notchkit.filters import touchstone_text
+    from notchkit.report.files import plan_outputs
+
     folder = Path(folder)
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(f"--touchstone {folder}: cannot create the folder ({exc.strerror or exc})") from exc
-    if not folder.is_dir():
-        raise InputError(f"--touchstone {folder}: not a folder")
-    if not os.access(folder, os.W_OK | os.X_OK):
-        raise InputError(f"--touchstone {folder}: folder is not writable")
-    out = []
-    for d in report.designs:
+    paths = plan_outputs([(folder / touchstone_name(d), "Touchstone file") for d in report.designs],
+                         inputs=inputs, dirs=[(folder, "--touchstone")])
+    files = []
+    for d, path in zip(report.designs, paths, strict=True):
         comment = (f"notchkit design {d.id}: {d.where}\n{describe(d.filter)}\n"
                    f"cable {getattr(d.cable, 'name', '?')}, meets: {d.meets}")
-        out.append(write_touchstone(d.filter, touchstone_sweep_hz(d.requirement), folder / touchstone_name(d),
-                                    z_system=d.solution.z_system, comment=comment))
-    return tuple(out)
+        text = touchstone_text(d.filter, touchstone_sweep_hz(d.requirement), d.solution.z_system, comment,
+                               name=path.stem)
+        files.append((path, text.encode("utf-8"), "Touchstone file"))
+    return tuple(write_all(files, make_dir=folder))
 
 
 # ---------------------------------------------------------------- JSON

@@ -310,9 +310,10 @@ class _Sweep:
       complex ``tanh``; a line's ``e^{-gl}`` is one complex ``exp``.
     """
 
-    __slots__ = ("alpha", "beta", "g", "neg_alpha", "minus2_alpha", "runs")
+    __slots__ = ("alpha", "beta", "f", "g", "neg_alpha", "minus2_alpha", "runs")
 
     def __init__(self, f: NDArray[np.float64], cable: Medium) -> None:
+        self.f = f  # the grid, Hz (for kinds whose response is not a line's)
         self.alpha = np.broadcast_to(np.asarray(cable.alpha_np_per_m(f), dtype=float), f.shape)
         self.neg_alpha = -self.alpha
         self.minus2_alpha = -2.0 * self.alpha

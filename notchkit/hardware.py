@@ -189,18 +189,6 @@ def _chain(*mats):
     return out
 
 
-def _transform_y(y, y0, t):
-    """Admittance seen through a line of admittance ``y0`` with ``t = tanh(gamma l)``."""
-    return y0 * (y + y0 * t) / (y0 + y * t)
-
-
-def _y_through_section(y, z: float, vf: float, length_m: float, f):
-    if length_m <= 0:
-        return y
-    t = 1j * np.tan(2 * np.pi * f * length_m / (C0 * vf))
-    return _transform_y(y, 1.0 / z, t)
-
-
 # ---------------------------------------------------------------- the model
 
 
@@ -321,11 +309,23 @@ class Model:
         plug_m = fam.plug_mm * mm if fam else 0.0
         short_l = (hw.short_nh * 1e-9) if hw is not None else 0.0
         yl_short = 1.0 / (1j * 2 * np.pi * f * short_l) if short_l > 0 else None
-        # tanh(j b l) = j tan(b l) of the plug and the side arm, once per call
-        t_plug = 1j * np.tan(2 * np.pi * f * plug_m / (C0 * fam.pair_vf)) if fam and plug_m > 0 else None
         side_m = fam.tee_side_mm * mm if fam else 0.0
-        t_side = 1j * np.tan(2 * np.pi * f * side_m / (C0 * fam.tee_vf)) if fam and side_m > 0 else None
         tanh_gl = self._tanh_gl(g)
+        # Each stub kind's admittance at the junction is a Moebius map of t = tanh(gamma l_c) with
+        # coefficients over f only: the end (open, the short's inductance, an ideal short) through
+        # the cable, then the fixed plug and side arm, composed once (one complex division a point).
+        fixed = _chain(_section(fam.tee_z_ohm, fam.tee_vf, side_m, f) if fam else None,
+                       _section(fam.z_pair_ohm, fam.pair_vf, plug_m, f) if fam else None)
+        ends = {"open": (yc, 0.0, 0.0, 1.0)}
+        ends["short"] = ((yc * yc, yc * yl_short, yl_short, yc) if yl_short is not None
+                         else (0.0, yc, 1.0, 0.0))
+        maps = {}
+        for name, (p_, q_, r_, s_) in ends.items():
+            if fixed is None:
+                maps[name] = (p_, q_, r_, s_)
+            else:
+                fa, fb, fc, fd = fixed  # Y_in = (C + D Y) / (A + B Y)
+                maps[name] = (fc * r_ + fd * p_, fc * s_ + fd * q_, fa * r_ + fb * p_, fa * s_ + fb * q_)
         m: Any = (1.0, 0.0, 0.0, 1.0)  # exact scalars until a candidate's element comes
         pending = barrel  # fixed parts not yet applied to m
 
@@ -339,16 +339,11 @@ class Model:
                     pending = _chain(pending, arm)
                 m, pending = flush(m), None
                 lc = np.maximum(x - plug_m, 0.0)
-                if k.termination == "open":
-                    y = yc * tanh_gl(lc)
-                elif yl_short is not None:
-                    y = _transform_y(yl_short, yc, tanh_gl(lc))
-                else:
-                    y = yc / tanh_gl(np.maximum(lc, 1e-9))
-                if t_plug is not None:
-                    y = _transform_y(y, 1.0 / fam.z_pair_ohm, t_plug)
-                if t_side is not None:
-                    y = _transform_y(y, 1.0 / fam.tee_z_ohm, t_side)
+                if k.termination == "short" and yl_short is None:
+                    lc = np.maximum(lc, 1e-9)  # an ideal short at 0 m: a finite dead short
+                al, be, ga, de = maps[k.termination]
+                u, v = tanh_gl(lc)  # tanh = u / v
+                y = (al * u + be * v) / (ga * u + de * v)
                 a, b, c, d = m
                 m = (a + b * y, b, c + d * y, d)
                 if j == len(kinds) - 1 or not kinds[j + 1].shunt:  # the last stub at this tee
@@ -367,17 +362,18 @@ class Model:
         return tuple(np.broadcast_to(v, (rows, f.size)) for v in m)
 
     def _tanh_gl(self, g):
-        """``x -> tanh(g x)`` for a column of lengths ``x``: from real ``tan`` and ``expm1`` on the
-        classic line (``g = a + j b``, about half the cost of a complex ``tanh``), complex otherwise."""
+        """``x -> (u, v)`` with ``tanh(g x) = u / v`` for a column of lengths ``x``: from real ``tan``
+        and ``expm1`` on the classic line (``g = a + j b``; the division is left to the caller's
+        Moebius map), a complex ``tanh`` (``v = 1``) on the RLGC line."""
         if self.rlgc:
-            return lambda x: np.tanh(g * x)
+            return lambda x: (np.tanh(g * x), 1.0)
         a, b = g.real, g.imag
 
-        def tanh_gl(x):
+        def tanh_gl(x):  # (u, v) with tanh(g x) = u / v
             e = np.expm1(-2.0 * a * x)
             th = -e / (2.0 + e)  # tanh(a x), exact for small a x
             tn = np.tan(b * x)
-            return (th + 1j * tn) / (1.0 + 1j * th * tn)
+            return th + 1j * tn, 1.0 + 1j * (th * tn)
 
         return tanh_gl
 
@@ -531,7 +527,10 @@ def model_for(cable: Any, *, settings: Any = None, load: Any = None,
             swr = float(load.swr)
         if getattr(load, "radio_ohm", None) is not None:
             source = ConstantZ(z=complex(load.radio_ohm))
-    return Model(cable=cable, hardware=hardware_of(settings), load=z_load, source=source,
+    hw = hardware_of(settings)
+    if getattr(cable, "balanced", False):
+        hw = None  # coax connectors and tees do not apply to a balanced line (it joins through a balun)
+    return Model(cable=cable, hardware=hw, load=z_load, source=source,
                  rlgc=getattr(settings, "line_model", "classic") == "rlgc",
                  depth_ceiling_db=DEFAULT_DEPTH_CEILING_DB if depth_ceiling_db is None else depth_ceiling_db,
                  out_of_band_swr=swr)
@@ -565,7 +564,11 @@ def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.
     m = filt.cable if isinstance(filt.cable, Model) else Model(cable=filt.cable, depth_ceiling_db=None)
     lines: list[str] = []
     data: dict[str, Any] = {}
-    if m.hardware is None:
+    if m.hardware is None and getattr(m.cable, "balanced", False):
+        lines.append("Model: balanced line: no coax connector model (the junctions are the tee allowance; "
+                     "the line joins coax through a balun).")
+        data["hardware"] = None
+    elif m.hardware is None:
         lines.append(f"Model: ideal tees; tee allowance {filt.tee_allowance_m * 1000:.0f} mm of stub cable "
                      "per stub; cut lengths run from the tee's port reference plane (the connector's mating "
                      "face) to the stub's end, the allowance taken off.")
@@ -580,6 +583,28 @@ def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.
     lines.append("Line: RLGC (internal inductance: phase velocity falls at HF, complex Z0)." if m.rlgc else
                  "Line: lossless-VF phase with the cable's loss (classic model).")
     data["line_model"] = "rlgc" if m.rlgc else "classic"
+    data["other_line_model"] = None
+    if notch_mhz and hasattr(m.cable, "z0_ohm"):
+        # The same filter on the other line model, at each notch centre: how much the choice matters.
+        f = np.asarray(list(notch_mhz), dtype=float) * 1e6
+        other = m.with_(rlgc=not m.rlgc)
+        try:
+            rows = filt.lengths_m[None, :]
+            a = -20 * np.log10(np.abs(m.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
+            b = -20 * np.log10(np.abs(other.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
+        except (ValueError, ZeroDivisionError, FloatingPointError):  # a cable without a loss split
+            a = b = None
+        if a is not None:
+            name = "RLGC" if other.rlgc else "classic"
+            data["other_line_model"] = {"model": name, "notch_mhz": [float(x) for x in notch_mhz],
+                                        "this_db": [round(float(x), 2) for x in a],
+                                        "other_db": [round(float(x), 2) for x in b]}
+            moved = [(x, y, z) for x, y, z in zip(notch_mhz, a, b, strict=True) if abs(y - z) >= 1.0]
+            if moved:
+                lines.append(f"On the {name} line the notch centres would read "
+                             + ", ".join(f"{x:g} MHz {z:.1f} dB (here {y:.1f})" for x, y, z in moved)
+                             + ("; at HF the conductor's internal inductance slows the wave "
+                                "(docs/hardware.md)." if other.rlgc else "."))
     if m.load is not None:
         lo, hi = m.load.freq_hz[0] / 1e6, m.load.freq_hz[-1] / 1e6
         lines.append(f"Verified into the given antenna load ({m.load.source}, {lo:g}-{hi:g} MHz); outside "

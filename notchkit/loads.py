@@ -31,7 +31,7 @@ from numpy.typing import ArrayLike, NDArray
 from notchkit.errors import InputError
 
 
-@dataclass(frozen=True, slots=True, kw_only=True)
+@dataclass(frozen=True, slots=True, kw_only=True, eq=False)
 class Load:
     """A measured or tabulated load impedance over frequency."""
 
@@ -75,43 +75,78 @@ def gamma_of_swr(swr: float) -> float:
 
 
 def read_load(path: str | os.PathLike) -> Load:
-    """A load from a ``.s1p`` Touchstone file or an R + jX text table (``freq_mhz r_ohm x_ohm``)."""
+    """A load from a ``.s1p`` Touchstone file or an R + jX text table (``freq_mhz r_ohm x_ohm``).
+
+    Read through :func:`notchkit.bounded.read_regular` (a regular file of at most
+    :data:`notchkit.bounded.MAX_MEASUREMENT_BYTES`); every problem is one
+    ``FILE:LINE:COL: load: what is wrong (what is allowed)`` line.
+    """
+    from notchkit.bounded import MAX_MEASUREMENT_BYTES, MAX_SWEEP_POINTS, ReadRefused, read_regular
+    from notchkit.textsafe import shown_path
+
     p = Path(path)
-    if not p.is_file():
-        raise InputError(f"{p}:1:1: load: file not found (allowed: a .s1p file or an R+jX table)")
+    shown = shown_path(p)
+    try:
+        data = read_regular(p, MAX_MEASUREMENT_BYTES)
+    except ReadRefused as exc:
+        raise InputError(f"{shown}:1:1: load: {exc.reason} (allowed: a .s1p file or an R+jX table)") from None
+    if b"\0" in data:
+        raise InputError(f"{shown}:1:1: load: a binary file (allowed: a .s1p file or an R+jX table)")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")
     if p.suffix.lower() == ".s1p":
+        import io
+        import warnings
+
         import skrf
 
+        buf = io.StringIO(text)
+        buf.name = p.name  # scikit-rf takes the port count from the extension
         try:
-            net = skrf.Network(str(p))
+            with warnings.catch_warnings(), np.errstate(all="ignore"):
+                warnings.simplefilter("ignore")
+                net = skrf.Network(buf)
         except Exception as exc:  # scikit-rf raises many kinds on a bad file
-            raise InputError(f"{p}:1:1: load: not a readable Touchstone file ({exc})") from None
+            detail = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
+            raise InputError(f"{shown}:1:1: load: not a readable Touchstone file ({detail})") from None
         if net.nports != 1:
-            raise InputError(f"{p}:1:1: load: {net.nports}-port file (allowed: a one-port .s1p)")
-        return Load(freq_hz=np.asarray(net.f, dtype=float), z=np.asarray(net.z[:, 0, 0], dtype=complex),
-                    source=p.name)
-    rows = []
-    for n, raw in enumerate(p.read_text(encoding="utf-8", errors="replace").splitlines(), start=1):
+            raise InputError(f"{shown}:1:1: load: {net.nports}-port file (allowed: a one-port .s1p)")
+        f = np.asarray(net.f, dtype=float)
+        z = np.asarray(net.z[:, 0, 0], dtype=complex)
+        if f.size > MAX_SWEEP_POINTS or not (np.all(np.isfinite(f)) and np.all(np.diff(f) > 0) and f[0] > 0):
+            raise InputError(f"{shown}:1:1: load: frequencies must be positive and rising, at most "
+                             f"{MAX_SWEEP_POINTS} points")
+        if not np.all(np.isfinite(z)) or np.any(z.real < 0):
+            raise InputError(f"{shown}:1:1: load: an impedance is not finite or has R < 0 "
+                             "(allowed: a passive load, |S11| < 1)")
+        return Load(freq_hz=f, z=z, source=p.name)
+    rows: list[list[float]] = []
+    for n, raw in enumerate(text.splitlines(), start=1):
         line = raw.split("#", 1)[0].split("!", 1)[0].strip()
         if not line:
             continue
+        if len(rows) >= MAX_SWEEP_POINTS:
+            raise InputError(f"{shown}:{n}:1: load: more than {MAX_SWEEP_POINTS} rows "
+                             "(allowed: fewer points)")
         parts = line.replace(",", " ").split()
         try:
             vals = [float(x) for x in parts]
         except ValueError:
-            raise InputError(f"{p}:{n}:1: load: row {line!r} is not three numbers "
+            raise InputError(f"{shown}:{n}:1: load: row {line[:40]!r} is not three numbers "
                              "(allowed: freq_mhz r_ohm x_ohm)") from None
         if len(vals) != 3 or not all(math.isfinite(v) for v in vals) or vals[0] <= 0 or vals[1] < 0:
-            raise InputError(f"{p}:{n}:1: load: row {line!r} is not a valid point "
+            raise InputError(f"{shown}:{n}:1: load: row {line[:40]!r} is not a valid point "
                              "(allowed: freq_mhz > 0, r_ohm >= 0, x_ohm)")
         if rows and vals[0] <= rows[-1][0]:
-            raise InputError(f"{p}:{n}:1: load: frequency {vals[0]:g} MHz does not rise "
+            raise InputError(f"{shown}:{n}:1: load: frequency {vals[0]:g} MHz does not rise "
                              "(allowed: rows in rising frequency)")
         rows.append(vals)
     if not rows:
-        raise InputError(f"{p}:1:1: load: no rows (allowed: freq_mhz r_ohm x_ohm rows)")
-    a = np.array(rows)
-    return Load(freq_hz=a[:, 0] * 1e6, z=a[:, 1] + 1j * a[:, 2], source=p.name)
+        raise InputError(f"{shown}:1:1: load: no rows (allowed: freq_mhz r_ohm x_ohm rows)")
+    a_ = np.array(rows)
+    return Load(freq_hz=a_[:, 0] * 1e6, z=a_[:, 1] + 1j * a_[:, 2], source=p.name)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -186,6 +221,7 @@ def spread_lines(spreads, swr: float) -> list[str]:
             lines.append(f"  notch {s.freq_mhz:g} MHz: {s.nominal_db:.1f} dB into 50 ohm, "
                          f"{s.worst_db:.1f} to {s.best_db:.1f} dB")
         else:
-            lines.append(f"  pass {s.freq_mhz:g} MHz: loss {s.nominal_db:.2f} dB into 50 ohm, up to "
-                         f"{s.worst_db:.2f} dB; SWR at the radio up to {s.worst_swr:.2f}")
+            lines.append(f"  pass {s.freq_mhz:g} MHz, were the antenna this mismatched there: loss "
+                         f"{s.nominal_db:.2f} dB into 50 ohm, up to {s.worst_db:.2f} dB; SWR at the radio "
+                         f"up to {s.worst_swr:.2f} (the antenna's own mismatch included)")
     return lines

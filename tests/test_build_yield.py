@@ -178,8 +178,20 @@ def test_the_quoted_cases_get_designs_at_least_as_robust(issue_cases):
     assert hf.meets and hf.solution.margin_db >= 12.9
     assert hf.build_yield >= 0.99
     assert independent_yield(hf, 120) >= 0.97
-    # ridge-eoc F1: a 2.70 m shorted stub, +15.8 dB margin.
-    assert ridge_f1.meets and ridge_f1.solution.margin_db >= 15.7
+    # ridge-eoc F1: a 2.70 m shorted stub, +15.8 dB margin -- quoted on the earlier RG-213 loss
+    # fit and without the 60 dB depth ceiling (docs/hardware.md). The quoted stub is judged on the
+    # model the site's filters are designed on now (the refit cable loss, the leakage floor added
+    # in power) by scikit-rf (shunt_delay_short), and the chosen design must do at least as well.
+    cable = ridge_f1.filter.cable
+    assert _plain(cable)  # ridge-eoc keeps the classic model (no hardware: block)
+    ceiling = getattr(cable, "depth_ceiling_db", None)
+    floor2 = 0.0 if ceiling is None else 10 ** (-ceiling / 10)
+    quoted = []
+    for n in ridge_f1.requirement.notches:
+        f = np.linspace(n.lo_mhz, n.hi_mhz, 41) * 1e6
+        s21 = np.abs(_skrf_s(["short"], [2.70], cable, cable.velocity_factor, f)[:, 1, 0])
+        quoted.append(float(np.min(-10 * np.log10(s21 ** 2 + floor2))) - n.required_db)
+    assert ridge_f1.meets and ridge_f1.solution.margin_db >= min(quoted) - 0.1
     assert ridge_f1.build_yield >= 0.99
     # and it is such a stub: a shorted stub several half waves long, trimmed at its series
     # resonance on the notch (Pozar sec. 2.3: a shorted line n lambda/2 long is a short at its

@@ -94,3 +94,40 @@ def test_standing_wave_hook_matches_line_equations(kind):
         assert end_i == 0.0 and abs(v[0]) == pytest.approx(end_v)
     else:
         assert end_v == 0.0 and abs(i[0]) == pytest.approx(end_i) and abs(v[0]) < 1e-12
+
+
+def test_a_new_kind_needs_only_its_class():
+    # A lumped shunt capacitor as a new kind, defined here without touching any module: the
+    # batched core, the reference cascade and the ids use it; checked against scikit-rf's
+    # media.shunt_capacitor (Y = j omega C).
+    from dataclasses import dataclass
+
+    from notchkit.lines import abcd_shunt
+
+    class ShuntCap(Kind):
+        prefix = "C"
+        shunt = True
+
+        def batch_into(self, sweep, x, y0, work, out):
+            out[...] = 1j * 2 * np.pi * sweep.f[None, :] * x * 1e-12  # x: capacitance in pF
+            return out
+
+        def abcd(self, z0, g, length_m):
+            f = np.asarray(g).imag * C0 * cable.velocity_factor / (2 * np.pi)
+            return abcd_shunt(1j * 2 * np.pi * f * length_m * 1e-12), 0.0
+
+    @dataclass(frozen=True)
+    class Cap:
+        length_m: float  # the capacitance, pF (the element's one number)
+        kind: Kind = ShuntCap("cap")
+
+    cable = get_cable("RG-213")
+    stub = Stub(termination="open", length_m=0.4)
+    filt = Filter(elements=(stub, Line(length_m=0.2), Cap(length_m=12.0)), cable=cable)
+    s21, s11 = evaluate_batch(filt.kinds, filt.lengths_m, cable, F)
+    np.testing.assert_allclose(s21[0], evaluate(filt, F)[:, 1, 0], rtol=1e-9, atol=1e-12)
+    media, _ = _media(cable)
+    ref = media.shunt_delay_open(0.4, unit="m") ** media.line(0.2, unit="m") ** media.shunt_capacitor(12e-12)
+    np.testing.assert_allclose(s21[0], ref.s[:, 1, 0], rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(s11[0], ref.s[:, 0, 0], rtol=1e-9, atol=1e-12)
+    assert element_ids(filt, "F1") == ("F1-S1", "F1-L1", "F1-C1")

@@ -350,3 +350,123 @@ def test_cli_design_load_option(tmp_path, capsys):
     code = main(["design", "--pass", "144-148", "--notch", "440-450:20", "--load", str(tmp_path / "bad.txt")])
     err = capsys.readouterr().err
     assert code == 2 and "bad.txt:1:1: load: row '100 30' is not a valid point" in err
+
+
+def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
+    # A design with N hardware, rebuilt from its own JSON (elements and the model's figures) with
+    # scikit-rf parts only, gives the reported worst figures (leakage floor added as stated).
+    from notchkit.design import design
+    from notchkit.site import load_site
+
+    site = tmp_path / "s.yaml"
+    site.write_text(
+        "site: Fictional Knoll\ncable: RG-213\n"
+        "transmitters:\n  - name: vhf\n    freq_mhz: 146.5\n    power_w: 50\n"
+        "receivers:\n  - name: uhf\n    freq_mhz: 440.0\n"
+        "couplings:\n  - between: [vhf, uhf]\n    isolation_db: 25\n"
+        "hardware: {family: n}\n")
+    report = design(load_site(site), workers=1)
+    assert report.designs
+    for d in report.designs:
+        fj = d.to_json()
+        hwj = fj["model"]["hardware"]
+        fam = FAMILIES["n"]
+        assert hwj["plug_mm"] == fam.plug_mm and hwj["tee_through_mm"] == fam.tee_through_mm
+        cable = get_cable(fj["cable"]["type"])
+        ceiling = fj["model"]["depth_ceiling_db"]
+
+        def rebuild(f, fj=fj, fam=fam, cable=cable, hwj=hwj, ceiling=ceiling):
+            cab = _cable_media(cable, f)
+            arm = _lossless(f, fam.tee_z_ohm, fam.tee_vf).line(fam.tee_through_mm * 1e-3, unit="m")
+            plug = _lossless(f, fam.z_pair_ohm, fam.pair_vf).line(fam.plug_mm * 1e-3, unit="m")
+            parts, prev_stub = [], False
+            for e in fj["elements"]:
+                if e["kind"] == "stub":
+                    if not prev_stub:
+                        parts.append(arm)
+                    parts.append(cab.shunt(_skrf_stub(cable, fam, hwj["short_nh"], e["length_m"],
+                                                      e["termination"], f)))
+                    prev_stub = True
+                else:
+                    if prev_stub:
+                        parts.append(arm)
+                    parts += [plug, cab.line(e["length_m"] - 2 * fam.plug_mm * 1e-3, unit="m"), plug]
+                    prev_stub = False
+            if prev_stub:
+                parts.append(arm)
+            net = parts[0]
+            for p in parts[1:]:
+                net = net ** p
+            s21 = np.sqrt(np.abs(net.s[:, 1, 0]) ** 2 + 10 ** (-ceiling / 10))
+            return -20 * np.log10(s21), np.abs(net.s[:, 0, 0])
+
+        for band in fj["notch"]:
+            att, _ = rebuild(np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
+            assert att.min() == pytest.approx(band["worst_attenuation_db"], abs=0.1)
+            assert att.min() <= ceiling + 1e-9
+        for band in fj["pass"]:
+            att, rho = rebuild(np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
+            assert att.max() == pytest.approx(band["worst_insertion_loss_db"], abs=0.05)
+            assert (1 + rho.max()) / (1 - rho.max()) == pytest.approx(band["worst_swr"], rel=0.02)
+
+
+def test_report_shows_the_rlgc_line_beside_the_classic_one():
+    # A 40 m notch on RG-58 designed on the classic line: the report gives the RLGC line's figure
+    # at the notch centre, computed on that line (hand: the quarter wave is ~1.9 % short there).
+    from notchkit.design import design_request
+
+    (d,) = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-58").designs
+    other = d.to_json()["model"]["other_line_model"]
+    assert other["model"] == "RLGC" and other["notch_mhz"] == [7.15]
+    m = Model(cable=get_cable("RG-58"), rlgc=True)
+    s21 = evaluate_batch(d.filter.kinds, d.filter.lengths_m[None, :], m, [7.15e6])[0][0, 0]
+    assert other["other_db"][0] == pytest.approx(-20 * math.log10(abs(s21)), abs=0.01)
+    assert other["other_db"][0] < other["this_db"][0] - 1.0
+    assert any(line.startswith("On the RLGC line") for line in d.model.lines)
+
+
+def test_site_refuses_an_unknown_family_at_its_place(tmp_path):
+    from notchkit.errors import SiteError
+    from notchkit.site import load_site
+
+    site = tmp_path / "s.yaml"
+    site.write_text("site: Fictional Knoll\ntransmitters:\n  - name: vhf\n    freq_mhz: 146.5\n"
+                    "    power_w: 50\nhardware:\n  family: sma\n  line_model: exact\n")
+    with pytest.raises(SiteError) as info:
+        load_site(site)
+    text = str(info.value)
+    assert "s.yaml:7:11: hardware.family: 'sma' is not known (allowed: uhf, n, bnc)" in text
+    assert "s.yaml:8:15: hardware.line_model: 'exact' is not known (allowed: classic, rlgc)" in text
+
+
+def test_design_command_refuses_a_bad_load_file_with_one_line(tmp_path, capsys):
+    from notchkit.cli import main
+
+    (tmp_path / "ant.txt").write_text("146 50 0\n140 40 -10\n")
+    site = tmp_path / "s.yaml"
+    site.write_text("site: Fictional Knoll\ntransmitters:\n  - name: vhf\n    freq_mhz: 146.5\n"
+                    "    power_w: 50\n    load: {file: ant.txt}\nreceivers:\n  - name: uhf\n"
+                    "    freq_mhz: 440.0\n")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    assert main(["design", str(site)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "s.yaml:6:18: transmitters[0].load.file: " in err[0]
+    assert "ant.txt:2:1: frequency 140 MHz does not rise (allowed: rows in rising frequency)" in err[0]
+    assert main(["check", str(site)]) == 2  # the same file is refused by check: no later surprise
+    capsys.readouterr()
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_check_shows_hardware_ceiling_and_loads(capsys):
+    from pathlib import Path
+
+    from notchkit.cli import main
+
+    site = Path(__file__).resolve().parents[1] / "sites" / "harbour-ops.yaml"
+    assert main(["check", str(site)]) == 0
+    out = capsys.readouterr().out
+    fam = FAMILIES["n"]  # MIL-STD-348 impedance; lengths from memory (docs/hardware.md)
+    assert (f"Hardware: N, mated pair {fam.z_pair_ohm:g} ohm, plug {fam.plug_mm:g} mm, tee arms "
+            f"{fam.tee_through_mm:g}/{fam.tee_side_mm:g} mm, short 3 nH; classic line") in out
+    assert "Depth ceiling: 60 dB" in out
+    assert "Load of club-2m: file " in out and "harbour-ops-antenna-2m.txt; SWR bound 6 elsewhere" in out

@@ -2,14 +2,29 @@
 
 from __future__ import annotations
 
-import json
-
 from notchkit.errors import EXIT_OK
+from notchkit.jsonvalues import dumps
+from notchkit.report.text import on_band
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
     "and high voltages at stub ends can hurt; follow local codes and licensed practice."
 )
+
+
+MAX_HARMONIC = 20
+"""Highest --max-harmonic, the same as a site file's max_harmonic allows."""
+
+
+def _harmonic(text: str) -> int:
+    from notchkit.errors import UsageError
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise UsageError(f"--max-harmonic: {text!r} is not a whole number "
+                         f"(allowed: 1 to {MAX_HARMONIC})") from None
+    return value  # its range (1 to MAX_HARMONIC) is checked by survey() before any work
 
 
 def add_parser(sub) -> None:
@@ -30,7 +45,7 @@ def add_parser(sub) -> None:
     p.add_argument(
         "--max-harmonic",
         metavar="N",
-        type=int,
+        type=_harmonic,
         default=None,
         help="highest harmonic evaluated (>= 1; default: the site's max_harmonic, else 5)",
     )
@@ -51,7 +66,7 @@ def run(args) -> int:
 
     result = survey(load_site(args.site), max_harmonic=args.max_harmonic, max_threats=args.max_threats)
     if args.json:
-        print(json.dumps(result.to_json(), indent=2, allow_nan=False))
+        print(dumps(result.to_json(), indent=2))
     else:
         print(format_result(result))
     return EXIT_OK
@@ -72,7 +87,8 @@ def _where(t) -> str:
     if t.filters:
         return ", ".join(f"{side} {radio}" for radio, side in t.filters)
     if t.excess_db > 0:
-        return "no stub (see remedies)"
+        cls = getattr(t, "remedy_class", "")
+        return f"no stub: {cls} (see remedies)" if cls else "no stub (see remedies)"
     return "-"
 
 
@@ -88,8 +104,8 @@ def format_result(result) -> str:
     ]
     rows = [
         [
-            " + ".join(t.sources),
-            t.victim,
+            on_band(", ".join(t.sources), t).replace(", ", " + "),
+            on_band(t.victim, t),
             t.mechanism,
             str(t.order),
             f"{t.f_mhz:.4f}",
@@ -131,7 +147,8 @@ def format_result(result) -> str:
     remedies: dict[str, None] = {}
     for t in need:
         if not t.filters or t.remedy.startswith("no stub"):
-            remedies.setdefault(f"{' + '.join(t.sources)} -> {t.victim} ({t.mechanism}): {t.remedy}")
+            who = on_band(", ".join(t.sources), t).replace(", ", " + ")
+            remedies.setdefault(f"{who} -> {on_band(t.victim, t)} ({t.mechanism}): {t.remedy}")
     if remedies:
         lines += ["", "Remedies where no stub (or not only a stub) helps:"]
         lines += [f"  - {r}" for r in remedies]
