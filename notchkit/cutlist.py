@@ -351,16 +351,21 @@ def buildability(filt: Filter, cuts: Sequence[StubCut], *, min_stub_cut_m: float
     """Every part of the filter that breaks a buildability rule, one line each (empty: none).
 
     Rules (docs/cutting.md): a stub's cable is at least ``min_stub_cut_m`` (a plug body
-    plus cable to finish and trim); its trim resonance lies in the analyser's range; a
+    plus cable to finish and trim; with connector hardware the cable beyond the plug,
+    :func:`notchkit.hardware.stub_plug_m`); its trim resonance lies in the analyser's range; a
     line section is at least ``min_line_m`` (cable with a plug at each end), or is a
     barrel adapter (``barrel_m`` long).
     """
+    from notchkit.hardware import stub_plug_m
+
+    plug = stub_plug_m(filt.cable)  # a hardware model's cut length includes the plug
     out = []
     for c in cuts:
-        if c.cut_length_m < min_stub_cut_m - 1e-6:
-            out.append(f"{c.stub_id}: {format_length(c.cut_length_m, 'metric')} of cable is shorter than the "
-                       f"{format_length(min_stub_cut_m, 'metric')} a stub needs (plug body and cable "
-                       f"to trim)")
+        if c.cut_length_m - plug < min_stub_cut_m - 1e-6:
+            out.append(f"{c.stub_id}: {format_length(c.cut_length_m - plug, 'metric')} of cable is shorter "
+                       f"than the {format_length(min_stub_cut_m, 'metric')} a stub needs (plug body and "
+                       f"cable to trim)" + (f"; its {format_length(c.cut_length_m, 'metric')} includes "
+                                            f"the plug's {plug * 1000:g} mm" if plug else ""))
         if not c.trimmable:
             out.append(f"{c.stub_id}: no resonance inside the analyser's range to trim it to")
     for line in line_cuts(filt, barrel_m=barrel_m):

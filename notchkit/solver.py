@@ -313,8 +313,13 @@ class _Problem:
         a = self.allowances
         # the first series resonance (open: quarter wave; shorted: half wave) below the top
         quarter = C0 * vf / (4.0 * float(a.analyser_hi_mhz) * 1e6)
-        self.kind_min = {"open": max(self.tee + float(a.min_stub_cut_m), quarter),
-                         "short": max(self.tee + float(a.min_stub_cut_m), 2.0 * quarter)}
+        # with connector hardware a stub's length includes its plug (notchkit.hardware): the
+        # cable beyond the plug is what must reach min_stub_cut_m
+        from notchkit.hardware import stub_plug_m
+
+        fixed = self.tee + stub_plug_m(cable)
+        self.kind_min = {"open": max(fixed + float(a.min_stub_cut_m), quarter),
+                         "short": max(fixed + float(a.min_stub_cut_m), 2.0 * quarter)}
         self.stub_min = min(self.kind_min.values())
         self.line_min = float(a.min_line_m)
         self.barrel = float(getattr(a, "barrel_m", 0.0))

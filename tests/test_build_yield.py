@@ -234,8 +234,12 @@ def test_yield_below_target_is_not_met(issue_cases):
 def _check_buildable(d, allowances: Allowances):
     filt = d.filter
     for c in d.cuts:
-        # shortest stub that can be made: plug body plus cable to trim (common practice)
-        assert c.cut_length_m >= allowances.min_stub_cut_m - 1e-9, c.stub_id
+        # shortest stub that can be made: plug body plus cable to trim (common practice); with
+        # connector hardware the stub's length runs from the plug's mating face, so the cable
+        # is what lies beyond the family's plug (docs/hardware.md)
+        hw = getattr(filt.cable, "hardware", None)
+        plug = hw.family.plug_mm / 1000 if hw is not None else 0.0
+        assert c.cut_length_m - plug >= allowances.min_stub_cut_m - 1e-9, c.stub_id
         # the trim resonance is measurable, and it is f_n = n c VF / (4 l) (Pozar sec. 2.3)
         assert allowances.analyser_lo_mhz <= c.resonance_mhz <= allowances.analyser_hi_mhz, c.stub_id
         vf = filt.cable.velocity_factor
@@ -278,6 +282,29 @@ def test_new_designs_are_buildable(issue_cases):
     a = Allowances(analyser_hi_mhz=500.0)
     low = design_request([(144.0, 148.0)], [(432.0, 444.0, 30.0)], allowances=a).designs[0]
     _check_buildable(low, a)
+
+
+def test_the_shortest_stub_holds_with_connector_hardware():
+    """With UHF hardware a stub's length includes its 15 mm plug: a 20 mm stub is 5 mm of
+    cable and is refused; the solver's designs keep 70 mm of cable beyond the plug."""
+    from notchkit.hardware import Hardware, Model
+
+    model = Model(cable=get_cable("RG-213"), hardware=Hardware.of("uhf"))
+    plug = model.hardware.family.plug_mm / 1000
+    tiny = Filter(elements=(Stub(termination="open", length_m=0.02), Stub(termination="open", length_m=0.3)),
+                  cable=model, tee_allowance_m=0.0)
+    cuts = cut_list(tiny, notch_mhz=[430.0], pass_mhz=[146.0], analyser_mhz=(0.1, 4000.0))
+    problems = buildability(tiny, cuts, min_stub_cut_m=0.07, min_line_m=0.1)
+    assert len(problems) == 1 and "F1-S1" in problems[0] and "plug" in problems[0]
+    # 0.07 m of cable beyond the plug is just enough
+    ok = Filter(elements=(Stub(termination="open", length_m=plug + 0.07),), cable=model, tee_allowance_m=0.0)
+    cuts = cut_list(ok, notch_mhz=[430.0], pass_mhz=[146.0], analyser_mhz=(0.1, 4000.0))
+    assert not buildability(ok, cuts, min_stub_cut_m=0.07, min_line_m=0.1)
+    # the harbour example (N hardware, UHF notches): every stub keeps its 70 mm of cable
+    site = load_site("sites/harbour-ops.yaml")
+    for d in design(site, workers=1).designs:
+        if getattr(d.filter.cable, "hardware", None) is not None:
+            _check_buildable(d, site.allowances)
 
 
 def test_buildability_names_each_broken_rule():
