@@ -340,7 +340,7 @@ SECTIONS: dict[str, dict[str, Field]] = {
         "depth_ceiling_db": Field(
             kind="number", num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
             doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
-            "default: 60 dB.",
+            "the survey asks no deeper notch of stubs (more is not a stub job); default: 60 dB.",
         ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
@@ -511,13 +511,6 @@ SECTIONS: dict[str, dict[str, Field]] = {
             num=Num(lo=1.0, hi=200.0, unit="dB"),
             default=m.DEFAULT_MAX_STUB_REJECTION_DB,
             doc="Notch depth one stub plausibly gives, in dB.",
-        ),
-        "max_filter_rejection_db": Field(
-            kind="number",
-            num=Num(lo=1.0, hi=200.0, unit="dB"),
-            default=m.DEFAULT_MAX_FILTER_REJECTION_DB,
-            doc="Deepest notch asked of a stub filter, in dB; a threat needing more is "
-            "reported as not a stub job.",
         ),
         "yield_target_pct": Field(
             kind="number",

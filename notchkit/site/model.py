@@ -67,10 +67,6 @@ vector network analysers (common practice, from memory)."""
 DEFAULT_MAX_STUB_REJECTION_DB = 40.0
 """Notch depth one coax stub plausibly gives at a site, dB (common practice: 30-45 dB,
 less with lossy cable or a wide notch band)."""
-DEFAULT_MAX_FILTER_REJECTION_DB = 60.0
-"""Practical ceiling of a stub filter, dB (common practice: leakage around tees and
-connectors and cable loss keep a real stub filter near 60 dB); a threat needing
-more is reported as not a stub job, with its remedy class."""
 DEFAULT_CABLE = "RG-213"
 """Stub cable when a site file names none: a common 50-ohm solid-PE cable."""
 
@@ -313,7 +309,6 @@ class Limits:
     margin_goal_db: float = DEFAULT_MARGIN_GOAL_DB
     """Notch margin preferred among designs at the yield target (before less cable)."""
     max_stub_rejection_db: float = DEFAULT_MAX_STUB_REJECTION_DB
-    max_filter_rejection_db: float = DEFAULT_MAX_FILTER_REJECTION_DB
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
