@@ -55,7 +55,7 @@ def printed_commands(res):
             cmd, note = line.strip().split("   (", 1)
             argv = shlex.split(cmd)[2:]  # after "notchkit trim"
             target = float(re.search(r"target ([0-9.]+) MHz", note).group(1))
-            qw = int(re.search(r"(\d+) quarter waves", note).group(1))
+            qw = int(re.search(r"(\d+) quarter waves?\b", note).group(1))
             out.append((argv[argv.index("--stub") + 1], argv, target, qw))
     return out
 
@@ -116,6 +116,30 @@ def test_printed_trim_commands_give_the_true_cut(ridge, tmp_path, capsys, monkey
         assert got["velocity_factor"] == pytest.approx(vf_true, abs=0.005), sid
         assert got["cut_mm"] == pytest.approx(truth_cut_mm, abs=CUT_TOLERANCE_MM), sid
         assert got["too_short"] is False
+
+
+def test_printed_steps_trim_at_the_resonance_the_stub_exists_for(ridge):
+    """Each command's note names the cut list's Trim to value and the order the stub exists
+    for: the series resonance ``n c VF / (4 L)`` (Pozar sec. 2.3; n odd for an open stub,
+    even for a shorted one) nearest the notch it serves, and step 2 says to trim there."""
+    doc = read_plan(ridge.outdir / "plan.json")
+    commands = {c[0]: c for c in printed_commands(ridge)}
+    for ft, d in zip(ridge.text.filters, ridge.design.designs, strict=True):
+        assert any("resonance the stub exists for" in x and "Trim to column" in x for x in ft.trim_steps)
+        column = ft.cuts.header.index("Trim to (MHz)")
+        for c in d.cuts:
+            _, argv, target, qw = commands[c.stub_id]
+            row = next(r for r in ft.cuts.rows if r[0] == c.stub_id)
+            note = next(x for x in ft.trim_steps if f"--stub {c.stub_id} " in x)
+            assert f"Trim to {row[column]} MHz" in note  # the command's note and the column agree
+            _, rec = doc.stub(c.stub_id)
+            assert target == pytest.approx(rec.resonance_alone_mhz, rel=1e-6)  # what trim --plan reads
+            assert qw == c.quarter_waves and (qw % 2 == 1) == (c.termination == "open")
+            if c.serves_notch_mhz is not None and c.serves_notch_mhz < 900.0:
+                f1 = C * 0.66 / (4 * c.length_m) / 1e6  # RG-213's VF 0.66 (the site's cable)
+                orders = [n for n in range(qw % 2 or 2, qw + 8, 2)]
+                nearest = min(orders, key=lambda n: abs(math.log(n * f1 / c.serves_notch_mhz)))
+                assert qw == nearest, c.stub_id
 
 
 def test_the_six_quarter_wave_stub_is_not_called_too_short(ridge, tmp_path, capsys, monkeypatch):

@@ -437,9 +437,10 @@ def cut_table(d: Any, units: str = "both") -> Table:
             rows.append((x.line_id, cable, "line section", format_length(x.length_m, units),
                          *finals(x.length_m), "cut, no trim", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
     hardware = list(getattr(d, "hardware", ()) or ())
-    note = ("First cut: cut this long, fit the connector, then trim to the resonance on an analyser "
-            "(a notch through the tee); final: about what is left. Line sections are cut to length: "
-            "cable with a plug at each end.")
+    note = ("First cut: cut this long, fit the connector, then trim on an analyser to the resonance the "
+            "stub exists for (Trim to: the quarter-wave order that makes its notch, as a notch through the "
+            "tee; the trimming steps give it for the stub alone); final: about what is left. Line sections "
+            "are cut to length: cable with a plug at each end.")
     if hardware:
         note += " Hardware: " + " ".join(h[:1].upper() + h[1:] + "." for h in hardware)
     return Table(
@@ -511,30 +512,47 @@ def power_lines(d: Any) -> tuple[str, ...]:
 
 def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tuple[str, ...]:
     """The trimming steps; each stub's command and its target are for the same set-up (the
-    stub alone, ``.s1p``), read back by ``notchkit trim`` from the same plan JSON."""
+    stub alone, ``.s1p``), read back by ``notchkit trim`` from the same plan JSON. Every stub
+    is trimmed at the resonance it exists for: the cut list's "Trim to" column (its order
+    chosen by :func:`notchkit.cutlist.trim_resonance`), given here for the stub alone."""
     from notchkit.planfile import stub_alone_mhz
 
+    cuts = list(d.cuts)
+    with_tee = any(c.length_m > c.cut_length_m for c in cuts)
+    where = ("The stub alone resonates higher than at the tee (the Trim to column) because the tee's "
+             "path is missing; its own target is given with its command below." if with_tee else
+             "With the connector hardware a stub's length ends at the tee's side port, so the stub alone "
+             "is trimmed to the Trim to column itself (also given with its command below).")
     steps = [
         "1. Cut each stub to its FIRST CUT length (longer than the final length on purpose) and fit its "
         "connector; finish the end as listed (open: square and sealed; short: braid to centre, "
         "shortest joint).",
         "2. Calibrate the analyser at the end of its test cable, connect the stub alone there (no tee) and "
-        "find the resonance it is trimmed to: the impedance minimum nearest the target below. The stub "
-        "alone resonates higher than at the tee (the Resonance column) because the tee's path is missing.",
+        "find the resonance the stub exists for: the Trim to column of the cut list, the stub's n-th "
+        "quarter wave that makes its notch (given with its command below). A long stub shows many "
+        "resonances: take the impedance minimum nearest its target, not the lowest one. " + where,
         "3. The resonance reads low because the stub is long: trim in small steps (the rate below is mm per "
         "MHz of error), re-measuring each time; stop at the target. Never trim past it.",
         "4. Or save the sweep of the stub alone (Touchstone .s1p) and let notchkit say how much to cut "
         "(after a first trim, add --length-m with the length now):",
     ]
     cable = design_cable_name(d)
-    for c in d.cuts:
+    for c in cuts:
+        if not getattr(c, "trimmable", True):
+            steps.append(f"   {c.stub_id}: no resonance inside the analyser's range: cut to its final "
+                         "length, do not trim")
+            continue
         alone = stub_alone_mhz(c.resonance_mhz, c.length_m, c.cut_length_m)
+        qw = f"{c.quarter_waves} quarter wave" + ("s" if c.quarter_waves != 1 else "")
+        serves = getattr(c, "serves_notch_mhz", None)
+        why = f" for the {mhz(round(serves, 4))} MHz notch" if serves is not None else ""
         steps.append(f"   notchkit trim SWEEP-{c.stub_id}.s1p --cable {cable} --plan {plan_json} "
                      f"--stub {c.stub_id} --plan-length first-cut   (stub alone: target "
-                     f"{mhz(round(alone, 4))} MHz, {c.quarter_waves} quarter waves, "
-                     f"{1000.0 * c.cut_length_m / alone:.1f} mm/MHz)")
+                     f"{mhz(round(alone, 4))} MHz, the resonance of Trim to "
+                     f"{mhz(round(c.resonance_mhz, 4))} MHz; "
+                     f"{qw}{why}; {1000.0 * c.cut_length_m / alone:.1f} mm/MHz)")
     steps.append("   A sweep through the tee with the stub in place (.s2p) works too: its target is the "
-                 "Resonance column of the cut list.")
+                 "Trim to column of the cut list.")
     steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use "
                  "(notchkit verify checks the sweep against the requirements).")
     return tuple(steps)
