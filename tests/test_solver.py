@@ -348,3 +348,20 @@ def test_search_finds_a_design_that_a_reference_design_shows_exists(rg213):
     # and what the solver found meets in scikit-rf's model too
     assert _skrf_meets(sol.filter.kinds, sol.filter.lengths_m, rg213,
                        WX_NOTCHES, WX_PASS)
+
+
+def test_a_design_that_meets_as_designed_ranks_before_any_that_does_not():
+    from types import SimpleNamespace
+
+    from notchkit.solver import _ranked
+
+    def v(meets, build_yield, margin, viol, n_stubs=1, cable=1.0):
+        filt = SimpleNamespace(stubs=(None,) * n_stubs, total_cable_m=cable)
+        return SimpleNamespace(meets=meets, build_yield=build_yield, viol=viol, score=margin, filt=filt,
+                               notches=(SimpleNamespace(margin_db=margin),))
+
+    fragile = v(True, 0.05, 0.1, 0.0, n_stubs=3, cable=5.0)
+    near_miss = v(False, None, -0.01, 0.01, n_stubs=1, cable=0.2)
+    robust = v(True, 0.95, 3.0, 0.0, n_stubs=3, cable=6.0)
+    assert _ranked([near_miss, fragile], 0.9, 15.0) == [fragile, near_miss]
+    assert _ranked([near_miss, fragile, robust], 0.9, 15.0) == [robust, fragile, near_miss]
