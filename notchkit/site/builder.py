@@ -194,7 +194,7 @@ class Builder(CrossRefs):
             shared, shared_given = self.freq(d, node, path)
             shared_bw = _val(d, "bandwidth_khz")
             where = " here or on the transceiver"
-            parts: dict[str, m.Band | None] = {}
+            parts: dict[str, tuple[m.Band, ...] | None] = {}
             for part in ("tx", "rx"):
                 ppath = _join(path, part)
                 if part in d:
@@ -293,20 +293,22 @@ class Builder(CrossRefs):
             path=r.path,
             scenarios=scenarios,
             **_opt(top, ("near_field_isolation_db",)),
-            **(
-                {"limits": m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))}
-                if "limits" in top
-                else {}
-            ),
-            **(
-                {"allowances": m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))}
-                if "allowances" in top
-                else {}
-            ),
-            **({"max_harmonic": top["max_harmonic"][0]} if "max_harmonic" in top else {}),
-            **({"max_im_order": top["max_im_order"][0]} if "max_im_order" in top else {}),
+            **self.site_options(top),
             **hardware,
         )
+
+    @staticmethod
+    def site_options(top: dict) -> dict[str, Any]:
+        """The optional top-level sections the file gives (the model's defaults otherwise)."""
+        out: dict[str, Any] = {}
+        if "limits" in top:
+            out["limits"] = m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))
+        if "allowances" in top:
+            out["allowances"] = m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))
+        for key in ("max_harmonic", "max_im_order"):
+            if key in top:
+                out[key] = top[key][0]
+        return out
 
     # -- installed filters and scenarios -----------------------------------
 
@@ -324,7 +326,8 @@ class Builder(CrossRefs):
             if has_r:
                 table = fd["rejection"][0]
             else:
-                table = self.touchstone(*fd["touchstone"], _join(fpath, "touchstone"))
+                ts_name, ts_node = fd["touchstone"]
+                table = self.touchstone(ts_name, ts_node, _join(fpath, "touchstone"))
             if table is None:
                 continue
             out.append(

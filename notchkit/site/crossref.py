@@ -54,7 +54,7 @@ class CrossRefs:
         for c in library():
             self.known.update({_fold(a): c.name for a in c.aliases})
         try:  # a cable library kept next to the site file (notchkit-cables.yaml)
-            beside = site_library(self.r.path) if self.r.path else ()
+            beside: tuple[Any, ...] = site_library(self.r.path) if self.r.path else ()
         except CableError as exc:
             self.r.add(None, "cables", str(exc))
             beside = ()
@@ -80,9 +80,9 @@ class CrossRefs:
                     name=name, z0_ohm=d["z0_ohm"][0], velocity_factor=d["velocity_factor"][0], **extra
                 )
             )
-        for c in out:
-            self.known[_fold(c.name)] = c.name
-        own = {_fold(c.name) for c in out}
+        for d in out:
+            self.known[_fold(d.name)] = d.name
+        own = {_fold(d.name) for d in out}
         return tuple(c for c in beside if _fold(c.name) not in own) + tuple(out)
 
     def derived(self, top: dict, radios: list[m.Radio], site_cable: str) -> None:

@@ -227,7 +227,7 @@ class Reader:
             match = _LENGTH_RE.match(node.value) if num.length_unit_m is not None else None
             if match:
                 value = _length_number(match.group(1))
-                if value is not None:
+                if value is not None and num.length_unit_m is not None:
                     value *= _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
             elif not node.style:
                 try:  # plain 1e12 or nan: YAML 1.1 reads these as text; read them as numbers
