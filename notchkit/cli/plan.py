@@ -50,7 +50,7 @@ def run(args) -> int:
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:
-        print(f"  {f.title}: {'meets' if f.meets else 'NOT MET'}")
+        print(f"  {f.title}: {'meets' if f.meets else 'NOT MET'} (build yield {f.build_yield})")
     print(f"wrote {result.pdf} ({result.pages} pages)")
     if result.html is not None:
         print(f"wrote {result.html}")

@@ -65,6 +65,19 @@ class Builder(CrossRefs):
             return d["band_mhz"][0], True
         return None, self._bad_key(node, ("freq_mhz", "band_mhz"))
 
+    def analyser_range(self, top: dict) -> None:
+        """The analyser's range must be a range: ``analyser_lo_mhz < analyser_hi_mhz``."""
+        if "allowances" not in top or not isinstance(top["allowances"][0], dict):
+            return
+        a = top["allowances"][0]
+        lo = _val(a, "analyser_lo_mhz", m.DEFAULT_ANALYSER_MHZ[0])
+        hi = _val(a, "analyser_hi_mhz", m.DEFAULT_ANALYSER_MHZ[1])
+        if isinstance(lo, int | float) and isinstance(hi, int | float) and not lo < hi:
+            key = "analyser_hi_mhz" if "analyser_hi_mhz" in a else "analyser_lo_mhz"
+            self.r.add(a[key][1], _join("allowances", key),
+                       f"analyser range {lo:g}-{hi:g} MHz is empty (allowed: analyser_lo_mhz below "
+                       f"analyser_hi_mhz)")
+
     def missing_freq(self, node: yaml.Node, path: str, where: str = "") -> None:
         self.r.add(
             node,
@@ -279,6 +292,7 @@ class Builder(CrossRefs):
         cables = self.cables(top)
         self.resolve_cables()
         couplings = self.couplings(top)
+        self.analyser_range(top)
         self.derived(top, radios, site_cable)
         scenarios = self.scenarios(top)
         hardware = self.hardware(top)
