@@ -786,6 +786,8 @@ def _rescan(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
             if kind == BARREL:
                 continue
             lo, hi = p.bounds((kind,))
+            if kind == "line":
+                hi = np.minimum(hi, max(lo[0], 0.5 * p.lam_low))  # the children's longest line
             if hi[0] - lo[0] < 1e-3:
                 continue
             count = int(math.ceil((hi[0] - lo[0]) / (p.lam_high / _RESCAN_POINTS_PER_WAVE))) + 1
@@ -796,8 +798,13 @@ def _rescan(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
             rows = rows[ok]
             if rows.shape[0] < 3:
                 continue
-            j, viol, margin, _ = p.objective(c.kinds, rows, p.scan)
+            # a whole range can reach lengths whose loss underflows |S21| (kilometres of
+            # line at GHz on a request spanning kHz to GHz): those rows are no start
+            with np.errstate(over="ignore", under="ignore", invalid="ignore", divide="ignore"):
+                j, viol, margin, _ = p.objective(c.kinds, rows, p.scan)
+            j = np.where(np.isfinite(j), j, np.inf)
             idx = _local_minima(j)
+            idx = idx[np.isfinite(j[idx])]
             idx = idx[np.argsort(j[idx], kind="stable")]
             taken = 0
             for k in idx:
