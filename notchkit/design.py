@@ -25,6 +25,7 @@ import numpy as np
 from notchkit.errors import DesignError, InputError
 from notchkit.filters import Filter, write_touchstone
 from notchkit.jsonvalues import finite
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
     DEFAULT_CABLE,
@@ -56,6 +57,9 @@ class Design:
     ``power`` the voltage/current/heat check (:class:`notchkit.power.PowerCheck`)
     or ``None`` when no transmitter's power flows through the filter.
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     id: str
     requirement: FilterRequirement
@@ -98,6 +102,9 @@ class Design:
 @dataclass(frozen=True, slots=True, kw_only=True)
 class DesignReport:
     """Every filter designed for a site (or one ad-hoc request)."""
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site_name: str | None
     survey: Any

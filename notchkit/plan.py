@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.errors import InputError, UsageError
+from notchkit.report.summary import summary_html, summary_repr
 
 UNITS = ("metric", "imperial", "both")
 PAGE_SIZES = ("a4", "letter")
@@ -32,6 +33,9 @@ class PlanResult:
     ``meets`` is true only when every designed filter meets its requirements;
     the command line exits 1 otherwise (the plan is written all the same).
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site_name: str
     date: str

@@ -40,6 +40,7 @@ from typing import Any, Literal
 import numpy as np
 
 from notchkit.errors import CableError, MeasurementError, UsageError
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.resonance import named
 
 MIN_BAND_POINTS = 3
@@ -81,6 +82,9 @@ class BandCheck:
 @dataclass(frozen=True, slots=True, kw_only=True)
 class VerifyResult:
     """Everything ``notchkit verify`` says about one measured filter."""
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     measurement: str
     plan: str
