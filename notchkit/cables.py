@@ -833,9 +833,12 @@ def load_library_file(path: str | os.PathLike) -> tuple[Cable, ...]:
 
 
 def user_library_path() -> Path:
-    """``$XDG_CONFIG_HOME/notchkit/cables.yaml`` (``~/.config/notchkit/cables.yaml`` by default)."""
-    base = os.environ.get("XDG_CONFIG_HOME") or os.path.join(os.path.expanduser("~"), ".config")
-    return Path(base) / "notchkit" / USER_LIBRARY_NAME
+    """``$XDG_CONFIG_HOME/notchkit/cables.yaml`` (``~/.config/notchkit/cables.yaml`` by default),
+    or the file the user's defaults file names (``cables:``, :mod:`notchkit.defaults`)."""
+    from notchkit.defaults import config_dir, load_defaults
+
+    chosen = load_defaults().cables
+    return chosen if chosen is not None else config_dir() / USER_LIBRARY_NAME
 
 
 def site_library_path(site_path: str | os.PathLike) -> Path:
@@ -860,6 +863,11 @@ def library() -> tuple[Cable, ...]:
     base = _load()
     p = user_library_path()
     if not p.is_file():
+        from notchkit.defaults import load_defaults
+
+        named = load_defaults()
+        if named.cables is not None:
+            raise CableError(f"{named.path}: cables: {p} is not a file (the personal cable library it names)")
         return base
     own = load_library_file(p)
     keys = {_normalise(c.name) for c in own}

@@ -82,12 +82,12 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None
         raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
 
 
-def _run_design(site: Any, under_way: _UnderWay | None = None) -> Any:
+def _run_design(site: Any, under_way: _UnderWay | None = None, progress: Any = None) -> Any:
     from notchkit.design import design
 
     if under_way is None:
-        return design(site)
-    return design(site, meanwhile=under_way.start, on_design=under_way.add)
+        return design(site, progress=progress)
+    return design(site, progress=progress, meanwhile=under_way.start, on_design=under_way.add)
 
 
 class _UnderWay:
@@ -103,8 +103,9 @@ class _UnderWay:
     """
 
     def __init__(self, site: Any, *, units: str, plan_json: str, page_size: str, footer: str,
-                 images: bool) -> None:
+                 images: bool, analyser_mhz: tuple[float, float] | None = None) -> None:
         self.site, self.units, self.plan_json = site, units, plan_json
+        self.analyser_mhz = analyser_mhz
         self.page_size, self.footer, self.images = page_size, footer, images
         self.pdf: Any = None
         self.parts: dict[int, tuple[Any, Any, Any]] = {}
@@ -133,7 +134,7 @@ class _UnderWay:
             return
         self.parts[index] = part = _part(d, self.site)
         if self.pdf is not None:
-            self.pdf.filter(index, filter_text(d, self.units, self.plan_json), part)
+            self.pdf.filter(index, filter_text(d, self.units, self.plan_json, self.analyser_mhz), part)
 
 
 def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
@@ -199,6 +200,8 @@ def plan(
     units: str = "both",
     page_size: str = "a4",
     calibration: Any = (),
+    analyser_mhz: tuple[float, float] | None = None,
+    progress: Any = None,
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
 
@@ -221,6 +224,12 @@ def plan(
     calibration : sequence of SpoolCalibration or path, optional
         Measured cable spools: first cuts and trim targets use their VF and loss
         (:mod:`notchkit.calibration`), and the plan says so.
+    analyser_mhz : (low, high), optional
+        The range the user's analyser sweeps, MHz: a trimming target outside it
+        is flagged in the trimming steps.
+    progress : callable(str), optional
+        Called with a short message as the work goes on (the command line shows
+        it on a terminal).
 
     Returns
     -------
@@ -245,6 +254,11 @@ def plan(
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
     page_size_in(page_size)
+    if analyser_mhz is not None:
+        lo, hi = analyser_mhz
+        if not 0.0 < lo < hi:
+            raise UsageError(f"analyser_mhz {analyser_mhz!r}: must be (low, high) MHz with 0 < low < high")
+    say = progress or (lambda _m: None)
     if isinstance(site, str | os.PathLike):
         site_path = str(site)
         _check_outputs(out_pdf, html, outdir, site_path)
@@ -265,16 +279,17 @@ def plan(
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
     images = html is not None or outdir is not None
     under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
-                          images=images)
-    report = _run_design(site, under_way=under_way)
+                          images=images, analyser_mhz=analyser_mhz)
+    report = _run_design(site, under_way=under_way, progress=progress)
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
 
         sv = survey(site)
     designs = _designs(report)
+    say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
-                   plan_json=json_name)
+                   plan_json=json_name, analyser_mhz=analyser_mhz)
     parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
     pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer,
                                  under_way=under_way.pdf)
@@ -284,6 +299,7 @@ def plan(
         from notchkit.design import touchstone_name, touchstone_sweep_hz
         from notchkit.parallel import fork_map
 
+        say("drawing the images")
         jobs = []
         for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
             touchstone = None

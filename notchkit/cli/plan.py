@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from notchkit.errors import EXIT_OK, EXIT_UNMET
+from notchkit.defaults import PAGE_SIZES, UNITS
+from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
 
 DESCRIPTION = """\
 Survey the site, design every filter it needs and write the notch plan: a PDF with
@@ -32,21 +33,47 @@ def add_parser(sub) -> None:
     p.add_argument("--html", metavar="PLAN.html", help="also write the plan as one self-contained HTML page")
     p.add_argument("--outdir", metavar="DIR",
                    help="also write curves (PNG, CSV), Touchstone files and plan.json into DIR")
-    p.add_argument("--units", choices=("metric", "imperial", "both"), default="both",
-                   help="lengths in mm, inches (to 1/16 in) or both (default both)")
-    p.add_argument("--page-size", choices=("a4", "letter"), default="a4",
-                   help="paper size of the PDF (default a4)")
+    p.add_argument("--units", choices=UNITS, default=None,
+                   help="lengths in mm, inches (to 1/16 in) or both (default: the defaults file's "
+                        "units, else both)")
+    p.add_argument("--page-size", choices=PAGE_SIZES, default=None,
+                   help="paper size of the PDF (default: the defaults file's page_size, else a4)")
+    p.add_argument("--analyser-mhz", metavar="LO-HI", default=None,
+                   help="the range your analyser sweeps: a trimming target outside it is flagged "
+                        "(default: the defaults file's analyser_mhz)")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type): first cuts and trim targets use its VF and loss")
     p.set_defaults(run=run)
 
 
+def _analyser(text: str) -> tuple[float, float]:
+    lo, sep, hi = text.partition("-")
+    try:
+        band = (float(lo), float(hi))
+    except ValueError:
+        band = (0.0, 0.0)
+    if not sep or not 0.0 < band[0] < band[1] <= 1e6:
+        raise UsageError(f"--analyser-mhz {text!r}: must be LO-HI in MHz with 0 < LO < HI (e.g. 1-600)")
+    return band
+
+
 def run(args) -> int:
+    from notchkit.cli.progress import terminal_progress
+    from notchkit.defaults import load_defaults
     from notchkit.plan import plan
 
-    result = plan(args.site, args.output, html=args.html, outdir=args.outdir, units=args.units,
-                  page_size=args.page_size, calibration=args.calibration)
+    mine = load_defaults()
+    analyser = _analyser(args.analyser_mhz) if args.analyser_mhz is not None else mine.analyser_mhz
+    progress = terminal_progress()
+    try:
+        result = plan(args.site, args.output, html=args.html, outdir=args.outdir,
+                      units=args.units or mine.units or "both",
+                      page_size=args.page_size or mine.page_size or "a4", calibration=args.calibration,
+                      analyser_mhz=analyser, progress=progress)
+    finally:
+        if progress is not None:
+            progress.done()
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:

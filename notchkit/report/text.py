@@ -123,6 +123,17 @@ CAUTIONS = (
 # ---------------------------------------------------------------- numbers
 
 
+MM_PER_IN = 25.4
+"""Millimetres in an inch (exact, by the 1959 international yard)."""
+
+
+def rate_text(m_per_mhz: float, units: str = "both") -> str:
+    """A trim rate: ``4.2 mm/MHz``, or ``0.165 in/MHz`` when the plan is in inches only."""
+    if units == "imperial":
+        return f"{1000.0 * m_per_mhz / MM_PER_IN:.3f} in/MHz"
+    return f"{1000.0 * m_per_mhz:.1f} mm/MHz"
+
+
 def mhz(x: float) -> str:
     """A frequency in MHz to 1 Hz resolution, trailing zeros dropped (``146.52``, ``155.475``)."""
     s = f"{float(x):.6f}".rstrip("0").rstrip(".")
@@ -314,7 +325,8 @@ def cut_table(d: Any, units: str = "both") -> Table:
         header += ["Cut (in)"]
         align += ["right"]
         widths += [0.95]
-    header += ["First cut", "Trim (mm/MHz)", "Resonance (MHz)", "Tee"]
+    header += ["First cut", "Trim (in/MHz)" if units == "imperial" else "Trim (mm/MHz)", "Resonance (MHz)",
+               "Tee"]
     align += ["right", "right", "right", "right"]
     widths += [1.7 if units == "both" else 0.9, 0.9, 1.0, 0.4]
     rows = []
@@ -324,7 +336,9 @@ def cut_table(d: Any, units: str = "both") -> Table:
             row.append(format_length(c.cut_length_m, "metric").removesuffix(" mm"))
         if units in ("imperial", "both"):
             row.append(format_length(c.cut_length_m, "imperial").removesuffix(" in"))
-        row += [format_length(c.first_cut_m, units), f"{c.trim_rate_mm_per_mhz:.1f}",
+        rate = (f"{c.trim_rate_mm_per_mhz / MM_PER_IN:.3f}" if units == "imperial"
+                else f"{c.trim_rate_mm_per_mhz:.1f}")
+        row += [format_length(c.first_cut_m, units), rate,
                 mhz(round(c.resonance_mhz, 4)), str(c.tee)]
         rows.append(tuple(row))
     return Table(
@@ -333,20 +347,23 @@ def cut_table(d: Any, units: str = "both") -> Table:
     )
 
 
-def tolerance_lines(d: Any) -> tuple[str, ...]:
+def tolerance_lines(d: Any, units: str = "both") -> tuple[str, ...]:
     """The tolerance run in two lines; per-band shares are in the requirements table."""
     t = getattr(d, "tolerance", None)
     if t is None:
         return ("Tolerance: not computed for this filter.",)
+    inches = units == "imperial"
+    cut_tol = f"{t.cut_tolerance_mm / MM_PER_IN:.3g} in" if inches else f"{t.cut_tolerance_mm:g} mm"
     out = [
         f"Probability of meeting every requirement: {pct(t.probability_all)} of {t.samples} simulated builds "
-        f"(every piece cut within +-{t.cut_tolerance_mm:g} mm, {t.cut_distribution}; velocity factor "
+        f"(every piece cut within +-{cut_tol}, {t.cut_distribution}; velocity factor "
         f"{t.vf_nominal:g} +-{t.vf_spread:g}; seed {t.seed})."
     ]
     sens = [(s, n) for n in t.notches for s in n.sensitivity]
     if sens:
         s, n = max(sens, key=lambda x: abs(x[0].db_per_mm))
-        out.append(f"Most sensitive: {s.element_id}, {s.db_per_mm:+.2f} dB per mm of length in the notch "
+        per = f"{s.db_per_mm * MM_PER_IN:+.2f} dB per in" if inches else f"{s.db_per_mm:+.2f} dB per mm"
+        out.append(f"Most sensitive: {s.element_id}, {per} of length in the notch "
                    f"{band_text(n.lo_mhz, n.hi_mhz)} (95 % of builds give >= {n.p05_worst_db:.1f} dB there).")
     return tuple(out)
 
@@ -384,7 +401,8 @@ def power_lines(d: Any) -> tuple[str, ...]:
     return tuple(out)
 
 
-def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tuple[str, ...]:
+def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json",
+               analyser_mhz: tuple[float, float] | None = None) -> tuple[str, ...]:
     """The trimming steps; each stub's command and its target are for the same set-up (the
     stub alone, ``.s1p``), read back by ``notchkit trim`` from the same plan JSON."""
     from notchkit.planfile import stub_alone_mhz
@@ -396,8 +414,9 @@ def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tup
         "2. Calibrate the analyser at the end of its test cable, connect the stub alone there (no tee) and "
         "find the resonance it is trimmed to: the impedance minimum nearest the target below. The stub "
         "alone resonates higher than at the tee (the Resonance column) because the tee's path is missing.",
-        "3. The resonance reads low because the stub is long: trim in small steps (the rate below is mm per "
-        "MHz of error), re-measuring each time; stop at the target. Never trim past it.",
+        "3. The resonance reads low because the stub is long: trim in small steps (the rate below is "
+        f"{'inches' if units == 'imperial' else 'mm'} per MHz of error), re-measuring each time; stop at "
+        "the target. Never trim past it.",
         "4. Or save the sweep of the stub alone (Touchstone .s1p) and let notchkit say how much to cut "
         "(after a first trim, add --length-m with the length now):",
     ]
@@ -407,7 +426,11 @@ def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tup
         steps.append(f"   notchkit trim SWEEP-{c.stub_id}.s1p --cable {cable} --plan {plan_json} "
                      f"--stub {c.stub_id} --plan-length first-cut   (stub alone: target "
                      f"{mhz(round(alone, 4))} MHz, {c.quarter_waves} quarter waves, "
-                     f"{1000.0 * c.cut_length_m / alone:.1f} mm/MHz)")
+                     f"{rate_text(c.cut_length_m / alone, units)})")
+        if analyser_mhz is not None and not analyser_mhz[0] <= alone <= analyser_mhz[1]:
+            steps.append(f"   {c.stub_id}: its target {mhz(round(alone, 4))} MHz is outside your analyser's "
+                         f"range ({mhz(analyser_mhz[0])}-{mhz(analyser_mhz[1])} MHz): measure it with "
+                         "another instrument.")
     steps.append("   A sweep through the tee with the stub in place (.s2p) works too: its target is the "
                  "Resonance column of the cut list.")
     steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use "
@@ -415,7 +438,8 @@ def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tup
     return tuple(steps)
 
 
-def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> FilterText:
+def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json",
+                analyser_mhz: tuple[float, float] | None = None) -> FilterText:
     filt = design_filter(d)
     meets = design_meets(d)
     req = d.requirement
@@ -434,7 +458,8 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     cable = getattr(filt, "cable", None)
     vf = getattr(cable, "velocity_factor", None)
     cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
-    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, 'metric')} per stub "
+    tee_units = "imperial" if units == "imperial" else "metric"
+    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, tee_units)} per stub "
                     "(drawing not to scale)")
     if getattr(cable, "balanced", False):
         cable_label += ("; balanced line: each stub joins its tee through a 1:1 current balun, "
@@ -460,8 +485,8 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
         verdict=(_met_verdict(d) if meets else
                  f"{NOT_MET}: this filter does not meet every requirement (see the table below)."),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
-        tolerance=tolerance_lines(d), power=power_table(d), power_lines=power_lines(d),
-        trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
+        tolerance=tolerance_lines(d, units), power=power_table(d), power_lines=power_lines(d),
+        trim_steps=trim_steps(d, units, plan_json, analyser_mhz), stub_labels=tuple(stub_labels),
         line_labels=tuple(line_labels), cable_label=cable_label,
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
         antenna_label="ANTENNA",
@@ -505,10 +530,11 @@ def plan_title(site_name: str) -> str:
 
 
 def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version: str,
-              units: str = "both", plan_json: str = "PLAN.json") -> PlanText:
+              units: str = "both", plan_json: str = "PLAN.json",
+              analyser_mhz: tuple[float, float] | None = None) -> PlanText:
     """Build every row of the plan from the site, the survey and the designs."""
     designs = list(designs)
-    ftexts = tuple(filter_text(d, units, plan_json) for d in designs)
+    ftexts = tuple(filter_text(d, units, plan_json, analyser_mhz) for d in designs)
     unmet = tuple(f"{NOT_MET}: {f.title}" for f in ftexts if not f.meets)
     n_tx, n_rx = len(site.transmitters), len(site.receivers)
     threats = list(sv.threats)
