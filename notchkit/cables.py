@@ -1044,14 +1044,14 @@ def cable_table(
     cables = list(library())
     for item in site_cables:
         cables.append(item if isinstance(item, Cable) else cable_from_def(item))
-    f = np.array(freqs, dtype=float)
+    fs = np.array(freqs, dtype=float)
     return tuple(
         CableRow(
             cable=c,
-            at_mhz=tuple(float(x) for x in f),
-            loss_db_per_100m=tuple(float(x) for x in c.loss_db_per_100m(f)),
-            loss_db_per_100ft=tuple(float(x) for x in c.loss_db_per_100ft(f)),
-            extrapolated=tuple(bool(x) for x in c.extrapolated(f)),
+            at_mhz=tuple(float(x) for x in fs),
+            loss_db_per_100m=tuple(float(x) for x in c.loss_db_per_100m(fs)),
+            loss_db_per_100ft=tuple(float(x) for x in c.loss_db_per_100ft(fs)),
+            extrapolated=tuple(bool(x) for x in c.extrapolated(fs)),
         )
         for c in cables
     )

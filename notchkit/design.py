@@ -91,7 +91,8 @@ class Design:
         from notchkit.cables import extrapolation_note
 
         s = self.solution
-        freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
+        freqs = [x for b in s.passes for x in (b.lo_mhz, b.hi_mhz)]
+        freqs += [x for b in s.notches for x in (b.lo_mhz, b.hi_mhz)]
         return extrapolation_note(self.cable, freqs)
 
     def to_json(self) -> dict[str, Any]:

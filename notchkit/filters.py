@@ -88,8 +88,11 @@ def _thread_pool():
 class Medium(Protocol):
     """What the filter model needs to know about a cable."""
 
-    z0_ohm: float
-    velocity_factor: float
+    @property
+    def z0_ohm(self) -> float: ...
+
+    @property
+    def velocity_factor(self) -> float: ...
 
     def alpha_np_per_m(self, freq_hz: ArrayLike) -> NDArray[np.float64]: ...
 
@@ -338,9 +341,9 @@ class _Sweep:
         for start, stop, n_coarse, n_fine, minus_j_b in self.runs:
             factors = np.exp(x * minus_j_b)  # the coarse factors, then the fine ones
             coarse, fine = factors[:, :n_coarse], factors[:, n_coarse:]
-            prod = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
-            np.multiply(coarse[:, :, None], fine[:, None, :], out=prod)
-            prod = prod.reshape(rows, n_coarse * n_fine)
+            cube = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
+            np.multiply(coarse[:, :, None], fine[:, None, :], out=cube)
+            prod = cube.reshape(rows, n_coarse * n_fine)
             np.multiply(prod[:, : stop - start], real[:, start:stop], out=out[:, start:stop])
         return out
 
@@ -388,6 +391,21 @@ class _Work:
     __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5", "r1", "r2", "flat",
                  "_views")
     _ARRAYS = __slots__[:-1]
+    a: NDArray[np.complex128]
+    b: NDArray[np.complex128]
+    c: NDArray[np.complex128]
+    d: NDArray[np.complex128]
+    y: NDArray[np.complex128]
+    u: NDArray[np.complex128]
+    u_all: NDArray[np.complex128]
+    t1: NDArray[np.complex128]
+    t2: NDArray[np.complex128]
+    t3: NDArray[np.complex128]
+    t4: NDArray[np.complex128]
+    t5: NDArray[np.complex128]
+    r1: NDArray[np.float64]
+    r2: NDArray[np.float64]
+    flat: NDArray[np.complex128]
 
     def __init__(self, rows: int, sweep: _Sweep) -> None:
         self._views: dict[int, _Work] = {}

@@ -310,12 +310,12 @@ def plan(
                               touchstone_name(d).removesuffix(".s2p"))
             jobs.append((filt, curve, spans, ft, touchstone))
         made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
-    images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
+    pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
     html_path = None
     if html is not None:
         from notchkit.report.html import write_html
 
-        html_path = write_html(html, pt, images, footer=footer)
+        html_path = write_html(html, pt, pngs, footer=footer)
 
     files: list[Path] = []
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
@@ -331,8 +331,8 @@ def plan(
             stem = touchstone_name(d).removesuffix(".s2p")
             files.append(write_bytes_atomic(folder / f"{stem}.png", curve_png))
             files.append(write_curve_csv(curve, folder / f"{stem}.csv"))
-            files.append(write_text_atomic(folder / f"{stem}.s2p", s2p, what="Touchstone file"))
-        files.append(write_text_atomic(json_path, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
+            files.append(write_text_atomic(folder / f"{stem}.s2p", s2p or "", what="Touchstone file"))
+        files.append(write_text_atomic(folder / PLAN_JSON, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
 
     return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
                       pages=layout.total, layout=layout, html=html_path,

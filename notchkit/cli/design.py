@@ -6,6 +6,7 @@ import json
 import math
 import re
 import sys
+from pathlib import Path
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
 
@@ -117,7 +118,7 @@ def run(args) -> int:
         report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress)
     if progress is not None:
         print("", file=sys.stderr)
-    written = ()
+    written: tuple[Path, ...] = ()
     if args.touchstone is not None:
         written = write_touchstones(report, args.touchstone)
     if args.json:

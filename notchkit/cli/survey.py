@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from collections.abc import Set
 
 from notchkit.errors import EXIT_OK
 
@@ -48,7 +49,7 @@ def run(args) -> int:
     return EXIT_OK
 
 
-def _table(head: list[str], rows: list[list[str]], right: set[int] = frozenset()) -> list[str]:
+def _table(head: list[str], rows: list[list[str]], right: Set[int] = frozenset()) -> list[str]:
     widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
 
     def fmt(row: list[str]) -> str:

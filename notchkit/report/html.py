@@ -84,7 +84,7 @@ def filter_images(filt: Any, curve: Any, spans: Any, ft: FilterText, dpi: int = 
     from notchkit.report.curves import MPL_RC, curve_figure, figure_bytes
     from notchkit.report.drawing import arrangement_figure
 
-    with matplotlib.rc_context(MPL_RC):
+    with matplotlib.rc_context(MPL_RC):  # type: ignore[arg-type]
         draw = arrangement_figure(filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
                                   radio_label=ft.radio_label, antenna_label=ft.antenna_label,
                                   cable_label=ft.cable_label)

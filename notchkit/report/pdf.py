@@ -96,7 +96,8 @@ def _register(font: PdfFont) -> None:
     from reportlab.pdfbase.ttfonts import TTFont
 
     spec = importlib.util.find_spec("matplotlib")
-    folder = Path(next(iter(spec.submodule_search_locations or ())), "mpl-data", "fonts", "ttf")
+    places = spec.submodule_search_locations if spec is not None else None
+    folder = Path(next(iter(places or ())), "mpl-data", "fonts", "ttf")
     if not (folder / font.files[0]).is_file():  # a system matplotlib may keep its data elsewhere
         import matplotlib
 
@@ -523,6 +524,11 @@ def _filter_rest(page: _Page, ft: FilterText, body: float) -> None:
         page.para(s, body - 0.5, gap=0.0)
 
 
+def _constant(page: _Page) -> Callable[[], _Page]:
+    """A ``new_page`` that hands back the one page already made."""
+    return lambda: page
+
+
 def _tag_pages(new_page: Callable[[], _Page], tags: Sequence[Tag], per_page: int) -> list[_Page]:
     pages = []
     for start in range(0, max(len(tags), 1), per_page):
@@ -744,7 +750,7 @@ class PlanPdf:
             if what is None:
                 _cover(page, pt)
             elif isinstance(what, int):  # the cut labels from tag ``what`` on
-                _tag_pages(lambda page=page: page, pt.tags[what:what + per], per)
+                _tag_pages(_constant(page), pt.tags[what:what + per], per)
             else:
                 c.saveState()
                 c.doForm(what)

@@ -859,7 +859,7 @@ class _Reader:
             match = _LENGTH_RE.match(node.value) if num.length_unit_m is not None else None
             if match:
                 value = _length_number(match.group(1))
-                if value is not None:
+                if value is not None and num.length_unit_m is not None:
                     value *= _LENGTH_UNITS_M[match.group(2)] / num.length_unit_m
             elif not node.style:
                 try:  # plain 1e12 or nan: YAML 1.1 reads these as text; read them as numbers
@@ -1195,18 +1195,20 @@ class _Builder:
             couplings=couplings,
             cables=cables,
             path=r.path,
-            **(
-                {"limits": m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))}
-                if "limits" in top
-                else {}
-            ),
-            **(
-                {"allowances": m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))}
-                if "allowances" in top
-                else {}
-            ),
-            **({"max_harmonic": top["max_harmonic"][0]} if "max_harmonic" in top else {}),
+            **self.site_options(top),
         )
+
+    @staticmethod
+    def site_options(top: dict) -> dict[str, Any]:
+        """The optional top-level sections the file gives (the model's defaults otherwise)."""
+        out: dict[str, Any] = {}
+        if "limits" in top:
+            out["limits"] = m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))
+        if "allowances" in top:
+            out["allowances"] = m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))
+        if "max_harmonic" in top:
+            out["max_harmonic"] = top["max_harmonic"][0]
+        return out
 
     # -- cables -----------------------------------------------------------
 
@@ -1221,7 +1223,7 @@ class _Builder:
         for c in library():
             self.known.update({_fold(a): c.name for a in c.aliases})
         try:  # a cable library kept next to the site file (notchkit-cables.yaml)
-            beside = site_library(self.r.path) if self.r.path else ()
+            beside: tuple[Any, ...] = site_library(self.r.path) if self.r.path else ()
         except CableError as exc:
             self.r.add(None, "cables", str(exc))
             beside = ()
@@ -1246,9 +1248,9 @@ class _Builder:
                     name=name, z0_ohm=d["z0_ohm"][0], velocity_factor=d["velocity_factor"][0], **extra
                 )
             )
-        for c in out:
-            self.known[_fold(c.name)] = c.name
-        own = {_fold(c.name) for c in out}
+        for d in out:
+            self.known[_fold(d.name)] = d.name
+        own = {_fold(d.name) for d in out}
         return tuple(c for c in beside if _fold(c.name) not in own) + tuple(out)
 
     def resolve_cables(self) -> None:

@@ -8,10 +8,11 @@ builds the result objects.
 from __future__ import annotations
 
 from operator import attrgetter
+from typing import Any
 
 import numpy as np
 
-from notchkit.site.model import Site
+from notchkit.site.model import Radio, Site
 from notchkit.survey import limits, products
 from notchkit.survey.intermod import intermod_threats
 from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
@@ -19,6 +20,10 @@ from notchkit.survey.locations import build_filters, too_close
 from notchkit.survey.paths import SiteArrays, check_max_harmonic
 from notchkit.survey.result import NotchFeed, SurveyResult, Threat
 
+
+def _noise_of(radio: Radio) -> float | None:
+    """A transmitter's broadband noise, dBc/Hz (``None``: not given)."""
+    return radio.tx.noise_dbc_hz if radio.tx is not None else None
 
 def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
     """Find every threat between the site's transmitters and receivers.
@@ -217,7 +222,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         lo, hi = float(sa.tx_lo[t]), float(sa.tx_hi[t])
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[t], ctx.names[r]
-        where = ()
+        where: tuple[Any, ...] = ()
         if cochannel[k]:
             tsrc = sa.rx_threshold_source[r] + " (carrier inside the receiver's band)"
             remedy = (
@@ -281,7 +286,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
             f"pass {src}'s fundamental (a harmonic inside {vic}'s band can only be removed "
             "at the transmitter)"
         )
-        where = ()
+        where: tuple[Any, ...] = ()
         if excess > 0:
             reason = f"{src} harmonic {order} into {vic}"
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, reason)
@@ -310,11 +315,11 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
 def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
     sa = ctx.sa
     radios = sa.site.radios
-    has = np.array([radios[int(t)].tx.noise_dbc_hz is not None for t in tt], dtype=bool)
+    has = np.array([_noise_of(radios[int(t)]) is not None for t in tt], dtype=bool)
     if not has.any():
         return []
     t, r = tt[has], rr[has]
-    dbc = np.array([radios[int(i)].tx.noise_dbc_hz for i in t], dtype=float)
+    dbc = np.array([_noise_of(radios[int(i)]) for i in t], dtype=float)
     f = sa.rx_lo[r]
     total, iso, meth = sa.path_db(t, r, f)
     level = sa.p_dbm[t] + dbc + 10.0 * np.log10(sa.rx_bandwidth_hz[r]) - total
@@ -326,7 +331,7 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[ti], ctx.names[ri]
         remedy = f"tx-side filter at {src}: notch {vic}'s band, pass {src}'s band"
-        where = ()
+        where: tuple[Any, ...] = ()
         if excess > 0:
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, f"{src} noise into {vic}")
             if fd is None:

@@ -17,6 +17,8 @@ index arrays; Python only builds the result objects.
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from notchkit.survey import limits, products
@@ -146,7 +148,7 @@ class _State:
         iso_cache = ctx._iso_cache
         src_names: dict[tuple[int, ...], tuple[str, ...]] = {}
         th_src = sa.rx_threshold_source
-        out = []
+        out: list[Any] = []
         append = out.append
         for j in range(h):
             s = tuple(src_l[j])

@@ -8,6 +8,7 @@ feedline loss) of many threats is evaluated in one call.
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import numpy as np
 
@@ -89,8 +90,8 @@ class SiteArrays:
                     )
 
     # ------------------------------------------------------------ feedlines
-    def _feedlines(self, radios: tuple[Radio, ...], site: Site) -> dict[int, tuple[object, float]]:
-        feeds: dict[int, tuple[object, float]] = {}
+    def _feedlines(self, radios: tuple[Radio, ...], site: Site) -> dict[int, tuple[Any, float]]:
+        feeds: dict[int, tuple[Any, float]] = {}
         missing = []
         cache: dict[str, object] = {}
         for i, r in enumerate(radios):
