@@ -151,14 +151,19 @@ def test_pdf_text_has_every_cut_length_and_target_resonance(run):
             assert c.cut_length_m == pytest.approx(c.length_m - d.filter.tee_allowance_m, abs=1e-12)
 
 
-def test_pdf_threat_pages_list_every_threat(run):
+def test_pdf_threat_pages_list_the_worst_of_every_pair(run):
+    from notchkit.report.text import threat_groups
+
     res = run["result"]
     pages = _pdf_pages(res.pdf)
     threat_text = " ".join(pages[1:1 + res.layout.threats])
     sv = res.survey
     assert len(sv.threats) >= 1
+    groups = threat_groups(sv.threats)
+    assert sum(n for _, n in groups) == len(sv.threats)
     for t in sv.threats:
         assert t.victim in threat_text
+    for t, _ in groups:  # the worst of each (sources, victim) pair, printed in full
         assert mhz4(t.f_mhz) in threat_text
         assert float(mhz4(t.f_mhz)) == pytest.approx(t.f_mhz, abs=5e-5)  # printed to 100 Hz
         assert f"{t.excess_db:.1f}" in threat_text
@@ -187,7 +192,9 @@ def test_html_is_self_contained_and_prints_the_same_numbers(run):
         for c in d.cuts:
             assert f"CUT {format_length(c.cut_length_m, 'both')}" in html
             assert format_length(c.first_cut_m, "both") in html
-    for t in res.survey.threats:
+    from notchkit.report.text import threat_groups
+
+    for t, _ in threat_groups(res.survey.threats):
         assert mhz4(t.f_mhz) in html and f"{t.excess_db:.1f}" in html
     # The very rows of the PDF's tables are the HTML's.
     for row in res.text.filters[0].cuts.rows:

@@ -217,7 +217,8 @@ def test_empty_file_and_comment_only_file(write):
 def test_not_a_mapping(write):
     assert problems(write("- a\n- b\n")) == [
         "site.yaml:1:1: the file must be a mapping of keys, got a list (allowed keys: site, cable, "
-        "transmitters, receivers, transceivers, couplings, limits, allowances, cables, max_harmonic)"
+        "transmitters, receivers, transceivers, couplings, limits, allowances, cables, max_harmonic, "
+            "max_im_order)"
     ]
 
 
@@ -345,7 +346,8 @@ def test_unknown_key_with_did_you_mean(write):
 def test_unknown_key_without_a_close_match_lists_the_allowed_keys(write):
     assert one(write, "freq_mhz: 446.0", "freq_mhz: 446.0\n    colour: red") == [
         "site.yaml:10:5: receivers[0].colour: unknown key (allowed: name, freq_mhz, band_mhz, "
-        "bandwidth_khz, sensitivity_dbm, blocking_dbm, noise_figure_db, antenna, feedline, stub_cable)"
+        "bandwidth_khz, sensitivity_dbm, blocking_dbm, noise_figure_db, iip2_dbm, iip3_dbm, receiver_class, "
+        "antenna, feedline, stub_cable)"
     ]
 
 

@@ -44,7 +44,7 @@ from notchkit.survey import (
     vertical_isolation_db,
 )
 from notchkit.survey.isolation import estimate_isolation_db
-from notchkit.survey.products import THREE_TONE, TWO_TONE
+from notchkit.survey.products import THREE_TONE
 
 
 def band(lo, hi=None):
@@ -399,7 +399,8 @@ def test_intermod_level_model():
     s = site(
         radio("A", t=tx(146.52, power_w=50, im_conversion_db=12.0)),
         radio("B", t=tx(447.0, power_w=50, im_conversion_db=12.0), x=1),
-        radio("R", r=rx(2 * 447.0 - 146.52), x=2),
+        # intercept points high enough that the receiver's own front end is not the worst route
+        radio("R", r=rx(2 * 447.0 - 146.52, iip2_dbm=100.0, iip3_dbm=60.0), x=2),
         couplings=(
             Coupling(a="A", b="B", isolation_db=30.0),
             Coupling(a="B", b="R", isolation_db=35.0),
@@ -411,7 +412,7 @@ def test_intermod_level_model():
     p = 10 * math.log10(50e3)
     # mixer B: A arrives at p - 30, converts with 12 dB, leaves through 35 dB to R
     # mixer A: B arrives at p - 30, converts with 12 dB, leaves through 50 dB: weaker
-    assert t.mixer == "B"
+    assert t.mixer == "B" and t.route == "transmitter"
     assert t.level_dbm == pytest.approx(p - 30 - 12 - 35, abs=1e-9)
     # a stub at B's output notching A's 2 m fundamental (3x away from B's 447 MHz)
     assert ("B", "tx") in t.filters
@@ -421,22 +422,26 @@ def test_intermod_level_model():
     assert req.notches[0].required_db == pytest.approx(t.excess_db + 6.0, abs=1e-9)
 
 
-def _brute_force_products(freqs, rx_bands):
-    """Independent reference: every 2- and 3-tone product by plain loops (channels only)."""
+def _brute_force_products(freqs, rx_bands, max_order=5):
+    """Independent reference: every product of 2 and 3 transmitters by plain loops over all
+    integer coefficient vectors (every coefficient non-zero, sum |c| = 2..max_order; c and -c
+    are one product: the frequency |sum c f| is the same), channels only."""
     hits = set()
     names = list(freqs)
-    for a, b in itertools.combinations(names, 2):
-        for c1, c2 in TWO_TONE:
-            f = abs(c1 * freqs[a] + c2 * freqs[b])
-            for v, (lo, hi) in rx_bands.items():
-                if lo - 0.008 <= f <= hi + 0.008:
-                    hits.add((frozenset((a, b)), v, abs(c1) + abs(c2), round(f, 6)))
-    for a, b, c in itertools.combinations(names, 3):
-        for c1, c2, c3 in THREE_TONE:
-            f = abs(c1 * freqs[a] + c2 * freqs[b] + c3 * freqs[c])
-            for v, (lo, hi) in rx_bands.items():
-                if lo - 0.008 <= f <= hi + 0.008:
-                    hits.add((frozenset((a, b, c)), v, 3, round(f, 6)))
+    for k in (2, 3):
+        for combo in itertools.combinations(names, k):
+            seen = set()
+            for c in itertools.product(range(-max_order, max_order + 1), repeat=k):
+                if 0 in c or not 2 <= sum(map(abs, c)) <= max_order:
+                    continue
+                canon = max(c, tuple(-x for x in c))
+                if canon in seen:
+                    continue
+                seen.add(canon)
+                f = abs(sum(ci * freqs[n] for ci, n in zip(c, combo, strict=True)))
+                for v, (lo, hi) in rx_bands.items():
+                    if lo - 0.008 <= f <= hi + 0.008:
+                        hits.add((frozenset(combo), v, sum(map(abs, c)), round(f, 6)))
     return hits
 
 
@@ -479,7 +484,7 @@ def test_sorted_matrix_and_json_keys():
     data = json.loads(json.dumps(res.to_json(), allow_nan=False))
     for t in data["threats"]:
         assert {"source", "victim", "mechanism", "order", "f_mhz", "excess_db"} <= set(t)
-        assert t["mechanism"] in {"fundamental", "harmonic", "intermod", "noise"}
+        assert t["mechanism"] in {"fundamental", "harmonic", "intermod", "noise", "blocking"}
     for f in data["filters"]:
         assert {"radio", "side", "pass", "notch"} <= set(f) and f["side"] in {"tx", "rx"}
         for n in f["notch"]:

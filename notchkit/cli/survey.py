@@ -19,7 +19,8 @@ def add_parser(sub) -> None:
         help="list the threats between a site's transmitters and receivers and the filters needed",
         description=(
             "Survey a site: every transmitter against every receiver for fundamental overload, "
-            "harmonics, intermodulation (2 and 3 transmitters) and transmitter noise; prints the "
+            "harmonics, intermodulation (2 and 3 transmitters, formed in a transmitter or the "
+            "receiver), several carriers together, and transmitter noise; prints the "
             "threats worst first, a transmitter x receiver matrix of the worst excess in dB, and "
             "the filter requirements (pass bands and notches) per filter location. Exit code 0 "
             "whatever the threats."
@@ -34,6 +35,14 @@ def add_parser(sub) -> None:
         default=None,
         help="highest harmonic evaluated (>= 1; default: the site's max_harmonic, else 5)",
     )
+    p.add_argument(
+        "--max-threats",
+        metavar="N",
+        type=int,
+        default=None,
+        help="intermodulation threats listed, the worst first; the rest are counted "
+        "(>= 0; default 10000)",
+    )
     p.set_defaults(run=run)
 
 
@@ -41,7 +50,7 @@ def run(args) -> int:
     from notchkit.site import load_site
     from notchkit.survey import survey
 
-    result = survey(load_site(args.site), max_harmonic=args.max_harmonic)
+    result = survey(load_site(args.site), max_harmonic=args.max_harmonic, max_threats=args.max_threats)
     if args.json:
         print(json.dumps(result.to_json(), indent=2, allow_nan=False))
     else:

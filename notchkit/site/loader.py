@@ -166,6 +166,12 @@ _TX_FIELDS = {
         doc="Conversion loss of the output stage for intermodulation in dB; "
         "default: the survey's documented value.",
     ),
+    "im_order_step_db": Field(
+        kind="number",
+        num=Num(lo=0.0, hi=30.0, unit="dB"),
+        default=None,
+        doc="Extra conversion loss per order away from 3rd in dB; default: the survey's value.",
+    ),
 }
 _RX_FIELDS = {
     "bandwidth_khz": Field(
@@ -192,6 +198,24 @@ _RX_FIELDS = {
         num=Num(lo=0.0, hi=30.0, unit="dB"),
         default=_d(m.Receive, "noise_figure_db"),
         doc="Receiver noise figure in dB.",
+    ),
+    "iip2_dbm": Field(
+        kind="number",
+        num=Num(lo=-60.0, hi=120.0, unit="dBm"),
+        default=None,
+        doc="Input 2nd-order intercept point in dBm; default: from receiver_class.",
+    ),
+    "iip3_dbm": Field(
+        kind="number",
+        num=Num(lo=-60.0, hi=80.0, unit="dBm"),
+        default=None,
+        doc="Input 3rd-order intercept point in dBm; default: from receiver_class.",
+    ),
+    "receiver_class": Field(
+        kind="text",
+        default=None,
+        doc="Class giving default intercept points: " + ", ".join(m.RECEIVER_CLASSES)
+        + f"; default: {m.DEFAULT_RECEIVER_CLASS}.",
     ),
 }
 _RADIO_COMMON = {
@@ -241,6 +265,12 @@ SECTIONS: dict[str, dict[str, Field]] = {
             num=Num(lo=2, hi=20, integer=True),
             default=m.DEFAULT_MAX_HARMONIC,
             doc="Highest harmonic order the survey considers.",
+        ),
+        "max_im_order": Field(
+            kind="number",
+            num=Num(lo=2, hi=9, integer=True),
+            default=m.DEFAULT_MAX_IM_ORDER,
+            doc="Highest intermodulation order the survey enumerates (2 to 9).",
         ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
@@ -1014,8 +1044,10 @@ def _opt(d: dict[str, tuple[Any, yaml.Node]], keys: tuple[str, ...]) -> dict[str
     return {k: d[k][0] for k in keys if k in d}
 
 
-_TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db")
-_RX_KEYS = ("bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db")
+_TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db",
+            "im_order_step_db")  # fmt: skip
+_RX_KEYS = ("bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db", "iip2_dbm", "iip3_dbm",
+            "receiver_class")  # fmt: skip
 
 
 class _Builder:
@@ -1099,7 +1131,15 @@ class _Builder:
             extra.setdefault("bandwidth_khz", shared_bw)
         return m.Transmit(band=band, power_w=d["power_w"][0], **extra)
 
-    def receive(self, d: dict, band: m.Band | None, shared_bw: float | None) -> m.Receive | None:
+    def receive(
+        self, d: dict, band: m.Band | None, shared_bw: float | None, path: str = ""
+    ) -> m.Receive | None:
+        cls = d.get("receiver_class")
+        if cls is not None and cls[0] not in m.RECEIVER_CLASSES:
+            allowed = ", ".join(m.RECEIVER_CLASSES)
+            self.r.add(cls[1], _join(path, "receiver_class"),
+                       f"{cls[0]!r} is not a receiver class (allowed: {allowed})")  # fmt: skip
+            return None
         if band is None:
             return None
         extra = _opt(d, _RX_KEYS)
@@ -1118,7 +1158,7 @@ class _Builder:
                 tx = self.transmit(d, band, None)
                 ok = tx is not None
             else:
-                rx = self.receive(d, band, None)
+                rx = self.receive(d, band, None, path)
                 ok = rx is not None
         else:
             shared, shared_given = self.freq(d, node, path)
@@ -1149,7 +1189,7 @@ class _Builder:
             if "tx" in d:
                 tx = self.transmit(d["tx"][0], parts.get("tx"), shared_bw)
             rx_d = d["rx"][0] if "rx" in d else {}
-            rx = self.receive(rx_d, parts.get("rx"), shared_bw)
+            rx = self.receive(rx_d, parts.get("rx"), shared_bw, _join(path, "rx"))
             ok = tx is not None and rx is not None
         if name is None or not ok:
             return None
@@ -1208,6 +1248,8 @@ class _Builder:
             out["allowances"] = m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))
         if "max_harmonic" in top:
             out["max_harmonic"] = top["max_harmonic"][0]
+        if "max_im_order" in top:
+            out["max_im_order"] = top["max_im_order"][0]
         return out
 
     # -- cables -----------------------------------------------------------

@@ -25,6 +25,11 @@ DEFAULT_CHANNEL_BANDWIDTH_KHZ = 16.0
 DEFAULT_NOISE_FIGURE_DB = 8.0
 DEFAULT_ANTENNA_HEIGHT_M = 10.0
 DEFAULT_MAX_HARMONIC = 5
+DEFAULT_MAX_IM_ORDER = 5
+RECEIVER_CLASSES = ("hf", "base", "mobile", "scanner")
+"""Receiver classes with default intercept points (figures and sources:
+notchkit.survey.levels.RECEIVER_CLASSES, docs/survey.md)."""
+DEFAULT_RECEIVER_CLASS = "mobile"
 DEFAULT_MAX_STUBS = 3
 DEFAULT_CUT_TOLERANCE_MM = 2.0
 DEFAULT_CABLE = "RG-213"
@@ -94,6 +99,8 @@ class Transmit:
     im_conversion_db: float | None = None
     """Loss of a signal entering the output stage when converted to an
     intermodulation product, in dB; ``None``: the survey's documented default."""
+    im_order_step_db: float | None = None
+    """Extra conversion loss per order away from 3rd, in dB; ``None``: survey default."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -107,6 +114,12 @@ class Receive:
     blocking_dbm: float | None = None
     """Off-channel level that desensitises the receiver; ``None``: survey default."""
     noise_figure_db: float = DEFAULT_NOISE_FIGURE_DB
+    iip2_dbm: float | None = None
+    """Input 2nd-order intercept point, dBm; ``None``: from ``receiver_class``."""
+    iip3_dbm: float | None = None
+    """Input 3rd-order intercept point, dBm; ``None``: from ``receiver_class``."""
+    receiver_class: str | None = None
+    """Class giving default intercept points (notchkit.survey.levels.RECEIVER_CLASSES)."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -185,6 +198,7 @@ class Site:
     allowances: Allowances = field(default_factory=Allowances)
     cables: tuple[CableDef, ...] = ()
     max_harmonic: int = DEFAULT_MAX_HARMONIC
+    max_im_order: int = DEFAULT_MAX_IM_ORDER
     path: str = ""
 
     @classmethod

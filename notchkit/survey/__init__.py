@@ -1,8 +1,9 @@
 """The site survey: threats between transmitters and receivers, and the filters they call for.
 
-``survey(site)`` evaluates four mechanisms for every transmitter against every
+``survey(site)`` evaluates five mechanisms for every transmitter against every
 receiver (fundamental overload, harmonics, intermodulation formed in a
-transmitter's output stage, transmitter noise) and returns a
+transmitter's output stage or the receiver's front end, transmitter noise,
+several carriers together against the blocking level) and returns a
 :class:`SurveyResult`; docs/survey.md states the model.
 """
 

@@ -14,7 +14,8 @@ import numpy as np
 
 from notchkit.site.model import Radio, Site
 from notchkit.survey import limits, products
-from notchkit.survey.intermod import intermod_threats
+from notchkit.survey.blocking import blocking_threats
+from notchkit.survey.intermod import DEFAULT_MAX_THREATS, intermod_threats
 from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
 from notchkit.survey.locations import build_filters, too_close
 from notchkit.survey.paths import SiteArrays, check_max_harmonic
@@ -25,7 +26,9 @@ def _noise_of(radio: Radio) -> float | None:
     """A transmitter's broadband noise, dBc/Hz (``None``: not given)."""
     return radio.tx.noise_dbc_hz if radio.tx is not None else None
 
-def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
+def survey(
+    site: Site, *, max_harmonic: int | None = None, max_threats: int | None = None
+) -> SurveyResult:
     """Find every threat between the site's transmitters and receivers.
 
     Parameters
@@ -34,6 +37,10 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         The site.
     max_harmonic : int, optional
         Highest harmonic evaluated (>= 1; 1: none); default ``site.max_harmonic``.
+    max_threats : int, optional
+        Intermodulation threats kept as objects, the worst first (default
+        :data:`notchkit.survey.intermod.DEFAULT_MAX_THREATS`); the rest are counted
+        in ``left_out`` and still reach the matrix.
 
     Returns
     -------
@@ -67,6 +74,8 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
     ctx = _Ctx(sa, margin)
     notes += _default_notes(site, ctx)
     threats: list[Threat] = []
+    left_out: list[tuple[str, int, int]] = []
+    left_worst: tuple[tuple[str, str, float], ...] = ()
     if tx.size and rx.size:
         tt, rr = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
         keep = tt != rr
@@ -75,7 +84,24 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         if n_harm >= 2:
             threats += _harmonics(ctx, tt, rr, n_harm)
         threats += _noise(ctx, tt, rr)
-        threats += intermod_threats(ctx, tx, rx)
+        im, outcome = intermod_threats(
+            ctx, tx, rx, max_order=getattr(site, "max_im_order", products.DEFAULT_MAX_ORDER),
+            max_threats=DEFAULT_MAX_THREATS if max_threats is None else max_threats,
+        )
+        threats += im
+        notes += outcome.notes or []
+        threats += blocking_threats(ctx, tx, rx)
+        if outcome.left_over or outcome.left_under:
+            left_out.append(("intermod", outcome.left_over, outcome.left_under))
+            ww = outcome.worst if outcome.worst is not None else np.empty((0, 0))
+            left_worst = tuple(
+                (sa.names[t], sa.names[r], float(ww[t, r])) for t, r in np.argwhere(np.isfinite(ww)).tolist()
+            )
+            notes.append(
+                f"intermodulation: {outcome.products} products land in receivers; the "
+                f"{len(im)} worst are listed, {outcome.left_over} more above the limit and "
+                f"{outcome.left_under} below it are counted only (they still count in the matrix)"
+            )
     # Stable sort on excess only: ties keep the (deterministic) order of generation.
     threats.sort(key=attrgetter("excess_db"), reverse=True)
     return SurveyResult(
@@ -87,6 +113,9 @@ def survey(site: Site, *, max_harmonic: int | None = None) -> SurveyResult:
         notes=tuple(notes),
         max_harmonic=n_harm,
         rejection_margin_db=margin,
+        max_im_order=getattr(site, "max_im_order", products.DEFAULT_MAX_ORDER),
+        left_out=tuple(left_out),
+        left_out_worst=left_worst,
     )
 
 

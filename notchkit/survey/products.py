@@ -12,21 +12,64 @@ from __future__ import annotations
 
 import numpy as np
 
-TWO_TONE = np.array(
-    [
-        # order 3
-        (2, -1), (-1, 2), (2, 1), (1, 2),
-        # order 5
-        (3, -2), (-2, 3), (3, 2), (2, 3), (4, -1), (-1, 4), (4, 1), (1, 4),
-    ],
-    dtype=int,
-)  # fmt: skip
-"""Coefficients (c1, c2) of the two-transmitter 3rd- and 5th-order products
-(|c1| + |c2| = order; of c and -c only one is listed)."""
+DEFAULT_MAX_ORDER = 5
+"""Highest intermodulation order enumerated when the site gives none (``max_im_order``)."""
 
-THREE_TONE = np.array([(1, 1, -1), (1, -1, 1), (-1, 1, 1), (1, 1, 1)], dtype=int)
-"""Coefficients of the three-transmitter 3rd-order products f1+f2-f3, f1-f2+f3,
--f1+f2+f3, f1+f2+f3."""
+MAX_ORDER_LIMIT = 9
+"""Highest order a site may ask for (the number of coefficient sets grows as order^(k-1))."""
+
+
+def coefficient_sets(k: int, max_order: int = DEFAULT_MAX_ORDER, min_order: int = 2) -> np.ndarray:
+    """Every product of exactly ``k`` transmitters of order ``min_order``..``max_order``.
+
+    Parameters
+    ----------
+    k : int
+        Number of transmitters taking part (every coefficient is non-zero).
+    max_order, min_order : int
+        Orders enumerated, order = sum of |coefficients|.
+
+    Returns
+    -------
+    ndarray of int, shape (n, k)
+        One row per physical product: of c and -c (the same frequency, mirrored)
+        only the row whose first coefficient is positive is kept. Rows are
+        sorted by order, then by coefficients (descending), so the enumeration
+        is deterministic.
+
+    Notes
+    -----
+    The number of rows of order n is C(n-1, k-1) * 2^(k-1): the compositions of
+    n into k positive parts, times the sign patterns with the first sign fixed.
+    For two transmitters: 2 per order (f1 + f2, f1 - f2 at order 2), 4 at 3rd
+    order, 8 at 5th; for three: 4 at 3rd order, 12 at 4th, 24 at 5th.
+    """
+    rows: list[tuple[int, ...]] = []
+    for order in range(max(min_order, k), max_order + 1):
+        for parts in _compositions(order, k):
+            for signs in _sign_patterns(k):
+                rows.append(tuple(p * s for p, s in zip(parts, signs, strict=True)))
+    out = np.array(rows, dtype=int).reshape(-1, k)
+    if out.size:
+        key = np.lexsort(tuple((-out[:, j]) for j in range(k - 1, -1, -1)) + (orders(out),))
+        out = out[key]
+    return out
+
+
+def _compositions(n: int, k: int):
+    """Ordered k-tuples of positive integers summing to n."""
+    if k == 1:
+        yield (n,)
+        return
+    for first in range(1, n - k + 2):
+        for rest in _compositions(n - first, k - 1):
+            yield (first, *rest)
+
+
+def _sign_patterns(k: int):
+    """Sign vectors with the first sign +1 (c and -c are one product)."""
+    for bits in range(2 ** (k - 1)):
+        yield (1, *(-1 if bits >> j & 1 else 1 for j in range(k - 1)))
 
 
 def orders(coeffs: np.ndarray) -> np.ndarray:
@@ -49,13 +92,14 @@ def combine(coeffs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndar
     plo, phi : ndarray, shape (n_comb, n_coef)
         The product's physical frequency interval, MHz (>= 0).
     """
-    c = coeffs[None, :, :]
-    a = c * lo[:, None, :]
-    b = c * hi[:, None, :]
-    low = np.minimum(a, b).sum(axis=-1)
-    high = np.maximum(a, b).sum(axis=-1)
-    plo = np.where(low >= 0, low, np.where(high <= 0, -high, 0.0))
-    phi = np.where(low >= 0, high, np.where(high <= 0, -low, np.maximum(-low, high)))
+    c = np.asarray(coeffs, dtype=float).T  # (k, n_coef)
+    pos, neg = np.maximum(c, 0.0), np.minimum(c, 0.0)
+    low = lo @ pos + hi @ neg
+    high = hi @ pos + lo @ neg
+    # low <= high: the physical interval is [max(low, -high, 0), max(-low, high)]
+    # (low >= 0: [low, high]; high <= 0: [-high, -low]; straddling 0: [0, max(-low, high)])
+    plo = np.maximum(np.maximum(low, -high), 0.0)
+    phi = np.maximum(-low, high)
     return plo, phi
 
 
@@ -110,3 +154,11 @@ def product_label(coeffs, names) -> str:
         else:
             text += (" - " if coef < 0 else " + ") + term
     return text
+
+
+TWO_TONE = coefficient_sets(2, 5, 3)[np.abs(coefficient_sets(2, 5, 3)).sum(axis=1) != 4]
+"""Two-transmitter 3rd- and 5th-order products (the enumeration before orders 2 and 4 were
+added; kept for callers). Use :func:`coefficient_sets` for any order."""
+
+THREE_TONE = coefficient_sets(3, 3, 3)
+"""Three-transmitter 3rd-order products f1+f2+f3, f1+f2-f3, f1-f2+f3, f1-f2-f3."""

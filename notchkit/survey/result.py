@@ -9,7 +9,10 @@ from typing import Any
 from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement
 
-MECHANISMS = ("fundamental", "harmonic", "intermod", "noise")
+MULTI_SOURCE = ("intermod", "blocking")
+"""Mechanisms whose JSON ``source`` is a list of transmitter names."""
+
+MECHANISMS = ("fundamental", "harmonic", "intermod", "noise", "blocking")
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -58,10 +61,15 @@ class Threat:
     filters: tuple[tuple[str, str], ...] = ()
     """The filter locations (radio, side) this threat feeds a notch to (positive excess
     only; empty when no stub can help, see ``remedy``)."""
+    route: str | None = None
+    """For ``intermod``: where the product forms at its worst, ``"transmitter"`` (in
+    ``mixer``'s output stage) or ``"receiver"`` (in the victim's front end)."""
+    level_model: str | None = None
+    """For ``intermod`` and ``blocking``: the level model that gave ``level_dbm``."""
 
     def to_json(self) -> dict[str, Any]:
         return {
-            "source": list(self.sources) if self.mechanism == "intermod" else self.sources[0],
+            "source": list(self.sources) if self.mechanism in MULTI_SOURCE else self.sources[0],
             "victim": self.victim,
             "mechanism": self.mechanism,
             "order": self.order,
@@ -77,6 +85,8 @@ class Threat:
             "isolation_db": _num(self.isolation_db, 3),
             "isolation_method": self.isolation_method,
             "mixer": self.mixer,
+            "route": self.route,
+            "level_model": self.level_model,
             "remedy": self.remedy,
             "filters": [{"radio": r, "side": s} for r, s in self.filters],
             "details": list(self.details),
@@ -125,10 +135,20 @@ class SurveyResult:
     notes: tuple[str, ...] = ()
     max_harmonic: int = 5
     rejection_margin_db: float = 6.0
+    max_im_order: int = 5
+    left_out: tuple[tuple[str, int, int], ...] = ()
+    """(mechanism, above the limit, at or below it): products evaluated but not kept as
+    threat objects (only the worst are kept on large sites, see docs/survey.md)."""
+    left_out_worst: tuple[tuple[str, str, float], ...] = ()
+    """(transmitter, receiver, worst excess dB) over everything evaluated, so the matrix
+    stays complete when threats were left out."""
 
     def matrix(self) -> SurveyMatrix:
         """Transmitter x receiver worst excess; an intermod threat counts for each source."""
         worst: dict[tuple[str, str], float] = {}
+        for s, v, e in self.left_out_worst:
+            if (s, v) not in worst or e > worst[(s, v)]:
+                worst[(s, v)] = e
         for t in self.threats:
             for s in t.sources:
                 key = (s, t.victim)
@@ -144,11 +164,16 @@ class SurveyResult:
         return {
             "site": self.site,
             "max_harmonic": self.max_harmonic,
+            "max_im_order": self.max_im_order,
             "rejection_margin_db": _num(self.rejection_margin_db, 3),
             "threats": [t.to_json() for t in self.threats],
             "filters": [_filter_json(f) for f in self.filters],
             "matrix": self.matrix().to_json(),
             "notes": list(self.notes),
+            "left_out": [
+                {"mechanism": m, "over_limit": over, "under_limit": under}
+                for m, over, under in self.left_out
+            ],
         }
 
 

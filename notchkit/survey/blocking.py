@@ -1,0 +1,123 @@
+"""Several carriers at one receiver: their total power against its blocking level.
+
+Each out-of-band carrier alone is the ``fundamental`` mechanism. Carriers that
+arrive together add as powers (uncorrelated signals, textbook power sum)::
+
+    P_total = 10 log10( sum_j 10^(P_j / 10) )      dBm
+
+and P_total is compared with the receiver's blocking level. Carriers inside
+the receiver's band are excluded (they are judged against its sensitivity), as
+is a transceiver's own carrier (the duplexer's job).
+
+Which carriers to notch: the strongest notchable carriers, in order, until the
+carriers left un-notched sum to at most the limit - 3 dB (half of it); each of
+the N notched carriers then asks X_j = P_j - (limit - 3 dB - margin - 10 log10 N)
+(an equal share of the other half, less the margin), so the total ends below
+the limit. When the carriers that cannot be
+notched (too close to the receiver's band) already exceed half the limit, no
+stub helps and the remedy says so.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from notchkit.survey.result import Threat
+
+MODEL = "power sum: 10 log10(sum_j 10^(P_j/10)) of the carriers outside the receiver's band"
+HALF_DB = 10.0 * np.log10(2.0)
+"""3.01 dB: the share of the limit the un-notched carriers may use."""
+LISTED = 8
+"""Carriers named in a blocking threat's details (the strongest)."""
+
+
+def blocking_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
+    """One ``blocking`` threat per receiver reached by two or more out-of-band carriers."""
+    sa = ctx.sa
+    if tx.size < 2 or rx.size == 0:
+        return []
+    oo, vv = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
+    keep = oo != vv
+    oo, vv = oo[keep], vv[keep]
+    cochannel = (sa.tx_lo[oo] <= sa.rx_hi[vv]) & (sa.rx_lo[vv] <= sa.tx_hi[oo])
+    oo, vv = oo[~cochannel], vv[~cochannel]
+    if oo.size == 0:
+        return []
+    total, iso, meth = sa.path_db(oo, vv, sa.tx_lo[oo])
+    level = sa.p_dbm[oo] - total
+    out = []
+    names = ctx.names
+    order = np.lexsort((-level, vv))
+    oo, vv, level, iso, meth = oo[order], vv[order], level[order], iso[order], meth[order]
+    starts = np.r_[0, np.nonzero(vv[1:] != vv[:-1])[0] + 1, vv.size]
+    for a, b in zip(starts[:-1].tolist(), starts[1:].tolist(), strict=True):
+        if b - a < 2:
+            continue
+        v = int(vv[a])
+        o = oo[a:b]
+        p = level[a:b]
+        mw = 10.0 ** (p / 10.0)
+        tot = float(10.0 * np.log10(mw.sum()))
+        limit = float(sa.rx_blocking[v])
+        excess = tot - limit
+        notchable = np.array(
+            [ctx.clash(v, float(sa.tx_lo[i]), float(sa.tx_hi[i])) is None for i in o.tolist()]
+        )
+        half_mw = 10.0 ** ((limit - HALF_DB) / 10.0)
+        fixed_mw = float(mw[~notchable].sum())
+        where: tuple[tuple[str, str], ...] = ()
+        chosen: list[int] = []
+        at = "filter at transceiver" if sa.site.radios[v].tx is not None else "rx-side filter at"
+        if excess > 0:
+            if fixed_mw > half_mw:
+                remedy = (
+                    f"no stub: carriers too close to {names[v]}'s band already sum to "
+                    f"{10 * np.log10(fixed_mw):.1f} dBm; use cavities or a duplexer, or more separation"
+                )
+            else:
+                rest = float(mw[notchable].sum()) + fixed_mw
+                for k in np.nonzero(notchable)[0].tolist():
+                    if rest <= half_mw:
+                        break
+                    chosen.append(k)
+                    rest -= float(mw[k])
+                # each chosen carrier down to an equal share of (limit - 3 dB - margin)
+                share = limit - HALF_DB - ctx.margin - 10.0 * np.log10(max(len(chosen), 1))
+                locs = []
+                depths = []
+                for k in chosen:
+                    i = int(o[k])
+                    depth = float(p[k]) - share
+                    depths.append(depth)
+                    fd, _ = ctx.feed(v, "rx", float(sa.tx_lo[i]), float(sa.tx_hi[i]), depth,
+                                     f"{len(o)} carriers together block {names[v]}")  # fmt: skip
+                    if fd is not None:
+                        locs.append(fd)
+                where = tuple(dict.fromkeys(locs))
+                remedy = (
+                    f"{at} {names[v]}: notch " + ", ".join(names[int(o[k])] for k in chosen)
+                    + " by " + ", ".join(f"{d:.1f}" for d in depths)
+                    + " dB (margin included; the rest stay under half the limit)"
+                )  # fmt: skip
+        else:
+            remedy = f"none needed ({at} {names[v]} notching the strongest carriers if it were)"
+        src_idx = [int(o[k]) for k in chosen] if chosen else [int(i) for i, pk in zip(o, p, strict=True)
+                                                             if pk >= p[0] - 10.0]  # fmt: skip
+        strongest = int(o[0])
+        listed = ", ".join(f"{names[int(i)]} {float(x):.1f} dBm" for i, x in zip(o[:LISTED], p[:LISTED],
+                                                                                  strict=True))  # fmt: skip
+        more = f" and {len(o) - LISTED} more" if len(o) > LISTED else ""
+        lo, hi = float(sa.tx_lo[strongest]), float(sa.tx_hi[strongest])
+        out.append(
+            Threat(
+                sources=tuple(names[i] for i in src_idx), victim=names[v], mechanism="blocking",
+                order=1, product=f"{len(o)} carriers together", f_mhz=0.5 * (lo + hi), f_lo_mhz=lo,
+                f_hi_mhz=hi, level_dbm=tot, threshold_dbm=limit,
+                threshold_source=sa.rx_blocking_source[v], excess_db=excess,
+                required_db=excess + ctx.margin, isolation_db=float(iso[a]),
+                isolation_method=ctx.iso_text(strongest, v, lo, float(iso[a]), int(meth[a])),
+                remedy=remedy, details=(f"carriers at {names[v]}'s input: {listed}{more}",),
+                filters=where, level_model=MODEL,
+            )
+        )  # fmt: skip
+    return out
