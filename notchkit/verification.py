@@ -108,8 +108,10 @@ class VerifyResult:
 
     @property
     def verdict(self) -> str:
-        return {True: "met", False: "NOT MET", None: "not shown (a one-port sweep cannot measure it all)"}[
-            self.meets]
+        from notchkit.report.summary import state_word
+
+        word = state_word(self.meets, loud=True)
+        return word if self.meets is not None else f"{word} (a one-port sweep cannot measure it all)"
 
     def to_json(self) -> dict[str, Any]:
         return {"measurement": self.measurement, "plan": self.plan, "filter": self.filter_id,

@@ -9,6 +9,7 @@ import sys
 from pathlib import Path
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+from notchkit.report.summary import state_word
 
 CAUTION = (
     "Safety: open stub ends carry the highest voltage of the filter (kilovolts at high power); "
@@ -145,7 +146,7 @@ def _progress(args):
 
 
 def _ok(flag: bool) -> str:
-    return "ok" if flag else "FAILS"
+    return state_word(flag, loud=True)
 
 
 def format_design(d) -> str:
@@ -177,7 +178,8 @@ def format_design(d) -> str:
                      f"(max {p.max_insertion_loss_db:g}), SWR {p.worst_swr:.2f} (max {p.max_swr:g})  "
                      f"{_ok(p.meets)}")
     for n in s.notches:
-        tail = "ok" if n.meets else f"FAILS: {-n.margin_db:.1f} dB missing"
+        tail = (state_word(True) if n.meets
+                else f"{state_word(False, loud=True)}: {-n.margin_db:.1f} dB missing")
         lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
                      f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
     if d.cuts:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from notchkit.defaults import PAGE_SIZES, UNITS
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+from notchkit.report.summary import state_word
 
 DESCRIPTION = """\
 Survey the site, design every filter it needs and write the notch plan: a PDF with
@@ -16,7 +17,7 @@ filter's curve (PNG, CSV), its Touchstone .s2p and the plan JSON that
 
 EPILOG = """\
 exit codes: 0 every filter meets its requirements; 1 a filter does not (the plan is
-written all the same, marked NOT MET); 2 bad input or an unwritable output (nothing
+written all the same, marked DOES NOT MEET); 2 bad input or an unwritable output (nothing
 is written).
 
 Work on RF equipment can hurt: open stub ends carry high voltage at high power,
@@ -77,7 +78,7 @@ def run(args) -> int:
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:
-        print(f"  {f.title}: {'meets' if f.meets else 'NOT MET'}")
+        print(f"  {f.title}: {state_word(f.meets, loud=True)}")
     print(f"wrote {result.pdf} ({result.pages} pages)")
     if result.html is not None:
         print(f"wrote {result.html}")

@@ -106,7 +106,8 @@ def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: 
     o.append("<table>" + "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in pt.cover_facts)
              + "</table>")
     if pt.unmet:
-        o.append('<div class="notmet">' + f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:<br>"
+        o.append('<div class="notmet">'
+                 + f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:<br>"
                  + "<br>".join(_e(u) for u in pt.unmet) + "</div>")
     else:
         o.append(f'<p class="met">{_e(pt.verdict)}</p>')

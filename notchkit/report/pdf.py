@@ -31,7 +31,7 @@ from typing import Any
 
 from notchkit.report.files import write_bytes_atomic
 from notchkit.report.pdfdraw import Face, draw_plot, draw_sketch, text_lines
-from notchkit.report.text import NOT_MET, FilterText, PlanText, Table, Tag
+from notchkit.report.text import FilterText, PlanText, Table, Tag
 
 PAGE_SIZES_IN = {"a4": (210.0 / 25.4, 297.0 / 25.4), "letter": (8.5, 11.0)}
 """Page sizes in inches: ISO 216 A4 (210 x 297 mm) and ANSI US Letter (8.5 x 11 in)."""
@@ -423,7 +423,8 @@ def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
         page.y += len(lines) * page.pitch(body) + 0.02
     page.y += 0.15
     if pt.unmet:
-        page.boxed([f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:", *pt.unmet], 10.5)
+        page.boxed([f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:",
+                    *pt.unmet], 10.5)
     else:
         page.boxed([pt.verdict], 10.0)
     page.table(pt.filters_table, 8.5)

@@ -36,11 +36,18 @@ DOES_NOT_MEET = "does not meet"
 NOT_SHOWN = "not shown"
 
 
-def state_word(meets: bool | None) -> str:
-    """``"meets"``, ``"does not meet"`` or ``"not shown"`` (``None``: could not be measured)."""
+def state_word(meets: bool | None, *, loud: bool = False) -> str:
+    """``"meets"``, ``"does not meet"`` or ``"not shown"`` (``None``: could not be measured).
+
+    ``loud``: a failure in capitals (``"DOES NOT MEET"``), as printed plans and
+    terminal reports show it so that it is not overlooked. These are the only
+    pass/fail words of the terminal, the PDF, the HTML and the ``repr``.
+    """
     if meets is None:
         return NOT_SHOWN
-    return MEETS if meets else DOES_NOT_MEET
+    if meets:
+        return MEETS
+    return DOES_NOT_MEET.upper() if loud else DOES_NOT_MEET
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)

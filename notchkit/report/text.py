@@ -14,11 +14,13 @@ from dataclasses import dataclass
 from typing import Any
 
 from notchkit.cutlist import format_length
+from notchkit.report.summary import state_word
 from notchkit.tolerance import element_ids
 
-NOT_MET = "NOT MET"
+NOT_MET = state_word(False, loud=True)
+"""``DOES NOT MEET``: the printed failure word (:func:`notchkit.report.summary.state_word`)."""
 _MAX_ADVICE = 3
-MET = "met"
+MET = state_word(True)
 DASH = "-"
 
 
@@ -606,7 +608,7 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                           + (f", worst {worst:+.1f} dB)" if worst is not None else ")")),
         ("Filters designed", f"{len(designs)} with {n_stubs} stubs; "
                              f"{sum(f.meets for f in ftexts)} meet every requirement, "
-                             f"{len(unmet)} {NOT_MET}"),
+                             f"{len(unmet)} do not"),
         ("Lengths in", {"both": "millimetres and inches", "metric": "millimetres",
                         "imperial": "inches"}[units]),
     )
@@ -623,7 +625,8 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                     else "no filter is needed: no threat over the limit calls for a stub.")
     summary = (
         f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
-        f"{n_stubs} stubs; " + (f"{len(unmet)} filter(s) {NOT_MET}." if unmet else verdict_line),
+        f"{n_stubs} stubs; "
+        + (f"{len(unmet)} filter(s) DO NOT MEET their requirements." if unmet else verdict_line),
     )
     return PlanText(
         site_name=site.name, title=plan_title(site.name), cover_facts=facts, unmet=unmet,
