@@ -76,3 +76,20 @@ def test_state_words_are_the_same_everywhere():
 def test_anything_else_is_a_type_error():
     with pytest.raises(TypeError):
         summary_repr(object())
+
+
+def test_threats_without_an_order_print_a_dash_not_zero(capsys):
+    from notchkit.cli import main
+    from notchkit.report.text import order_text, threat_table
+
+    path = SITE.parent / "hilltop-repeaters.yaml"
+    sv = notchkit.survey(notchkit.load_site(path))
+    noise = [t for t in sv.threats if t.mechanism == "noise"]
+    assert noise, "the example site has transmitter-noise threats"
+    assert {order_text(t) for t in noise} == {"-"}
+    table = threat_table(sv)
+    col = table.header.index("Order")
+    assert all(row[col] != "0" for row in table.rows)
+    assert main(["survey", str(path)]) == 0
+    rows = [line.split() for line in capsys.readouterr().out.splitlines() if " noise " in line]
+    assert rows and all("0" not in r[r.index("noise") + 1:r.index("noise") + 2] for r in rows)

@@ -6,6 +6,7 @@ import json
 from collections.abc import Set
 
 from notchkit.errors import EXIT_OK
+from notchkit.report.text import order_text
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
@@ -92,7 +93,7 @@ def format_result(result) -> str:
             " + ".join(t.sources),
             t.victim,
             t.mechanism,
-            str(t.order),
+            order_text(t),
             f"{t.f_mhz:.4f}",
             f"{t.level_dbm:.1f}",
             f"{t.threshold_dbm:.1f}",

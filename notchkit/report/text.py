@@ -136,6 +136,13 @@ def rate_text(m_per_mhz: float, units: str = "both") -> str:
     return f"{1000.0 * m_per_mhz:.1f} mm/MHz"
 
 
+def order_text(threat: Any) -> str:
+    """A threat's order for the tables: the harmonic or product order, ``-`` where there is none
+    (transmitter noise, blocking: ``order`` 0)."""
+    order = int(getattr(threat, "order", 0) or 0)
+    return str(order) if order > 0 else DASH
+
+
 def mhz(x: float) -> str:
     """A frequency in MHz to 1 Hz resolution, trailing zeros dropped (``146.52``, ``155.475``)."""
     s = f"{float(x):.6f}".rstrip("0").rstrip(".")
@@ -283,7 +290,7 @@ def threat_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
     for i, (t, n) in enumerate(groups[:max_rows], start=1):
         source = t.product if t.mechanism in ("intermod", "blocking") else ", ".join(t.sources)
         rows.append((
-            str(i), source, t.victim, t.mechanism, str(t.order), mhz4(t.f_mhz),
+            str(i), source, t.victim, t.mechanism, order_text(t), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), str(n - 1) if n > 1 else DASH,
             threat_where(t),
         ))
