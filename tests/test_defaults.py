@@ -154,3 +154,53 @@ def test_plan_reports_progress(ridge, tmp_path):
     notchkit.plan(site, tmp_path / "p.pdf", progress=seen.append)
     assert any(m.startswith("F1") for m in seen) and seen[-1] == "writing the PDF"
     assert not (tmp_path / "p.pdf.tmp").exists()
+
+
+@pytest.fixture
+def chatter():
+    from notchkit.cli import progress
+
+    yield progress
+    progress.configure()
+
+
+@pytest.mark.parametrize("argv", [["-q", "check", "SITE"], ["check", "SITE", "--quiet"]])
+def test_quiet_is_accepted_before_or_after_the_command(argv, chatter, capsys):
+    argv = [str(SITES / "ridge-eoc.yaml") if a == "SITE" else a for a in argv]
+    assert main(argv) == 0
+    assert capsys.readouterr().err == ""
+    assert terminal_progress(stream=_Tty(True)) is None  # quiet: no progress even on a terminal
+
+
+def test_quiet_and_verbose_together_is_a_usage_error(chatter, capsys):
+    with pytest.raises(SystemExit) as exc:
+        main(["-q", "check", str(SITES / "ridge-eoc.yaml"), "-v"])
+    assert exc.value.code == 2
+    assert capsys.readouterr().err.count("\n") == 1
+
+
+def test_verbose_progress_is_plain_lines_off_a_terminal(chatter):
+    chatter.configure(verbose=True)
+    out = _Tty(False)
+    p = terminal_progress(stream=out)
+    assert p is not None
+    p("F1 (1/2 done)")
+    p("writing the PDF")
+    p.done()
+    assert out.getvalue() == "F1 (1/2 done)\nwriting the PDF\n"
+
+
+def test_quiet_counts_warnings_instead_of_printing_them(capsys):
+    import warnings
+
+    from notchkit.cli import _print_warnings
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        warnings.warn("cable X: no loss table", UserWarning, stacklevel=1)
+        warnings.warn("cable X: no loss table", UserWarning, stacklevel=1)
+        warnings.warn("sweep is coarse", UserWarning, stacklevel=1)
+    _print_warnings(caught, quiet=True)
+    assert capsys.readouterr().err == "warning: 2 warning(s) not shown (run without --quiet to see them)\n"
+    _print_warnings(caught)
+    assert capsys.readouterr().err == "warning: cable X: no loss table\nwarning: sweep is coarse\n"

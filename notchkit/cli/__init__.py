@@ -46,10 +46,21 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"notchkit {__version__}")
+    _add_chatter_flags(parser, False)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMANDS:
         importlib.import_module(f"notchkit.cli.{name}").add_parser(sub)
+    for p in sub.choices.values():  # also after the command: notchkit plan SITE -o P.pdf -q
+        _add_chatter_flags(p, argparse.SUPPRESS)
     return parser
+
+
+def _add_chatter_flags(p: argparse.ArgumentParser, default: object) -> None:
+    g = p.add_mutually_exclusive_group()
+    g.add_argument("-q", "--quiet", action="store_true", default=default,
+                   help="no progress and no warning lines on stderr, only their count (errors still show)")
+    g.add_argument("-v", "--verbose", action="store_true", default=default,
+                   help="progress as plain lines on stderr, also when stderr is not a terminal")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -58,30 +69,38 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "run", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
+    if args.quiet and args.verbose:
+        return parser.exit(EXIT_BAD_INPUT, "error: notchkit: --quiet and --verbose together\n")
+    from notchkit.cli import progress
+
+    progress.configure(quiet=args.quiet, verbose=args.verbose)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("default")
         try:
             code = int(args.run(args))
         except NotchkitError as exc:
-            _print_warnings(caught)
+            _print_warnings(caught, args.quiet)
             for line in exc.lines():
                 print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
             return exc.exit_code
         except KeyboardInterrupt:
             print("error: interrupted", file=sys.stderr)
             return 130
-    _print_warnings(caught)
+    _print_warnings(caught, args.quiet)
     return code
 
 
-def _print_warnings(caught) -> None:
-    """Each warning raised during a command as one ``warning: ...`` line on stderr."""
-    seen = set()
+def _print_warnings(caught, quiet: bool = False) -> None:
+    """Each warning raised during a command as one ``warning: ...`` line on stderr
+    (``quiet``: one line with their count)."""
+    seen: dict[str, None] = {}
     for w in caught:
-        text = " ".join(str(w.message).split())
-        if text not in seen:
-            seen.add(text)
-            print(f"warning: {text}", file=sys.stderr)
+        seen.setdefault(" ".join(str(w.message).split()), None)
+    if quiet and seen:
+        print(f"warning: {len(seen)} warning(s) not shown (run without --quiet to see them)", file=sys.stderr)
+        return
+    for text in seen:
+        print(f"warning: {text}", file=sys.stderr)
 
 
 def entry() -> None:

@@ -5,7 +5,6 @@ from __future__ import annotations
 import json
 import math
 import re
-import sys
 from pathlib import Path
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
@@ -118,7 +117,7 @@ def run(args) -> int:
         cable = get_cable(args.cable or DEFAULT_CABLE)
         report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress)
     if progress is not None:
-        print("", file=sys.stderr)
+        progress.done()
     written: tuple[Path, ...] = ()
     if args.touchstone is not None:
         written = write_touchstones(report, args.touchstone)
@@ -132,14 +131,9 @@ def run(args) -> int:
 
 
 def _progress(args):
-    if args.json or not sys.stderr.isatty():
-        return None
+    from notchkit.cli.progress import terminal_progress
 
-    def show(message: str) -> None:
-        sys.stderr.write("\r\x1b[K" + message[:100])
-        sys.stderr.flush()
-
-    return show
+    return terminal_progress(enabled=not args.json)
 
 
 # ---------------------------------------------------------------- formatting
