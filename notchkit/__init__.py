@@ -15,7 +15,12 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-from notchkit.asbuilt import RecheckResult, recheck
+from notchkit import interrupts as _interrupts  # noqa: E402 - before numpy: Ctrl-C while starting
+
+if _interrupts.running_as_command():
+    _interrupts.guard_startup()
+
+from notchkit.asbuilt import RecheckResult, recheck  # noqa: E402
 from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.cutlist import StubCut, cut_list, format_length
 from notchkit.design import Design, DesignReport, design, design_request

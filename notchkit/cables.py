@@ -251,7 +251,7 @@ class Cable:
 
     def conductor_loss_db_per_100m(self, freq_mhz: npt.ArrayLike) -> np.ndarray:
         """Conductor (R) part of the matched-line loss, dB/100 m (``k_sqrt sqrt(f) g(f)``)."""
-        f = np.asarray(freq_mhz, dtype=float)
+        f = self._mhz(freq_mhz)
         out = self.k_sqrt * np.sqrt(f)
         if self.centre_conductor == "ccs" and self.cladding_um is not None:
             out = out * _ccs_factor(f, self.cladding_um, self.centre_share)
@@ -259,7 +259,17 @@ class Cable:
 
     def dielectric_loss_db_per_100m(self, freq_mhz: npt.ArrayLike) -> np.ndarray:
         """Dielectric (G) part of the matched-line loss, dB/100 m (``k_lin f``)."""
-        return self.k_lin * np.asarray(freq_mhz, dtype=float)
+        return self.k_lin * self._mhz(freq_mhz)
+
+    def _mhz(self, freq_mhz: npt.ArrayLike) -> np.ndarray:
+        """``freq_mhz`` as a float array; a negative, NaN or infinite frequency is a CableError."""
+        f = np.asarray(freq_mhz, dtype=float)
+        ok = np.isfinite(f) & (f >= 0.0)
+        if not ok.all():
+            bad = float(f[~ok].flat[0])
+            raise CableError(f"cable {self.name}: loss asked at {bad:g} MHz "
+                             "(allowed: finite frequencies >= 0 MHz)")
+        return f
 
     def loss_db_per_100m(self, freq_mhz: npt.ArrayLike) -> np.ndarray:
         """Matched-line loss in dB per 100 m.
@@ -274,9 +284,14 @@ class Cable:
         ndarray
             ``k_sqrt sqrt(f) g(f) + k_lin f``, same shape as ``freq_mhz``
             (``g = 1`` unless the centre conductor is copper-clad steel).
+
+        Raises
+        ------
+        CableError
+            A frequency that is negative, NaN or infinite.
         """
-        return self.conductor_loss_db_per_100m(freq_mhz) + self.dielectric_loss_db_per_100m(
-            freq_mhz)
+        f = self._mhz(freq_mhz)
+        return self.conductor_loss_db_per_100m(f) + self.dielectric_loss_db_per_100m(f)
 
     def loss_db_per_100ft(self, freq_mhz: npt.ArrayLike) -> np.ndarray:
         """Matched-line loss in dB per 100 ft (``loss_db_per_100m * 0.3048``)."""

@@ -140,10 +140,9 @@ def read_calibration(path: str | os.PathLike[str]) -> SpoolCalibration:
 
 def write_calibration(path: str | os.PathLike[str], cal: SpoolCalibration) -> Path:
     """Write ``cal`` atomically (temporary file in the same folder, then a rename)."""
-    from notchkit.fileio import write_text_atomic
+    from notchkit.fileio import write_bytes_atomic
 
-    return write_text_atomic(path, json.dumps(cal.to_json(), indent=2, allow_nan=False) + "\n",
-                             what="calibration")
+    return write_bytes_atomic(path, calibration_bytes(cal), what="calibration")
 
 
 def sample_from_trim(result: Any, piece: str | None = None) -> Sample:
@@ -191,8 +190,11 @@ def sample_from_verify(result: Any) -> Sample:
                   loss_scale=float(d.loss_scale), measurement=str(result.measurement))
 
 
-def record(path: str | os.PathLike[str], *, spool: str, cable: str, sample: Sample) -> SpoolCalibration:
-    """Add ``sample`` to the spool's calibration file (created if missing) and write it.
+def record(path: str | os.PathLike[str], *, spool: str, cable: str, sample: Sample,
+           write: bool = True) -> SpoolCalibration:
+    """Add ``sample`` to the spool's calibration file (created if missing) and write it
+    (``write=False``: only check and return the new content, for a caller that writes it
+    together with its other outputs: :func:`calibration_bytes`).
 
     Raises
     ------
@@ -214,8 +216,16 @@ def record(path: str | os.PathLike[str], *, spool: str, cable: str, sample: Samp
     else:
         cal = SpoolCalibration(spool=spool, cable=cable)
     cal = dataclasses.replace(cal, samples=(*cal.samples, sample))
-    write_calibration(p, cal)
+    if write:
+        write_calibration(p, cal)
     return cal
+
+
+def calibration_bytes(cal: SpoolCalibration) -> bytes:
+    """The file content :func:`write_calibration` writes."""
+    from notchkit.jsonvalues import dumps
+
+    return (dumps(cal.to_json(), indent=2) + "\n").encode("utf-8")
 
 
 def _key(name: str) -> str:
@@ -307,6 +317,7 @@ __all__ = [
     "CalibrationError",
     "read_calibration",
     "write_calibration",
+    "calibration_bytes",
     "record",
     "sample_from_trim",
     "sample_from_verify",

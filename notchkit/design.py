@@ -22,8 +22,8 @@ from typing import Any
 
 import numpy as np
 
-from notchkit.errors import DesignError, InputError
-from notchkit.filters import Filter, write_touchstone
+from notchkit.errors import DesignError
+from notchkit.filters import Filter
 from notchkit.jsonvalues import finite
 from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement, NotchSpec
@@ -416,30 +416,33 @@ def touchstone_name(d: Design) -> str:
     return f"{stem}.s2p"
 
 
-def write_touchstones(report: DesignReport, folder: str | os.PathLike) -> tuple[Path, ...]:
-    """Write one ``.s2p`` per filter into ``folder`` (created if missing), atomically each.
+def write_touchstones(report: DesignReport, folder: str | os.PathLike,
+                      inputs: Sequence[str | os.PathLike | tuple[Any, str] | None] = ()) -> tuple[Path, ...]:
+    """Write one ``.s2p`` per filter into ``folder`` (created if missing): all or none.
+
+    ``inputs`` are the files the command read (the site file): no output may be one of them.
 
     Raises
     ------
     InputError
-        The folder cannot be created or written (checked before any file is written).
+        The folder cannot be created or written, or an output would replace an
+        input or another output (checked before any file is written).
     """
+    from notchkit.fileio import write_all
+    from notchkit.filters import touchstone_text
+    from notchkit.report.files import plan_outputs
+
     folder = Path(folder)
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(f"--touchstone {folder}: cannot create the folder ({exc.strerror or exc})") from exc
-    if not folder.is_dir():
-        raise InputError(f"--touchstone {folder}: not a folder")
-    if not os.access(folder, os.W_OK | os.X_OK):
-        raise InputError(f"--touchstone {folder}: folder is not writable")
-    out = []
-    for d in report.designs:
+    paths = plan_outputs([(folder / touchstone_name(d), "Touchstone file") for d in report.designs],
+                         inputs=inputs, dirs=[(folder, "--touchstone")])
+    files = []
+    for d, path in zip(report.designs, paths, strict=True):
         comment = (f"notchkit design {d.id}: {d.where}\n{describe(d.filter)}\n"
                    f"cable {getattr(d.cable, 'name', '?')}, meets: {d.meets}")
-        out.append(write_touchstone(d.filter, touchstone_sweep_hz(d.requirement), folder / touchstone_name(d),
-                                    z_system=d.solution.z_system, comment=comment))
-    return tuple(out)
+        text = touchstone_text(d.filter, touchstone_sweep_hz(d.requirement), d.solution.z_system, comment,
+                               name=path.stem)
+        files.append((path, text.encode("utf-8"), "Touchstone file"))
+    return tuple(write_all(files, make_dir=folder))
 
 
 # ---------------------------------------------------------------- JSON

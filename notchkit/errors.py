@@ -36,8 +36,11 @@ class NotchkitError(Exception):
     exit_code: int = EXIT_BAD_INPUT
 
     def lines(self) -> list[str]:
-        """The one-line messages to print, one per problem."""
-        return [str(self)]
+        """The one-line messages to print, one per problem (control, bidi and line-break
+        characters from a file name or a quoted value shown as escapes)."""
+        from notchkit.textsafe import clean
+
+        return [clean(str(self), one_line=True)]
 
 
 class NotchkitWarning(UserWarning):
@@ -79,8 +82,11 @@ class Problem:
     message: str
 
     def __str__(self) -> str:
-        where = f"{self.path}:{self.line}:{self.col}"
-        return f"{where}: {self.field}: {self.message}" if self.field else f"{where}: {self.message}"
+        from notchkit.textsafe import clean
+
+        where = f"{clean(self.path, one_line=True)}:{self.line}:{self.col}"
+        text = f"{where}: {self.field}: {self.message}" if self.field else f"{where}: {self.message}"
+        return clean(text, one_line=True)
 
 
 class SiteError(NotchkitError):

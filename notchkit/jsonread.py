@@ -27,15 +27,15 @@ class JsonFileError(InputError):
 
 def read_text_bounded(p: Path, what: str, limit: int, error: type[JsonFileError] = JsonFileError) -> str:
     """The file's text, refusing what is not a readable UTF-8 file of bounded size."""
-    try:
-        with open(p, "rb") as fh:
-            data = fh.read(limit + 1)
-    except FileNotFoundError:
-        raise error(f"{p}: no such {what} file") from None
-    except IsADirectoryError:
-        raise error(f"{p}: is a directory, not a {what} JSON file") from None
-    except OSError as exc:
-        raise error(f"{p}: cannot be read ({exc.strerror or exc})") from None
+    from notchkit.bounded import ReadRefused, read_regular
+
+    try:  # a regular file only (a FIFO would hang, /dev/zero never ends), opened without blocking
+        data = read_regular(p, limit)
+    except ReadRefused as exc:
+        reason = {"missing": f"no such {what} file", "directory": f"is a directory, not a {what} JSON file",
+                  "too_big": f"larger than {limit // (1024 * 1024)} MiB (not a notchkit {what} JSON)",
+                  "special": f"{exc.reason} (give a notchkit {what} JSON file)"}.get(exc.kind, exc.reason)
+        raise error(f"{p}: {reason}") from None
     if len(data) > limit:
         raise error(f"{p}: larger than {limit // (1024 * 1024)} MiB (not a notchkit {what} JSON)")
     try:
@@ -218,17 +218,16 @@ def locate(text: str, pointer: tuple[str | int, ...]) -> tuple[int, int]:
 
 
 def parse_json(text: str, p: Path, error: type[JsonFileError] = JsonFileError) -> Any:
-    """``text`` parsed; NaN, Infinity, deep nesting and over-long integers are one-line errors."""
+    """``text`` parsed; NaN, Infinity, deep nesting and over-long integers are one-line errors.
+
+    The nesting and the numbers are checked by :func:`notchkit.bounded.load_json` (a depth
+    cap before parsing, finite numbers of bounded length), with the line and column."""
+    from notchkit.bounded import JsonRefused, load_json
+
     try:
-        return json.loads(text, parse_constant=_no_constant)
-    except json.JSONDecodeError as exc:
-        raise error(f"{p}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg})") from None
-    except _Constant as exc:
-        raise error(f"{p}: {exc.args[0]} is not a JSON number (finite numbers only)") from None
-    except RecursionError:
-        raise error(f"{p}: nested too deeply (not a notchkit JSON file)") from None
-    except ValueError as exc:  # e.g. an integer with more digits than Python converts
-        raise error(f"{p}: {str(exc).splitlines()[0][:100]}") from None
+        return load_json(text)
+    except JsonRefused as exc:
+        raise error(f"{p}:{exc.line}:{exc.col}: {exc.message}") from None
 
 
 __all__ = ["JsonFileError", "Reader", "locate", "parse_json", "read_text_bounded"]

@@ -20,3 +20,14 @@ def finite(x: float, what: str, *, clip_inf: bool = False, digits: int | None = 
             raise DesignError(f"internal: non-finite value {x!r} in {what}")
         x = math.copysign(1e300, x)
     return round(x, digits) if digits is not None else x
+
+
+def dumps(doc: object, **kwargs: object) -> str:
+    """``json.dumps(doc, allow_nan=False)``; a NaN or infinity anywhere is a clear
+    :class:`DesignError` (never ``NaN``/``Infinity`` in the output, never a traceback)."""
+    import json
+
+    try:
+        return json.dumps(doc, allow_nan=False, **kwargs)  # type: ignore[arg-type]
+    except ValueError as exc:
+        raise DesignError(f"internal: a non-finite number would be written as JSON ({exc})") from None

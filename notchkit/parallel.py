@@ -45,6 +45,8 @@ def _start_worker(parent_pid: int, initializer: Callable[[], None] | None) -> No
         pass
     if os.getppid() != parent_pid:  # the parent died before prctl took effect
         os._exit(1)
+    # Ctrl-C reaches the whole process group: the parent handles it (and ends the workers).
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
     if initializer is not None:
         initializer()
 
@@ -101,8 +103,9 @@ def fork_map(
         return None
     out: list[Any] = [None] * len(items)
     try:
-        with ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"),
-                                 initializer=_start_worker, initargs=(os.getpid(), initializer)) as pool:
+        pool = ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"),
+                                   initializer=_start_worker, initargs=(os.getpid(), initializer))
+        try:
             # With fork, every worker is started at the first submit, before the
             # pool's own thread: nothing here runs in a thread while forking.
             futures = {pool.submit(fn, item): k for k, item in enumerate(items)}
@@ -113,6 +116,16 @@ def fork_map(
                 out[k] = fut.result()
                 if on_result is not None:
                     on_result(k, out[k], done)
+        except BaseException:
+            # An error or Ctrl-C here: end the workers now rather than wait for every job.
+            for proc in list((getattr(pool, "_processes", None) or {}).values()):
+                try:
+                    proc.kill()
+                except (OSError, AttributeError):
+                    pass
+            pool.shutdown(wait=False, cancel_futures=True)
+            raise
+        pool.shutdown(wait=True)
     except (OSError, ImportError, BrokenProcessPool):
         # OSError: no processes or pipes allowed; ImportError: no working sem_open
         # (no /dev/shm in some containers); BrokenProcessPool: a worker was killed.

@@ -4,20 +4,21 @@
 on a site, builds every printed row once (:mod:`notchkit.report.text`) and
 writes the PDF, and optionally a self-contained HTML page and an output
 folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
-plan's JSON. Every output path is checked for writability before the long
-computation; every file is written atomically; the site file is only read.
+plan's JSON. Every output is planned and checked together before the long
+computation (:func:`notchkit.report.files.plan_outputs`; the per-filter names
+again once the survey is done), and all are written together, all or none
+(:func:`notchkit.fileio.write_all`); the site file is only read.
 """
 
 from __future__ import annotations
 
 import datetime as _dt
-import json
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from notchkit.errors import InputError, UsageError
+from notchkit.errors import UsageError
 from notchkit.report.summary import summary_html, summary_repr
 
 UNITS = ("metric", "imperial", "both")
@@ -65,21 +66,37 @@ class PlanResult:
         return (*out, *self.files)
 
 
-def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str) -> None:
-    from notchkit.report.files import check_dir_writable, check_writable
-
-    paths = [check_writable(out_pdf, "PDF")]
+def _outputs(out_pdf: Any, html: Any, outdir: Any, stems: list[str] | None) -> list[tuple[Any, str]]:
+    """Every file the plan writes and how messages name it; ``stems`` (the filters'
+    file stems, known once the survey is done) adds the per-filter files in ``outdir``."""
+    outs: list[tuple[Any, str]] = [(out_pdf, "PDF")]
     if html is not None:
-        paths.append(check_writable(html, "HTML"))
+        outs.append((html, "HTML"))
     if outdir is not None:
-        check_dir_writable(outdir, "--outdir")
-    if site_path:
-        src = Path(site_path).resolve()
-        for p in paths:
-            if p.resolve() == src:
-                raise InputError(f"output {str(p)!r} is the site file itself (choose another output name)")
-    if html is not None and Path(html).resolve() == Path(out_pdf).resolve():
-        raise InputError(f"HTML path {str(html)!r} is the same file as the PDF")
+        folder = Path(outdir)
+        for stem in stems or ():
+            outs += [(folder / f"{stem}.png", "--outdir curve"), (folder / f"{stem}.csv", "--outdir CSV"),
+                     (folder / f"{stem}.s2p", "Touchstone file")]
+        outs.append((folder / PLAN_JSON, "plan JSON"))
+    return outs
+
+
+def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str,
+                   stems: list[str] | None = None) -> None:
+    from notchkit.report.files import plan_outputs
+
+    plan_outputs(_outputs(out_pdf, html, outdir, stems), inputs=[(site_path or None, "site file")],
+                 dirs=[(outdir, "--outdir")] if outdir is not None else [])
+
+
+def _stems(sv: Any) -> list[str]:
+    """The file stems of the filters a survey asks for (``F1-wx-alert-rx``), as design names them."""
+    from types import SimpleNamespace
+
+    from notchkit.design import touchstone_name
+
+    stand_ins: list[Any] = [SimpleNamespace(id=f"F{i}", requirement=r) for i, r in enumerate(sv.filters, 1)]
+    return [touchstone_name(d).removesuffix(".s2p") for d in stand_ins]
 
 
 def _run_design(site: Any, under_way: _UnderWay | None = None, progress: Any = None) -> Any:
@@ -103,10 +120,11 @@ class _UnderWay:
     """
 
     def __init__(self, site: Any, *, units: str, plan_json: str, page_size: str, footer: str,
-                 images: bool, analyser_mhz: tuple[float, float] | None = None) -> None:
+                 images: bool, check: Any = None, analyser_mhz: tuple[float, float] | None = None) -> None:
         self.site, self.units, self.plan_json = site, units, plan_json
         self.analyser_mhz = analyser_mhz
         self.page_size, self.footer, self.images = page_size, footer, images
+        self.check = check
         self.pdf: Any = None
         self.parts: dict[int, tuple[Any, Any, Any]] = {}
 
@@ -114,13 +132,17 @@ class _UnderWay:
         from notchkit.report.pdf import PlanPdf, choose_font, strings_of
         from notchkit.report.text import CAUTIONS, matrix_table, plan_title, threat_table
 
+        if self.check is not None:  # every output, now that the filters' file names are known
+            self.check(sv)
         if self.images:
             import matplotlib.backends.backend_agg  # noqa: F401
             import matplotlib.figure  # noqa: F401
         matrix, threats = matrix_table(sv), threat_table(sv)
         # The site's own strings decide the font (only they can hold characters outside
         # Windows-1252); the finished plan checks the choice.
-        font = choose_font([*strings_of(self.site), str(self.site.path), self.footer,
+        from notchkit.textsafe import clean
+
+        font = choose_font([*strings_of(self.site), clean(str(self.site.path), one_line=True), self.footer,
                             *strings_of((matrix, threats))])
         self.pdf = PlanPdf(title=plan_title(self.site.name), font=font, page_size=self.page_size,
                            footer=self.footer)
@@ -145,6 +167,13 @@ def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
     filt = design_filter(d)
     spans = _spans(d, site)
     return filt, curve_data(filt, spans[0] + spans[1]), spans
+
+
+def _stem_of(d: Any) -> str:
+    """A design's file stem in ``outdir`` (``F1-wx-alert-rx``)."""
+    from notchkit.design import touchstone_name
+
+    return touchstone_name(d).removesuffix(".s2p")
 
 
 def _filter_files(job: tuple) -> tuple[bytes, bytes, str | None]:
@@ -246,9 +275,7 @@ def plan(
         A site file with problems.
     """
     import notchkit
-    from notchkit.report.curves import write_curve_csv
-    from notchkit.report.files import write_bytes_atomic
-    from notchkit.report.pdf import page_size_in, write_pdf
+    from notchkit.report.pdf import page_size_in, render_pdf
     from notchkit.report.text import design_id, plan_text
 
     if units not in UNITS:
@@ -266,7 +293,8 @@ def plan(
 
         site = load_site(site_path)
     else:
-        _check_outputs(out_pdf, html, outdir, str(getattr(site, "path", "") or ""))
+        site_path = str(getattr(site, "path", "") or "")
+        _check_outputs(out_pdf, html, outdir, site_path)
 
     if calibration:
         from notchkit.calibration import apply
@@ -279,7 +307,8 @@ def plan(
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
     images = html is not None or outdir is not None
     under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
-                          images=images, analyser_mhz=analyser_mhz)
+                          images=images, analyser_mhz=analyser_mhz,
+                          check=lambda sv: _check_outputs(out_pdf, html, outdir, site_path, _stems(sv)))
     report = _run_design(site, under_way=under_way, progress=progress)
     sv = getattr(report, "survey", None)
     if sv is None:
@@ -287,19 +316,21 @@ def plan(
 
         sv = survey(site)
     designs = _designs(report)
+    stems = [_stem_of(d) for d in designs]
+    _check_outputs(out_pdf, html, outdir, site_path, stems)
     say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
                    plan_json=json_name, analyser_mhz=analyser_mhz)
     parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
-    pdf_path, layout = write_pdf(out_pdf, pt, parts, page_size=page_size, footer=footer,
-                                 under_way=under_way.pdf)
+    pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer, under_way=under_way.pdf)
 
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
-        from notchkit.design import touchstone_name, touchstone_sweep_hz
+        from notchkit.design import touchstone_sweep_hz
         from notchkit.parallel import fork_map
 
         say("drawing the images")
+
         jobs = []
         for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
             touchstone = None
@@ -307,32 +338,37 @@ def plan(
                 z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
                 touchstone = (touchstone_sweep_hz(d.requirement), z_system,
                               f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
-                              touchstone_name(d).removesuffix(".s2p"))
+                              _stem_of(d))
             jobs.append((filt, curve, spans, ft, touchstone))
         made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
     pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
-    html_path = None
+
+    # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
+    writes: list[tuple[Any, bytes, str]] = [(out_pdf, pdf_bytes, "PDF")]
     if html is not None:
-        from notchkit.report.html import write_html
+        from notchkit.report.html import render_html
 
-        html_path = write_html(html, pt, pngs, footer=footer)
-
-    files: list[Path] = []
+        writes.append((html, render_html(pt, pngs, footer=footer).encode("utf-8"), "HTML"))
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
+    n_before = len(writes)
     if outdir is not None:
-        from notchkit.report.files import write_text_atomic
+        from notchkit.report.curves import curve_csv_text
 
         folder = Path(outdir)
-        try:
-            folder.mkdir(parents=False, exist_ok=True)
-        except OSError as exc:
-            raise InputError(f"--outdir {str(folder)!r}: cannot create ({exc.strerror or exc})") from exc
-        for d, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(designs, parts, made, strict=True):
-            stem = touchstone_name(d).removesuffix(".s2p")
-            files.append(write_bytes_atomic(folder / f"{stem}.png", curve_png))
-            files.append(write_curve_csv(curve, folder / f"{stem}.csv"))
-            files.append(write_text_atomic(folder / f"{stem}.s2p", s2p or "", what="Touchstone file"))
-        files.append(write_text_atomic(folder / PLAN_JSON, json.dumps(doc, indent=2, allow_nan=False) + "\n"))
+        for stem, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
+            writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
+                       (folder / f"{stem}.csv", curve_csv_text(curve).encode("utf-8"), "--outdir CSV"),
+                       (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
+        from notchkit.jsonvalues import dumps
+
+        writes.append((json_path, (dumps(doc, indent=2) + "\n").encode("utf-8"),
+                       "plan JSON"))
+    from notchkit.fileio import write_all
+
+    written = write_all(writes, make_dir=outdir)
+    pdf_path = written[0]
+    html_path = written[1] if html is not None else None
+    files = written[n_before:]
 
     return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
                       pages=layout.total, layout=layout, html=html_path,

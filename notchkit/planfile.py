@@ -9,7 +9,7 @@ cannot disagree (a round-trip test runs on a real plan). Parts no reader uses
 plain data in ``extra``.
 
 Reading is bounded and validated (:func:`read_plan`): at most
-:data:`MAX_PLAN_BYTES`, nesting at most what the JSON parser allows, finite
+:data:`MAX_PLAN_BYTES` of a regular file, nesting at most 64 levels (:mod:`notchkit.bounded`), finite
 numbers only, and every problem is one line
 ``FILE:LINE:COL: filters[0].elements[1].quarter_waves: what is wrong (what is allowed)``
 raised as :class:`PlanFileError` (exit code 2).

@@ -204,6 +204,12 @@ def default_heat_limit_w_per_m(cable: Any) -> float:
     return HEAT_W_PER_M_PER_MM_OD * float(od) if od else DEFAULT_HEAT_LIMIT_W_PER_M
 
 
+MAX_MODEL_LOSS_NP = 300.0
+"""Most cable loss (nepers, about 2600 dB) in one filter the voltage model takes:
+``cosh`` of the line's ``gamma l`` overflows a float near 710 Np, and a product
+of two such terms near half that. A real stub loses a few dB."""
+
+
 def _grid(length_m: float, wavelength_m: float) -> np.ndarray:
     n = int(min(100_001, max(721, math.ceil(720.0 * length_m / wavelength_m) + 1)))
     return np.linspace(0.0, length_m, n)
@@ -259,6 +265,13 @@ def power_check(
     cable = filt.cable
     f_hz = freq_mhz * 1e6
     alpha = float(np.asarray(cable.alpha_np_per_m(f_hz)))
+    total_m = sum(max(float(e.length_m), MIN_MODEL_LENGTH_M) for e in filt.elements)
+    if not (math.isfinite(total_m) and alpha * total_m <= MAX_MODEL_LOSS_NP):
+        raise DesignError(
+            f"{filter_id}: {total_m:g} m of {getattr(cable, 'name', 'cable')} loses "
+            f"{alpha * total_m * 8.685889638:.0f} dB at {freq_mhz:g} MHz, too much to model its "
+            f"voltages (allowed: at most {MAX_MODEL_LOSS_NP * 8.685889638:.0f} dB of cable in one "
+            "filter; a stub is a fraction of a wavelength to a few wavelengths long)")
     g = complex(gamma(f_hz, alpha, cable.velocity_factor))
     z0 = float(cable.z0_ohm)
     wavelength = C0 * cable.velocity_factor / f_hz

@@ -83,6 +83,9 @@ SAFETY = (
     "Safety: trim with the transmitter off; never trim a stub connected to a transmitter. "
     "Open stub ends carry high voltage at power."
 )
+MAX_LENGTH_M = 10_000.0
+"""Longest present stub length (and tee allowance) trim works with, m: far beyond any
+stub, small enough that every figure stays finite."""
 INCH_M = 0.0254
 """Metres per inch (exact by definition)."""
 MIN_VF = 0.30
@@ -240,14 +243,9 @@ def read_measurement(path: str | os.PathLike[str]):
             f"{p}: extension {p.suffix or '(none)'!r} is not a one- or two-port Touchstone "
             f"file (use .s1p for the stub alone, .s2p through the tee)"
         )
-    try:
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise MeasurementError(f"{p}: no such measurement file") from None
-    except IsADirectoryError:
-        raise MeasurementError(f"{p}: is a directory, not a Touchstone file") from None
-    except OSError as exc:
-        raise MeasurementError(f"{p}: cannot be read ({exc.strerror or exc})") from None
+    from notchkit.bounded import MAX_SWEEP_POINTS, read_measurement_bytes
+
+    data = read_measurement_bytes(p)  # a regular file within the byte and point caps
     if not data.strip():
         raise MeasurementError(f"{p}: is empty (expected a Touchstone {suffix} sweep)")
     if b"\0" in data:
@@ -270,6 +268,9 @@ def read_measurement(path: str | os.PathLike[str]):
     if ntwk.nports not in (1, 2):
         raise MeasurementError(f"{p}: has {ntwk.nports} ports; notchkit reads 1 (.s1p) or 2 (.s2p)")
     f = np.asarray(ntwk.f, dtype=float)
+    if f.size > MAX_SWEEP_POINTS:
+        raise MeasurementError(f"{p}: has {f.size} frequency points; at most {MAX_SWEEP_POINTS} "
+                               f"are read (sweep fewer points)")
     if f.size < MIN_POINTS:
         raise MeasurementError(
             f"{p}: has {f.size} frequency points; need at least {MIN_POINTS} (a sweep)"
@@ -431,12 +432,12 @@ def _check_arguments(target_mhz, length_m, allowance_m, plan_length, plan_path, 
     if target_mhz is None and plan_path is None:
         raise named(UsageError("target_mhz: required unless a plan gives the stub's resonance"),
                      "target_mhz")
-    if length_m is not None and not _finite_positive(length_m):
-        raise named(UsageError(f"length_m: {length_m!r} must be the present stub length in metres > 0"),
-                     "length_m")
+    if length_m is not None and not (_finite_positive(length_m) and float(length_m) <= MAX_LENGTH_M):
+        raise named(UsageError(f"length_m: {length_m!r} must be the present stub length in metres > 0 "
+                               f"and at most {MAX_LENGTH_M:g}"), "length_m")
     if allowance_m is not None:
         try:
-            ok = math.isfinite(float(allowance_m)) and float(allowance_m) >= 0.0
+            ok = math.isfinite(float(allowance_m)) and 0.0 <= float(allowance_m) <= MAX_LENGTH_M
         except (TypeError, ValueError):
             ok = False
         if not ok:
@@ -537,6 +538,11 @@ def trim(
     ``cut = Le (1 - f_res / f_target)``.
     """
     _check_arguments(target_mhz, length_m, allowance_m, plan_length, plan_path, stub_id)
+    if png_path is not None:  # the plot's file, checked against the inputs before any work
+        from notchkit.report.files import plan_outputs
+
+        plan_outputs([(png_path, "--png")], inputs=[(measurement_path, "measurement"),
+                                                        (plan_path, "plan JSON")])
     cable_obj = _cable(cable)
     stub = None if plan_path is None else load_plan_stub(plan_path, str(stub_id))
     if stub is None and termination not in ("open", "short"):
@@ -552,6 +558,10 @@ def trim(
     ratio = res.freq_mhz / tgt.target_mhz
     notes = _resonance_warnings(res, ratio, n, expected_q(cable_obj, res.freq_hz), cable_obj)
     vf = target_len = cut = None
+    if tgt.present_length_m is not None and not tgt.present_length_m + tgt.allowance_m <= MAX_LENGTH_M:
+        raise named(UsageError(f"{tgt.length_source}: {tgt.present_length_m:g} m (+ {tgt.allowance_m:g} m "
+                               f"allowance) is longer than any stub (allowed: at most {MAX_LENGTH_M:g} m)"),
+                    "length_m")
     if tgt.present_length_m is not None:
         le = tgt.present_length_m + tgt.allowance_m
         vf = effective_vf(le, res.freq_hz, n)

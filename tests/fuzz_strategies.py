@@ -527,6 +527,72 @@ def broken_touchstone(draw) -> dict[str, Any]:
 
 
 # ---------------------------------------------------------------------------
+# trim's options and the plan JSON it reads
+# ---------------------------------------------------------------------------
+
+HOSTILE_NUMBER_TEXT = [
+    "0", "-0", "1", "-1", "0.5", "1e-320", "5e-324", "1e300", "1e308", "1.7976931348623157e308", "1e309",
+    "inf", "-inf", "nan", "NaN", "Infinity", "0x10", "1_000", "1e", "", " ", "x", "9" * 400, "9" * 5000,
+    "1" * 40 + "/1", "$\\frac{1}{0}$", "\x1b[2J", "\u202e1",
+]
+"""Number texts an attack run gave trim's options and plan JSON: extremes of an IEEE 754
+double (5e-324 the smallest subnormal, 1.7976931348623157e308 the largest finite), values past
+them, spellings Python or JSON read differently, and text meant for a terminal or mathtext."""
+
+
+@st.composite
+def trim_options(draw) -> list[str]:
+    """A few of trim's numeric options, each with a hostile or an ordinary value."""
+    out: list[str] = []
+    options = ["--length-m", "--target-mhz", "--allowance-m",
+               "--quarter-waves" if has_option("trim", "--quarter-waves") else "--order"]
+    for opt in draw(st.lists(st.sampled_from(options), unique=True, max_size=4)):
+        value = draw(st.one_of(st.sampled_from(HOSTILE_NUMBER_TEXT),
+                               st.floats(allow_nan=True, allow_infinity=True).map(repr),
+                               st.integers(-10**30, 10**30).map(str)))
+        out.append(f"{opt}={value}")  # one word: argparse would read "-1e+16" as an option
+    return out
+
+
+_JSON_NUMBER = r'-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][-+]?\d+)?'
+
+
+@st.composite
+def mutated_plan_json(draw, text: str) -> str:
+    """A real plan JSON (as ``notchkit plan --outdir`` writes it) damaged in one way."""
+    import re as _re
+
+    kind = draw(st.sampled_from(["number", "number", "nest", "truncate", "string", "value", "bytes"]))
+    if kind == "number":  # one number token replaced by a hostile text
+        spans = [m.span() for m in _re.finditer(_JSON_NUMBER, text)]
+        a, b = spans[draw(st.integers(0, len(spans) - 1))]
+        token = draw(st.sampled_from(["1e999", "-1e999", "NaN", "Infinity", "-Infinity", "1e308", "-1e308",
+                                      "9" * draw(st.integers(30, 6000)), "1e-400", "-0", "0", "null",
+                                      "true", '"12"', "[]", "{}"]))
+        return text[:a] + token + text[b:]
+    if kind == "nest":  # the document wrapped in brackets
+        k = draw(st.sampled_from([1, 63, 64, 65, 1000, 100_000]))
+        return "[" * k + text + "]" * k
+    if kind == "truncate":
+        return text[: draw(st.integers(0, len(text)))]
+    if kind == "string":  # a control or bidi character inside a string, as JSON escapes it
+        spans = [m.span() for m in _re.finditer(r'"[^"\\]*"', text)]
+        a, b = spans[draw(st.integers(0, len(spans) - 1))]
+        esc = draw(st.sampled_from(["\\u001b[2J", "\\u202e", "\\u0000", "\\ud800", "\\n", "$x^$"]))
+        return text[: b - 1] + esc + text[b - 1 :]
+    if kind == "bytes":
+        head = text.encode("utf-8")[: draw(st.integers(0, 200))]
+        return head.decode("utf-8", errors="replace") + "\x00\xff"
+    doc = json.loads(text)  # one value anywhere replaced by another JSON value
+    where = draw(st.sampled_from(paths(doc)))
+    parent = _parent(doc, where)
+    parent[where[-1]] = draw(st.one_of(st.none(), st.booleans(), st.text(max_size=6),
+                                        st.floats(allow_nan=False, allow_infinity=False),
+                                        st.integers(-10**25, 10**25), st.just([]), st.just({})))
+    return json.dumps(doc)
+
+
+# ---------------------------------------------------------------------------
 # Which commands are built (the placeholders say "not built yet")
 # ---------------------------------------------------------------------------
 

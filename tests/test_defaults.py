@@ -200,7 +200,7 @@ def test_quiet_counts_warnings_instead_of_printing_them(capsys):
         warnings.warn("cable X: no loss table", UserWarning, stacklevel=1)
         warnings.warn("cable X: no loss table", UserWarning, stacklevel=1)
         warnings.warn("sweep is coarse", UserWarning, stacklevel=1)
-    _print_warnings(caught, quiet=True)
+    _print_warnings(caught, None, True)
     assert capsys.readouterr().err == "warning: 2 warning(s) not shown (run without --quiet to see them)\n"
-    _print_warnings(caught)
+    _print_warnings(caught, None, False)
     assert capsys.readouterr().err == "warning: cable X: no loss table\nwarning: sweep is coarse\n"

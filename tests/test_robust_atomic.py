@@ -336,36 +336,23 @@ def test_failed_atomic_write_keeps_the_old_file_and_leaves_no_temporary(tmp_path
 
 def test_failed_touchstone_write_keeps_the_old_file(tmp_path, monkeypatch):
     """The disk fills half way through writing the new .s2p: the old file stays, no temporary."""
-    import builtins
 
     from notchkit.cables import get_cable
     from notchkit.filters import Filter, Stub, write_touchstone
 
     target = tmp_path / "F1.s2p"
     old = old_files(tmp_path, ["F1.s2p"])["F1.s2p"]
-    real = builtins.open
+    real = os.write
+    calls = []
 
-    class HalfThenFull:
-        def __init__(self, fh):
-            self.fh = fh
-
-        def write(self, data):
-            self.fh.write(data[: len(data) // 2])
-            raise OSError(28, "No space left on device")
-
-        def __enter__(self):
-            return self
-
-        def __exit__(self, *exc):
-            self.fh.close()
-            return False
-
-    def open_(file, mode="r", *args, **kwargs):
-        fh = real(file, mode, *args, **kwargs)
-        return HalfThenFull(fh) if "x" in mode else fh
+    def write_(fd, data):  # the disk fills half way through the temporary
+        calls.append(len(data))
+        if len(calls) == 1:
+            return real(fd, bytes(data[: len(data) // 2]))
+        raise OSError(28, "No space left on device")
 
     filt = Filter(elements=(Stub(termination="open", length_m=0.34),), cable=get_cable("RG-213"))
-    monkeypatch.setattr(builtins, "open", open_)
+    monkeypatch.setattr(os, "write", write_)
     with pytest.raises(InputError, match="No space left on device"):
         write_touchstone(filt, np.linspace(100e6, 200e6, 101), target)
     monkeypatch.undo()
@@ -482,20 +469,18 @@ def test_killed_plan_leaves_old_or_complete_outputs(plan_run, tmp_path):
 
 
 def _interrupt_after_create(monkeypatch):
-    """Ctrl-C the instant a new output file exists: any exclusive-create open ("x" mode) of
-    a file makes it, then raises KeyboardInterrupt before a byte is written."""
-    import builtins
+    """Ctrl-C the instant a new output file exists: an exclusive create (``O_EXCL``) makes
+    the file, then KeyboardInterrupt is raised before a byte is written."""
+    real = os.open
 
-    real = builtins.open
-
-    def open_(file, mode="r", *args, **kwargs):
-        fh = real(file, mode, *args, **kwargs)
-        if "x" in mode:
-            fh.close()
+    def open_(path, flags, *args, **kwargs):
+        fd = real(path, flags, *args, **kwargs)
+        if flags & os.O_EXCL:
+            os.close(fd)
             raise KeyboardInterrupt
-        return fh
+        return fd
 
-    monkeypatch.setattr(builtins, "open", open_)
+    monkeypatch.setattr(os, "open", open_)
 
 
 def _interrupt_before_rename(monkeypatch):

@@ -474,3 +474,82 @@ def test_cables_at_frequencies_answer_0_or_2(at):
         assert_finite_json(parse_json_output(out))
     else:
         assert_clean_refusal(rc, out, err)
+
+
+# ---------------------------------------------------------------------------
+# trim against a real plan: hostile options and a damaged plan JSON
+# ---------------------------------------------------------------------------
+
+RAW_CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069\ud800-\udfff]")
+
+
+@pytest.fixture(scope="module")
+def real_plan(tmp_path_factory):
+    """A plan JSON written by ``notchkit plan --outdir`` for a fictional site, and a measured
+    sweep of its first stub (computed with notchkit's line model through a tee)."""
+    from notchkit.cables import get_cable
+    from notchkit.filters import Filter, Stub, evaluate
+
+    folder = tmp_path_factory.mktemp("realplan")
+    site = write(str(folder), "flat.yaml", "site: Fictional Flat\ntransmitters:\n"
+                 "  - {name: TX2M, freq_mhz: 146.52, power_w: 50, antenna: {x_m: 0, y_m: 0, height_m: 10}}\n"
+                 "receivers:\n  - {name: RXWX, freq_mhz: 155.34, antenna: {x_m: 5, y_m: 0, height_m: 10}}\n")
+    rc, _out, err = run_cli(["plan", str(site), "-o", str(folder / "p.pdf"), "--outdir", str(folder / "o")])
+    assert rc in (EXIT_OK, EXIT_UNMET), err
+    text = (folder / "o" / "plan.json").read_text(encoding="utf-8")
+    doc = json.loads(text)
+    flt = doc["filters"][0]
+    stub = next(e for e in flt["elements"] if e["kind"] == "stub")
+    cable = get_cable(flt["cable"]["type"])
+    f0 = stub["resonance_mhz"] * 1e6
+    f = np.linspace(0.8 * f0, 1.2 * f0, 201)
+    s = evaluate(Filter(elements=(Stub(termination=stub["termination"], length_m=stub["length_m"]),),
+                        cable=cable), f)
+    meas = write(str(folder), "stub.s2p", fs.touchstone_text(f, s))
+    return {"text": text, "stub": stub["id"], "cable": cable.name, "meas": meas, "folder": folder}
+
+
+def _answer_0_or_2(rc: int, out: str, err: str) -> None:
+    assert "Traceback" not in err
+    assert not RAW_CONTROL.search(out) and not RAW_CONTROL.search(err)
+    if rc == EXIT_OK:
+        if out.lstrip().startswith("{"):
+            assert_finite_json(parse_json_output(out))
+    else:
+        assert_clean_refusal(rc, out, err)
+        assert len(err.splitlines()) == 1 and err.startswith("error: "), err
+
+
+@settings(FUZZ, max_examples=40)
+@given(fs.trim_options(), st.booleans())
+def test_trim_options_answer_0_or_2(real_plan, options, use_plan):
+    """Hostile numbers for --length-m/--target-mhz/--allowance-m/--order, with and without --plan:
+    a finite answer or one 'error:' line (once OverflowError, and Infinity in the JSON)."""
+    argv = ["trim", str(real_plan["meas"]), "--cable", real_plan["cable"], "--json", *options]
+    if use_plan:
+        argv += ["--plan", str(real_plan["folder"] / "o" / "plan.json"), "--stub", real_plan["stub"]]
+    else:
+        argv += ["--termination", "open"]
+        if not any(o.startswith("--target-mhz") for o in options):
+            argv += ["--target-mhz", "146"]
+    with only_notchkit_warnings():
+        try:
+            rc, out, err = run_cli(argv)
+        except SystemExit as exc:  # argparse's own answer to a malformed option: exit 2
+            rc, out, err = exc.code, "", "error: argparse usage"
+    _answer_0_or_2(rc, out, err)
+
+
+@settings(FUZZ, max_examples=60)
+@given(st.data())
+def test_trim_with_a_damaged_real_plan_answers_0_or_2(real_plan, data):
+    """The real plan JSON with one thing damaged (a hostile number, deep nesting, truncation,
+    escapes in a string, another value anywhere): a result or one 'error:' line."""
+    text = data.draw(fs.mutated_plan_json(real_plan["text"]))
+    with tempfile.TemporaryDirectory() as tmp:
+        plan = write(tmp, "plan.json", text)
+        with only_notchkit_warnings():
+            rc, out, err = run_cli(["trim", str(real_plan["meas"]), "--cable", real_plan["cable"],
+                                    "--plan", str(plan), "--stub", real_plan["stub"], "--json"])
+        _answer_0_or_2(rc, out, err)
+        assert plan.read_text(encoding="utf-8") == text or isinstance(text, bytes)

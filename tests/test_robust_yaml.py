@@ -258,10 +258,11 @@ def test_a_50_mb_file_is_refused_quickly_without_reading_it(tmp_path, capsys, ne
 
 @pytest.mark.skipif(not os.path.exists("/dev/zero"), reason="needs /dev/zero")
 def test_an_endless_stream_is_refused_in_bounded_memory(capsys):
-    """/dev/zero reports size 0 and never ends: reading must stop at the cap."""
+    """/dev/zero reports size 0 and never ends: it is refused as what it is (a device, not a
+    regular file) before a byte is read."""
     path = Path("/dev/zero")
     lines, elapsed, peak = refuse(path)
-    assert_one_clear_line(lines, path, "limit")
+    assert_one_clear_line(lines, path, "character device", "not a regular file")
     assert elapsed < TIME_LIMIT_S
     assert peak < MEMORY_LIMIT_B
 

@@ -11,11 +11,14 @@ from __future__ import annotations
 import argparse
 import gc
 import importlib
+import logging
+import os
 import sys
 import warnings
 
 from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
+from notchkit.textsafe import clean
 
 COMMANDS = ("check", "cables", "survey", "design", "plan", "trim", "verify", "recheck")
 
@@ -24,6 +27,7 @@ exit codes:
   0  done
   1  a design was computed but cannot meet its requirements
   2  bad input or usage (nothing was written)
+  130  interrupted (Ctrl-C; nothing was written)
 
 Work on RF equipment can hurt: open stub ends carry high voltage at high power,
 antennas expose people to RF, towers and lightning kill. Follow local codes and
@@ -64,39 +68,117 @@ def _add_chatter_flags(p: argparse.ArgumentParser, default: object) -> None:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Run one command; every line it prints passes through :func:`notchkit.textsafe.clean`.
+
+    Returns the exit code: the command's own, 2 for a :class:`NotchkitError`
+    (its ``exit_code``), 130 after Ctrl-C at any moment (one line, no
+    traceback; whatever the command had computed is not written).
+    """
+    from notchkit import interrupts
+    from notchkit.cli import progress
+    from notchkit.textsafe import SafeStream
+
+    progress.configure()
+    restore = interrupts.install()
+    out, err = sys.stdout, sys.stderr
+    sys.stdout, sys.stderr = SafeStream(out), SafeStream(err)
+    mpl_log = _LogCatcher()
+    try:
+        mpl_log.attach()
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("default")
+            try:
+                code = _run(argv)
+            except NotchkitError as exc:
+                _print_warnings(caught, mpl_log)
+                for line in exc.lines():
+                    print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
+                return 130 if interrupts.interrupted() else exc.exit_code
+            except KeyboardInterrupt:
+                print("error: interrupted", file=sys.stderr)
+                return 130
+            except MemoryError:  # the caps (docs/robustness.md) should make this unreachable
+                print("error: out of memory (the input is too large for this machine; the limits are "
+                      "in docs/robustness.md)", file=sys.stderr)
+                return EXIT_BAD_INPUT
+            _print_warnings(caught, mpl_log)
+            if interrupts.interrupted():  # Ctrl-C that some library caught and went on
+                print("error: interrupted", file=sys.stderr)
+                return 130
+            return code
+    except KeyboardInterrupt:  # between the command's end and here
+        print("error: interrupted", file=sys.stderr)
+        return 130
+    finally:
+        mpl_log.detach()
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (OSError, ValueError):
+                pass
+        sys.stdout, sys.stderr = out, err
+        restore()
+
+
+def _run(argv: list[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "run", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
     if args.quiet and args.verbose:
-        return parser.exit(EXIT_BAD_INPUT, "error: notchkit: --quiet and --verbose together\n")
+        parser.error("--quiet and --verbose together")
     from notchkit.cli import progress
 
     progress.configure(quiet=args.quiet, verbose=args.verbose)
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("default")
+    return int(args.run(args))
+
+
+class _LogCatcher(logging.Handler):
+    """Library log records (matplotlib's note about an unwritable config folder) kept as
+    warnings, instead of Python printing them raw on stderr."""
+
+    LOGGERS = ("matplotlib", "fontTools", "PIL")
+
+    def __init__(self) -> None:
+        super().__init__(logging.WARNING)
+        self.messages: list[str] = []
+        self._saved: list[tuple[logging.Logger, bool]] = []
+
+    def emit(self, record: logging.LogRecord) -> None:
         try:
-            code = int(args.run(args))
-        except NotchkitError as exc:
-            _print_warnings(caught, args.quiet)
-            for line in exc.lines():
-                print(line if isinstance(exc, SiteError) else f"error: {line}", file=sys.stderr)
-            return exc.exit_code
-        except KeyboardInterrupt:
-            print("error: interrupted", file=sys.stderr)
-            return 130
-    _print_warnings(caught, args.quiet)
-    return code
+            msg = record.getMessage()
+        except Exception:  # noqa: BLE001 - a bad log call must not end the command
+            msg = str(record.msg)
+        if "MPLCONFIGDIR" in msg or "mkdir -p failed" in msg:
+            msg = ("matplotlib's configuration folder is not writable, so it uses a temporary one "
+                   "(set MPLCONFIGDIR to a writable folder to start faster)")
+        self.messages.append(msg)
+
+    def attach(self) -> None:
+        for name in self.LOGGERS:
+            lg = logging.getLogger(name)
+            lg.addHandler(self)
+            self._saved.append((lg, lg.propagate))
+            lg.propagate = False
+
+    def detach(self) -> None:
+        for lg, prop in self._saved:
+            lg.removeHandler(self)
+            lg.propagate = prop
+        self._saved.clear()
 
 
-def _print_warnings(caught, quiet: bool = False) -> None:
+def _print_warnings(caught, logs: _LogCatcher | None = None, quiet: bool | None = None) -> None:
     """Each warning raised during a command as one ``warning: ...`` line on stderr
-    (``quiet``: one line with their count)."""
+    (``--quiet``: one line with their count)."""
+    from notchkit.cli import progress
+
     seen: dict[str, None] = {}
-    for w in caught:
-        seen.setdefault(" ".join(str(w.message).split()), None)
-    if quiet and seen:
+    texts = [str(w.message) for w in caught] + (logs.messages if logs is not None else [])
+    for raw in texts:
+        seen.setdefault(clean(" ".join(raw.split()), one_line=True), None)
+    if (progress.is_quiet() if quiet is None else quiet) and seen:
         print(f"warning: {len(seen)} warning(s) not shown (run without --quiet to see them)", file=sys.stderr)
         return
     for text in seen:
@@ -117,9 +199,21 @@ def entry() -> None:
     usual. Together about 0.3 s of a 2.5 s plan (docs/performance.md). The
     library functions leave the caller's collector alone.
     """
+    from notchkit.interrupts import hold_until_exit
+
     gc.freeze()
     code = main()
+    hold_until_exit()  # the command is over: a Ctrl-C from here on changes nothing
     gc.freeze()
+    if code == 130:
+        # Interrupted: every finally has run; end now, before interpreter shutdown can
+        # import or run anything half-initialised (a Ctrl-C inside an import).
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (OSError, ValueError):
+                pass
+        os._exit(130)
     sys.exit(code)
 
 

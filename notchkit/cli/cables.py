@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-import json
 import math
 
 from notchkit.cables import DEFAULT_AT_MHZ, VALID_FREQ_MHZ, cable_table, get_cable
 from notchkit.errors import EXIT_OK, UsageError
+from notchkit.jsonvalues import dumps
 
 
 def add_parser(sub) -> None:
@@ -161,13 +161,13 @@ def run(args) -> int:
         c = get_cable(args.type)
         rows = tuple(r for r in cable_table(at, (c,)) if r.cable == c)[-1:]
         if args.json:
-            print(json.dumps(rows[0].to_json(), indent=2))
+            print(dumps(rows[0].to_json(), indent=2))
         else:
             print(format_detail(rows[0]))
         return EXIT_OK
     rows = cable_table(at)
     if args.json:
-        print(json.dumps([r.to_json() for r in rows], indent=2))
+        print(dumps([r.to_json() for r in rows], indent=2))
     else:
         print(format_table(rows))
     return EXIT_OK

@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-import json
 import math
 import re
 from pathlib import Path
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+from notchkit.jsonvalues import dumps
 from notchkit.report.summary import state_word
 
 CAUTION = (
@@ -16,6 +16,9 @@ CAUTION = (
     "with the transmitter on. Follow local codes and licensed practice for RF exposure, grounding "
     "and tower work."
 )
+
+MAX_BANDS = 32
+"""Most --pass and most --notch bands of one ad-hoc filter."""
 
 _NUM = r"([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)"
 _BAND = re.compile(rf"^\s*{_NUM}\s*-\s*{_NUM}\s*$")
@@ -96,6 +99,10 @@ def run(args) -> int:
     from notchkit.design import design, design_request, write_touchstones
 
     progress = _progress(args)
+    if args.touchstone is not None:  # before any work: the folder (its files are named after the survey)
+        from notchkit.report.files import check_dir_writable
+
+        check_dir_writable(args.touchstone, "--touchstone")
     if args.site is not None:
         if args.pass_bands or args.notches or args.cable or args.max_stubs is not None:
             raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs, not both")
@@ -109,6 +116,9 @@ def run(args) -> int:
             raise UsageError("give SITE.yaml, or at least one --pass LO-HI and one --notch LO-HI[:DB]")
         if args.max_stubs is not None and not 1 <= args.max_stubs <= 8:
             raise UsageError(f"--max-stubs {args.max_stubs}: must be from 1 to 8")
+        for option, given in (("--pass", args.pass_bands), ("--notch", args.notches)):
+            if len(given) > MAX_BANDS:
+                raise UsageError(f"{option} given {len(given)} times (allowed: at most {MAX_BANDS})")
         passes = [parse_band(t) for t in args.pass_bands]
         notches = [parse_notch(t) for t in args.notches]
         from notchkit.cables import get_cable
@@ -120,9 +130,9 @@ def run(args) -> int:
         progress.done()
     written: tuple[Path, ...] = ()
     if args.touchstone is not None:
-        written = write_touchstones(report, args.touchstone)
+        written = write_touchstones(report, args.touchstone, inputs=[(args.site, "site file")])
     if args.json:
-        print(json.dumps(report.to_json(), indent=2, allow_nan=False))
+        print(dumps(report.to_json(), indent=2))
     else:
         print(format_report(report))
         for path in written:

@@ -22,6 +22,11 @@ def configure(*, quiet: bool = False, verbose: bool = False) -> None:
     _LEVEL["quiet"], _LEVEL["verbose"] = bool(quiet), bool(verbose)
 
 
+def is_quiet() -> bool:
+    """``--quiet`` was given: warnings are counted, not printed."""
+    return _LEVEL["quiet"]
+
+
 class TerminalProgress:
     """``progress(message)`` callable for the library; :meth:`done` clears the line.
 
@@ -38,13 +43,18 @@ class TerminalProgress:
             self.stream.write(message + "\n")
             self.stream.flush()
             return
-        self.stream.write("\r\x1b[K" + message[:WIDTH])
+        self._control("\r\x1b[K")
+        self.stream.write(message[:WIDTH])
         self.stream.flush()
         self.shown = True
 
+    def _control(self, seq: str) -> None:
+        """A terminal control sequence, past the command line's sanitiser (``textsafe.SafeStream``)."""
+        getattr(self.stream, "write_control", self.stream.write)(seq)
+
     def done(self) -> None:
         if self.shown:
-            self.stream.write("\r\x1b[K")
+            self._control("\r\x1b[K")
             self.stream.flush()
             self.shown = False
 

@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import json
-
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError, UsageError
+from notchkit.jsonvalues import dumps
 from notchkit.report.summary import state_word
 
 FLAGS = {"measured": "FILTER=SWEEP.s2p"}
@@ -75,5 +74,5 @@ def run(args) -> int:
         result = recheck(args.plan, _pairs(args.measured))
     except NotchkitError as exc:
         raise with_flags(exc, FLAGS) from None
-    print(json.dumps(result.to_json(), indent=2, allow_nan=False) if args.json else format_text(result))
+    print(dumps(result.to_json(), indent=2) if args.json else format_text(result))
     return EXIT_OK if result.meets else EXIT_UNMET

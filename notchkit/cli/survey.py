@@ -2,16 +2,31 @@
 
 from __future__ import annotations
 
-import json
 from collections.abc import Set
 
 from notchkit.errors import EXIT_OK
+from notchkit.jsonvalues import dumps
 from notchkit.report.text import order_text
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
     "and high voltages at stub ends can hurt; follow local codes and licensed practice."
 )
+
+
+MAX_HARMONIC = 20
+"""Highest --max-harmonic, the same as a site file's max_harmonic allows."""
+
+
+def _harmonic(text: str) -> int:
+    from notchkit.errors import UsageError
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise UsageError(f"--max-harmonic: {text!r} is not a whole number "
+                         f"(allowed: 1 to {MAX_HARMONIC})") from None
+    return value  # its range (1 to MAX_HARMONIC) is checked by survey() before any work
 
 
 def add_parser(sub) -> None:
@@ -32,7 +47,7 @@ def add_parser(sub) -> None:
     p.add_argument(
         "--max-harmonic",
         metavar="N",
-        type=int,
+        type=_harmonic,
         default=None,
         help="highest harmonic evaluated (>= 1; default: the site's max_harmonic, else 5)",
     )
@@ -53,7 +68,7 @@ def run(args) -> int:
 
     result = survey(load_site(args.site), max_harmonic=args.max_harmonic, max_threats=args.max_threats)
     if args.json:
-        print(json.dumps(result.to_json(), indent=2, allow_nan=False))
+        print(dumps(result.to_json(), indent=2))
     else:
         print(format_result(result))
     return EXIT_OK

@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-import json
 import math
 
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, NotchkitError, UsageError
+from notchkit.jsonvalues import dumps
 from notchkit.trim import SAFETY, inches_16ths, trim
 
 FLAGS = {
@@ -34,7 +34,11 @@ advice: the length, the quarter waves or the stub is wrong.
 """
 
 
-def _positive_float(name: str):
+MAX_TARGET_MHZ = 1e6
+"""Largest --target-mhz (1 THz; the sweep must cover it anyway)."""
+
+
+def _positive_float(name: str, hi: float, unit: str = ""):
     def parse(text: str) -> float:
         try:
             value = float(text)
@@ -42,6 +46,9 @@ def _positive_float(name: str):
             raise UsageError(f"{name}: {text!r} is not a number") from None
         if not (math.isfinite(value) and value > 0):
             raise UsageError(f"{name}: {text} must be > 0")
+        if value > hi:
+            raise UsageError(f"{name}: {text} is too large (allowed: more than 0 and at most {hi:g}"
+                             f"{unit})")
         return value
 
     return parse
@@ -104,8 +111,10 @@ def _allowance(text: str | None) -> float | None:
         value = float(text)
     except ValueError:
         raise UsageError(f"--allowance-m: {text!r} is not a number") from None
-    if not (math.isfinite(value) and value >= 0):
-        raise UsageError(f"--allowance-m: {text} must be a length in metres >= 0")
+    from notchkit.trim import MAX_LENGTH_M
+
+    if not (math.isfinite(value) and 0 <= value <= MAX_LENGTH_M):
+        raise UsageError(f"--allowance-m: {text} must be a length in metres from 0 to {MAX_LENGTH_M:g}")
     return value
 
 
@@ -149,14 +158,24 @@ def format_text(result) -> str:
 
 
 def run(args) -> int:
-    target = None if args.target_mhz is None else _positive_float("--target-mhz")(args.target_mhz)
-    length = None if args.length_m is None else _positive_float("--length-m")(args.length_m)
+    from notchkit.trim import MAX_LENGTH_M
+
+    target = (None if args.target_mhz is None
+              else _positive_float("--target-mhz", MAX_TARGET_MHZ, " MHz")(args.target_mhz))
+    length = (None if args.length_m is None
+              else _positive_float("--length-m", MAX_LENGTH_M, " m")(args.length_m))
     if (args.plan is None) != (args.stub is None):
         raise UsageError("--plan and --stub go together: give both or neither")
     if (args.spool is None) != (args.calibration is None):
         raise UsageError("--spool and --calibration go together: give both or neither")
     if args.termination is None and args.plan is None:
         raise UsageError("--termination: required (open or short) unless --plan gives it")
+    together = args.calibration is not None and args.png is not None
+    if args.calibration is not None:  # every output checked against the inputs before any work
+        from notchkit.report.files import plan_outputs
+
+        plan_outputs([(args.calibration, "--calibration"), *([(args.png, "--png")] if args.png else [])],
+                     inputs=[(args.measurement, "measurement"), (args.plan, "plan JSON")])
     try:
         result = trim(
             args.measurement,
@@ -169,21 +188,29 @@ def run(args) -> int:
             plan_length=args.plan_length,
             quarter_waves=_quarter_waves(args.quarter_waves),
             allowance_m=_allowance(args.allowance_m),
-            png_path=args.png,
+            png_path=None if together else args.png,
         )
         cal = None
         if args.calibration is not None:
-            from notchkit.calibration import record, sample_from_trim
+            from notchkit.calibration import calibration_bytes, record, sample_from_trim
 
             cal = record(args.calibration, spool=args.spool, cable=result.cable,
-                         sample=sample_from_trim(result, piece=args.stub))
+                         sample=sample_from_trim(result, piece=args.stub), write=not together)
+            if together:  # the plot and the calibration: both written, or neither
+                from notchkit.fileio import write_all
+                from notchkit.report.measurement import measurement_png
+                from notchkit.trim import read_measurement
+
+                png = measurement_png(read_measurement(args.measurement), result)
+                write_all([(args.png, png, "--png"),
+                           (args.calibration, calibration_bytes(cal), "--calibration")])
     except NotchkitError as exc:
         raise with_flags(exc, FLAGS) from None
     if args.json:
         doc = result.to_json()
         if cal is not None:
             doc["calibration"] = {"file": args.calibration, **cal.note()}
-        print(json.dumps(doc, indent=2))
+        print(dumps(doc, indent=2))
     else:
         print(format_text(result))
         if cal is not None:

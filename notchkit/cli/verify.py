@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import json
-
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError
+from notchkit.jsonvalues import dumps
 from notchkit.report.summary import state_word
 
 FLAGS = {"filter_id": "--filter", "plan_path": "--plan", "diagnose": "--diagnose",
@@ -95,6 +94,11 @@ def run(args) -> int:
         raise UsageError("--spool and --calibration go together: give both or neither")
     if args.calibration is not None and args.diagnose is False:
         raise UsageError("--calibration learns from the diagnosis: drop --no-diagnose")
+    if args.calibration is not None:  # the one output, checked against the inputs before any work
+        from notchkit.report.files import plan_outputs
+
+        plan_outputs([(args.calibration, "--calibration")],
+                     inputs=[*((m, "measurement") for m in args.measurement), (args.plan, "plan JSON")])
     try:
         meas = args.measurement[0] if len(args.measurement) == 1 else args.measurement
         result = verify(meas, plan_path=args.plan, filter_id=args.filter,
@@ -112,7 +116,7 @@ def run(args) -> int:
         doc = result.to_json()
         if cal is not None:
             doc["calibration"] = {"file": args.calibration, **cal.note()}
-        print(json.dumps(doc, indent=2, allow_nan=False))
+        print(dumps(doc, indent=2))
     else:
         print(format_text(result))
         if cal is not None:

@@ -156,8 +156,9 @@ def _visible(lo: float, hi: float, xlo: float, xhi: float, log_axis: bool) -> tu
 
 
 MPL_RC = {"svg.fonttype": "none", "hatch.linewidth": 0.6, "axes.linewidth": 0.8, "axes.unicode_minus": False,
-          "pdf.fonttype": 42, "font.family": "DejaVu Sans"}
-"""matplotlib settings the PNG images render under (in ``rc_context``; nothing global)."""
+          "pdf.fonttype": 42, "font.family": "DejaVu Sans", "text.usetex": False, "text.parse_math": False}
+"""matplotlib settings the PNG images render under (in ``rc_context``; nothing global). Text is
+drawn as written: no TeX, no mathtext (a ``$`` in a cable or radio name is a dollar sign)."""
 @dataclass(frozen=True, slots=True)
 class LineStyle:
     """A black line: width and dash pattern (on, off, ... lengths), both in points."""

@@ -48,7 +48,9 @@ footer { font-size: 8pt; border-top: 1px solid #000; margin-top: 2em; }
 
 
 def _e(s: Any) -> str:
-    return _h.escape(str(s), quote=True)
+    from notchkit.textsafe import clean
+
+    return _h.escape(clean(s), quote=True)  # control and bidi characters shown as escapes
 
 
 def table_html(t: Table) -> str:

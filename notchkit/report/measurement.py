@@ -26,15 +26,26 @@ def plot_measurement(network: Any, result: Any, path: str | os.PathLike[str]) ->
     InputError
         The folder does not exist or the file cannot be written.
     """
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
     out = Path(path)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
         raise named(InputError(f"png_path {out}: folder {folder} does not exist"), "png_path")
     if out.is_dir():
         raise named(InputError(f"png_path {out}: is a directory"), "png_path")
+    data = measurement_png(network, result)
+    try:
+        write_bytes_atomic(out, data, what="png_path")
+    except InputError as exc:
+        raise named(exc, "png_path") from None
+    return out
+
+
+def measurement_png(network: Any, result: Any) -> bytes:
+    """The PNG bytes of :func:`plot_measurement`'s plot (for a caller that writes it together
+    with other outputs, :func:`notchkit.fileio.write_all`)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
     f_mhz = np.asarray(network.f, dtype=float) / 1e6
     fig = Figure(figsize=(8, 4.5), dpi=100)
     FigureCanvasAgg(fig)
@@ -60,14 +71,10 @@ def plot_measurement(network: Any, result: Any, path: str | os.PathLike[str]) ->
     if result.cut_mm is not None:
         title += (f" - cut {result.cut_mm:.1f} mm" if not result.too_short
                   else f" - {-result.cut_mm:.1f} mm too short")
-    ax.set_title(title, fontsize=10)
+    ax.set_title(title, fontsize=10, usetex=False, parse_math=False)  # a "$" in a name is a "$"
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8, loc="best")
     fig.tight_layout()
     buf = io.BytesIO()
     fig.savefig(buf, format="png")
-    try:
-        write_bytes_atomic(out, buf.getvalue(), what="png_path")
-    except InputError as exc:
-        raise named(exc, "png_path") from None
-    return out
+    return buf.getvalue()

@@ -107,4 +107,5 @@ def to_matplotlib(sketch: Sketch, fig: Any, rect: Sequence[float]) -> None:
         else:
             fig.add_artist(Text(it.x, it.y, it.text, transform=tr, fontsize=it.size, ha=it.ha, va=it.va,
                                 multialignment=cast(Any, it.ha), color="black", linespacing=it.linespacing,
-                                fontweight="bold" if it.bold else "normal"))
+                                fontweight="bold" if it.bold else "normal",
+                                usetex=False, parse_math=False))  # names as written, '$' too

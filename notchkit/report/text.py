@@ -125,6 +125,14 @@ CAUTIONS = (
 # ---------------------------------------------------------------- numbers
 
 
+
+def _shown_path(path: object) -> str:
+    """A file name as the plan prints it: control, bidi and undecodable characters as escapes."""
+    from notchkit.textsafe import clean
+
+    return clean(str(path or ""), one_line=True)
+
+
 MM_PER_IN = 25.4
 """Millimetres in an inch (exact, by the 1959 international yard)."""
 
@@ -607,7 +615,7 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
     n_stubs = sum(len(d.cuts) for d in designs)
     facts = (
         ("Site", site.name),
-        ("Site file", str(site.path) or DASH),
+        ("Site file", _shown_path(site.path) or DASH),
         ("Date", date),
         ("Tool", f"notchkit {version}"),
         ("Radios", f"{len(site.radios)} ({n_tx} transmit, {n_rx} receive)"),

@@ -32,6 +32,7 @@ import yaml
 
 from notchkit.errors import Problem, SiteError
 from notchkit.site import model as m
+from notchkit.textsafe import describe_char, unsafe_char
 
 MAX_FILE_BYTES = 2 * 1024 * 1024
 """Largest site file read, in bytes (2 MiB); a real site file is a few kB."""
@@ -54,6 +55,17 @@ _FRACTION_TEXT = r"(?:\d+\s+)?\d+/\d+"
 LENGTH_PATTERN = rf"^\s*(?:{_NUMBER_TEXT}|{_FRACTION_TEXT})\s*(?:m|cm|mm|ft|in)\s*$"
 """The text form of a length (also the JSON Schema pattern): a number and a unit,
 e.g. ``"12 ft"``, ``"3.5 m"``, ``"1/16 in"``, ``"3 1/2 in"``."""
+MAX_RADIOS = 256
+"""Most radios (transmitters, receivers and transceivers together) in one site file."""
+MAX_TRANSMITTERS = 229
+"""Most transmitting radios: C(229, 3) = 1 975 354 three-transmitter combinations, the
+largest count within :data:`MAX_IM_TRIPLES`."""
+MAX_IM_TRIPLES = 2_000_000
+"""Most three-transmitter intermodulation combinations the survey enumerates; checked
+here, before any enumeration, so a huge site is one clear line, not a huge allocation."""
+MAX_NUMBER_CHARS = 40
+"""Longest text of one number (a float's repr is at most 24 characters); longer is refused
+before it is converted (Python's int() of thousands of digits is slow or refused)."""
 _LENGTH_RE = re.compile(rf"^\s*({_NUMBER_TEXT}|{_FRACTION_TEXT})\s*(m|cm|mm|ft|in)\s*$")
 _NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$")
 NAME_PATTERN = r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,39}$"
@@ -360,9 +372,11 @@ SECTIONS: dict[str, dict[str, Field]] = {
         ),
         "max_total_cable_m": Field(
             kind="number",
-            num=Num(lo=0.0, hi=1_000.0, unit="m", lo_open=True, length_unit_m=1.0),
+            # lo: the solver's shortest cut (notchkit.solver.MIN_CUT_M, checked by a test)
+            num=Num(lo=0.02, hi=1_000.0, unit="m", lo_open=True, length_unit_m=1.0),
             default=None,
-            doc="Most cable in one filter, in metres; default: no limit.",
+            doc="Most cable in one filter, in metres (more than the 0.02 m shortest cut); "
+            "default: no limit.",
         ),
     },
     "allowances": {
@@ -501,20 +515,19 @@ def _read_text(path: str) -> str:
     def fail(line: int, col: int, msg: str) -> SiteError:
         return SiteError([Problem(path, line, col, "", msg)])
 
-    if os.path.isdir(path):
-        raise fail(0, 0, "is a directory, not a site file (give the path of a .yaml file)")
+    from notchkit.bounded import ReadRefused, read_regular
+
     try:
-        size = os.path.getsize(path)
-        if size > MAX_FILE_BYTES:
-            raise fail(0, 0, _too_big(size))
-        with open(path, "rb") as fh:
-            data = fh.read(MAX_FILE_BYTES + 1)
-    except FileNotFoundError:
-        raise fail(0, 0, "no such file (give the path of an existing .yaml site file)") from None
-    except PermissionError:
-        raise fail(0, 0, "permission denied (the site file must be readable)") from None
-    except OSError as exc:
-        raise fail(0, 0, f"cannot read: {exc.strerror or exc} (give a readable site file)") from None
+        data = read_regular(path, MAX_FILE_BYTES)
+    except ReadRefused as exc:
+        msg = {
+            "missing": "no such file (give the path of an existing .yaml site file)",
+            "directory": "is a directory, not a site file (give the path of a .yaml file)",
+            "special": f"{exc.reason} (give the path of a .yaml site file)",
+            "too_big": _too_big(exc.size),
+            "denied": "permission denied (the site file must be readable)",
+        }.get(exc.kind, f"{exc.reason} (give a readable site file)")
+        raise fail(0, 0, msg) from None
     if len(data) > MAX_FILE_BYTES:
         raise fail(0, 0, _too_big(len(data)))
     if data.startswith(b"\xef\xbb\xbf"):
@@ -881,6 +894,10 @@ class _Reader:
             self.add(node, path, f"no value given (allowed: {allowed}; remove the key for the default)")
             return _BAD
         value: float | None = None
+        if node.tag in (_INT, _FLOAT, _STR) and len(node.value.strip()) > MAX_NUMBER_CHARS:
+            self.add(node, path, f"{shown} is {len(node.value.strip())} characters long, too long for "
+                     f"a number (allowed: {allowed}, written in at most {MAX_NUMBER_CHARS} characters)")
+            return _BAD
         if node.tag == _INT:
             value = float(_CON.construct_yaml_int(node))
         elif node.tag == _FLOAT:
@@ -910,7 +927,7 @@ class _Reader:
         if not num.contains(value):
             if value <= 0 < num.lo or (value <= 0 and num.lo == 0 and num.lo_open):
                 what = f"{shown} must be greater than 0"
-            elif value < num.lo:
+            elif value < num.lo or (value == num.lo and num.lo_open):
                 what = f"{shown} is too low"
             else:
                 what = f"{shown} is too high"
@@ -940,6 +957,11 @@ class _Reader:
             )
             return _BAD
         value = node.value.strip()
+        bad = unsafe_char(value)
+        if bad is not None and not name:
+            self.add(node, path, f"{describe_char(bad)} is not allowed in text (remove it; a YAML "
+                     "escape such as \\e or \\u202e in double quotes makes one; allowed: printable text)")
+            return _BAD
         if name and not _NAME_RE.match(value):
             self.add(node, path, f"{_shown(node)} is not a valid name (allowed: {_NAME_ALLOWED})")
             return _BAD
@@ -1203,6 +1225,8 @@ class _Builder:
         site_cable = _val(top, "cable", m.DEFAULT_CABLE)
         radios: list[m.Radio] = []
         n_entries = 0
+        n_tx = 0
+        too_many_tx = False
         lists_ok = True
         for knode, _ in root.value:
             key = getattr(knode, "value", None)
@@ -1213,9 +1237,22 @@ class _Builder:
                 continue
             for d, node, path in top[key][0]:
                 n_entries += 1
+                if n_entries == MAX_RADIOS + 1:
+                    r.add(node, path, f"more than {MAX_RADIOS} radios in one site (allowed: at most "
+                          f"{MAX_RADIOS} transmitters, receivers and transceivers together; split the "
+                          "site into groups that share no antenna space)")
                 radio = self.radio(key, d, node, path, site_cable)
                 if radio is not None:
                     radios.append(radio)
+                    if radio.tx is not None:
+                        n_tx += 1
+                        if n_tx >= 3 and n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES \
+                                and not too_many_tx:
+                            too_many_tx = True
+                            r.add(node, path, f"{n_tx} transmitters make "
+                                  f"{n_tx * (n_tx - 1) * (n_tx - 2) // 6} three-transmitter "
+                                  f"intermodulation combinations (allowed: at most {MAX_IM_TRIPLES}, "
+                                  f"{MAX_TRANSMITTERS} transmitters)")
         if n_entries == 0 and lists_ok:
             r.add(
                 root,
@@ -1226,6 +1263,7 @@ class _Builder:
         cables = self.cables(top)
         self.resolve_cables()
         couplings = self.couplings(top)
+        self.derived(top, radios, site_cable)
         if r.problems or "site" not in top:
             return None
         return m.Site(
@@ -1261,6 +1299,7 @@ class _Builder:
 
         out: list[m.CableDef] = []
         seen: dict[str, yaml.Node] = {}
+        self.cable_nodes: dict[str, tuple[dict, str]] = {}
         self.known = {_fold(c.name): c.name for c in library()}
         for c in library():
             self.known.update({_fold(a): c.name for a in c.aliases})
@@ -1284,6 +1323,7 @@ class _Builder:
                 )
                 continue
             seen[key] = nnode
+            self.cable_nodes[key] = (d, path)
             extra = _opt(d, ("max_voltage_v", "outer_diameter_mm", "dielectric", "loss_table"))
             out.append(
                 m.CableDef(
@@ -1294,6 +1334,49 @@ class _Builder:
             self.known[_fold(d.name)] = d.name
         own = {_fold(d.name) for d in out}
         return tuple(c for c in beside if _fold(c.name) not in own) + tuple(out)
+
+    def derived(self, top: dict, radios: list[m.Radio], site_cable: str) -> None:
+        """Checks of values that are each in range but do not go together.
+
+        Every value the design derives from the file is checked here, with the
+        position of the value the user wrote, so ``check`` and ``design`` agree:
+        the tolerance run draws each stub cable's velocity factor within
+        ``+-vf_spread`` (``allowances.vf_spread``, else the cable's published
+        tolerance, else :data:`notchkit.tolerance.DEFAULT_VF_SPREAD`), which
+        must stay at most half the velocity factor
+        (:func:`notchkit.tolerance.tolerance` refuses more).
+        """
+        from notchkit.cables import library
+        from notchkit.tolerance import DEFAULT_VF_SPREAD
+
+        allow = top.get("allowances", ({}, None))[0]
+        explicit = allow.get("vf_spread")
+        lib = {_fold(c.name): c for c in library()}
+        used = {_fold(site_cable)} | {_fold(x.stub_cable) for x in radios if x.stub_cable}
+        for key in sorted(used):
+            if key in self.cable_nodes:
+                d, cpath = self.cable_nodes[key]
+                vf, vf_node = d["velocity_factor"]
+                tol = _val(d, "vf_tolerance")
+                name = d["name"][0]
+            elif key in lib:
+                c = lib[key]
+                vf, vf_node, cpath, tol, name = c.velocity_factor, None, "", c.vf_tolerance, c.name
+            else:
+                continue
+            if explicit is not None:
+                spread, snode = explicit
+                if spread > 0.5 * vf:
+                    self.r.add(snode, "allowances.vf_spread",
+                               f"{spread:g} is more than half the velocity factor {vf:g} of stub cable "
+                               f"{name!r} (allowed: at most {0.5 * vf:g} for that cable)")
+                continue
+            spread = DEFAULT_VF_SPREAD if tol is None else float(tol)
+            if spread > 0.5 * vf:
+                src = "its vf_tolerance" if tol is not None else "the default velocity-factor spread"
+                self.r.add(vf_node, _join(cpath, "velocity_factor"),
+                           f"{vf:g} is less than twice {src} {spread:g} that the tolerance run uses "
+                           f"(allowed: at least {2 * spread:g}, or set allowances.vf_spread)")
 
     def resolve_cables(self) -> None:
         """Report every cable name that is neither in the library nor defined in the file."""

@@ -169,8 +169,9 @@ class SiteArrays:
 
 def check_max_harmonic(value: object) -> int:
     """Validate a harmonic limit: an integer >= 1 (1: harmonics not evaluated)."""
-    if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
-        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer >= 1)")
+    if isinstance(value, bool) or not isinstance(value, int | np.integer) or not 1 <= value <= 20:
+        raise UsageError(f"max_harmonic: {value!r} is not allowed (an integer from 1 to 20, as a site "
+                         "file allows)")
     return int(value)
 
 
@@ -218,5 +219,14 @@ def validate(site: Site) -> None:
     for k, c in enumerate(site.couplings):
         if not finite(c.isolation_db):
             bad(f"couplings[{k}].isolation_db", c.isolation_db, "must be a finite number of dB")
+    # The loader's caps on the survey's work, for sites built in Python too (docs/robustness.md).
+    from notchkit.site.loader import MAX_IM_TRIPLES, MAX_RADIOS
+
+    n_tx = sum(1 for r in site.radios if r.tx is not None)
+    if len(site.radios) > MAX_RADIOS:
+        bad("radios", len(site.radios), f"radios are more than {MAX_RADIOS} in one site")
+    if n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES:
+        bad("radios", n_tx, f"transmitters make more than {MAX_IM_TRIPLES} three-transmitter "
+            "intermodulation combinations")
     if problems:
         raise SiteError(problems)
