@@ -27,6 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.errors import InputError
+from notchkit.textsafe import shown_path
 
 DEFAULTS_NAME = "defaults.yaml"
 MAX_BYTES = 64 * 1024
@@ -65,7 +66,7 @@ def defaults_path() -> Path:
 
 def _fail(path: Path, node: Any, key: str, message: str) -> DefaultsError:
     mark = node.start_mark
-    return DefaultsError(f"{path}:{mark.line + 1}:{mark.column + 1}: {key}: {message}")
+    return DefaultsError(f"{shown_path(path)}:{mark.line + 1}:{mark.column + 1}: {key}: {message}")
 
 
 def _scalar(path: Path, node: Any, key: str) -> str:
@@ -96,31 +97,35 @@ def load_defaults(path: str | os.PathLike[str] | None = None) -> UserDefaults:
     """
     p = Path(path) if path is not None else defaults_path()
     try:
-        if not p.is_file():
+        if not p.exists():
             return UserDefaults()
         st = p.stat()
     except OSError as exc:
-        raise DefaultsError(f"{p}:1:1: cannot read the defaults file ({exc.strerror})") from None
+        raise DefaultsError(f"{shown_path(p)}:1:1: cannot read the defaults file ({exc.strerror})") from None
     return _load(str(p), st.st_mtime_ns, st.st_size)
 
 
 @functools.lru_cache(maxsize=8)
-def _load(path: str, _mtime_ns: int, size: int) -> UserDefaults:
+def _load(path: str, _mtime_ns: int, _size: int) -> UserDefaults:
     import yaml
 
+    from notchkit.bounded import ReadRefused, read_regular
+
     p = Path(path)
-    if size > MAX_BYTES:
-        raise DefaultsError(f"{p}:1:1: the defaults file is over {MAX_BYTES // 1024} KiB (a few lines)")
     try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DefaultsError(f"{p}:1:1: cannot read the defaults file ({exc})") from None
+        text = read_regular(p, MAX_BYTES).decode("utf-8")
+    except ReadRefused as exc:
+        raise DefaultsError(f"{shown_path(p)}:1:1: the defaults file {exc} (a regular file of at most "
+                            f"{MAX_BYTES // 1024} KiB)") from None
+    except UnicodeDecodeError:
+        raise DefaultsError(f"{shown_path(p)}:1:1: the defaults file is not UTF-8 text") from None
     try:
         root = yaml.compose(text, Loader=yaml.SafeLoader)
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f"{mark.line + 1}:{mark.column + 1}" if mark is not None else "1:1"
-        raise DefaultsError(f"{p}:{where}: not valid YAML ({getattr(exc, 'problem', exc)})") from None
+        problem = getattr(exc, "problem", exc)
+        raise DefaultsError(f"{shown_path(p)}:{where}: not valid YAML ({problem})") from None
     if root is None:
         return UserDefaults(path=p)
     if not isinstance(root, yaml.MappingNode):

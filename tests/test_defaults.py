@@ -204,3 +204,20 @@ def test_quiet_counts_warnings_instead_of_printing_them(capsys):
     assert capsys.readouterr().err == "warning: 2 warning(s) not shown (run without --quiet to see them)\n"
     _print_warnings(caught, None, False)
     assert capsys.readouterr().err == "warning: cable X: no loss table\nwarning: sweep is coarse\n"
+
+
+def test_a_defaults_path_that_is_not_a_regular_file_is_refused(tmp_path, monkeypatch):
+    import os
+
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path))
+    (tmp_path / "notchkit").mkdir()
+    os.mkfifo(tmp_path / "notchkit" / "defaults.yaml")  # a FIFO with no writer must not hang
+    with pytest.raises(DefaultsError, match=r"defaults\.yaml:1:1: .* a FIFO.*not a regular file"):
+        load_defaults()
+
+
+def test_an_oversized_defaults_file_is_refused_unread(tmp_path, monkeypatch):
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path))
+    _write(tmp_path, "# " + "x" * (64 * 1024) + "\n")
+    with pytest.raises(DefaultsError, match=r"defaults\.yaml:1:1: the defaults file"):
+        load_defaults()
