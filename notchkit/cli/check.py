@@ -8,9 +8,9 @@ code is 2; a clean file prints a summary and exits 0. Nothing is written.
 from __future__ import annotations
 
 import argparse
-import json
 
 from notchkit.errors import EXIT_OK
+from notchkit.jsonvalues import dumps
 from notchkit.site.checked import check_site, site_check
 from notchkit.site.model import Site
 
@@ -31,7 +31,7 @@ def add_parser(sub) -> None:
 def run(args: argparse.Namespace) -> int:
     result = check_site(args.site)
     if args.json:
-        print(json.dumps(result.to_json(), indent=2, allow_nan=False))
+        print(dumps(result.to_json(), indent=2))
     else:
         print(format_site(result.site))
     return EXIT_OK
