@@ -317,3 +317,18 @@ def test_a_one_port_sweep_into_a_load_is_diagnosed_too(ridge, tmp_path, kw, expe
         assert d.swapped == "F3-S1" and d.faulty == ()
     else:
         assert d.loss_scale == pytest.approx(3.0, rel=0.1) and d.faulty == ()
+
+
+def test_verify_and_recheck_results_have_a_short_repr(ridge, tmp_path):
+    from notchkit.asbuilt import recheck
+
+    rec = ridge.filter("F1")
+    path = write(build(rec, seed=3), tmp_path, "F1")
+    res = verify(path, plan_path=plan_path(ridge), filter_id="F1")
+    text = repr(res)
+    assert text.startswith("<VerifyResult ") and "F1" in text and len(text) < 3000
+    assert len(text.splitlines()) == len(res.checks) + 2  # the facts line, the header, one row a band
+    assert "<table>" in res._repr_html_()
+    again = recheck(plan_path(ridge), {"F1": path})
+    text = repr(again)
+    assert text.startswith("<RecheckResult ") and len(text) < 3000
