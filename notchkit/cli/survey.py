@@ -117,15 +117,15 @@ def format_result(result) -> str:
         ]
         for t in result.threats
     ]
-    head = ["source", "victim", "mechanism", "order", "MHz", "level dBm", "threshold dBm", "excess dB",
+    head = ["source", "victim", "mechanism", "order", "MHz", "level dBm", "limit dBm", "excess dB",
             "where a stub helps"]  # fmt: skip
     lines += _table(head, rows, right={3, 4, 5, 6, 7}) if rows else ["  (none)"]
-    lines += ["", "Worst excess in dB, transmitter (rows) x receiver (columns); '.' = no threat:"]
+    lines += ["", "Worst excess in dB, transmitter (rows) x receiver (columns); '-' = no threat:"]
     m = result.matrix()
     if m.transmitters and m.receivers:
         keys = [f"R{j + 1}" for j in range(len(m.receivers))]
         mrows = [
-            [tx] + ["." if v is None else f"{v:+.1f}" for v in row]
+            [tx] + ["-" if v is None else f"{v:+.1f}" for v in row]
             for tx, row in zip(m.transmitters, m.excess_db, strict=True)
         ]
         lines += _table(["tx \\ rx", *keys], mrows, right=set(range(1, len(keys) + 1)))
