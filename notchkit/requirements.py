@@ -45,3 +45,7 @@ class FilterRequirement:
     power_mhz: float | None = None
     reasons: tuple[str, ...] = ()
     """Short human-readable reasons, one per notch (which threat it removes)."""
+    band_use: tuple[tuple[str, tuple[int, ...]], ...] = ()
+    """For a radio that works several bands one at a time: (band, indices of the
+    notches needed while it works that band). The one filter passes every band; a
+    stub whose notch a band does not need may be switched out on that band."""

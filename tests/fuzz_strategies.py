@@ -149,6 +149,8 @@ def antenna(draw, *, same_spot: bool) -> dict[str, Any]:
         return {"x_m": 0, "y_m": 0, "height_m": 10}
     out: dict[str, Any] = {}
     for k in keys("antenna"):
+        if _numeric(section("antenna")["properties"][k]).get("type") not in ("number", "integer"):
+            continue  # band_mhz, gain_table: not numbers
         if draw(st.booleans()):
             v = draw(number("antenna", k))
             if _valid_length_text(v, "antenna", k):

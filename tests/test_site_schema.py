@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
+import math
 import re
 from pathlib import Path
 from typing import Any
@@ -67,6 +68,8 @@ def validate(value: Any, schema: dict[str, Any], root: dict[str, Any], path: str
         if "maximum" in schema and value > schema["maximum"]:
             errors.append(f"{path}: {value} > maximum")
     if kind == "string":
+        if "enum" in schema and value not in schema["enum"]:
+            errors.append(f"{path}: {value!r} is not one of the allowed words")
         if len(value) < schema.get("minLength", 0) or len(value) > schema.get("maxLength", 1 << 30):
             errors.append(f"{path}: length {len(value)} out of bounds")
         if "pattern" in schema and not re.search(schema["pattern"], value):
@@ -141,6 +144,7 @@ def test_loader_refuses_every_key_outside_the_schema(tmp_path):
     data = yaml.safe_load(_complete_example())
     paths: list[str] = []
     _add_extra_key(data, "site", paths)
+    _write_preselector(tmp_path)
     p = tmp_path / "x.yaml"
     p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
     with pytest.raises(SiteError) as info:
@@ -160,10 +164,16 @@ def test_example_sites_are_valid_under_the_schema(path):
 
 def test_the_validator_can_fail():
     schema = _schema()
-    bad = {"site": "x", "transmitters": [{"name": "a", "freq_mhz": True, "power_w": 5, "colour": 1}]}
+    bad = {"site": "x", "transmitters": [{"name": "a", "freq_mhz": True, "power_w": True, "colour": 1}]}
     errors = validate(bad, schema, schema)
-    assert "$.transmitters[0].freq_mhz: True is not of type number" in errors
+    assert "$.transmitters[0].power_w: True is not of type number" in errors
+    # a frequency is one number or a list of channels: a boolean is neither
+    assert "$.transmitters[0].freq_mhz: matches 0 of oneOf" in errors
     assert "$.transmitters[0]: unknown key colour" in errors
+    # a receiver class is one of the documented words
+    errors = validate({"site": "x", "receivers": [{"name": "r", "freq_mhz": 5, "receiver_class": "hf-rig"}]},
+                      schema, schema)  # fmt: skip
+    assert errors == ["$.receivers[0].receiver_class: 'hf-rig' is not one of the allowed words"]
     assert validate({"site": "x", "limits": {"max_swr": 1.0}}, schema, schema) == [
         "$.limits.max_swr: 1.0 <= exclusiveMinimum"
     ]
@@ -192,10 +202,25 @@ def _keys_used(data: Any, section: str, used: dict[str, set[str]]) -> None:
                 _keys_used(item, fld.section, used)
 
 
+def _write_preselector(folder: Path) -> None:
+    """The measured .s2p the complete example names: a series-LC band-pass two-port built
+    with scikit-rf's own media (its -20 log10 |S21| is what the loader reads)."""
+    import skrf
+
+    freq = skrf.Frequency(300, 700, 81, unit="MHz")
+    line = skrf.media.DefinedGammaZ0(frequency=freq, z0_port=50)
+    f0 = 453.5e6
+    l_h = 2e-6
+    c_f = 1.0 / ((2 * math.pi * f0) ** 2 * l_h)
+    ntw = line.inductor(l_h) ** line.capacitor(c_f)
+    ntw.write_touchstone(str(folder / "presel"))
+
+
 def test_complete_example_loads_and_uses_every_key(tmp_path):
     text = _complete_example()
     p = tmp_path / "complete.yaml"
     p.write_text(text, encoding="utf-8")
+    _write_preselector(tmp_path)
     site = load_site(p)
     assert site.name
     schema = _schema()
@@ -232,6 +257,8 @@ _MODEL = {
     "antenna": model.Antenna,
     "feedline": model.Feedline,
     "coupling": model.Coupling,
+    "installed": model.InstalledFilter,
+    "scenario": model.Scenario,
     "limits": model.Limits,
     "allowances": model.Allowances,
     "cable": model.CableDef,
@@ -249,6 +276,8 @@ def _heading_for(section: str, rows: dict[str, dict[str, list[str]]]) -> str:
         "antenna": "`antenna:`",
         "feedline": "`feedline:`",
         "coupling": "`couplings:`",
+        "installed": "`installed:`",
+        "scenario": "`scenarios:`",
         "limits": "`limits:`",
         "allowances": "`allowances:`",
         "cable": "`cables:`",

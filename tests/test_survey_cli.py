@@ -20,7 +20,7 @@ transmitters:
 receivers:
   - name: uhf-rx
     freq_mhz: 439.56
-    antenna: {x_m: 10.0, y_m: 0.0, height_m: 10.0, gain_dbi: 0.0}
+    antenna: {x_m: 100.0, y_m: 0.0, height_m: 10.0, gain_dbi: 0.0}
 """
 
 
@@ -40,11 +40,16 @@ def test_json_output(site_file, capsys):
     # 146.52 MHz x 3 = 439.56 MHz (hand arithmetic) lands on the 70 cm receiver
     assert harm["source"] == "vhf-tx" and harm["victim"] == "uhf-rx" and harm["order"] == 3
     assert harm["f_mhz"] == pytest.approx(439.56)
-    # 50 W on 2 m: 60 dB suppression (47 CFR 97.307(e)); 10 m apart: P.525 free-space loss
-    fsl = 32.45 + 20 * math.log10(3 * 146.512) + 20 * math.log10(0.010)
+    # 50 W on 2 m: 60 dB suppression (47 CFR 97.307(e)); 100 m apart: P.525 free-space loss
+    fsl = 32.45 + 20 * math.log10(3 * 146.512) + 20 * math.log10(0.100)
     assert harm["level_dbm"] == pytest.approx(10 * math.log10(50e3) - 60.0 - fsl, abs=0.01)
     # threshold: kTB -173.98 + NF 8 + 10log10(16000) = -123.94 dBm (site defaults)
     assert harm["excess_db"] == pytest.approx(harm["level_dbm"] + 123.94, abs=0.01)
+    # how the site operates: no scenarios given = all at once; no installed filter;
+    # 100 m is far beyond lambda/2pi = 0.11 m at 439.56 MHz, so the formula is used
+    assert harm["scenario"] == ["all at once"] and harm["operating"] == []
+    assert harm["installed_rejection_db"] == 0 and harm["installed"] == []
+    assert harm["coupling_source"] == "formula" and harm["remedy_class"] == "stub"
     (filt,) = [f for f in data["filters"] if f["side"] == "tx"]
     assert filt["radio"] == "vhf-tx" and filt["pass"] == [[146.512, 146.528]]
     assert filt["notch"][0]["required_db"] == pytest.approx(harm["excess_db"] + 6.0, abs=0.01)
@@ -92,6 +97,6 @@ def test_table_matrix_and_remedies(tmp_path, capsys):
     assert main(["survey", str(path)]) == 0
     out = capsys.readouterr().out
     # 146.52 vs 147.00 MHz: 0.33 % apart, inside the 3 % rule: no stub, a remedy instead
-    assert "no stub (see remedies)" in out
+    assert "no stub: cavity (see remedies)" in out
     assert "Remedies where no stub" in out and "cavities" in out
     assert "tx \\ rx" in out and "R1 = rx-b" in out

@@ -208,7 +208,9 @@ def test_one_stub_one_percent_long_is_named_with_its_millimetres(ridge, tmp_path
     assert any(stub in x and "too long" in x for x in d.findings)
 
 
-@pytest.mark.parametrize("fid", ["F3", "F5"])
+# Two-stub filters: one stub alone cannot tell its cut from the cable (ridge-eoc F3 has one stub
+# since the survey stopped crediting the 2 m yagi its in-band gain at 440 MHz).
+@pytest.mark.parametrize("fid", ["F4", "F5"])
 def test_wrong_velocity_factor_is_the_cable_not_a_piece(ridge, tmp_path, fid):
     rec = ridge.filter(fid)
     net = build(rec, vf=0.645, seed=6)  # RG-213's published 0.66 (cable library); a slower spool

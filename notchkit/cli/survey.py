@@ -6,7 +6,7 @@ from collections.abc import Set
 
 from notchkit.errors import EXIT_OK
 from notchkit.jsonvalues import dumps
-from notchkit.report.text import order_text
+from notchkit.report.text import on_band, order_text
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
@@ -89,7 +89,8 @@ def _where(t) -> str:
     if t.filters:
         return ", ".join(f"{side} {radio}" for radio, side in t.filters)
     if t.excess_db > 0:
-        return "no stub (see remedies)"
+        cls = getattr(t, "remedy_class", "")
+        return f"no stub: {cls} (see remedies)" if cls else "no stub (see remedies)"
     return "-"
 
 
@@ -105,8 +106,8 @@ def format_result(result) -> str:
     ]
     rows = [
         [
-            " + ".join(t.sources),
-            t.victim,
+            on_band(", ".join(t.sources), t).replace(", ", " + "),
+            on_band(t.victim, t),
             t.mechanism,
             order_text(t),
             f"{t.f_mhz:.4f}",
@@ -148,7 +149,8 @@ def format_result(result) -> str:
     remedies: dict[str, None] = {}
     for t in need:
         if not t.filters or t.remedy.startswith("no stub"):
-            remedies.setdefault(f"{' + '.join(t.sources)} -> {t.victim} ({t.mechanism}): {t.remedy}")
+            who = on_band(", ".join(t.sources), t).replace(", ", " + ")
+            remedies.setdefault(f"{who} -> {on_band(t.victim, t)} ({t.mechanism}): {t.remedy}")
     if remedies:
         lines += ["", "Remedies where no stub (or not only a stub) helps:"]
         lines += [f"  - {r}" for r in remedies]

@@ -270,9 +270,19 @@ def matrix_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
 def threat_where(t: Any) -> str:
     """Where a stub helps: the filter locations the threat feeds, or the remedy when none."""
     locs = [f"{r} {s}" for r, s in t.filters]
+    scen = tuple(getattr(t, "scenario", ()) or ())
+    tail = "" if scen in ((), ("all at once",)) else " [scenario: " + ", ".join(scen) + "]"
     if locs:
-        return ", ".join(locs)
-    return t.remedy if t.remedy.lower().startswith("no stub") else f"no stub: {t.remedy}"
+        return ", ".join(locs) + tail
+    if t.remedy.lower().startswith(("no stub", "not a stub job")):
+        return t.remedy + tail
+    return f"no stub: {t.remedy}" + tail
+
+
+def on_band(names: str, t: Any) -> str:
+    """``run (7-7.3 MHz)``: a band-switched radio with the band it works in this threat."""
+    bands = dict(o.split(": ", 1) for o in (getattr(t, "operating", ()) or ()))
+    return ", ".join(f"{n} ({bands[n]})" if n in bands else n for n in names.split(", "))
 
 
 def threat_groups(threats: Sequence[Any]) -> list[tuple[Any, int]]:
@@ -296,9 +306,9 @@ def threat_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
     rows = []
     groups = threat_groups(sv.threats)
     for i, (t, n) in enumerate(groups[:max_rows], start=1):
-        source = t.product if t.mechanism in ("intermod", "blocking") else ", ".join(t.sources)
+        source = t.product if t.mechanism in ("intermod", "blocking") else on_band(", ".join(t.sources), t)
         rows.append((
-            str(i), source, t.victim, t.mechanism, order_text(t), mhz4(t.f_mhz),
+            str(i), source, on_band(t.victim, t), t.mechanism, order_text(t), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), str(n - 1) if n > 1 else DASH,
             threat_where(t),
         ))
@@ -319,8 +329,18 @@ def threat_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
         note="Level at the victim's receiver input; limit is its threshold; excess = level - limit. "
              "For intermodulation the source is the product that lands in the receiver. 'More': "
              "further threats of the same sources and victim, less severe; every threat is in the "
-             "plan's JSON (survey.threats)." + (" " + "; ".join(more) + "." if more else ""),
+             "plan's JSON (survey.threats)." + (" " + "; ".join(more) + "." if more else "")
+             + "".join(" " + n[:1].upper() + n[1:] + "." for n in _operating_notes(sv)),
     )
+
+
+_OPERATING_NOTES = ("scenarios", "in no scenario", "radios working several bands", "installed filter")
+
+
+def _operating_notes(sv: Any) -> list[str]:
+    """What the survey took into account about how the site operates (scenarios,
+    band-switched radios, installed filters), for the plan."""
+    return [n for n in (getattr(sv, "notes", ()) or ()) if n.startswith(_OPERATING_NOTES)]
 
 
 # ---------------------------------------------------------------- one filter
@@ -376,7 +396,20 @@ def requirement_table(d: Any) -> Table:
         header=("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
         rows=tuple(rows), align=("left", "left", "left", "left", "left", "right", "left"),
         widths=(0.5, 1.6, 1.55, 1.45, 0.7, 0.6, 2.3),
+        **({"note": band_use_text(req)} if getattr(req, "band_use", ()) else {}),
     )
+
+
+def band_use_text(req: Any) -> str:
+    """Which notches (numbered from 1 in the table's order) each band a radio works needs."""
+    use = tuple(req.band_use)
+    if len(use) == 1:
+        return (f"Band-switched: this filter is in line only while {req.radio} works {use[0][0]}; "
+                f"{req.radio} has one such filter per band that needs one.")  # fmt: skip
+    parts = [f"on {band}: " + (", ".join(f"notch {k + 1}" for k in idx) if idx else "none")
+             for band, idx in use]  # fmt: skip
+    return (f"{req.radio} works one band at a time; this filter passes every band. Notches needed "
+            "(a stub whose notch a band does not need may be switched out on it): " + "; ".join(parts) + ".")
 
 
 def _short(s: str, n: int) -> str:

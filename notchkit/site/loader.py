@@ -28,6 +28,7 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
 import yaml
 
 from notchkit.errors import Problem, SiteError
@@ -110,7 +111,10 @@ class Field:
 
     ``kind`` is one of ``number``, ``text``, ``name``, ``cable``, ``band``,
     ``section`` (a nested mapping named by ``section``), ``list`` (a list of
-    such mappings), ``pair`` (two radio names) or ``table`` (a loss table).
+    such mappings), ``pair`` (two radio names), ``table`` (rows of two numbers,
+    rising in the first), ``freqs`` (a frequency or a list of channels),
+    ``bands`` (a band or a list of bands), ``names`` (a list of radio names) or
+    ``choice`` (one of ``choices``).
     ``default`` is for documentation only; the value objects in
     :mod:`notchkit.site.model` hold the defaults the program uses.
     """
@@ -121,6 +125,10 @@ class Field:
     num: Num | None = None
     section: str = ""
     default: Any = None
+    cols: tuple[tuple[str, Num], tuple[str, Num]] | None = None
+    """The two columns of a ``table`` (name, range); ``None``: the cable loss table's."""
+    choices: tuple[str, ...] = ()
+    """The words a ``choice`` field accepts."""
 
 
 _FREQ = Num(lo=m.MIN_FREQ_MHZ, hi=m.MAX_FREQ_MHZ, unit="MHz")
@@ -142,13 +150,21 @@ def _d(cls: type, name: str) -> Any:
 
 
 _FREQ_FIELDS = {
-    "freq_mhz": Field(kind="number", num=_FREQ, doc="Channel frequency in MHz."),
-    "band_mhz": Field(
-        kind="band",
+    "freq_mhz": Field(
+        kind="freqs",
         num=_FREQ,
-        doc="[lo, hi] in MHz for a radio that tunes across a band (instead of freq_mhz).",
+        doc="Channel frequency in MHz, or a list of channels worked one at a time.",
+    ),
+    "band_mhz": Field(
+        kind="bands",
+        num=_FREQ,
+        doc="[lo, hi] in MHz for a radio that tunes across a band (instead of freq_mhz), "
+        "or a list of such bands worked one at a time.",
     ),
 }
+_OFFSET = Num(lo=0.0001, hi=10_000.0, unit="MHz")
+_REJ_DB = Num(lo=0.0, hi=200.0, unit="dB")
+
 _TX_FIELDS = {
     "power_w": Field(kind="number", num=_POWER, required=True, doc="Carrier power in watts."),
     "bandwidth_khz": Field(
@@ -224,10 +240,26 @@ _RX_FIELDS = {
         doc="Input 3rd-order intercept point in dBm; default: from receiver_class.",
     ),
     "receiver_class": Field(
-        kind="text",
+        kind="choice",
+        choices=m.RECEIVER_CLASSES,
         default=None,
-        doc="Class giving default intercept points: " + ", ".join(m.RECEIVER_CLASSES)
-        + f"; default: {m.DEFAULT_RECEIVER_CLASS}.",
+        doc="Receiver class: hf (HF transceiver with band filters), base or mobile (VHF/UHF FM), "
+        "scanner (no front-end filter); gives documented blocking by offset and intercept points; "
+        f"default: none (the flat blocking level; intercept points of {m.DEFAULT_RECEIVER_CLASS}).",
+    ),
+    "selectivity": Field(
+        kind="table",
+        cols=(("offset_mhz", _OFFSET), ("blocking_dbm", Num(lo=-150.0, hi=40.0, unit="dBm"))),
+        default=(),
+        doc="Blocking level by offset from the band edge as [offset_mhz, blocking_dbm] rows, "
+        "rising offset; default: the class's table, else the flat blocking level.",
+    ),
+    "band_noise_dbm": Field(
+        kind="number",
+        num=Num(lo=-200.0, hi=0.0, unit="dBm"),
+        default=None,
+        doc="Band noise at the receiver input in its bandwidth, in dBm; the floor for noise "
+        "threats when above kTB + NF; default: none.",
     ),
 }
 _RADIO_COMMON = {
@@ -239,6 +271,11 @@ _RADIO_COMMON = {
         kind="cable",
         default=None,
         doc="Cable for this radio's stubs; default: the site's cable.",
+    ),
+    "installed": Field(
+        kind="list",
+        section="installed",
+        doc="Filters already in line at this radio (band-pass, duplexer, cavity, ...).",
     ),
 }
 _NAME = Field(
@@ -284,16 +321,32 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=m.DEFAULT_MAX_IM_ORDER,
             doc="Highest intermodulation order the survey enumerates (2 to 9).",
         ),
+        "scenarios": Field(
+            kind="list",
+            section="scenario",
+            doc="Which radios can be active at the same time; default: all at once.",
+        ),
+        "near_field_isolation_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=100.0, unit="dB"),
+            default=m.DEFAULT_NEAR_FIELD_ISOLATION_DB,
+            doc="Isolation taken between antennas closer than lambda/(2 pi) where no coupling "
+            "was measured, in dB (no formula is used there).",
+        ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
     "receiver": {"name": _NAME, **_FREQ_FIELDS, **_RX_FIELDS, **_RADIO_COMMON},
     "transceiver": {
         "name": _NAME,
         "freq_mhz": Field(
-            kind="number", num=_FREQ, doc="Frequency in MHz shared by tx and rx unless they give one."
+            kind="freqs",
+            num=_FREQ,
+            doc="Frequency in MHz (or a list of channels) shared by tx and rx unless they give one.",
         ),
         "band_mhz": Field(
-            kind="band", num=_FREQ, doc="[lo, hi] in MHz shared by tx and rx unless they give one."
+            kind="bands",
+            num=_FREQ,
+            doc="[lo, hi] in MHz (or a list of bands) shared by tx and rx unless they give one.",
         ),
         "bandwidth_khz": Field(
             kind="number",
@@ -324,7 +377,68 @@ SECTIONS: dict[str, dict[str, Field]] = {
             kind="number",
             num=Num(lo=-30.0, hi=40.0, unit="dBi"),
             default=_d(m.Antenna, "gain_dbi"),
-            doc="Gain toward the other antennas, in dBi.",
+            doc="Gain toward the other antennas, in dBi, inside the antenna's band.",
+        ),
+        "band_mhz": Field(
+            kind="band",
+            num=_FREQ,
+            default=None,
+            doc="[lo, hi] in MHz the antenna is built for; outside it the gain is at most 0 dBi; "
+            "default: the radio's bands widened by 10 %.",
+        ),
+        "gain_table": Field(
+            kind="table",
+            cols=(("freq_mhz", _TABLE_FREQ), ("gain_dbi", Num(lo=-60.0, hi=40.0, unit="dBi"))),
+            default=(),
+            doc="Gain toward the other antennas as [freq_mhz, gain_dbi] rows, rising frequency "
+            "(replaces gain_dbi and band_mhz); default: none.",
+        ),
+        "out_of_band_loss_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=60.0, unit="dB"),
+            default=m.DEFAULT_OUT_OF_BAND_LOSS_DB,
+            doc="Mismatch loss credited outside the antenna's band, in dB.",
+        ),
+    },
+    "installed": {
+        "name": Field(kind="text", required=True, doc="What the filter is."),
+        "port": Field(
+            kind="choice",
+            choices=m.INSTALLED_PORTS,
+            default=_d(m.InstalledFilter, "port"),
+            doc="Where it sits: tx (transmit path), rx (receive path) or antenna (shared port).",
+        ),
+        "kind": Field(
+            kind="choice",
+            choices=m.INSTALLED_KINDS,
+            default=_d(m.InstalledFilter, "kind"),
+            doc="What sort of filter it is (for the plan's list).",
+        ),
+        "rejection": Field(
+            kind="table",
+            cols=(("freq_mhz", _TABLE_FREQ), ("rejection_db", _REJ_DB)),
+            default=(),
+            doc="Rejection as [freq_mhz, rejection_db] rows, rising frequency, interpolated in dB "
+            "against log frequency; none credited outside (give this or touchstone).",
+        ),
+        "touchstone": Field(
+            kind="text",
+            default=None,
+            doc="A measured two-port .s2p file (path from the site file's folder); rejection "
+            "-20 log10 |S21| (give this or rejection).",
+        ),
+        "for_band_mhz": Field(
+            kind="band",
+            num=_FREQ,
+            default=None,
+            doc="[lo, hi] in MHz: in line only while the radio works a band overlapping this; "
+            "default: always in line.",
+        ),
+    },
+    "scenario": {
+        "name": Field(kind="text", required=True, doc="Name of the scenario, unique in the file."),
+        "radios": Field(
+            kind="names", required=True, doc="The radios that can be active together in it."
         ),
     },
     "feedline": {
@@ -342,7 +456,11 @@ SECTIONS: dict[str, dict[str, Field]] = {
             doc="Measured loss from one antenna port to the other, in dB (positive).",
         ),
         "freq_mhz": Field(
-            kind="number", num=_FREQ, default=None, doc="Frequency of the measurement in MHz."
+            kind="number",
+            num=_FREQ,
+            default=None,
+            doc="Frequency of the measurement in MHz; a pair measured at several frequencies "
+            "gives one entry each, interpolated in dB against log frequency.",
         ),
     },
     "limits": {
@@ -377,6 +495,19 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=None,
             doc="Most cable in one filter, in metres (more than the 0.02 m shortest cut); "
             "default: no limit.",
+        ),
+        "max_stub_rejection_db": Field(
+            kind="number",
+            num=Num(lo=1.0, hi=200.0, unit="dB"),
+            default=m.DEFAULT_MAX_STUB_REJECTION_DB,
+            doc="Notch depth one stub plausibly gives, in dB.",
+        ),
+        "max_filter_rejection_db": Field(
+            kind="number",
+            num=Num(lo=1.0, hi=200.0, unit="dB"),
+            default=m.DEFAULT_MAX_FILTER_REJECTION_DB,
+            doc="Deepest notch asked of a stub filter, in dB; a threat needing more is "
+            "reported as not a stub job.",
         ),
     },
     "allowances": {
@@ -848,7 +979,15 @@ class _Reader:
         if fld.kind == "pair":
             return self.pair(node, path)
         if fld.kind == "table":
-            return self.table(node, path)
+            return self.table(node, path, fld.cols)
+        if fld.kind == "freqs":
+            return self.freqs(node, path)
+        if fld.kind == "bands":
+            return self.bands(node, path)
+        if fld.kind == "names":
+            return self.name_list(node, path)
+        if fld.kind == "choice":
+            return self.choice(node, path, fld.choices)
         raise ValueError(f"unknown field kind {fld.kind!r}")  # pragma: no cover - programming error
 
     def items(self, node: yaml.Node, section: str, path: str) -> Any:
@@ -1008,7 +1147,9 @@ class _Reader:
             return _BAD
         return ((a, node.value[0]), (b, node.value[1]))
 
-    def table(self, node: yaml.Node, path: str) -> Any:
+    def table(self, node: yaml.Node, path: str, cols=None) -> Any:
+        if cols is not None:
+            return self.rows(node, path, cols)
         if not isinstance(node, yaml.SequenceNode):
             self.add(
                 node,
@@ -1049,6 +1190,98 @@ class _Reader:
         return tuple(out) if ok else _BAD
 
 
+    # -- the keys of how a site operates (bands worked one at a time, scenarios,
+    #    installed filters, selectivity and gain tables) ----------------------
+
+    def rows(self, node: yaml.Node, path: str, cols) -> Any:
+        """A table of [x, y] rows with x rising (each column's range in ``cols``)."""
+        (xn, xnum), (yn, ynum) = cols
+        form = f"[{xn}, {yn}]"
+        if not isinstance(node, yaml.SequenceNode) or not node.value:
+            self.add(node, path, f"expected a list of {form} rows, got {_count(node)} "
+                     f"(allowed: at least one row, e.g. [[{xnum.lo:g}, 0]])")  # fmt: skip
+            return _BAD
+        out: list[tuple[float, float]] = []
+        ok = True
+        last: float | None = None
+        for i, row in enumerate(node.value):
+            rpath = f"{path}[{i}]"
+            if not isinstance(row, yaml.SequenceNode) or len(row.value) != 2:
+                self.add(row, rpath, f"expected {form}, got {_count(row)} (allowed: two numbers)")
+                ok = False
+                continue
+            x = self.number(row.value[0], xnum, f"{rpath}[0]")
+            y = self.number(row.value[1], ynum, f"{rpath}[1]")
+            if x is _BAD or y is _BAD:
+                ok = False
+                continue
+            if last is not None and x <= last:
+                self.add(row, rpath, f"{xn} {x:g} does not rise above {last:g} "
+                         "(allowed: rows in rising order, each once)")  # fmt: skip
+                ok = False
+            last = x
+            out.append((x, y))
+        return tuple(out) if ok else _BAD
+
+    def freqs(self, node: yaml.Node, path: str) -> Any:
+        """One frequency, or a list of channels worked one at a time: a tuple of Bands."""
+        if isinstance(node, yaml.SequenceNode):
+            if not node.value:
+                self.add(node, path, "an empty list (allowed: a frequency, or a list of channels "
+                         "in MHz, e.g. [146.52, 147.0])")  # fmt: skip
+                return _BAD
+            got = [self.number(v, _FREQ, f"{path}[{i}]") for i, v in enumerate(node.value)]
+            if any(g is _BAD for g in got):
+                return _BAD
+            if len(set(got)) != len(got):
+                self.add(node, path, "a channel is listed twice (allowed: each channel once)")
+                return _BAD
+            return tuple(m.Band(lo_mhz=f, hi_mhz=f) for f in got)
+        f = self.number(node, _FREQ, path)
+        return _BAD if f is _BAD else (m.Band(lo_mhz=f, hi_mhz=f),)
+
+    def bands(self, node: yaml.Node, path: str) -> Any:
+        """[lo, hi], or a list of such bands worked one at a time: a tuple of Bands."""
+        if (
+            isinstance(node, yaml.SequenceNode) and node.value
+            and all(isinstance(v, yaml.SequenceNode) for v in node.value)
+        ):  # fmt: skip
+            got = [self.band(v, f"{path}[{i}]") for i, v in enumerate(node.value)]
+            if any(g is _BAD for g in got):
+                return _BAD
+            for i, a in enumerate(got):
+                for b in got[:i]:
+                    if a.overlaps(b):
+                        self.add(node.value[i], f"{path}[{i}]", f"[{a.lo_mhz:g}, {a.hi_mhz:g}] "
+                                 f"overlaps [{b.lo_mhz:g}, {b.hi_mhz:g}] (allowed: separate bands; "
+                                 "join overlapping ones into one)")  # fmt: skip
+                        return _BAD
+            return tuple(got)
+        b = self.band(node, path)
+        return _BAD if b is _BAD else (b,)
+
+    def name_list(self, node: yaml.Node, path: str) -> Any:
+        if not isinstance(node, yaml.SequenceNode) or not node.value:
+            self.add(node, path, f"expected a list of radio names, got {_count(node)} "
+                     "(allowed: e.g. [run-a, mult-b])")  # fmt: skip
+            return _BAD
+        got = [self.text(v, f"{path}[{i}]", name=True) for i, v in enumerate(node.value)]
+        if any(g is _BAD for g in got):
+            return _BAD
+        return tuple(zip(got, node.value, strict=True))
+
+    def choice(self, node: yaml.Node, path: str, choices: tuple[str, ...]) -> Any:
+        text = self.text(node, path, name=False)
+        if text is _BAD:
+            return _BAD
+        if text not in choices:
+            close = difflib.get_close_matches(text, list(choices), n=1, cutoff=0.6)
+            hint = f"did you mean {close[0]!r}?; " if close else ""
+            self.add(node, path, f"{text!r} is not known ({hint}allowed: {', '.join(choices)})")
+            return _BAD
+        return text
+
+
 _CON = yaml.constructor.SafeConstructor()
 
 
@@ -1068,8 +1301,10 @@ def _opt(d: dict[str, tuple[Any, yaml.Node]], keys: tuple[str, ...]) -> dict[str
 
 _TX_KEYS = ("bandwidth_khz", "harmonic_suppression_dbc", "noise_dbc_hz", "im_conversion_db",
             "im_order_step_db")  # fmt: skip
-_RX_KEYS = ("bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db", "iip2_dbm", "iip3_dbm",
-            "receiver_class")  # fmt: skip
+_RX_KEYS = (
+    "bandwidth_khz", "sensitivity_dbm", "blocking_dbm", "noise_figure_db", "iip2_dbm", "iip3_dbm",
+    "receiver_class", "selectivity", "band_noise_dbm",
+)  # fmt: skip
 
 
 class _Builder:
@@ -1081,10 +1316,11 @@ class _Builder:
         self.names: dict[str, yaml.Node] = {}
         self.known: dict[str, str] = {}
 
-    def freq(self, d: dict, node: yaml.Node, path: str) -> tuple[m.Band | None, bool]:
-        """The band from freq_mhz / band_mhz and whether either key was given.
+    def freq(self, d: dict, node: yaml.Node, path: str) -> tuple[tuple[m.Band, ...] | None, bool]:
+        """The bands (one per operating choice) from freq_mhz / band_mhz and whether
+        either key was given.
 
-        The band is ``None`` when neither is given or the value was bad (reported).
+        The bands are ``None`` when neither is given or the value was bad (reported).
         """
         has_f, has_b = "freq_mhz" in d, "band_mhz" in d
         if has_f and has_b:
@@ -1093,8 +1329,7 @@ class _Builder:
             )
             return None, True
         if has_f:
-            f = d["freq_mhz"][0]
-            return m.Band(lo_mhz=f, hi_mhz=f), True
+            return d["freq_mhz"][0], True
         if has_b:
             return d["band_mhz"][0], True
         return None, self._bad_key(node, ("freq_mhz", "band_mhz"))
@@ -1131,10 +1366,12 @@ class _Builder:
         self.names[key] = node
         return name
 
-    def common(self, d: dict, site_cable: str) -> dict[str, Any]:
+    def common(self, d: dict, site_cable: str, path: str = "") -> dict[str, Any]:
         out: dict[str, Any] = {}
         if "antenna" in d:
-            out["antenna"] = m.Antenna(**_opt(d["antenna"][0], ("x_m", "y_m", "height_m", "gain_dbi")))
+            out["antenna"] = m.Antenna(**_opt(d["antenna"][0], tuple(SECTIONS["antenna"])))
+        if "installed" in d:
+            out["installed"] = self.installed(d["installed"][0])
         if "feedline" in d:
             fd = d["feedline"][0]
             if "length_m" in fd:
@@ -1145,33 +1382,56 @@ class _Builder:
             out["stub_cable"] = d["stub_cable"][0]
         return out
 
-    def transmit(self, d: dict, band: m.Band | None, shared_bw: float | None) -> m.Transmit | None:
-        if band is None or "power_w" not in d:
+    def transmit(self, d: dict, bands, shared_bw: float | None) -> m.Transmit | None:
+        if bands is None or "power_w" not in d:
             return None
         extra = _opt(d, _TX_KEYS)
         if shared_bw is not None:
             extra.setdefault("bandwidth_khz", shared_bw)
-        return m.Transmit(band=band, power_w=d["power_w"][0], **extra)
+        more = {"bands": bands} if len(bands) > 1 else {}
+        return m.Transmit(band=bands[0], power_w=d["power_w"][0], **more, **extra)
 
-    def receive(
-        self, d: dict, band: m.Band | None, shared_bw: float | None, path: str = ""
-    ) -> m.Receive | None:
-        cls = d.get("receiver_class")
-        if cls is not None and cls[0] not in m.RECEIVER_CLASSES:
-            allowed = ", ".join(m.RECEIVER_CLASSES)
-            self.r.add(cls[1], _join(path, "receiver_class"),
-                       f"{cls[0]!r} is not a receiver class (allowed: {allowed})")  # fmt: skip
-            return None
-        if band is None:
+    def receive(self, d: dict, bands, shared_bw: float | None, path: str = "") -> m.Receive | None:
+        if bands is None:
             return None
         extra = _opt(d, _RX_KEYS)
         if shared_bw is not None:
             extra.setdefault("bandwidth_khz", shared_bw)
-        return m.Receive(band=band, **extra)
+        more = {"bands": bands} if len(bands) > 1 else {}
+        return m.Receive(band=bands[0], **more, **extra)
+
+    def check_rx(self, d: dict, path: str) -> None:
+        """A flat blocking level and a blocking-by-offset table are not given together (a
+        class's table gives way to a stated blocking_dbm)."""
+        for other in ("selectivity",):
+            if other in d and "blocking_dbm" in d:
+                self.r.add(
+                    d["blocking_dbm"][1], _join(path, "blocking_dbm"),
+                    f"give {other} or blocking_dbm, not both (allowed: one; {other} gives the "
+                    "blocking level by offset)",
+                )  # fmt: skip
+
+    def check_choices(self, tx: m.Transmit | None, rx: m.Receive | None, node, path: str) -> bool:
+        """tx and rx lists of bands or channels pair up by position: same length, or one has one."""
+        if tx is None or rx is None:
+            return True
+        nt, nr = len(tx.choices), len(rx.choices)
+        if nt > 1 and nr > 1 and nt != nr:
+            self.r.add(
+                node, path,
+                f"tx works {nt} bands or channels and rx {nr} (allowed: the same number, paired "
+                "in order, or one of them a single band)",
+            )  # fmt: skip
+            return False
+        return True
 
     def radio(self, kind: str, d: dict, node: yaml.Node, path: str, site_cable: str) -> m.Radio | None:
         name = self.name(d, path)
         tx = rx = None
+        if kind == "receivers":
+            self.check_rx(d, path)
+        elif kind == "transceivers" and "rx" in d:
+            self.check_rx(d["rx"][0], _join(path, "rx"))
         if kind != "transceivers":
             band, given = self.freq(d, node, path)
             if not given:
@@ -1186,7 +1446,7 @@ class _Builder:
             shared, shared_given = self.freq(d, node, path)
             shared_bw = _val(d, "bandwidth_khz")
             where = " here or on the transceiver"
-            parts: dict[str, m.Band | None] = {}
+            parts: dict[str, tuple[m.Band, ...] | None] = {}
             for part in ("tx", "rx"):
                 ppath = _join(path, part)
                 if part in d:
@@ -1212,10 +1472,10 @@ class _Builder:
                 tx = self.transmit(d["tx"][0], parts.get("tx"), shared_bw)
             rx_d = d["rx"][0] if "rx" in d else {}
             rx = self.receive(rx_d, parts.get("rx"), shared_bw, _join(path, "rx"))
-            ok = tx is not None and rx is not None
+            ok = tx is not None and rx is not None and self.check_choices(tx, rx, node, path)
         if name is None or not ok:
             return None
-        return m.Radio(name=name, tx=tx, rx=rx, **self.common(d, site_cable))
+        return m.Radio(name=name, tx=tx, rx=rx, **self.common(d, site_cable, path))
 
     def build(self, root: yaml.Node) -> m.Site | None:
         r = self.r
@@ -1245,7 +1505,7 @@ class _Builder:
                 if radio is not None:
                     radios.append(radio)
                     if radio.tx is not None:
-                        n_tx += 1
+                        n_tx += len(radio.tx.choices)  # each band worked is enumerated on its own
                         if n_tx >= 3 and n_tx * (n_tx - 1) * (n_tx - 2) // 6 > MAX_IM_TRIPLES \
                                 and not too_many_tx:
                             too_many_tx = True
@@ -1264,6 +1524,7 @@ class _Builder:
         self.resolve_cables()
         couplings = self.couplings(top)
         self.derived(top, radios, site_cable)
+        scenarios = self.scenarios(top)
         if r.problems or "site" not in top:
             return None
         return m.Site(
@@ -1273,6 +1534,8 @@ class _Builder:
             couplings=couplings,
             cables=cables,
             path=r.path,
+            scenarios=scenarios,
+            **_opt(top, ("near_field_isolation_db",)),
             **self.site_options(top),
         )
 
@@ -1284,11 +1547,119 @@ class _Builder:
             out["limits"] = m.Limits(**_opt(top["limits"][0], tuple(SECTIONS["limits"])))
         if "allowances" in top:
             out["allowances"] = m.Allowances(**_opt(top["allowances"][0], tuple(SECTIONS["allowances"])))
-        if "max_harmonic" in top:
-            out["max_harmonic"] = top["max_harmonic"][0]
-        if "max_im_order" in top:
-            out["max_im_order"] = top["max_im_order"][0]
+        for key in ("max_harmonic", "max_im_order"):
+            if key in top:
+                out[key] = top[key][0]
         return out
+
+    # -- installed filters and scenarios -----------------------------------
+
+    def installed(self, entries) -> tuple[m.InstalledFilter, ...]:
+        out = []
+        for fd, fnode, fpath in entries:
+            has_t, has_r = "touchstone" in fd, "rejection" in fd
+            if has_t == has_r:
+                self.r.add(fnode, _join(fpath, "rejection"), "give rejection or touchstone, "
+                           + ("not both" if has_t else "one of them") + " (allowed: a table of "
+                           "[freq_mhz, rejection_db] rows, or a measured .s2p file)")  # fmt: skip
+                continue
+            if "name" not in fd:
+                continue
+            if has_r:
+                table = fd["rejection"][0]
+            else:
+                ts_name, ts_node = fd["touchstone"]
+                table = self.touchstone(ts_name, ts_node, _join(fpath, "touchstone"))
+            if table is None:
+                continue
+            out.append(
+                m.InstalledFilter(
+                    name=fd["name"][0], rejection=table,
+                    touchstone=_val(fd, "touchstone"),
+                    for_band=_val(fd, "for_band_mhz"),
+                    **_opt(fd, ("port", "kind")),
+                )
+            )  # fmt: skip
+        return tuple(out)
+
+    def touchstone(self, name: str, node: yaml.Node, path: str) -> tuple[tuple[float, float], ...] | None:
+        """A measured two-port's rejection -20 log10 |S21| as (freq_mhz, dB) rows.
+
+        Read like every measurement (:func:`notchkit.bounded.read_measurement_bytes`: a
+        regular file within the byte and point caps), then parsed by scikit-rf.
+        """
+        import io
+        import warnings
+
+        from notchkit.bounded import read_measurement_bytes
+        from notchkit.errors import MeasurementError
+
+        full = os.path.join(os.path.dirname(self.r.path), name)
+        if not name.lower().endswith(".s2p"):
+            self.r.add(node, path, f"{name!r} is not a .s2p file (allowed: a two-port Touchstone "
+                       "file measured on the filter)")  # fmt: skip
+            return None
+        if not os.path.isfile(full):
+            self.r.add(node, path, f"no file {full!r} (allowed: a .s2p path from the site file's folder)")
+            return None
+        try:
+            data = read_measurement_bytes(full)
+        except MeasurementError as exc:
+            self.r.add(node, path, f"{str(exc).split(': ', 1)[-1]} (allowed: a measured two-port .s2p)")
+            return None
+        text = data.decode("utf-8", errors="replace")
+        buf = io.StringIO(text)
+        buf.name = os.path.basename(full)  # scikit-rf takes the port count from the extension
+        with warnings.catch_warnings(), np.errstate(all="ignore"):
+            warnings.simplefilter("ignore")  # the reader's own warnings: our one line says it
+            try:
+                import skrf
+
+                ntw = skrf.Network(buf)
+                f_mhz = ntw.f / 1e6
+                mag = np.abs(ntw.s[:, 1, 0])
+            except Exception as exc:  # noqa: BLE001 - any reader failure is the file's problem
+                first = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
+                self.r.add(node, path, f"{name!r} could not be read as Touchstone ({first}) "
+                           "(allowed: a two-port .s2p file)")  # fmt: skip
+                return None
+        ok = (f_mhz > 0) & np.isfinite(mag) & (mag > 0)
+        if ok.sum() < 2 or np.any(np.diff(f_mhz[ok]) <= 0):
+            self.r.add(node, path, f"{name!r} has fewer than two usable rising frequency points "
+                       "(allowed: a measured sweep)")  # fmt: skip
+            return None
+        rej = np.maximum(-20.0 * np.log10(mag[ok]), 0.0)
+        return tuple(zip(f_mhz[ok].tolist(), rej.tolist(), strict=True))
+
+    def scenarios(self, top: dict) -> tuple[m.Scenario, ...]:
+        out: list[m.Scenario] = []
+        names = {k: n.value.strip() for k, n in self.names.items()}
+        seen: dict[str, yaml.Node] = {}
+        for d, _node, path in _val(top, "scenarios", []):
+            if "name" not in d or "radios" not in d:
+                continue
+            sname, snode = d["name"]
+            if sname.lower() in seen:
+                line = seen[sname.lower()].start_mark.line + 1
+                self.r.add(snode, _join(path, "name"), f"scenario {sname!r} is already defined at "
+                           f"line {line} (allowed: each name once)")  # fmt: skip
+                continue
+            seen[sname.lower()] = snode
+            got: list[str] = []
+            for i, (x, xnode) in enumerate(d["radios"][0]):
+                if x.lower() not in names:
+                    close = difflib.get_close_matches(x.lower(), list(names), n=1, cutoff=0.6)
+                    hint = f"did you mean {names[close[0]]!r}?; " if close else ""
+                    self.r.add(xnode, f"{path}.radios[{i}]", f"no radio named {x!r} ({hint}allowed: "
+                               "a name given under transmitters, receivers or transceivers)")  # fmt: skip
+                    continue
+                if names[x.lower()] in got:
+                    self.r.add(xnode, f"{path}.radios[{i}]",
+                               f"{x!r} is listed twice (allowed: each radio once)")  # fmt: skip
+                    continue
+                got.append(names[x.lower()])
+            out.append(m.Scenario(name=sname, radios=tuple(got)))
+        return tuple(out)
 
     # -- cables -----------------------------------------------------------
 
@@ -1418,7 +1789,7 @@ class _Builder:
 
     def couplings(self, top: dict) -> tuple[m.Coupling, ...]:
         out: list[m.Coupling] = []
-        pairs: dict[frozenset[str], yaml.Node] = {}
+        pairs: dict[frozenset[str], tuple[yaml.Node, list]] = {}
         names = {k: n.value.strip() for k, n in self.names.items()}
         for d, _node, path in _val(top, "couplings", []):
             if "between" not in d or "isolation_db" not in d:
@@ -1446,16 +1817,23 @@ class _Builder:
                     f"a coupling needs two different radios, got {a!r} twice",
                 )
                 continue
+            freq = _val(d, "freq_mhz")
             key = frozenset((a, b))
             if key in pairs:
-                self.r.add(
-                    pnode,
-                    _join(path, "between"),
-                    f"coupling between {a!r} and {b!r} given twice (first at line "
-                    f"{pairs[key].start_mark.line + 1}; give each pair once)",
-                )
-                continue
-            pairs[key] = pnode
+                first, first_f = pairs[key]
+                if freq is None or None in first_f or freq in first_f:
+                    self.r.add(
+                        pnode,
+                        _join(path, "between"),
+                        f"coupling between {a!r} and {b!r} given twice "
+                        + ("at the same frequency " if freq is not None and freq in first_f else "")
+                        + f"(first at line {first.start_mark.line + 1}; several measurements of "
+                        "a pair each need their own freq_mhz)",
+                    )  # fmt: skip
+                    continue
+                first_f.append(freq)
+            else:
+                pairs[key] = (pnode, [freq])
             out.append(
                 m.Coupling(a=a, b=b, isolation_db=d["isolation_db"][0], freq_mhz=_val(d, "freq_mhz"))
             )
@@ -1560,13 +1938,26 @@ def _field_schema(fld: Field) -> dict[str, Any]:
             "maxItems": 2,
         }
     elif fld.kind == "table":
+        xnum, ynum = (_TABLE_FREQ, _TABLE_LOSS) if fld.cols is None else (fld.cols[0][1], fld.cols[1][1])
         row = {
             "type": "array",
-            "prefixItems": [_num_schema(_TABLE_FREQ), _num_schema(_TABLE_LOSS)],
+            "prefixItems": [_num_schema(xnum), _num_schema(ynum)],
             "minItems": 2,
             "maxItems": 2,
         }
         s = {"type": "array", "items": row}
+        if fld.cols is not None:
+            s["minItems"] = 1
+    elif fld.kind == "freqs":
+        item = _num_schema(_FREQ)
+        s = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
+    elif fld.kind == "bands":
+        pair = {"type": "array", "items": _num_schema(_FREQ), "minItems": 2, "maxItems": 2}
+        s = {"oneOf": [pair, {"type": "array", "items": pair, "minItems": 1}]}
+    elif fld.kind == "names":
+        s = {"type": "array", "items": {"type": "string", "pattern": NAME_PATTERN}, "minItems": 1}
+    elif fld.kind == "choice":
+        s = {"type": "string", "enum": list(fld.choices)}
     else:  # pragma: no cover - programming error
         raise ValueError(fld.kind)
     out = {"description": fld.doc, **s}

@@ -25,15 +25,38 @@ DEFAULT_CHANNEL_BANDWIDTH_KHZ = 16.0
 DEFAULT_NOISE_FIGURE_DB = 8.0
 DEFAULT_ANTENNA_HEIGHT_M = 10.0
 DEFAULT_MAX_HARMONIC = 5
-DEFAULT_MAX_IM_ORDER = 5
 RECEIVER_CLASSES = ("hf", "base", "mobile", "scanner")
-"""Receiver classes with default intercept points (figures and sources:
-notchkit.survey.levels.RECEIVER_CLASSES, docs/survey.md)."""
+"""Receiver classes: ``hf`` an HF transceiver with switched band-pass filters,
+``base`` / ``mobile`` a VHF/UHF FM land-mobile radio, ``scanner`` a scanner or SDR
+dongle with no front-end filter; their selectivity defaults and sources are
+notchkit.survey.limits.SELECTIVITY_BY_CLASS, and their default intercept points
+notchkit.survey.levels.RECEIVER_CLASSES (docs/survey.md)."""
+DEFAULT_MAX_IM_ORDER = 5
 DEFAULT_RECEIVER_CLASS = "mobile"
+"""Class whose intercept points apply when a receiver gives none (its blocking
+level stays the flat default unless a class or table is given)."""
 DEFAULT_MAX_STUBS = 3
 DEFAULT_CUT_TOLERANCE_MM = 2.0
+DEFAULT_MAX_STUB_REJECTION_DB = 40.0
+"""Notch depth one coax stub plausibly gives at a site, dB (common practice: 30-45 dB,
+less with lossy cable or a wide notch band)."""
+DEFAULT_MAX_FILTER_REJECTION_DB = 60.0
+"""Practical ceiling of a stub filter, dB (common practice: leakage around tees and
+connectors and cable loss keep a real stub filter near 60 dB); a threat needing
+more is reported as not a stub job, with its remedy class."""
 DEFAULT_CABLE = "RG-213"
 """Stub cable when a site file names none: a common 50-ohm solid-PE cable."""
+
+DEFAULT_NEAR_FIELD_ISOLATION_DB = 0.0
+"""Isolation taken between two antennas closer than lambda/(2 pi) at the frequency
+crossing the path when no coupling was measured there: the passive limit (a
+passive antenna pair cannot deliver more power than is fed to it), the
+conservative bound; no free-space or separation formula is used inside the
+near field. Settable as ``near_field_isolation_db``."""
+DEFAULT_OUT_OF_BAND_LOSS_DB = 0.0
+"""Mismatch loss credited to an antenna used outside its band, on top of taking
+its gain as at most 0 dBi there (common practice: a resonant antenna far from
+resonance has neither its in-band gain nor a good match; 0 dB credits none)."""
 
 MIN_FREQ_MHZ = 0.1
 """Lowest frequency a site file may give (the loader refuses anything below)."""
@@ -73,6 +96,14 @@ class Antenna:
     y_m: float = 0.0
     height_m: float = DEFAULT_ANTENNA_HEIGHT_M
     gain_dbi: float = 0.0
+    band_mhz: Band | None = None
+    """The band the antenna is built for; outside it the gain is taken as at most
+    0 dBi less ``out_of_band_loss_db``. ``None``: the radio's own bands, +-10 %."""
+    gain_table: tuple[tuple[float, float], ...] = ()
+    """(freq_mhz, gain_dbi) rows toward the other antennas, interpolated against
+    log frequency, held beyond the ends; given: replaces gain_dbi and band_mhz."""
+    out_of_band_loss_db: float = DEFAULT_OUT_OF_BAND_LOSS_DB
+    """Mismatch loss credited outside ``band_mhz``, dB."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -99,6 +130,13 @@ class Transmit:
     im_conversion_db: float | None = None
     """Loss of a signal entering the output stage when converted to an
     intermodulation product, in dB; ``None``: the survey's documented default."""
+    bands: tuple[Band, ...] = ()
+    """Every band or channel the radio works, one at a time (``band`` is the first);
+    empty: ``band`` only."""
+
+    @property
+    def choices(self) -> tuple[Band, ...]:
+        return self.bands or (self.band,)
     im_order_step_db: float | None = None
     """Extra conversion loss per order away from 3rd, in dB; ``None``: survey default."""
 
@@ -114,12 +152,61 @@ class Receive:
     blocking_dbm: float | None = None
     """Off-channel level that desensitises the receiver; ``None``: survey default."""
     noise_figure_db: float = DEFAULT_NOISE_FIGURE_DB
+    bands: tuple[Band, ...] = ()
+    """Every band or channel the radio receives, one at a time (``band`` is the
+    first); empty: ``band`` only."""
     iip2_dbm: float | None = None
     """Input 2nd-order intercept point, dBm; ``None``: from ``receiver_class``."""
     iip3_dbm: float | None = None
     """Input 3rd-order intercept point, dBm; ``None``: from ``receiver_class``."""
     receiver_class: str | None = None
-    """Class giving default intercept points (notchkit.survey.levels.RECEIVER_CLASSES)."""
+    """Receiver class (:data:`RECEIVER_CLASSES`): its documented selectivity table and
+    intercept points apply; ``None``: the flat blocking level and the intercept points
+    of :data:`DEFAULT_RECEIVER_CLASS`."""
+    selectivity: tuple[tuple[float, float], ...] = ()
+    """(offset_mhz, blocking_dbm) rows: the off-channel level that starts to
+    desensitise the receiver at that offset from its band edge; empty: the class's
+    table, else the flat blocking level."""
+    band_noise_dbm: float | None = None
+    """Band (atmospheric, man-made) noise at the receiver input in its channel
+    bandwidth, dBm; the floor for noise threats when above kTB + NF."""
+
+    @property
+    def choices(self) -> tuple[Band, ...]:
+        return self.bands or (self.band,)
+
+
+INSTALLED_PORTS = ("tx", "rx", "antenna")
+"""Where an installed filter sits: the transmit path, the receive path, or the
+antenna port shared by both."""
+INSTALLED_KINDS = ("band-pass", "low-pass", "high-pass", "notch", "duplexer", "cavity", "preselector")
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class InstalledFilter:
+    """A filter already in line at a radio (band-pass, duplexer, cavity, ...).
+
+    Its rejection is a table of (freq_mhz, rejection_db) interpolated in dB against
+    log frequency, or a measured two-port Touchstone file (-20 log10 |S21|).
+    Outside the table or the measured range no rejection is credited.
+    """
+
+    name: str
+    port: str = "antenna"
+    kind: str = "band-pass"
+    rejection: tuple[tuple[float, float], ...] = ()
+    touchstone: str | None = None
+    """Path of a measured .s2p (relative paths: from the site file's folder)."""
+    for_band: Band | None = None
+    """In line only while the radio works a band overlapping this one; ``None``: always."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class Scenario:
+    """Radios that can be active at the same time."""
+
+    name: str
+    radios: tuple[str, ...]
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -133,6 +220,13 @@ class Radio:
     feedline: Feedline | None = None
     stub_cable: str | None = None
     """Cable for this radio's stubs; ``None``: the site's default ``cable``."""
+    installed: tuple[InstalledFilter, ...] = ()
+    """Filters already in line at this radio."""
+
+    @property
+    def n_choices(self) -> int:
+        """How many operating choices (bands or channels worked one at a time)."""
+        return max(len(p.choices) for p in (self.tx, self.rx) if p is not None)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -158,6 +252,8 @@ class Limits:
     rejection_margin_db: float = DEFAULT_REJECTION_MARGIN_DB
     max_stubs: int = DEFAULT_MAX_STUBS
     max_total_cable_m: float | None = None
+    max_stub_rejection_db: float = DEFAULT_MAX_STUB_REJECTION_DB
+    max_filter_rejection_db: float = DEFAULT_MAX_FILTER_REJECTION_DB
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -200,6 +296,9 @@ class Site:
     max_harmonic: int = DEFAULT_MAX_HARMONIC
     max_im_order: int = DEFAULT_MAX_IM_ORDER
     path: str = ""
+    scenarios: tuple[Scenario, ...] = ()
+    """Which radios can be active at once; empty: all of them at once."""
+    near_field_isolation_db: float = DEFAULT_NEAR_FIELD_ISOLATION_DB
 
     @classmethod
     def from_yaml(cls, path: str) -> Site:
@@ -228,3 +327,7 @@ class Site:
             if {c.a, c.b} == {a, b}:
                 return c.isolation_db
         return None
+
+    def couplings_between(self, a: str, b: str) -> tuple[Coupling, ...]:
+        """Every measured coupling between two radios' antennas, in file order."""
+        return tuple(c for c in self.couplings if {c.a, c.b} == {a, b})

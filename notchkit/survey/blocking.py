@@ -20,6 +20,8 @@ stub helps and the remedy says so.
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from notchkit.survey.result import Threat
@@ -37,7 +39,7 @@ def blocking_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
     if tx.size < 2 or rx.size == 0:
         return []
     oo, vv = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
-    keep = oo != vv
+    keep = sa.op.pair_ok(oo, vv)  # operating layer: other radios that share a scenario
     oo, vv = oo[keep], vv[keep]
     cochannel = (sa.tx_lo[oo] <= sa.rx_hi[vv]) & (sa.rx_lo[vv] <= sa.tx_hi[oo])
     oo, vv = oo[~cochannel], vv[~cochannel]
@@ -45,17 +47,32 @@ def blocking_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
         return []
     total, iso, meth = sa.path_db(oo, vv, sa.tx_lo[oo])
     level = sa.p_dbm[oo] - total
+    # each carrier against the receiver's blocking level at its own offset (selectivity by
+    # offset): the sum of the carriers' powers relative to their limits, referred to the
+    # limit of the strongest
+    level = level - (sa.blocking_dbm(vv, sa.tx_lo[oo], sa.tx_hi[oo]) - sa.rx_blocking[vv])
     out = []
     names = ctx.names
     order = np.lexsort((-level, vv))
     oo, vv, level, iso, meth = oo[order], vv[order], level[order], iso[order], meth[order]
     starts = np.r_[0, np.nonzero(vv[1:] != vv[:-1])[0] + 1, vv.size]
+    groups: list[Any] = []
     for a, b in zip(starts[:-1].tolist(), starts[1:].tolist(), strict=True):
-        if b - a < 2:
-            continue
         v = int(vv[a])
-        o = oo[a:b]
-        p = level[a:b]
+        for scen in range(sa.op.active.shape[1]):  # carriers on the air together: one scenario,
+            if not sa.op.active[v, scen]:  # one operating choice per radio (its strongest)
+                continue
+            idx = [k for k in range(a, b) if sa.op.active[int(oo[k]), scen]]
+            first: dict[int, int] = {}  # rows are strongest first: keep each radio's first
+            for k in idx:
+                first.setdefault(int(sa.radio_of[oo[k]]), k)
+            idx = sorted(first.values())
+            if len(idx) >= 2 and idx not in [g[1] for g in groups if g[0] == v]:
+                groups.append((v, idx))
+    for v, idx in groups:
+        a = idx[0]
+        o = oo[idx]
+        p = level[idx]
         mw = 10.0 ** (p / 10.0)
         tot = float(10.0 * np.log10(mw.sum()))
         limit = float(sa.rx_blocking[v])

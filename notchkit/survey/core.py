@@ -7,6 +7,7 @@ builds the result objects.
 
 from __future__ import annotations
 
+import dataclasses
 from operator import attrgetter
 from typing import Any
 
@@ -18,7 +19,7 @@ from notchkit.survey.blocking import blocking_threats
 from notchkit.survey.intermod import DEFAULT_MAX_THREATS, intermod_threats
 from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
 from notchkit.survey.locations import build_filters, too_close
-from notchkit.survey.paths import SiteArrays, check_max_harmonic
+from notchkit.survey.paths import OUT_PORTS, SiteArrays, check_max_harmonic
 from notchkit.survey.result import NotchFeed, SurveyResult, Threat
 
 
@@ -62,23 +63,26 @@ def survey(
     n_harm = check_max_harmonic(site.max_harmonic if max_harmonic is None else max_harmonic)
     sa = SiteArrays(site)
     margin = float(site.limits.rejection_margin_db)
-    tx = np.array([i for i, r in enumerate(site.radios) if r.tx is not None], dtype=int)
-    rx = np.array([i for i, r in enumerate(site.radios) if r.rx is not None], dtype=int)
+    units = sa.site.radios  # one per operating choice (survey/operating.py)
+    tx = np.array([i for i, r in enumerate(units) if r.tx is not None], dtype=int)
+    rx = np.array([i for i, r in enumerate(units) if r.rx is not None], dtype=int)
     notes = list(sa.notes)
-    both = [sa.names[i] for i in np.intersect1d(tx, rx)]
+    both = [r.name for r in site.radios if r.tx is not None and r.rx is not None]
     if both:
         notes.append(
             "transceivers not evaluated against their own receivers (shared antenna: "
             "that is the duplexer's job): " + ", ".join(both)
         )
     ctx = _Ctx(sa, margin)
-    notes += _default_notes(site, ctx)
+    notes += _default_notes(sa, ctx)
+    notes += _operating_notes(sa)
     threats: list[Threat] = []
     left_out: list[tuple[str, int, int]] = []
     left_worst: tuple[tuple[str, str, float], ...] = ()
     if tx.size and rx.size:
+        # The operating layer: only pairs of different radios that share a scenario.
         tt, rr = (a.ravel() for a in np.meshgrid(tx, rx, indexing="ij"))
-        keep = tt != rr
+        keep = sa.op.pair_ok(tt, rr)
         tt, rr = tt[keep], rr[keep]
         threats += _fundamental(ctx, tt, rr)
         if n_harm >= 2:
@@ -94,20 +98,23 @@ def survey(
         if outcome.left_over or outcome.left_under:
             left_out.append(("intermod", outcome.left_over, outcome.left_under))
             ww = outcome.worst if outcome.worst is not None else np.empty((0, 0))
-            left_worst = tuple(
-                (sa.names[t], sa.names[r], float(ww[t, r])) for t, r in np.argwhere(np.isfinite(ww)).tolist()
-            )
+            worst_by_radio: dict[tuple[str, str], float] = {}  # units -> their radios (operating layer)
+            for t, r in np.argwhere(np.isfinite(ww)).tolist():
+                key = (sa.radio_names[t], sa.radio_names[r])
+                worst_by_radio[key] = max(worst_by_radio.get(key, -np.inf), float(ww[t, r]))
+            left_worst = tuple((a, b, v) for (a, b), v in worst_by_radio.items())
             notes.append(
                 f"intermodulation: {outcome.products} products land in receivers; the "
                 f"{len(im)} worst are listed, {outcome.left_over} more above the limit and "
                 f"{outcome.left_under} below it are counted only (they still count in the matrix)"
             )
+    threats = _operate(ctx, threats)
     # Stable sort on excess only: ties keep the (deterministic) order of generation.
     threats.sort(key=attrgetter("excess_db"), reverse=True)
     return SurveyResult(
         site=site.name,
-        transmitters=tuple(sa.names[i] for i in tx),
-        receivers=tuple(sa.names[i] for i in rx),
+        transmitters=tuple(r.name for r in site.radios if r.tx is not None),
+        receivers=tuple(r.name for r in site.radios if r.rx is not None),
         threats=tuple(threats),
         filters=build_filters(site, sa, ctx.all_feeds()),
         notes=tuple(notes),
@@ -119,14 +126,29 @@ def survey(
     )
 
 
-def _default_notes(site: Site, ctx) -> list[str]:
+def _default_notes(sa: SiteArrays, ctx) -> list[str]:
     """Which radios rest on the survey's documented defaults."""
+    site = sa.physical
     out = []
     supp = sorted({src for i, (_, src) in ctx.supp.items() if src.startswith("default")})
     for src in supp:
         who = [ctx.names[i] for i, (_, s) in ctx.supp.items() if s == src]
         out.append(f"harmonic suppression {src} for: " + ", ".join(who))
-    blocking = [r.name for r in site.radios if r.rx is not None and r.rx.blocking_dbm is None]
+    blocking = [
+        r.name for r in site.radios
+        if r.rx is not None and r.rx.blocking_dbm is None and not r.rx.selectivity
+        and r.rx.receiver_class is None
+    ]  # fmt: skip
+    rxs = [(r.name, r.rx) for r in site.receivers if r.rx is not None]
+    for cls in sorted({rx.receiver_class for _, rx in rxs if rx.receiver_class}):
+        who = [name for name, rx in rxs if rx.receiver_class == cls and not rx.selectivity]
+        first = next(rx for name, rx in rxs if name == who[0]) if who else None
+        if first is not None:
+            out.append(
+                "blocking by offset from the " + limits.selectivity_table(
+                    dataclasses.replace(first, selectivity=())
+                )[1] + " for: " + ", ".join(who)
+            )  # fmt: skip
     if blocking:
         out.append(
             f"default blocking level {limits.DEFAULT_BLOCKING_DBM:g} dBm (documented default, "
@@ -141,18 +163,181 @@ def _default_notes(site: Site, ctx) -> list[str]:
     return out
 
 
+def _operating_notes(sa: SiteArrays) -> list[str]:
+    """What the survey took into account about how the site operates."""
+    site = sa.physical
+    out = []
+    if site.scenarios:
+        out.append(
+            "scenarios (radios active together; threats only within one): "
+            + "; ".join(f"{s.name}: {', '.join(s.radios)}" for s in site.scenarios)
+        )
+        idle = [r.name for r in site.radios if not any(r.name in s.radios for s in site.scenarios)]
+        if idle:
+            out.append("in no scenario, so never evaluated: " + ", ".join(idle))
+    multi = [r for r in site.radios if r.n_choices > 1]
+    if multi:
+        out.append(
+            "radios working several bands one at a time (each band evaluated on its own, "
+            "never against the same radio): "
+            + "; ".join(
+                f"{r.name}: " + ", ".join(
+                    lab for lab, k in zip(sa.op.labels, sa.radio_of.tolist(), strict=True)
+                    if sa.physical.radios[k] is r
+                )
+                for r in multi
+            )
+        )  # fmt: skip
+    for r in site.radios:
+        for f in r.installed:
+            where = {"tx": "transmit path", "rx": "receive path", "antenna": "antenna port"}[f.port]
+            src = f"measured {f.touchstone}" if f.touchstone else "rejection table"
+            when = "" if f.for_band is None else (
+                f", in line on {f.for_band.lo_mhz:g}-{f.for_band.hi_mhz:g} MHz"
+            )
+            out.append(
+                f"installed filter taken into account: {r.name}: {f.name} ({f.kind}, {where}, "
+                f"{src} {f.rejection[0][0]:g}-{f.rejection[-1][0]:g} MHz{when}; no rejection "
+                "credited outside)"
+            )
+    near = sa.near_field_db
+    out.append(
+        f"near field (d < lambda/2pi): no isolation formula used; bound {near:g} dB unless measured"
+    )
+    return out
+
+
+def _operate(ctx, threats: list[Threat]) -> list[Threat]:
+    """Name the physical radios, the scenario, the operating choices, the installed
+    rejection used and the remedy class of every threat (the mechanisms name units).
+
+    The threats are new objects that nothing else has seen yet, so their new fields
+    are set in place (``object.__setattr__`` on the frozen, slotted dataclass): a
+    ``dataclasses.replace`` per threat took most of a large survey's time.
+    """
+    if not threats:
+        return threats
+    sa = ctx.sa
+    op = sa.op
+    uidx = {n: i for i, n in enumerate(sa.names)}
+    phys = sa.radio_names
+    labels = op.labels
+    any_label = any(labels)
+    one_scenario = op.scenario_names if len(op.scenario_names) == 1 else None
+    src_u = [uidx[t.mixer if t.mixer is not None else t.sources[0]] for t in threats]
+    vic_u = [uidx[t.victim] for t in threats]
+    f_lo = np.array([t.f_lo_mhz for t in threats], dtype=float)
+    if sa.has_installed:
+        inst_db = (sa.installed_db(np.array(src_u), f_lo, OUT_PORTS)
+                   + sa.installed_db(np.array(vic_u), f_lo, ("rx", "antenna"))).tolist()  # fmt: skip
+    else:
+        inst_db = [0.0] * len(threats)
+    names_of: dict[tuple[str, ...], tuple] = {}
+    scen_of: dict[frozenset, tuple[str, ...]] = {}
+    inst_of: dict[tuple[int, int], tuple[str, ...]] = {}
+    setf = object.__setattr__
+    for k, t in enumerate(threats):
+        units = names_of.get(t.sources)
+        if units is None:
+            su = tuple(uidx[n] for n in t.sources)
+            units = names_of[t.sources] = (su, tuple(phys[u] for u in su))
+        su, sources = units
+        v, src = vic_u[k], src_u[k]
+        if one_scenario is not None:
+            scen = one_scenario
+        else:
+            rk = frozenset(int(sa.radio_of[u]) for u in (*su, v))
+            scen = scen_of.get(rk)
+            if scen is None:
+                scen = scen_of[rk] = op.scenarios_of((*su, v))
+        ops = tuple(f"{phys[u]}: {labels[u]}" for u in (*su, v) if labels[u]) if any_label else ()
+        inst = inst_of.get((src, v))
+        if inst is None:
+            inst = inst_of[(src, v)] = tuple(
+                f"{phys[u]}: {n}" for u, ports in ((src, OUT_PORTS), (v, ("rx", "antenna")))
+                for n in sa.installed_names(u, ports)
+            )  # fmt: skip
+        setf(t, "sources", sources)
+        setf(t, "victim", phys[v])
+        if t.mixer is not None:
+            setf(t, "mixer", phys[uidx[t.mixer]])
+        setf(t, "scenario", scen)
+        setf(t, "operating", ops)
+        if getattr(t, "route", None) == "receiver" and sa.has_installed:
+            # formed in the victim's front end: the carriers passed the filters, at their frequencies
+            f_src = np.array([sa.tx_lo[u] for u in su])
+            per = sa.installed_db(np.array(su), f_src, OUT_PORTS) + sa.installed_db(
+                np.full(len(su), v), f_src, ("rx", "antenna"))
+            inst_db[k] = float(per.min())
+        setf(t, "installed_db", inst_db[k])
+        setf(t, "installed", inst)
+        rclass, remedy, filters = _classify(ctx, t, src)
+        setf(t, "remedy_class", rclass)
+        setf(t, "remedy", remedy)
+        setf(t, "filters", filters)
+    return threats
+
+
+def _classify(ctx, t: Threat, source: int) -> tuple[str, str, tuple]:
+    """Remedy class: none, stub, or not a stub job (band-pass filter, cavity, spacing, time-sharing)."""
+    if t.excess_db <= 0:
+        return "none", t.remedy, t.filters
+    if "coordinate frequencies or time-share" in t.remedy:
+        return "time-sharing", t.remedy, t.filters
+    ceiling = ctx.ceiling
+    f = t.f_mhz
+    sa = ctx.sa
+    if t.mechanism == "noise" and not t.filters and (
+        t.f_lo_mhz <= sa.tx_hi[source] * 1.03 and sa.tx_lo[source] * 0.97 <= t.f_hi_mhz
+    ):
+        # transmitter noise on (or next to) its own band: no filter at the transmitter can
+        # pass its carrier and stop its noise; only distance or taking turns
+        cls = "spacing" if t.required_db <= ceiling + limits.SPACING_PLUS_DB else "time-sharing"
+        return cls, (
+            f"not a stub job: transmitter noise on its own band; remedy class: {cls} ("
+            + _class_hint(cls, t) + "); " + t.remedy
+        ), ()
+    if t.required_db > ceiling:
+        cls = limits.remedy_class(t.required_db, ceiling, f)
+        return cls, (
+            f"not a stub job: needs {t.required_db:.1f} dB, more than stubs plausibly give "
+            f"({ceiling:g} dB); remedy class: {cls} (" + _class_hint(cls, t) + "); " + t.remedy
+        ), ()
+    if t.filters:
+        return "stub", t.remedy, t.filters
+    return ("band-pass filter" if f < 30.0 else "cavity"), t.remedy, t.filters
+
+
+def _class_hint(cls: str, t: Threat) -> str:
+    if cls == "band-pass filter":
+        at = t.victim if t.mechanism == "fundamental" else (t.mixer or t.sources[0])
+        return f"a band-pass filter at {at}, stubs for what is left"
+    if cls == "cavity":
+        at = t.victim if t.mechanism == "fundamental" else (t.mixer or t.sources[0])
+        return f"a cavity or duplexer at {at}, stubs for what is left"
+    if cls == "spacing":
+        return "more antenna separation, then filters"
+    return "do not operate these together (or give the scenario that keeps them apart)"
+
+
 class _Ctx:
     """Shared state of one survey run."""
 
     def __init__(self, sa: SiteArrays, margin: float):
         self.sa = sa
         self.margin = margin
+        lim = sa.physical.limits
+        self.ceiling = limits.stub_ceiling_db(
+            lim.max_stub_rejection_db, lim.max_filter_rejection_db, lim.max_stubs
+        )
         self.names = sa.names
         self.d = np.hypot(
             np.hypot(sa.x[:, None] - sa.x[None, :], sa.y[:, None] - sa.y[None, :]),
             sa.h[:, None] - sa.h[None, :],
         ).tolist()
-        self.pass_bands = [sa.pass_bands(i) for i in range(len(sa.names))]
+        # a notch is checked against the bands of the operating choice that asks for it;
+        # build_filters makes a band-switched set when one filter cannot pass every band
+        self.pass_bands = [sa.unit_pass_bands(i) for i in range(len(sa.names))]
         self._iso_cache: dict[tuple, str] = {}
         self._clash_cache: dict[tuple, tuple[float, float] | None] = {}
         self._feeds: dict[tuple, list] = {}
@@ -182,27 +367,37 @@ class _Ctx:
         return self._clash_cache[key]
 
     def feed(self, radio: int, side: str, lo: float, hi: float, required: float, reason: str):
-        """Ask radio's filter for a notch; returns its location, or the pass band it clashes with."""
+        """Ask radio's filter for a notch; returns its location, or the pass band it clashes with.
+
+        A notch deeper than the stub ceiling is not asked of stubs: ``(None, None)``.
+        """
         clash = self.clash(radio, lo, hi)
         if clash is not None:
             return None, clash
+        if required > self.ceiling:
+            return None, None
         r = self.sa.site.radios[radio]
         if r.tx is not None and r.rx is not None:
             # A transceiver has one feedline, so one filter at its radio port carries
             # both its transmit- and receive-side notches; "tx" because its power flows through.
             side = "tx"
-        entry = self._feeds.get((radio, side, lo, hi))
+        phys = int(self.sa.radio_of[radio])
+        band = self.sa.op.labels[radio]
+        entry = self._feeds.get((phys, side, lo, hi, band))
         if entry is None:
-            self._feeds[(radio, side, lo, hi)] = [required, {reason: None}]
+            self._feeds[(phys, side, lo, hi, band)] = [required, {reason: None}, {band: None}]
         else:
             entry[0] = max(entry[0], required)
             entry[1].setdefault(reason, None)
-        return (self.names[radio], side), None
+            entry[2].setdefault(band, None)
+        return (self.sa.radio_names[radio], side), None
 
     def feed_im(
         self, mixer: int, other: int, required: float, product: str, victim: int, count: int = 1
     ) -> None:
         """IM notches are aggregated per (mixer, other transmitter): worst depth and a count."""
+        if required > self.ceiling:
+            return
         entry = self._im.get((mixer, other))
         if entry is None:
             self._im[(mixer, other)] = [required, count, product, victim]
@@ -211,12 +406,22 @@ class _Ctx:
             if required > entry[0]:
                 entry[0], entry[2], entry[3] = required, product, victim
 
+    # -- the operating layer's filters for the mechanisms (survey/operating.py) --
+    def combos_ok(self, units: np.ndarray) -> np.ndarray:
+        """Rows of transmitter units that can be active together (distinct radios, one scenario)."""
+        return self.sa.op.combos_ok(units)
+
+    def victims_ok(self, units: np.ndarray, victim: np.ndarray) -> np.ndarray:
+        """Victim units that can be active with every unit of their row."""
+        return self.sa.op.victims_ok(units, victim)
+
     def all_feeds(self) -> list[NotchFeed]:
-        names = self.names
+        names = self.sa.radio_names
+        labels = self.sa.op.labels
         out = [
-            NotchFeed(radio=names[r], side=side, lo_mhz=lo, hi_mhz=hi, required_db=req,
-                      reason="; ".join(reasons))
-            for (r, side, lo, hi), (req, reasons) in self._feeds.items()
+            NotchFeed(radio=self.sa.physical.radios[r].name, side=side, lo_mhz=lo, hi_mhz=hi,
+                      required_db=req, reason="; ".join(reasons), bands=tuple(b for b in bands if b))
+            for (r, side, lo, hi, _), (req, reasons, bands) in self._feeds.items()
         ]  # fmt: skip
         for (m, o), (req, count, product, v) in self._im.items():
             more = f" and {count - 1} more" if count > 1 else ""
@@ -224,14 +429,17 @@ class _Ctx:
                 NotchFeed(
                     radio=names[m], side="tx", lo_mhz=float(self.sa.tx_lo[o]),
                     hi_mhz=float(self.sa.tx_hi[o]), required_db=req,
-                    reason=f"{names[o]} entering {names[m]}'s output stage: IM {product} "
-                    f"into {names[v]}{more}",
+                    reason=f"{self.names[o]} entering {self.names[m]}'s output stage: IM {product} "
+                    f"into {self.names[v]}{more}",
+                    bands=(labels[m],) if labels[m] else (),
                 )
             )  # fmt: skip
         return out
 
 
-def _no_stub(where: str, lo: float, hi: float, clash: tuple[float, float], alternative: str) -> str:
+def _no_stub(where: str, lo: float, hi: float, clash: tuple[float, float] | None, alternative: str) -> str:
+    if clash is None:  # deeper than the stub ceiling: see _classify
+        return f"stubs alone cannot: {alternative}"
     return (
         f"no stub: the notch {lo:.4f}-{hi:.4f} MHz at {where} lies within a few % of its pass band "
         f"{clash[0]:.4f}-{clash[1]:.4f} MHz (too close for coax stubs); {alternative}"
@@ -244,7 +452,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
     total, iso, meth = sa.path_db(tt, rr, f)
     level = sa.p_dbm[tt] - total
     cochannel = (sa.tx_lo[tt] <= sa.rx_hi[rr]) & (sa.rx_lo[rr] <= sa.tx_hi[tt])
-    thr = np.where(cochannel, sa.rx_threshold[rr], sa.rx_blocking[rr])
+    thr = np.where(cochannel, sa.rx_threshold[rr], sa.blocking_dbm(rr, sa.tx_lo[tt], sa.tx_hi[tt]))
     out = []
     for k in range(tt.size):
         t, r = int(tt[k]), int(rr[k])
@@ -375,7 +583,7 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
                 sources=(src,), victim=vic, mechanism="noise", order=0, product=f"{src} noise",
                 f_mhz=0.5 * (lo + hi), f_lo_mhz=lo, f_hi_mhz=hi, level_dbm=float(level[k]),
                 threshold_dbm=float(thr[k]),
-                threshold_source="noise floor kTB + NF + 10log B", excess_db=excess,
+                threshold_source=sa.rx_floor_source[ri], excess_db=excess,
                 required_db=excess + ctx.margin, isolation_db=float(iso[k]),
                 isolation_method=ctx.iso_text(ti, ri, float(f[k]), float(iso[k]), int(meth[k])),
                 remedy=remedy, details=(f"transmitter noise {dbc[k]:g} dBc/Hz",), filters=where,

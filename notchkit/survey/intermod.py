@@ -100,6 +100,9 @@ def intermod_threats(
         per = max(1, CHUNK_PRODUCTS // len(coeffs))
         for combos in _combinations(tx.size, k, per):
             radios_c = tx[combos]
+            radios_c = radios_c[ctx.combos_ok(radios_c)]  # operating layer: radios active together
+            if radios_c.size == 0:
+                continue
             hits = st.land(coeffs, radios_c)
             if hits is None:
                 continue
@@ -190,7 +193,7 @@ class _State:
         self.rx = rx
         # Carrier o at mixer m's output port: inc[o, m]; at victim v's input: arr[o, v] (dBm).
         oo, mm = (a.ravel() for a in np.meshgrid(tx, tx, indexing="ij"))
-        total, iso, meth = sa.path_db(oo, mm, sa.tx_lo[oo])
+        total, iso, meth = sa.path_db(oo, mm, sa.tx_lo[oo], into="tx")
         self.inc = np.full((n, n), -np.inf)
         self.inc_iso = np.zeros((n, n))
         self.inc_meth = np.zeros((n, n), dtype=int)
@@ -202,7 +205,8 @@ class _State:
         self.arr = np.full((n, n), -np.inf)
         self.arr_iso = np.zeros((n, n))
         self.arr_meth = np.zeros((n, n), dtype=int)
-        self.arr[oo, vv] = sa.p_dbm[oo] - total
+        # carriers at the victim's first non-linear stage: less its front-end selectivity
+        self.arr[oo, vv] = sa.p_dbm[oo] - total - sa.front_end_db(vv, sa.tx_lo[oo], sa.tx_hi[oo])
         self.arr_iso[oo, vv], self.arr_meth[oo, vv] = iso, meth
         both = np.intersect1d(tx, rx)
         self.arr[both, both] = -np.inf  # a transceiver's own carrier: the duplexer's job
@@ -358,7 +362,7 @@ class _State:
         # A simplex radio (transmit and receive bands overlap) does not receive while it
         # transmits, so a product that needs its own carrier cannot reach its receiver.
         member = (radios_c[ci] == vic[:, None]).any(axis=1)
-        keep = ~(member & self.simplex[vic])
+        keep = ~(member & self.simplex[vic]) & self.ctx.victims_ok(radios_c[ci], vic)
         if not keep.all():
             ci, ki, vic, p = ci[keep], ki[keep], vic[keep], p[keep]
         if p.size == 0:

@@ -28,6 +28,12 @@ the other's pattern null, hence no gain term). Below those distances the
 formulas are extrapolated and the result says so; a physical floor of
 :data:`ISOLATION_FLOOR_DB` always applies, and co-located antennas (closer
 than :data:`COLOCATED_M`) get the floor, so every estimate is finite.
+
+Near field: the survey passes ``near_field_db``; then no formula is used where
+the antennas are closer than lambda/(2 pi) (:func:`near_field_m`, the radian
+distance where the reactive field of a small antenna equals its radiated
+field): the isolation there is that documented conservative bound (default 0
+dB, the passive limit) unless a coupling was measured.
 """
 
 from __future__ import annotations
@@ -51,13 +57,28 @@ COLOCATED = 1
 HORIZONTAL = 2
 VERTICAL = 3
 SLANT = 4
+NEAR_FIELD = 5
 
 METHOD_NAMES = {
     COLOCATED: "co-located antennas (d < 1 cm): physical floor {floor:g} dB",
     HORIZONTAL: "free space ITU-R P.525, 32.45 + 20log f + 20log d_km - Ga - Gb (d_h={dh:.2f} m)",
     VERTICAL: "vertical separation 28 + 40log(d_v/lambda) (d_v={dv:.2f} m)",
     SLANT: "slant I_h + (I_v - I_h)*theta/90, theta=atan(d_v/d_h) (d_h={dh:.2f} m, d_v={dv:.2f} m)",
+    NEAR_FIELD: "near field: d={d:.2f} m < lambda/(2 pi) = {r:.2f} m, no formula used; "
+    "conservative bound {bound:g} dB (measure the coupling to do better)",
 }
+
+
+def near_field_m(freq_mhz: npt.ArrayLike) -> np.ndarray:
+    """The radian distance lambda / (2 pi), m: inside it the reactive near field dominates.
+
+    References
+    ----------
+    The reactive/radiating boundary of an electrically small antenna at
+    r = lambda / 2 pi, where the 1/r^3, 1/r^2 and 1/r field terms are equal in
+    magnitude (Hertzian dipole fields; e.g. Balanis, Antenna Theory, ch. 4).
+    """
+    return wavelength_m(freq_mhz) / (2.0 * np.pi)
 
 
 def wavelength_m(freq_mhz: npt.ArrayLike) -> np.ndarray:
@@ -133,6 +154,8 @@ def estimate_isolation_db(
     dv_m: npt.ArrayLike,
     gain_a_dbi: npt.ArrayLike,
     gain_b_dbi: npt.ArrayLike,
+    *,
+    near_field_db: float | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Estimate isolation, choosing the formula by geometry.
 
@@ -144,6 +167,10 @@ def estimate_isolation_db(
         Horizontal and vertical (height) separation of the antennas, m (>= 0).
     gain_a_dbi, gain_b_dbi : array_like
         Antenna gains toward each other, dBi.
+    near_field_db : float, optional
+        Conservative bound used instead of any formula where the antennas are
+        closer than lambda/(2 pi) (method :data:`NEAR_FIELD`); ``None``: the
+        formulas are extrapolated (the old behaviour, reported as such).
 
     Returns
     -------
@@ -181,13 +208,28 @@ def estimate_isolation_db(
         [np.full(f.shape, ISOLATION_FLOOR_DB), horiz, vert],
         slant,
     )
-    return np.maximum(iso, ISOLATION_FLOOR_DB), method
+    iso = np.maximum(iso, ISOLATION_FLOOR_DB)
+    if near_field_db is not None:
+        near = d < near_field_m(f)
+        method = np.where(near & (method != COLOCATED), NEAR_FIELD, method)
+        iso = np.where(near, max(float(near_field_db), ISOLATION_FLOOR_DB), iso)
+    return iso, method
 
 
-def describe_estimate(method: int, freq_mhz: float, dh_m: float, dv_m: float, iso_db: float) -> str:
-    """``"estimated: <formula>"`` text for one path, with validity remarks."""
-    text = METHOD_NAMES[int(method)].format(floor=ISOLATION_FLOOR_DB, dh=dh_m, dv=dv_m)
+def describe_estimate(
+    method: int, freq_mhz: float, dh_m: float, dv_m: float, iso_db: float,
+    *, near_field_db: float | None = None,
+) -> str:
+    """``"estimated: <formula>"`` or ``"bound: ..."`` text for one path, with validity remarks."""
     lam = float(wavelength_m(freq_mhz))
+    if method == NEAR_FIELD:
+        return "bound: " + METHOD_NAMES[NEAR_FIELD].format(
+            d=float(np.hypot(dh_m, dv_m)), r=lam / (2.0 * np.pi),
+            bound=near_field_db if near_field_db is not None else iso_db,
+        )
+    text = METHOD_NAMES[int(method)].format(floor=ISOLATION_FLOOR_DB, dh=dh_m, dv=dv_m)
+    if method == COLOCATED:
+        return "bound: " + text
     remarks = []
     d = float(np.hypot(dh_m, dv_m))
     if method != COLOCATED and d < lam:

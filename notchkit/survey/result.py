@@ -29,6 +29,8 @@ class NotchFeed:
     hi_mhz: float
     required_db: float
     reason: str
+    bands: tuple[str, ...] = ()
+    """Operating choices of the radio on which this notch is needed (band-switched radios)."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -66,6 +68,27 @@ class Threat:
     ``mixer``'s output stage) or ``"receiver"`` (in the victim's front end)."""
     level_model: str | None = None
     """For ``intermod`` and ``blocking``: the level model that gave ``level_dbm``."""
+    # -- how the site operates (survey/operating.py, set by survey/core.py) --
+    scenario: tuple[str, ...] = ()
+    """Scenarios in which the sources and the victim can be active together."""
+    operating: tuple[str, ...] = ()
+    """Operating choice of each band-switched radio involved, ``"radio: band"``."""
+    installed_db: float = 0.0
+    """Rejection of installed filters on the final path (source's transmit side and
+    victim's receive side), dB, already included in ``level_dbm``."""
+    installed: tuple[str, ...] = ()
+    remedy_class: str = ""
+    """``none``, ``stub``, or not a stub job: ``band-pass filter``, ``cavity``,
+    ``spacing``, ``time-sharing``."""
+
+    @property
+    def coupling_source(self) -> str:
+        """``measured``, ``formula`` or ``bound``: where the antenna isolation came from."""
+        if self.isolation_method.startswith("measured"):
+            return "measured"
+        if self.isolation_method.startswith("bound"):
+            return "bound"
+        return "formula"
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -90,6 +113,12 @@ class Threat:
             "remedy": self.remedy,
             "filters": [{"radio": r, "side": s} for r, s in self.filters],
             "details": list(self.details),
+            "scenario": list(self.scenario),
+            "operating": list(self.operating),
+            "installed_rejection_db": _num(self.installed_db, 3),
+            "installed": list(self.installed),
+            "coupling_source": self.coupling_source,
+            "remedy_class": self.remedy_class,
         }
 
 
@@ -194,6 +223,7 @@ def _filter_json(req: FilterRequirement) -> dict[str, Any]:
         "cable": req.cable,
         "power_w": None if req.power_w is None else _num(req.power_w, 6),
         "power_mhz": None if req.power_mhz is None else _num(req.power_mhz, 6),
+        "band_use": [{"band": b, "notches": list(k)} for b, k in req.band_use],
     }
 
 
