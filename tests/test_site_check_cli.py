@@ -117,3 +117,21 @@ def test_check_json_on_a_bad_file_is_lines_on_stderr_and_exit_2(tmp_path, capsys
     out, err = capsys.readouterr()
     assert out == ""
     assert err.startswith(f"{bad}:") or "bad.yaml:" in err
+
+
+def test_a_radio_working_several_bands_shows_them_all(capsys):
+    import json
+
+    path = SITES / "contest-two-position.yaml"
+    site = load_site(path)
+    multi = [r for r in site.radios if r.tx is not None and len(r.tx.choices) > 1]
+    assert multi, "the contest example has band-switched radios"
+    assert main(["check", "--json", str(path)]) == EXIT_OK
+    doc = {r["name"]: r for r in json.loads(capsys.readouterr().out)["radios"]}
+    assert main(["check", str(path)]) == EXIT_OK
+    out = capsys.readouterr().out
+    for r in multi:
+        assert doc[r.name]["tx_bands_mhz"] == [[b.lo_mhz, b.hi_mhz] for b in r.tx.choices]
+        row = next(line for line in out.splitlines() if line.startswith(f"  {r.name} "))
+        for b in r.tx.choices:
+            assert f"{b.lo_mhz:.1f}" in row

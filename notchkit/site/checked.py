@@ -28,8 +28,14 @@ def band_text(band: Band) -> str:
     return f"{mhz_text(band.lo_mhz)}-{mhz_text(band.hi_mhz)}"
 
 
-def _band_json(band: Band) -> list[float]:
-    return [band.lo_mhz, band.hi_mhz]
+def bands_text(bands: tuple[Band, ...]) -> str:
+    """Every band a radio works one at a time: ``3.5-4.0, 7.0-7.3``."""
+    return ", ".join(band_text(b) for b in bands)
+
+
+def _choices(part: Any) -> tuple[Band, ...]:
+    choices = getattr(part, "choices", None)
+    return tuple(choices) if choices else (part.band,)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -41,7 +47,11 @@ class RadioRow:
     """``"tx"``, ``"rx"`` or ``"both"``."""
     mhz: str
     tx_mhz: tuple[float, float] | None
+    """The first (or only) transmit band."""
     rx_mhz: tuple[float, float] | None
+    tx_bands_mhz: tuple[tuple[float, float], ...] = ()
+    """Every transmit band or channel, worked one at a time (one entry for most radios)."""
+    rx_bands_mhz: tuple[tuple[float, float], ...] = ()
     power_w: float | None
     antenna_m: tuple[float, float, float]
     """x, y, height in metres."""
@@ -53,17 +63,19 @@ class RadioRow:
     @classmethod
     def from_radio(cls, r: Radio, default_cable: str) -> RadioRow:
         role = "both" if r.tx and r.rx else ("tx" if r.tx else "rx")
-        if r.tx and r.rx:
-            mhz = band_text(r.tx.band) if r.tx.band == r.rx.band else \
-                f"tx {band_text(r.tx.band)} / rx {band_text(r.rx.band)}"
+        tx_b = _choices(r.tx) if r.tx else ()
+        rx_b = _choices(r.rx) if r.rx else ()
+        if tx_b and rx_b:
+            mhz = bands_text(tx_b) if tx_b == rx_b else f"tx {bands_text(tx_b)} / rx {bands_text(rx_b)}"
         else:
-            one = r.tx or r.rx
-            mhz = band_text(one.band) if one is not None else "-"
+            mhz = bands_text(tx_b or rx_b) or "-"
         a = r.antenna
         return cls(
             name=r.name, role=role, mhz=mhz,
             tx_mhz=(r.tx.band.lo_mhz, r.tx.band.hi_mhz) if r.tx else None,
             rx_mhz=(r.rx.band.lo_mhz, r.rx.band.hi_mhz) if r.rx else None,
+            tx_bands_mhz=tuple((b.lo_mhz, b.hi_mhz) for b in tx_b),
+            rx_bands_mhz=tuple((b.lo_mhz, b.hi_mhz) for b in rx_b),
             power_w=r.tx.power_w if r.tx else None,
             antenna_m=(a.x_m, a.y_m, a.height_m), gain_dbi=a.gain_dbi,
             feedline=(r.feedline.cable, r.feedline.length_m) if r.feedline else None,
@@ -75,6 +87,8 @@ class RadioRow:
             "name": self.name, "role": self.role,
             "tx_mhz": list(self.tx_mhz) if self.tx_mhz else None,
             "rx_mhz": list(self.rx_mhz) if self.rx_mhz else None,
+            "tx_bands_mhz": [list(b) for b in self.tx_bands_mhz],
+            "rx_bands_mhz": [list(b) for b in self.rx_bands_mhz],
             "power_w": self.power_w,
             "antenna": {"x_m": self.antenna_m[0], "y_m": self.antenna_m[1], "height_m": self.antenna_m[2],
                         "gain_dbi": self.gain_dbi},
