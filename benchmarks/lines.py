@@ -78,6 +78,9 @@ def main() -> None:
     ap.add_argument("--freqs", type=int, default=2_000)
     ap.add_argument("--skrf-sample", type=int, default=50)
     ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--hardware", action="store_true",
+                    help="also time the hardware model (UHF tees and plugs, notchkit.hardware.Model) "
+                         "and the RLGC line on one thread, against the core")
     args = ap.parse_args()
 
     rng = np.random.default_rng(1)
@@ -121,6 +124,23 @@ def main() -> None:
     for label, _kinds, _n, core, skrf, tanh, _core1 in rows:
         ok = skrf / core >= 50 and core / tanh <= 3
         print(f"  {label}: {'meets' if ok else 'MISSES'} the targets")
+    if args.hardware:
+        from notchkit.hardware import Hardware, Model
+
+        print("\nhardware model, one thread (no target: it runs only where a site asks for hardware, "
+              "a load or the RLGC line)")
+        print(f"{'topology':<12} {'model':<14} {'s':>8} {'/ core 1-thr':>13} {'skrf/model':>11}")
+        old = filters.set_threads(1)
+        try:
+            for label, kinds, _n, _core, skrf, _tanh, core1 in rows:
+                lengths = rng.uniform(0.05, 3.0, size=(n, len(kinds)))
+                for name, model in (("UHF hardware", Model(cable=cable, hardware=Hardware.of("uhf"))),
+                                    ("RLGC line", Model(cable=cable, rlgc=True))):
+                    t = best_of(lambda kinds=kinds, lengths=lengths, model=model:
+                                evaluate_batch(kinds, lengths, model, f), args.repeat)
+                    print(f"{label:<12} {name:<14} {t:8.3f} {t / core1:13.1f} {skrf / t:11.0f}")
+        finally:
+            filters.set_threads(old)
 
 
 if __name__ == "__main__":

@@ -35,8 +35,10 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+from notchkit.elements import OPEN, SHORT, element_ids, kind_of
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
+from notchkit.hardware import reference_plane
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0
 
@@ -47,16 +49,7 @@ DEFAULT_TRIM_MARGIN_PCT = 3.0
 MIN_TRIM_EXTRA_M = 0.010
 """The first cut is never less than this much longer than the cut length."""
 
-END_SHORT = (
-    "shorted end: strip the jacket and fold the braid back, then solder the centre conductor to "
-    "the braid with the shortest possible joint (a long pigtail adds inductance and lengthens the "
-    "stub); seal the end against water"
-)
-END_OPEN = (
-    "open end: cut square and flush (braid and centre conductor at the same plane), make sure no "
-    "braid strand touches the centre conductor, then seal the end against water (the open end "
-    "carries the highest voltage of the stub)"
-)
+END_SHORT, END_OPEN = SHORT.end_text, OPEN.end_text  # the kinds own their coax end texts
 END_SHORT_BALANCED = (
     "shorted end (balanced line): bridge the two wires with a short, straight strap of heavy "
     "copper wire or strip soldered across both (as short as the spacing allows: its length adds "
@@ -69,11 +62,7 @@ END_OPEN_BALANCED = (
     "carries the highest voltage of the stub); the tee end connects through a 1:1 current "
     "balun, never straight to coax"
 )
-DC_SHORT = (
-    "DC path: a shorted stub puts the antenna side at DC ground (good for static drain), but it "
-    "shorts any DC fed up the coax to a masthead preamplifier or remote antenna switch"
-)
-DC_OPEN = "DC path: an open stub does not give the antenna side a DC path to ground"
+DC_SHORT, DC_OPEN = SHORT.dc_text, OPEN.dc_text
 
 UNITS = ("metric", "imperial", "both")
 
@@ -119,6 +108,8 @@ class StubCut:
     """Millimetres to cut off to raise ``resonance_mhz`` by 1 MHz (``l / f``)."""
     end: str
     dc_note: str
+    reference_plane: str = ""
+    """Where ``cut_length_m`` is measured from (notchkit.hardware.reference_plane)."""
 
     @property
     def dc_path_to_ground(self) -> bool:
@@ -150,6 +141,7 @@ class StubCut:
             "dc_path_to_ground": self.dc_path_to_ground,
             "end": self.end,
             "dc_note": self.dc_note,
+            "reference_plane": self.reference_plane,
         }
 
 
@@ -191,7 +183,7 @@ def stub_resonance_mhz(
     if not (math.isfinite(length_m) and length_m > 0):
         raise DesignError(f"stub length_m {length_m!r} must be > 0 to have a resonance")
     f1 = C0 * velocity_factor / (4.0 * length_m) / 1e6  # quarter-wave frequency, MHz
-    first = 1 if termination == "open" else 2
+    first = kind_of(termination).first_order
     if not near_mhz:
         return first * f1, first, None
     best: tuple[float, int, float] = (math.inf, first, float(near_mhz[0]))
@@ -256,12 +248,11 @@ def cut_list(
         for i in idx:
             tee_of[i] = t
     cuts = []
-    n = 0
+    ids = element_ids(filt, filter_id)
     for i, e in enumerate(filt.elements):
         if not isinstance(e, Stub):
             continue
-        n += 1
-        sid = f"{filter_id}-S{n}"
+        sid = ids[i]
         cut_m = filt.cut_length_m(e)
         if not cut_m > 0:
             raise DesignError(
@@ -270,6 +261,8 @@ def cut_list(
             )
         extra = max(cut_m * trim_margin_pct / 100.0, MIN_TRIM_EXTRA_M)
         res, q, served = stub_resonance_mhz(e.termination, e.length_m, vf, notches)
+        if hasattr(filt.cable, "stub_resonance_mhz"):  # hardware / RLGC model: refine on the model
+            res = filt.cable.stub_resonance_mhz(e.kind, e.length_m, res)
         elec = tuple(
             ElectricalLength(freq_mhz=f, degrees=electrical_degrees(e.length_m, f, vf), role=role)
             for role, fs in (("notch", notches), ("pass", passes))
@@ -293,7 +286,8 @@ def cut_list(
                 serves_notch_mhz=served,
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
                 end=_end_note(e.termination, filt.cable),
-                dc_note=DC_SHORT if e.termination == "short" else DC_OPEN,
+                dc_note=e.kind.dc_text,
+                reference_plane=reference_plane(filt),
             )
         )
     return tuple(cuts)
@@ -365,10 +359,16 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both") -> str:
             f"{c.stub_id}  {c.termination} stub at tee {c.tee}: cut {format_length(c.cut_length_m, units)}"
             f" (first cut {format_length(c.first_cut_m, units)}, +{c.trim_margin_pct:g} %)"
         )
-        lines.append(
-            f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
-            f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
-        )
+        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
+            lines.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
+                         f"VF {c.velocity_factor:g}")
+        else:
+            lines.append(
+                f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
+                f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
+            )
+        if c.reference_plane:
+            lines.append(f"    cut length measured {c.reference_plane}")
         lines.append(
             f"    resonance {c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave); "
             f"trim {c.trim_rate_mm_per_mhz:.1f} mm per MHz to raise it"

@@ -12,6 +12,7 @@ Nothing here prints. The physics is in :mod:`notchkit.solver`,
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import os
 import re
@@ -68,6 +69,8 @@ class Design:
     cuts: tuple[Any, ...] = ()
     tolerance: Any = None
     power: Any = None
+    model: Any = None
+    """What the filter was verified against (:class:`notchkit.hardware.ModelReport`)."""
 
     @property
     def meets(self) -> bool:
@@ -93,7 +96,7 @@ class Design:
         s = self.solution
         freqs = [x for b in s.passes for x in (b.lo_mhz, b.hi_mhz)]
         freqs += [x for b in s.notches for x in (b.lo_mhz, b.hi_mhz)]
-        return extrapolation_note(self.cable, freqs)
+        return extrapolation_note(getattr(self.cable, "cable", self.cable), freqs)  # a hardware.Model's cable
 
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
@@ -143,8 +146,12 @@ def design_filter(
     sol = solve(req, cable=cable, limits=limits, tee_allowance_m=allowances.tee_allowance_m,
                 z_system=z_system, progress=lambda m: say(f"{filter_id}: {m}"))
     cuts, tol, power = _build_checks(req, sol, limits, allowances, filter_id, z_system, tolerance_samples)
+    from notchkit.hardware import model_report
+
+    model = model_report(sol.filter, [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches],
+                         [b.centre_mhz for b in req.pass_bands], z_system)
     return Design(id=filter_id, requirement=req, solution=sol, cable=cable, cuts=cuts, tolerance=tol,
-                  power=power)
+                  power=power, model=model)
 
 
 def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
@@ -232,9 +239,25 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         site = apply(site, calibration)
     if workers is not None and int(workers) < 1:
         raise DesignError(f"workers {workers!r} must be at least 1")
+    from notchkit.hardware import model_for
+
     sv = survey(site)
-    jobs = [(req, get_cable(req.cable, site.cables), site.limits, site.allowances, f"F{i}")
-            for i, req in enumerate(sv.filters, start=1)]
+    hw = getattr(site, "hardware", None)
+    no_allowance = dataclasses.replace(site.allowances, tee_allowance_m=0.0)  # the tee's arms are modelled
+
+    from notchkit.loads import read_load
+
+    for radio in site.radios:  # every given load file is read (a bad one is refused) before designing
+        if getattr(getattr(radio, "load", None), "file", None):
+            read_load(radio.load.file)
+
+    def medium(req: FilterRequirement) -> Any:  # the cable with the site's hardware, load and ceiling
+        radio = next((r for r in site.radios if r.name == req.radio), None)
+        return model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),
+                         depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
+
+    jobs = [(req, m, site.limits, site.allowances if m.hardware is None else no_allowance, f"F{i}")
+            for i, req, m in ((i, req, medium(req)) for i, req in enumerate(sv.filters, start=1))]
     n = len(jobs)
     designs: list[Design] = []
     pending = [meanwhile] if meanwhile is not None else []
@@ -348,6 +371,7 @@ def design_request(
     power_mhz: float | None = None,
     z_system: float = 50.0,
     progress: Progress | None = None,
+    load: str | os.PathLike | None = None,
 ) -> DesignReport:
     """Design one ad-hoc filter: pass these bands, notch those.
 
@@ -364,6 +388,9 @@ def design_request(
         Defaults of :class:`~notchkit.site.model.Limits` / ``Allowances``.
     power_w, power_mhz : float, optional
         A carrier through the filter for the power check.
+    load : path, optional
+        The antenna's impedance (``.s1p`` or R+jX table, :mod:`notchkit.loads`): the
+        filter is designed and verified into it.
 
     Returns
     -------
@@ -388,6 +415,11 @@ def design_request(
     bands = tuple(_band(b, "pass") for b in pass_bands)
     specs = tuple(_notch(n) for n in notches)
     cab = get_cable(cable) if isinstance(cable, str) else cable
+    from notchkit.hardware import Model, model_for
+    from notchkit.site.model import RadioLoad
+
+    if not isinstance(cab, Model):
+        cab = model_for(cab, load=RadioLoad(file=os.fspath(load)) if load is not None else None)
     req = FilterRequirement(radio=None, side=None, pass_bands=bands, notches=specs,
                             cable=getattr(cab, "name", str(cable)), power_w=power_w, power_mhz=power_mhz)
     d = design_filter(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
@@ -483,6 +515,7 @@ def design_record(d: Design) -> Any:
     out["cut_list"] = [c.to_json() for c in d.cuts]
     out["tolerance"] = d.tolerance.to_json() if d.tolerance is not None else None
     out["power"] = d.power.to_json() if d.power is not None else None
+    out["model"] = d.model.to_json() if d.model is not None else None
     return filter_record(d, extra=out)
 
 

@@ -27,23 +27,20 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from notchkit.cables import Cable
+from notchkit.elements import LINE, Kind, kind_of
+from notchkit.elements import MIN_MODEL_LENGTH_M as MIN_MODEL_LENGTH_M  # re-exported
 from notchkit.errors import DesignError
 from notchkit.fileio import write_text_atomic
 from notchkit.lines import (
     C0,
-    abcd_series_line_scaled,
-    abcd_shunt,
     abcd_to_s,
     cascade,
     gamma,
-    yin_open,
-    yin_short,
 )
 
 Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
-MIN_MODEL_LENGTH_M = 1e-9
-"""A zero-length shorted stub is modelled as 1 nm: a finite dead short (shared with power.py)."""
+"""The kind names (:data:`notchkit.elements.KINDS` holds the kind objects)."""
 _CHUNK_POINTS = 1 << 14  # candidate-chunk size in points: scratch stays in cache, few Python steps
 _THREAD_POINTS = 1 << 19
 """Batches of at least this many points are shared among threads (numpy's loops release the GIL)."""
@@ -114,8 +111,8 @@ class Stub:
         _check_length(self.length_m, "stub")
 
     @property
-    def kind(self) -> str:
-        return self.termination
+    def kind(self) -> Kind:
+        return kind_of(self.termination)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -128,8 +125,8 @@ class Line:
         _check_length(self.length_m, "line section")
 
     @property
-    def kind(self) -> str:
-        return "line"
+    def kind(self) -> Kind:
+        return LINE
 
 
 Element = Stub | Line
@@ -160,7 +157,7 @@ class Filter:
             raise DesignError("a filter needs at least one stub")
 
     @property
-    def kinds(self) -> tuple[str, ...]:
+    def kinds(self) -> tuple[Kind, ...]:
         return tuple(e.kind for e in self.elements)
 
     @property
@@ -197,7 +194,7 @@ class Filter:
 
 
 def evaluate_batch(
-    kinds: tuple[str, ...] | list[str],
+    kinds: tuple[Kind | str, ...] | list[Kind | str],
     lengths_m: ArrayLike,
     cable: Medium,
     freq_hz: ArrayLike,
@@ -207,8 +204,8 @@ def evaluate_batch(
 
     Parameters
     ----------
-    kinds : sequence of {"open", "short", "line"}
-        The topology, radio side first.
+    kinds : sequence of Kind (or their names "open", "short", "line")
+        The topology, radio side first (:mod:`notchkit.elements`).
     lengths_m : array_like, shape (n_cand, len(kinds)) or (len(kinds),)
         Each element's length, metres (stub lengths are full electrical paths).
     cable : Medium
@@ -234,10 +231,12 @@ def evaluate_batch(
     :class:`_Sweep`); both ways are exact to rounding and are tested against
     scikit-rf on uniform, banded and irregular grids.
     """
-    kinds = tuple(kinds)
-    for k in kinds:
-        if k not in KINDS:
-            raise DesignError(f"element kind {k!r} must be one of {', '.join(KINDS)}")
+    kinds = tuple(kind_of(k) for k in kinds)
+    if hasattr(cable, "evaluate_batch"):  # a notchkit.hardware.Model
+        model: Any = cable
+        if not model.is_plain:
+            return model.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
+        cable = model.cable
     lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
@@ -315,9 +314,10 @@ class _Sweep:
       complex ``tanh``; a line's ``e^{-gl}`` is one complex ``exp``.
     """
 
-    __slots__ = ("alpha", "beta", "g", "neg_alpha", "minus2_alpha", "runs")
+    __slots__ = ("alpha", "beta", "f", "g", "neg_alpha", "minus2_alpha", "runs")
 
     def __init__(self, f: NDArray[np.float64], cable: Medium) -> None:
+        self.f = f  # the grid, Hz (for kinds whose response is not a line's)
         self.alpha = np.broadcast_to(np.asarray(cable.alpha_np_per_m(f), dtype=float), f.shape)
         self.neg_alpha = -self.alpha
         self.minus2_alpha = -2.0 * self.alpha
@@ -484,30 +484,26 @@ def _evaluate_chunk(kinds, lengths, sweep: _Sweep, work: _Work, z0, zs, s21_out,
     y0 = 1.0 / z0
     for j, kind in enumerate(kinds):
         length = lengths[:, j : j + 1]
-        if kind == "line":
-            # ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = u^2, u = e^{-gl}, |u| <= 1.
-            # The scale factors e^{gl}/2 are collected in w.u_all and applied to S21 at the end.
-            u = _per_length(length, w.u, w, lambda x, out, v: sweep.decay_into(x, out, v.r1, v.flat))
-            if n_lines == 0:
-                np.multiply(u, 2.0, out=w.u_all)
-            else:
-                w.u_all *= u
-                w.u_all *= 2.0
-            n_lines += 1
-            p, m = w.t1, w.t2
-            np.multiply(u, u, out=m)
-            np.add(m, 1.0, out=p)
-            np.subtract(1.0, m, out=m)
-            a, b = _line_row(a, b, p, m, z0, y0, w.a, w.b, w.t3, w.t4)
-            c, d = _line_row(c, d, p, m, z0, y0, w.c, w.d, w.t3, w.t4)
+        if kind.shunt:
+            y = _per_length(length, w.y, w, lambda x, out, v, k=kind: k.batch_into(sweep, x, y0, v, out))
+            a = _add_product(a, b, y, w.a, w.t3)
+            c = _add_product(c, d, y, w.c, w.t3)
             continue
-        short = kind == "short"
-        if short:
-            length = np.maximum(length, MIN_MODEL_LENGTH_M)
-        y = _per_length(length, w.y, w,
-                        lambda x, out, v, short=short: sweep.shunt_y_into(x, y0, short, v, out))
-        a = _add_product(a, b, y, w.a, w.t3)
-        c = _add_product(c, d, y, w.c, w.t3)
+        # A line section: ABCD = (e^{gl}/2) [[1+q, Z0(1-q)], [(1-q)/Z0, 1+q]], q = u^2, u = e^{-gl},
+        # |u| <= 1. The scale factors e^{gl}/2 are collected in w.u_all and applied to S21 at the end.
+        u = _per_length(length, w.u, w, lambda x, out, v, k=kind: k.batch_into(sweep, x, y0, v, out))
+        if n_lines == 0:
+            np.multiply(u, 2.0, out=w.u_all)
+        else:
+            w.u_all *= u
+            w.u_all *= 2.0
+        n_lines += 1
+        p, m = w.t1, w.t2
+        np.multiply(u, u, out=m)
+        np.add(m, 1.0, out=p)
+        np.subtract(1.0, m, out=m)
+        a, b = _line_row(a, b, p, m, z0, y0, w.a, w.b, w.t3, w.t4)
+        c, d = _line_row(c, d, p, m, z0, y0, w.c, w.d, w.t3, w.t4)
     # S21' = 2 / (P + Q) and S11 = (P - Q) / (P + Q) = 1 - Q S21', P = A + B/Z, Q = C Z + D
     q_term = _combine(c, zs, d, w.t1)
     p_term = _combine(b, 1.0 / zs, a, w.t2)
@@ -637,19 +633,20 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
     """
     f = np.asarray(freq_hz, dtype=float).ravel()
     _check_freq(f)
+    if hasattr(filt.cable, "abcd") and not getattr(filt.cable, "is_plain", True):  # a hardware.Model
+        # The filter with its hardware between z_system ports (no load, no ceiling: a Touchstone
+        # file describes the filter itself).
+        a, b, c, d = filt.cable.abcd(filt.kinds, filt.lengths_m[None, :], f)
+        return abcd_to_s(np.stack([np.stack([a[0], b[0]], -1), np.stack([c[0], d[0]], -1)], -2),
+                         z_system, z_system)
     g = gamma(f, filt.cable.alpha_np_per_m(f), filt.cable.velocity_factor)
     z0 = float(filt.cable.z0_ohm)
     mats = []
     log_scale = np.zeros(f.size, dtype=complex)
     for e in filt.elements:
-        if isinstance(e, Line):
-            mat, scale = abcd_series_line_scaled(z0, g, e.length_m)
-            mats.append(mat)
-            log_scale += scale
-        elif e.termination == "open":
-            mats.append(abcd_shunt(yin_open(z0, g, e.length_m)))
-        else:
-            mats.append(abcd_shunt(yin_short(z0, g, max(e.length_m, MIN_MODEL_LENGTH_M))))
+        mat, scale = e.kind.abcd(z0, g, e.length_m)
+        mats.append(mat)
+        log_scale = log_scale + scale
     s = abcd_to_s(cascade(*mats), z_system, z_system)
     shrink = np.exp(-np.minimum(log_scale.real, 700.0) - 1j * log_scale.imag)
     s21 = s[:, 1, 0] * shrink

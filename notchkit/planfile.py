@@ -402,6 +402,7 @@ class PlanDocument:
 
 def filter_record(d: Any, *, extra: Mapping[str, Any] | None = None) -> FilterRecord:
     """The record of a :class:`notchkit.design.Design` (``extra``: the keys no reader uses)."""
+    from notchkit.elements import element_ids
     from notchkit.filters import Line
     from notchkit.jsonvalues import finite
     from notchkit.solver import describe
@@ -412,16 +413,15 @@ def filter_record(d: Any, *, extra: Mapping[str, Any] | None = None) -> FilterRe
     r, s, filt = d.requirement, d.solution, d.filter
     cuts = {c.element_index: c for c in d.cuts}
     tee_of = {i: t for t, idx in enumerate(filt.tees(), start=1) for i in idx}
+    ids = element_ids(filt, d.id)  # numbered in one place (notchkit.elements)
     elements: list[Element] = []
     for i, e in enumerate(filt.elements):
         if isinstance(e, Line):
-            n_line = sum(isinstance(x, LineRecord) for x in elements) + 1
-            elements.append(LineRecord(id=f"{d.id}-L{n_line}", length_m=num(e.length_m)))
+            elements.append(LineRecord(id=ids[i], length_m=num(e.length_m)))
             continue
-        n_stub = sum(isinstance(x, StubRecord) for x in elements) + 1
         c = cuts.get(i)
         elements.append(StubRecord(
-            id=f"{d.id}-S{n_stub}", tee=tee_of[i], termination=e.termination,
+            id=ids[i], tee=tee_of[i], termination=e.termination,
             length_m=num(e.length_m), cut_length_m=num(filt.cut_length_m(e)),
             first_cut_m=None if c is None else num(c.first_cut_m),
             trim_rate_mm_per_mhz=None if c is None else num(c.trim_rate_mm_per_mhz),

@@ -49,10 +49,11 @@ from typing import Any
 
 import numpy as np
 
+from notchkit.elements import element_ids
 from notchkit.errors import DesignError
 from notchkit.filters import MIN_MODEL_LENGTH_M, Filter, Stub
 from notchkit.jsonvalues import finite
-from notchkit.lines import C0, gamma, yin_open, yin_short
+from notchkit.lines import C0, gamma
 
 NEPER_DB = 20.0 / math.log(10.0)
 THIN_MARGIN = 2.0
@@ -284,10 +285,7 @@ def power_check(
     for idx in range(len(filt.elements) - 1, -1, -1):
         e = filt.elements[idx]
         if isinstance(e, Stub):
-            if e.termination == "open":
-                y = complex(yin_open(z0, g, e.length_m))
-            else:
-                y = complex(yin_short(z0, g, max(e.length_m, MIN_MODEL_LENGTH_M)))
+            y = complex(e.kind.admittance(z0, g, e.length_m))
             stub_state[idx] = (v, y * v)
             i = i + y * v
             tee_v[idx] = v
@@ -322,23 +320,14 @@ def power_check(
     warnings_: list[str] = []
     cautions: list[str] = []
     stubs, lines_ = [], []
-    ns = nl = 0
+    ids = element_ids(filt, filter_id)
     for idx, e in enumerate(filt.elements):
         if isinstance(e, Stub):
-            ns += 1
-            sid = f"{filter_id}-S{ns}"
+            sid = ids[idx]
             vt, it = (k * x for x in stub_state[idx])
             length = max(e.length_m, MIN_MODEL_LENGTH_M)
             d = _grid(length, wavelength)  # distance from the end
-            gd = g * d
-            if e.termination == "open":
-                v_end = vt / np.cosh(g * length)
-                vz, iz = v_end * np.cosh(gd), v_end * np.sinh(gd) / z0
-                end_v, end_i = abs(v_end), 0.0
-            else:
-                i_end = vt / (z0 * np.sinh(g * length))
-                vz, iz = i_end * z0 * np.sinh(gd), i_end * np.cosh(gd)
-                end_v, end_i = 0.0, abs(i_end)
+            vz, iz, end_v, end_i = e.kind.standing_wave(vt, z0, g, length, d)
             av, ai = np.abs(vz), np.abs(iz)
             j = int(np.argmax(av))
             diss = 0.5 * (vt * np.conj(it)).real
@@ -366,8 +355,7 @@ def power_check(
             if vmax >= KILOVOLT_V:
                 cautions.append(KV_CAUTION.format(v=vmax, what=where))
         else:
-            nl += 1
-            lid = f"{filter_id}-L{nl}"
+            lid = ids[idx]
             vo, io, vi, ii = (k * x for x in line_state[idx])
             d = _grid(max(e.length_m, MIN_MODEL_LENGTH_M), wavelength)  # from the antenna-side end
             vz = np.cosh(g * d) * vo + z0 * np.sinh(g * d) * io

@@ -55,8 +55,9 @@ from typing import Any
 
 import numpy as np
 
+from notchkit.elements import element_ids as element_ids  # ids are numbered in one place
 from notchkit.errors import DesignError
-from notchkit.filters import Filter, Stub, evaluate_batch
+from notchkit.filters import Filter, evaluate_batch
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0, swr_from_s11
 from notchkit.requirements import NotchSpec
@@ -180,19 +181,6 @@ class Tolerance:
 def _f(x: float) -> float:
     # attenuation can be huge but finite (db20 floors at -400 dB); clip to stay finite
     return finite(x, "a tolerance result", clip_inf=True)
-
-
-def element_ids(filt: Filter, filter_id: str = "F1") -> tuple[str, ...]:
-    """``F1-S1``, ``F1-L1``, ...: stubs and line sections numbered separately."""
-    ids, ns, nl = [], 0, 0
-    for e in filt.elements:
-        if isinstance(e, Stub):
-            ns += 1
-            ids.append(f"{filter_id}-S{ns}")
-        else:
-            nl += 1
-            ids.append(f"{filter_id}-L{nl}")
-    return tuple(ids)
 
 
 def band_sizes(bands: Sequence[Any], filt: Filter, most: int, phase_step_rad: float | None) -> list[int]:
@@ -347,7 +335,9 @@ def tolerance(
     for b in range(n_bins):
         rows = np.flatnonzero(bin_of == b)
         if rows.size:
-            medium = _Medium(filt.cable, float(vf_bin[rows[0]])) if spread > 0 else filt.cable
+            v = float(vf_bin[rows[0]])
+            vary = getattr(filt.cable, "with_velocity_factor", None)  # a hardware.Model keeps its parts
+            medium = (vary(v) if vary else _Medium(filt.cable, v)) if spread > 0 else filt.cable
             reduce(rows, drawn[rows], medium)
     reduce(slice(n_samples, n_rows), probes, filt.cable)
 

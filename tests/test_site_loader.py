@@ -218,7 +218,7 @@ def test_not_a_mapping(write):
     assert problems(write("- a\n- b\n")) == [
         "site.yaml:1:1: the file must be a mapping of keys, got a list (allowed keys: site, cable, "
         "transmitters, receivers, transceivers, couplings, limits, allowances, cables, max_harmonic, "
-            "max_im_order, scenarios, near_field_isolation_db)"
+            "max_im_order, scenarios, near_field_isolation_db, hardware, depth_ceiling_db)"
     ]
 
 
@@ -347,7 +347,7 @@ def test_unknown_key_without_a_close_match_lists_the_allowed_keys(write):
     assert one(write, "freq_mhz: 446.0", "freq_mhz: 446.0\n    colour: red") == [
         "site.yaml:10:5: receivers[0].colour: unknown key (allowed: name, freq_mhz, band_mhz, "
         "bandwidth_khz, sensitivity_dbm, blocking_dbm, noise_figure_db, iip2_dbm, iip3_dbm, receiver_class, "
-        "selectivity, band_noise_dbm, antenna, feedline, stub_cable, installed)"
+        "selectivity, band_noise_dbm, antenna, feedline, stub_cable, installed, load)"
     ]
 
 

@@ -95,6 +95,11 @@ def validate(value: Any, schema: dict[str, Any], root: dict[str, Any], path: str
     return errors
 
 
+def _load_file(folder: Path) -> None:
+    """The antenna table the complete example names (docs/hardware.md: freq_mhz r_ohm x_ohm)."""
+    (folder / "paging-antenna.txt").write_text("140 40 -20\n160 60 20\n", encoding="utf-8")
+
+
 def _complete_example() -> str:
     text = FORMAT_FILE.read_text(encoding="utf-8")
     section = text.split("## Complete example", 1)[1]
@@ -144,6 +149,7 @@ def test_loader_refuses_every_key_outside_the_schema(tmp_path):
     data = yaml.safe_load(_complete_example())
     paths: list[str] = []
     _add_extra_key(data, "site", paths)
+    _load_file(tmp_path)
     _write_preselector(tmp_path)
     p = tmp_path / "x.yaml"
     p.write_text(yaml.safe_dump(data, sort_keys=False), encoding="utf-8")
@@ -218,6 +224,7 @@ def _write_preselector(folder: Path) -> None:
 
 def test_complete_example_loads_and_uses_every_key(tmp_path):
     text = _complete_example()
+    _load_file(tmp_path)
     p = tmp_path / "complete.yaml"
     p.write_text(text, encoding="utf-8")
     _write_preselector(tmp_path)
@@ -262,6 +269,8 @@ _MODEL = {
     "limits": model.Limits,
     "allowances": model.Allowances,
     "cable": model.CableDef,
+    "hardware": model.HardwareSettings,
+    "load": model.RadioLoad,
 }
 
 
@@ -281,6 +290,8 @@ def _heading_for(section: str, rows: dict[str, dict[str, list[str]]]) -> str:
         "limits": "`limits:`",
         "allowances": "`allowances:`",
         "cable": "`cables:`",
+        "hardware": "`hardware:`",
+        "load": "`load:`",
     }[section]
     (heading,) = [h for h in rows if wanted in h]
     return heading

@@ -96,9 +96,36 @@ def format_site(site: Site) -> str:
         f"Allowances: tee {al.tee_allowance_m * 1000:g} mm, trim margin {al.trim_margin_pct:g} %, "
         f"cut tolerance {al.cut_tolerance_mm:g} mm",
         f"Harmonics considered up to order {site.max_harmonic}",
+        *_hardware_lines(site),
         "",
         *checked.cautions,
         *([""] if checked.cautions else []),
         f"OK: {len(site.radios)} radios, no problems found",
     ]
     return "\n".join(lines)
+
+
+def _hardware_lines(site) -> list[str]:
+    """The connection hardware, the antenna loads and the depth ceiling (docs/hardware.md)."""
+    from notchkit.hardware import DEFAULT_DEPTH_CEILING_DB, DEFAULT_OUT_OF_BAND_SWR, hardware_of
+
+    hw = hardware_of(getattr(site, "hardware", None))
+    ceiling = getattr(site, "depth_ceiling_db", None) or DEFAULT_DEPTH_CEILING_DB
+    out = []
+    if hw is None:
+        out.append("Hardware: ideal tees with the tee allowance (no hardware: block)")
+    else:
+        f = hw.family
+        line = getattr(site.hardware, "line_model", "classic")
+        out.append(f"Hardware: {f.name.upper()}, mated pair {f.z_pair_ohm:g} ohm, plug {f.plug_mm:g} mm, "
+                   f"tee arms {f.tee_through_mm:g}/{f.tee_side_mm:g} mm, short {hw.short_nh:g} nH; "
+                   f"{line} line")
+    out.append(f"Depth ceiling: {ceiling:g} dB")
+    for r in site.radios:
+        load = getattr(r, "load", None)
+        if load is not None:
+            swr = load.swr if load.swr is not None else DEFAULT_OUT_OF_BAND_SWR
+            what = f"file {load.file}" if load.file else "no file"
+            out.append(f"Load of {r.name}: {what}; SWR bound {swr:g} elsewhere"
+                       + (f"; radio port {load.radio_ohm:g} ohm" if load.radio_ohm else ""))
+    return out

@@ -46,6 +46,9 @@ def add_parser(sub) -> None:
                    help="stub cable type for --pass/--notch designs (see `notchkit cables`; default RG-213)")
     p.add_argument("--max-stubs", metavar="N", type=int, default=None,
                    help="largest number of stubs to try (default: 3)")
+    p.add_argument("--load", metavar="FILE", default=None,
+                   help="the antenna's impedance, a .s1p or an R+jX table (freq_mhz r_ohm x_ohm); "
+                        "without a site file")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type; with a site file): lengths use its VF and loss")
@@ -104,8 +107,8 @@ def run(args) -> int:
 
         check_dir_writable(args.touchstone, "--touchstone")
     if args.site is not None:
-        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None:
-            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs, not both")
+        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or args.load:
+            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load, not both")
         from notchkit.site import load_site
 
         report = design(load_site(args.site), progress=progress, calibration=args.calibration)
@@ -125,7 +128,8 @@ def run(args) -> int:
         from notchkit.site.model import DEFAULT_CABLE
 
         cable = get_cable(args.cable or DEFAULT_CABLE)
-        report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress)
+        report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress,
+                                load=args.load)
     if progress is not None:
         progress.done()
     written: tuple[Path, ...] = ()
@@ -186,6 +190,9 @@ def format_design(d) -> str:
                 else f"{state_word(False, loud=True)}: {-n.margin_db:.1f} dB missing")
         lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
                      f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
+    model = getattr(d, "model", None)
+    if model is not None:
+        lines += ["  " + x for x in model.lines]
     if d.cuts:
         lines.append("  cut list:")
         lines += ["    " + x for x in format_cut_list(d.cuts).splitlines()]

@@ -18,6 +18,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from notchkit.cutlist import format_length as length_text
+from notchkit.elements import element_ids
 from notchkit.filters import Filter, Line, Stub
 from notchkit.report.sketch import Box, Dot, Label, Lines, Point, Sketch, to_matplotlib
 
@@ -33,8 +34,9 @@ _Y_LINE = 0.0
 def default_stub_labels(filt: Filter, units: str = "both", ids: Sequence[str] | None = None) -> list[str]:
     """``S1 open`` / ``cut 512 mm (20 3/16 in)`` labels for each stub, radio side first."""
     out = []
+    own_ids = [i for i, e in zip(element_ids(filt, ""), filt.elements, strict=True) if e.kind.shunt]
     for i, stub in enumerate(filt.stubs):
-        sid = ids[i] if ids is not None else f"S{i + 1}"
+        sid = ids[i] if ids is not None else own_ids[i]
         cut = filt.cut_length_m(stub)
         if units == "both":
             text = f"cut {length_text(cut, 'metric')}\n{length_text(cut, 'imperial')}"
@@ -144,15 +146,7 @@ def arrangement_sketch(
             end_y = _Y_LINE - _STUB_DROP
             # The stub cable drawn as a doubled line (coax), then its end.
             coax.append(((sx, bus_y), (sx, end_y)))
-            if stub.termination == "open":
-                dots.append(Dot(sx, end_y - 0.09, 0.09, fill=1.0, width=1.2))
-                label_y = end_y - 0.28
-            else:
-                gy = end_y
-                wire([sx, sx], [gy, gy - 0.1])
-                for w, dy in ((0.28, 0.1), (0.18, 0.18), (0.08, 0.26)):
-                    wire([sx - w, sx + w], [gy - dy, gy - dy])
-                label_y = gy - 0.36
+            label_y = stub.kind.draw_end(wire, dots, sx, end_y)  # the kind draws its own end
             text(sx, label_y, stub_labels[stub_i], va="top", linespacing=1.15)
             stub_i += 1
         x = span_end

@@ -581,6 +581,9 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json",
     if isinstance(advice, str):
         advice = (advice,)
     advice = [str(a) for a in advice]
+    model = getattr(d, "model", None)
+    if model is not None:  # what it was verified against, the load spread, the depth ceiling
+        facts += list(model.lines)
     facts += advice[:_MAX_ADVICE]
     if len(advice) > _MAX_ADVICE:
         facts.append(f"... and {len(advice) - _MAX_ADVICE} more suggestions (the plan JSON lists them all).")

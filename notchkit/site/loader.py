@@ -277,6 +277,7 @@ _RADIO_COMMON = {
         section="installed",
         doc="Filters already in line at this radio (band-pass, duplexer, cavity, ...).",
     ),
+    "load": Field(kind="section", section="load", doc="The antenna's impedance (docs/hardware.md)."),
 }
 _NAME = Field(
     kind="name",
@@ -332,6 +333,14 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=m.DEFAULT_NEAR_FIELD_ISOLATION_DB,
             doc="Isolation taken between antennas closer than lambda/(2 pi) where no coupling "
             "was measured, in dB (no formula is used there).",
+        ),
+        "hardware": Field(kind="section", section="hardware",
+                          doc="Connectors, tees and the short of the filters (docs/hardware.md); "
+                          "default: ideal tees with the tee allowance."),
+        "depth_ceiling_db": Field(
+            kind="number", num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
+            doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
+            "default: 60 dB.",
         ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
@@ -536,6 +545,34 @@ SECTIONS: dict[str, dict[str, Field]] = {
             doc="Velocity-factor spread for tolerance runs; default: the cable's published "
             "tolerance, else 0.01.",
         ),
+    },
+    "hardware": {
+        "family": Field(kind="text", default="uhf", doc="Connector family: uhf, n or bnc."),
+        "z_pair_ohm": Field(kind="number", num=Num(lo=10.0, hi=150.0, unit="ohm"), default=None,
+                            doc="Impedance of a mated connector pair and the tee body; "
+                            "default: the family's."),
+        "plug_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                         doc="Plug length from its mating face; default: the family's."),
+        "tee_through_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                                doc="Tee through arm, port face to junction; default: the family's."),
+        "tee_side_mm": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="mm"), default=None,
+                             doc="Tee side arm, port face to junction; default: the family's."),
+        "short_nh": Field(kind="number", num=Num(lo=0.0, hi=100.0, unit="nH"), default=None,
+                          doc="Inductance of a stub's short, nH; default: 3 nH."),
+        "barrels_per_port": Field(kind="number", num=Num(lo=0, hi=4, integer=True), default=0,
+                                  doc="Barrels at each filter port."),
+        "line_model": Field(kind="text", default="classic",
+                            doc="classic (lossless-VF line) or rlgc (internal inductance, complex Z0)."),
+    },
+    "load": {
+        "file": Field(kind="text", default=None,
+                      doc="Measured .s1p or R+jX table (freq_mhz r_ohm x_ohm), relative to the site file; "
+                      "read with the site (a bad file is a problem of the site)."),
+        "swr": Field(kind="number", num=Num(lo=1.0, hi=100.0), default=None,
+                     doc="SWR bound of the antenna out of its band (where no file covers it); "
+                     "default: 6 (docs/hardware.md)."),
+        "radio_ohm": Field(kind="number", num=Num(lo=1.0, hi=1000.0, unit="ohm"), default=None,
+                           doc="The radio's port resistance; default: 50 ohm."),
     },
     "cable": {
         "name": Field(kind="text", required=True, doc="Cable type name, unique in the file."),
@@ -1380,7 +1417,24 @@ class _Builder:
                 )
         if "stub_cable" in d:
             out["stub_cable"] = d["stub_cable"][0]
+        if "load" in d and isinstance(d["load"][0], dict):
+            out["load"] = self.load(d["load"][0], _join(path, "load"))
         return out
+
+    def load(self, d: dict, path: str) -> m.RadioLoad:
+        """A radio's ``load:``; its file is read here (notchkit.loads), so a file ``check``
+        accepts is never refused later by ``design`` or ``plan``."""
+        opts = _opt(d, ("file", "swr", "radio_ohm"))
+        if isinstance(opts.get("file"), str):
+            from notchkit.errors import InputError
+            from notchkit.loads import read_load
+
+            opts["file"] = os.path.join(os.path.dirname(self.r.path), opts["file"])
+            try:
+                read_load(opts["file"])
+            except InputError as exc:
+                self.r.add(d["file"][1], _join(path, "file"), str(exc).replace(": load: ", ": ", 1))
+        return m.RadioLoad(**opts)
 
     def transmit(self, d: dict, bands, shared_bw: float | None) -> m.Transmit | None:
         if bands is None or "power_w" not in d:
@@ -1525,6 +1579,7 @@ class _Builder:
         couplings = self.couplings(top)
         self.derived(top, radios, site_cable)
         scenarios = self.scenarios(top)
+        hardware = self.hardware(top)
         if r.problems or "site" not in top:
             return None
         return m.Site(
@@ -1537,6 +1592,7 @@ class _Builder:
             scenarios=scenarios,
             **_opt(top, ("near_field_isolation_db",)),
             **self.site_options(top),
+            **hardware,
         )
 
     @staticmethod
@@ -1660,6 +1716,25 @@ class _Builder:
                 got.append(names[x.lower()])
             out.append(m.Scenario(name=sname, radios=tuple(got)))
         return tuple(out)
+
+    def hardware(self, top: dict) -> dict[str, Any]:
+        """``hardware:`` and ``depth_ceiling_db`` (notchkit.hardware), checked here."""
+        out: dict[str, Any] = {}
+        if "depth_ceiling_db" in top:
+            out["depth_ceiling_db"] = top["depth_ceiling_db"][0]
+        if "hardware" in top and isinstance(top["hardware"][0], dict):
+            from notchkit.hardware import FAMILIES
+
+            d = top["hardware"][0]
+            opts = _opt(d, tuple(SECTIONS["hardware"]))
+            for key, allowed in (("family", tuple(FAMILIES)), ("line_model", ("classic", "rlgc"))):
+                if key in opts:
+                    opts[key] = str(opts[key]).lower()
+                    if opts[key] not in allowed:
+                        self.r.add(d[key][1], f"hardware.{key}",
+                                   f"{opts[key]!r} is not known (allowed: {', '.join(allowed)})")
+            out["hardware"] = m.HardwareSettings(**opts)
+        return out
 
     # -- cables -----------------------------------------------------------
 

@@ -222,11 +222,40 @@ class Radio:
     """Cable for this radio's stubs; ``None``: the site's default ``cable``."""
     installed: tuple[InstalledFilter, ...] = ()
     """Filters already in line at this radio."""
+    load: RadioLoad | None = None
+    """The antenna's impedance as its filter sees it (notchkit.loads); ``None``: not given."""
 
     @property
     def n_choices(self) -> int:
         """How many operating choices (bands or channels worked one at a time)."""
         return max(len(p.choices) for p in (self.tx, self.rx) if p is not None)
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class RadioLoad:
+    """A radio's antenna load: a measured file (``.s1p`` or R+jX table) and/or an SWR bound."""
+
+    file: str | None = None
+    """Path of the file (relative paths are taken from the site file's folder)."""
+    swr: float | None = None
+    """SWR bound of the antenna out of its band; ``None``: notchkit.hardware.DEFAULT_OUT_OF_BAND_SWR."""
+    radio_ohm: float | None = None
+    """The radio's own port resistance; ``None``: the system impedance."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class HardwareSettings:
+    """The connection hardware of the site's filters (notchkit.hardware; docs/hardware.md)."""
+
+    family: str = "uhf"
+    z_pair_ohm: float | None = None
+    plug_mm: float | None = None
+    tee_through_mm: float | None = None
+    tee_side_mm: float | None = None
+    short_nh: float | None = None
+    barrels_per_port: int = 0
+    line_model: str = "classic"
+    """``classic`` (lossless-VF line with the cable's loss) or ``rlgc`` (notchkit.rlgc)."""
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -299,6 +328,10 @@ class Site:
     scenarios: tuple[Scenario, ...] = ()
     """Which radios can be active at once; empty: all of them at once."""
     near_field_isolation_db: float = DEFAULT_NEAR_FIELD_ISOLATION_DB
+    hardware: HardwareSettings | None = None
+    """``None``: ideal tees with the tee allowance (the classic model)."""
+    depth_ceiling_db: float | None = None
+    """Cap on claimed notch depth, dB; ``None``: notchkit.hardware.DEFAULT_DEPTH_CEILING_DB."""
 
     @classmethod
     def from_yaml(cls, path: str) -> Site:
