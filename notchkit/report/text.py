@@ -9,6 +9,7 @@ check) and the site.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -135,6 +136,17 @@ def _shown_path(path: object) -> str:
 
 MM_PER_IN = 25.4
 """Millimetres in an inch (exact, by the 1959 international yard)."""
+
+
+_MM = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?) mm\b")
+
+
+def lengths_in_units(text: str, units: str) -> str:
+    """A sentence written in millimetres (``30 mm``) for an inches-only plan: each length to
+    1/16 in (:func:`notchkit.cutlist.format_length`); unchanged for ``metric`` and ``both``."""
+    if units != "imperial":
+        return text
+    return _MM.sub(lambda m: format_length(float(m.group(1)) / 1000.0, "imperial"), text)
 
 
 def rate_text(m_per_mhz: float, units: str = "both") -> str:
@@ -583,7 +595,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json",
     advice = [str(a) for a in advice]
     model = getattr(d, "model", None)
     if model is not None:  # what it was verified against, the load spread, the depth ceiling
-        facts += list(model.lines)
+        facts += [lengths_in_units(line, units) for line in model.lines]
     facts += advice[:_MAX_ADVICE]
     if len(advice) > _MAX_ADVICE:
         facts.append(f"... and {len(advice) - _MAX_ADVICE} more suggestions (the plan JSON lists them all).")
