@@ -83,10 +83,7 @@ class Design:
     @property
     def where(self) -> str:
         """Where the filter goes, e.g. ``"rx filter at wx-alert"``."""
-        r = self.requirement
-        if r.radio is None:
-            return "ad-hoc filter"
-        return f"{r.side} filter at {r.radio}" if r.side else f"filter at {r.radio}"
+        return self.requirement.label
 
     @property
     def cable_note(self) -> str | None:
@@ -272,7 +269,7 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
             return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     once()
     for i, (req, cable, limits, allowances, fid) in enumerate(jobs, start=1):
-        say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
+        say(f"{fid} ({i}/{n}): {req.label}")
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                      filter_id=fid, progress=say))
         if on_design is not None:
@@ -303,7 +300,7 @@ def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress,
 
     def report(i: int, d: Design, done: int) -> None:
         req, fid = jobs[order[i]][0], jobs[order[i]][4]
-        say(f"{fid} ({done}/{len(jobs)} done): {req.side} filter at {req.radio}")
+        say(f"{fid} ({done}/{len(jobs)} done): {req.label}")
         if on_design is not None:
             on_design(order[i], d)
 

@@ -45,7 +45,23 @@ class FilterRequirement:
     power_mhz: float | None = None
     reasons: tuple[str, ...] = ()
     """Short human-readable reasons, one per notch (which threat it removes)."""
+    protects: str | None = None
+    """Whose reception the filter guards: ``"receiver"`` (its own radio's), ``"others"``
+    (other radios', from what this one sends) or ``"both"``; ``None``: not known. A
+    transceiver's one filter sits at its radio port (``side`` ``"tx"``) whatever it guards."""
     band_use: tuple[tuple[str, tuple[int, ...]], ...] = ()
     """For a radio that works several bands one at a time: (band, indices of the
     notches needed while it works that band). The one filter passes every band; a
     stub whose notch a band does not need may be switched out on that band."""
+
+    @property
+    def label(self) -> str:
+        """Where the filter goes and, at a radio port, for whom: ``rx filter at wx-alert``,
+        ``tx filter at fire-paging``, ``filter at net-70cm, for its receiver`` (a
+        transceiver's filter that guards only its own reception)."""
+        if self.radio is None:
+            return "ad-hoc filter"
+        if self.side == "tx" and self.protects in ("receiver", "both"):
+            whom = "its receiver" if self.protects == "receiver" else "its receiver and the others"
+            return f"filter at {self.radio}, for {whom}"
+        return f"{self.side} filter at {self.radio}" if self.side else f"filter at {self.radio}"

@@ -93,3 +93,23 @@ def test_threats_without_an_order_print_a_dash_not_zero(capsys):
     assert main(["survey", str(path)]) == 0
     rows = [line.split() for line in capsys.readouterr().out.splitlines() if " noise " in line]
     assert rows and all("0" not in r[r.index("noise") + 1:r.index("noise") + 2] for r in rows)
+
+
+@pytest.mark.parametrize("name", ["ridge-eoc.yaml", "hilltop-repeaters.yaml"])
+def test_a_filter_is_labelled_by_whose_reception_it_guards(name):
+    site = notchkit.load_site(SITE.parent / name)
+    sv = notchkit.survey(site)
+    seen = set()
+    for req in sv.filters:
+        victims = {t.victim for t in sv.threats if (req.radio, req.side) in t.filters}
+        own, others = req.radio in victims, bool(victims - {req.radio})
+        want = {(True, True): "both", (True, False): "receiver", (False, True): "others"}.get((own, others))
+        assert req.protects == want, req.radio
+        seen.add(want)
+        if req.side == "tx" and want == "receiver":
+            assert req.label == f"filter at {req.radio}, for its receiver"  # not "tx filter"
+        elif req.side == "tx" and want == "others":
+            assert req.label == f"tx filter at {req.radio}"
+        elif req.side == "rx":
+            assert req.label == f"rx filter at {req.radio}"
+    assert "receiver" in seen  # the examples have a transceiver whose filter guards only itself

@@ -222,6 +222,9 @@ def design_cable_name(d: Any) -> str:
 def _location(req: Any) -> str:
     if getattr(req, "radio", None):
         side = {"rx": "receiver input", "tx": "transmitter output"}.get(req.side, str(req.side))
+        if req.side == "tx" and getattr(req, "protects", None) in ("receiver", "both"):
+            side = "radio port, " + ("in its receive path" if req.protects == "receiver"
+                                     else "in its receive and transmit paths")
         return f"{req.radio} ({side})"
     return "ad-hoc design"
 
@@ -229,7 +232,7 @@ def _location(req: Any) -> str:
 def design_title(d: Any) -> str:
     req = d.requirement
     if getattr(req, "radio", None):
-        return f"{design_id(d)}: {req.side} filter at {req.radio}"
+        return f"{design_id(d)}: {getattr(req, 'label', f'{req.side} filter at {req.radio}')}"
     return f"{design_id(d)}: filter"
 
 

@@ -116,7 +116,7 @@ def survey(
         transmitters=tuple(r.name for r in site.radios if r.tx is not None),
         receivers=tuple(r.name for r in site.radios if r.rx is not None),
         threats=tuple(threats),
-        filters=build_filters(site, sa, ctx.all_feeds()),
+        filters=_with_protects(build_filters(site, sa, ctx.all_feeds()), threats),
         notes=tuple(notes),
         max_harmonic=n_harm,
         rejection_margin_db=margin,
@@ -125,6 +125,23 @@ def survey(
         left_out_worst=left_worst,
     )
 
+
+
+def _with_protects(filters: tuple[Any, ...], threats: list[Threat]) -> tuple[Any, ...]:
+    """Each filter requirement with whose reception it guards (``protects``), from the
+    threats that ask a notch of its location."""
+    own: set[tuple[str, str]] = set()
+    other: set[tuple[str, str]] = set()
+    for t in threats:
+        for loc in t.filters:
+            (own if t.victim == loc[0] else other).add(loc)
+    out = []
+    for f in filters:
+        loc = (f.radio, f.side)
+        role = {(True, True): "both", (True, False): "receiver", (False, True): "others"}.get(
+            (loc in own, loc in other))
+        out.append(dataclasses.replace(f, protects=role))
+    return tuple(out)
 
 def _default_notes(sa: SiteArrays, ctx) -> list[str]:
     """Which radios rest on the survey's documented defaults."""
