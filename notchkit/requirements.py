@@ -7,6 +7,7 @@ knows nothing else about sites.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
 
 from notchkit.site.model import Band
@@ -59,9 +60,23 @@ class FilterRequirement:
         """Where the filter goes and, at a radio port, for whom: ``rx filter at wx-alert``,
         ``tx filter at fire-paging``, ``filter at net-70cm, for its receiver`` (a
         transceiver's filter that guards only its own reception)."""
-        if self.radio is None:
-            return "ad-hoc filter"
-        if self.side == "tx" and self.protects in ("receiver", "both"):
-            whom = "its receiver" if self.protects == "receiver" else "its receiver and the others"
-            return f"filter at {self.radio}, for {whom}"
-        return f"{self.side} filter at {self.radio}" if self.side else f"filter at {self.radio}"
+        return filter_label(self.radio, self.side, self.protects)
+
+
+def guarded(radio: str | None, victims: Iterable[str]) -> str | None:
+    """Whose reception a filter at ``radio`` guards, from the victims of the threats it serves:
+    ``"receiver"``, ``"others"``, ``"both"`` or ``None`` (no threat)."""
+    names = set(victims)
+    own, others = radio in names, bool(names - {radio})
+    return {(True, True): "both", (True, False): "receiver", (False, True): "others"}.get((own, others))
+
+
+def filter_label(radio: str | None, side: str | None, protects: str | None = None) -> str:
+    """``rx filter at wx-alert``, ``tx filter at fire-paging``, ``filter at net-70cm, for its
+    receiver``: the one wording of a filter's place (design, plan, verify)."""
+    if radio is None:
+        return "ad-hoc filter"
+    if side == "tx" and protects in ("receiver", "both"):
+        whom = "its receiver" if protects == "receiver" else "its receiver and the others"
+        return f"filter at {radio}, for {whom}"
+    return f"{side} filter at {radio}" if side else f"filter at {radio}"

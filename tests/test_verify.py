@@ -334,3 +334,14 @@ def test_verify_and_recheck_results_have_a_short_repr(ridge, tmp_path):
     again = recheck(plan_path(ridge), {"F1": path})
     text = repr(again)
     assert text.startswith("<RecheckResult ") and len(text) < 3000
+
+
+def test_verify_names_the_filter_as_the_plan_does(ridge, tmp_path):
+    from notchkit.design import design
+    from notchkit.site import load_site
+
+    report = design(load_site(ROOT / "sites" / "ridge-eoc.yaml"), workers=1)
+    for fid in ("F1", "F3"):
+        rec = ridge.filter(fid)
+        res = verify(write(build(rec, seed=4), tmp_path, fid), plan_path=plan_path(ridge), filter_id=fid)
+        assert res.where == next(d.where for d in report.designs if d.id == fid)

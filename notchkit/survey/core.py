@@ -13,6 +13,7 @@ from typing import Any
 
 import numpy as np
 
+from notchkit.requirements import guarded
 from notchkit.site.model import Radio, Site
 from notchkit.survey import limits, products
 from notchkit.survey.blocking import blocking_threats
@@ -130,18 +131,12 @@ def survey(
 def _with_protects(filters: tuple[Any, ...], threats: list[Threat]) -> tuple[Any, ...]:
     """Each filter requirement with whose reception it guards (``protects``), from the
     threats that ask a notch of its location."""
-    own: set[tuple[str, str]] = set()
-    other: set[tuple[str, str]] = set()
+    victims: dict[tuple[str, str], set[str]] = {}
     for t in threats:
         for loc in t.filters:
-            (own if t.victim == loc[0] else other).add(loc)
-    out = []
-    for f in filters:
-        loc = (f.radio, f.side)
-        role = {(True, True): "both", (True, False): "receiver", (False, True): "others"}.get(
-            (loc in own, loc in other))
-        out.append(dataclasses.replace(f, protects=role))
-    return tuple(out)
+            victims.setdefault(loc, set()).add(t.victim)
+    return tuple(dataclasses.replace(f, protects=guarded(f.radio, victims.get((f.radio, f.side), ())))
+                 for f in filters)
 
 def _default_notes(sa: SiteArrays, ctx) -> list[str]:
     """Which radios rest on the survey's documented defaults."""
