@@ -35,12 +35,15 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+
 from notchkit.elements import OPEN, SHORT, element_ids, kind_of
 from notchkit.errors import DesignError
 from notchkit.filters import Filter, Stub
 from notchkit.hardware import reference_plane
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0
+from notchkit.site.model import DEFAULT_ANALYSER_MHZ
 
 MM_PER_INCH = 25.4
 """Millimetres per inch, exact (NIST SP 811)."""
@@ -98,16 +101,22 @@ class StubCut:
     trim_margin_pct: float
     electrical: tuple[ElectricalLength, ...]
     resonance_mhz: float
-    """The stub's own series resonance (input looks like a short) nearest a
-    notch: ``n c VF / (4 l)`` with n odd for an open stub, even for a shorted one."""
+    """The resonance the stub is trimmed to, ``n c VF / (4 l)``: the series resonance
+    (input looks like a short; n odd open, even shorted) nearest the notch the stub
+    exists for, or, for a stub that notches nothing by itself, its lowest; always
+    inside the analyser's range when one exists (see :func:`trim_resonance`)."""
     quarter_waves: int
     """``n`` above: how many quarter waves long the stub is at ``resonance_mhz``."""
     serves_notch_mhz: float | None
-    """The notch centre that resonance is nearest to; ``None`` without notches."""
+    """The notch centre the stub exists for; ``None`` when it notches no band by itself."""
     trim_rate_mm_per_mhz: float
     """Millimetres to cut off to raise ``resonance_mhz`` by 1 MHz (``l / f``)."""
     end: str
     dc_note: str
+    resonance_kind: str = "series"
+    """Always ``"series"``: an impedance minimum, a notch through the tee."""
+    trimmable: bool = True
+    """The trim resonance lies inside the analyser's range (else: cut to length)."""
     reference_plane: str = ""
     """Where ``cut_length_m`` is measured from (notchkit.hardware.reference_plane)."""
 
@@ -138,6 +147,8 @@ class StubCut:
             "quarter_waves": self.quarter_waves,
             "serves_notch_mhz": None if self.serves_notch_mhz is None else _f(self.serves_notch_mhz),
             "trim_rate_mm_per_mhz": _f(self.trim_rate_mm_per_mhz),
+            "resonance_kind": self.resonance_kind,
+            "trimmable": self.trimmable,
             "dc_path_to_ground": self.dc_path_to_ground,
             "end": self.end,
             "dc_note": self.dc_note,
@@ -197,6 +208,195 @@ def stub_resonance_mhz(
     return n * f1, n, target
 
 
+ANALYSER_MHZ = DEFAULT_ANALYSER_MHZ
+"""Default analyser range (site key ``allowances.analyser_lo_mhz``/``analyser_hi_mhz``)."""
+SERVES_MIN_DB = 3.0
+"""A stub that alone attenuates a notch's centre by at least this much, with a series
+resonance within :data:`SERVES_RATIO` of it, exists for that notch (the one it
+attenuates most); otherwise it is a matching or pass stub."""
+SERVES_RATIO = 1.25
+
+
+def _order_near(f1: float, target: float, parity: int, n_lo: int, n_hi: int) -> int | None:
+    """The order ``n`` of the given parity (1 odd, 0 even), ``n_lo <= n <= n_hi``,
+    whose ``n f1`` is nearest ``target`` by frequency ratio; ``None`` if none."""
+    lo = n_lo + ((parity - n_lo) % 2)
+    hi = n_hi - ((n_hi - parity) % 2)
+    if lo > hi:
+        return None
+    k = target / f1
+    best = None
+    for n in {lo, hi, *(int(math.floor(k)) + d for d in (-2, -1, 0, 1, 2))}:
+        if lo <= n <= hi and n % 2 == parity % 2:
+            score = abs(math.log(n * f1 / target))
+            if best is None or score < best[0]:
+                best = (score, n)
+    return None if best is None else best[1]
+
+
+def trim_resonance(
+    termination: str,
+    length_m: float,
+    velocity_factor: float,
+    *,
+    serves_mhz: float | None,
+    analyser_mhz: tuple[float, float] = ANALYSER_MHZ,
+) -> tuple[float, int, str, bool]:
+    """The resonance a stub is trimmed to: ``(resonance_mhz, n, kind, in_range)``.
+
+    Always a series resonance (``n`` odd for an open stub, even for a shorted one):
+    the stub's input looks like a short, a notch through the tee, which is what the
+    trimming steps measure. The stub exists for the notch at ``serves_mhz``: the
+    order nearest that notch; a stub that notches nothing by itself (``serves_mhz``
+    ``None``: it matches or passes) is trimmed at its lowest series resonance. Only
+    orders inside ``analyser_mhz`` are taken; with none in range, the lowest series
+    resonance is returned with ``in_range`` false (the stub is cut to length).
+    ``f_n = n c VF / (4 l)`` (Pozar sec. 2.3); ``kind`` is ``"series"``.
+    """
+    if not (math.isfinite(length_m) and length_m > 0):
+        raise DesignError(f"stub length_m {length_m!r} must be > 0 to have a resonance")
+    f1 = C0 * velocity_factor / (4.0 * length_m) / 1e6
+    lo, hi = analyser_mhz
+    n_lo, n_hi = max(1, int(math.ceil(lo / f1 - 1e-9))), int(math.floor(hi / f1 + 1e-9))
+    parity = 1 if termination == "open" else 0
+    first = 1 if termination == "open" else 2
+    n = None
+    if serves_mhz is not None:
+        n = _order_near(f1, float(serves_mhz), parity, n_lo, n_hi)
+    if n is None:
+        n = _order_near(f1, max(lo, first * f1), parity, n_lo, n_hi)  # the lowest in range
+    if n is not None:
+        return n * f1, n, "series", True
+    return first * f1, first, "series", False
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class LineCut:
+    """A line section between two tees: cable with a plug at each end."""
+
+    line_id: str
+    element_index: int
+    between_tees: tuple[int, int]
+    """The tees it joins, radio side first; 0 for the radio port (first) or antenna port (second)."""
+    length_m: float
+    velocity_factor: float
+    degrees_at_mhz: tuple[tuple[float, float], ...]
+    barrel: bool = False
+    """A barrel adapter (female-female) joining the two tees: no cable to cut."""
+
+    @property
+    def name(self) -> str:
+        if self.barrel:
+            return "barrel (female-female adapter, no cable)"
+        return "line section (cable, a plug at each end)"
+
+    @property
+    def where(self) -> str:
+        a, b = self.between_tees
+        return (f"between {'the radio port' if a == 0 else f'tee {a}'} and "
+                f"{'the antenna port' if b == 0 else f'tee {b}'}")
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "id": self.line_id, "element_index": self.element_index, "kind": "line", "barrel": self.barrel,
+            "name": self.name, "between_tees": list(self.between_tees),
+            "length_m": _f(self.length_m), "length_mm": _f(self.length_m * 1000.0),
+            "length_in": _f(self.length_m * 1000.0 / MM_PER_INCH),
+            "length_text": format_length(self.length_m),
+            "velocity_factor": _f(self.velocity_factor),
+            "electrical": [{"freq_mhz": _f(f), "degrees": _f(d)} for f, d in self.degrees_at_mhz],
+        }
+
+
+def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = "F1",
+              barrel_m: float = 0.0) -> tuple[LineCut, ...]:
+    """Every line section of ``filt``, radio side first, with the tees it joins; one
+    ``barrel_m`` long (within 0.1 mm) is a barrel adapter."""
+    vf = float(filt.cable.velocity_factor)
+    tee_of: dict[int, int] = {}
+    for t, idx in enumerate(filt.tees(), start=1):
+        for i in idx:
+            tee_of[i] = t
+    out = []
+    ids = element_ids(filt, filter_id)
+    for i, e in enumerate(filt.elements):
+        if isinstance(e, Stub):
+            continue
+        before = max((tee_of[j] for j in tee_of if j < i), default=0)
+        after = before + 1 if any(j > i for j in tee_of) else 0
+        out.append(LineCut(line_id=ids[i], element_index=i, between_tees=(before, after),
+                           length_m=float(e.length_m), velocity_factor=vf,
+                           degrees_at_mhz=tuple((float(f), electrical_degrees(e.length_m, f, vf))
+                                                for f in freq_mhz),
+                           barrel=barrel_m > 0 and abs(e.length_m - barrel_m) < 1e-4))
+    return tuple(out)
+
+
+def hardware_notes(filt: Filter) -> tuple[str, ...]:
+    """What joins the parts: one line per tee that carries more than one stub."""
+    out = []
+    for t, idx in enumerate(filt.tees(), start=1):
+        if len(idx) == 2:
+            out.append(f"tee {t} carries 2 stubs at one point: a cross (4-way adapter), or a second tee "
+                       f"screwed straight onto the first tee's branch; no cable between them (the "
+                       f"design assumes both stubs at one point, each with the same tee allowance)")
+        elif len(idx) > 2:
+            out.append(f"tee {t} carries {len(idx)} stubs at one point: tees screwed straight onto each "
+                       f"other's branches, no cable between them (the design assumes one point)")
+    return tuple(out)
+
+
+def buildability(filt: Filter, cuts: Sequence[StubCut], *, min_stub_cut_m: float,
+                 min_line_m: float, barrel_m: float = 0.0) -> tuple[str, ...]:
+    """Every part of the filter that breaks a buildability rule, one line each (empty: none).
+
+    Rules (docs/cutting.md): a stub's cable is at least ``min_stub_cut_m`` (a plug body
+    plus cable to finish and trim; with connector hardware the cable beyond the plug,
+    :func:`notchkit.hardware.stub_plug_m`); its trim resonance lies in the analyser's range; a
+    line section is at least ``min_line_m`` (cable with a plug at each end), or is a
+    barrel adapter (``barrel_m`` long).
+    """
+    from notchkit.hardware import stub_plug_m
+
+    plug = stub_plug_m(filt.cable)  # a hardware model's cut length includes the plug
+    out = []
+    for c in cuts:
+        if c.cut_length_m - plug < min_stub_cut_m - 1e-6:
+            out.append(f"{c.stub_id}: {format_length(c.cut_length_m - plug, 'metric')} of cable is shorter "
+                       f"than the {format_length(min_stub_cut_m, 'metric')} a stub needs (plug body and "
+                       f"cable to trim)" + (f"; its {format_length(c.cut_length_m, 'metric')} includes "
+                                            f"the plug's {plug * 1000:g} mm" if plug else ""))
+        if not c.trimmable:
+            out.append(f"{c.stub_id}: no resonance inside the analyser's range to trim it to")
+    for line in line_cuts(filt, barrel_m=barrel_m):
+        if line.length_m < min_line_m - 1e-6 and not line.barrel:
+            out.append(f"{line.line_id}: {format_length(line.length_m, 'metric')} line section is "
+                       f"shorter than a barrel and than "
+                       f"{format_length(min_line_m, 'metric')} (cable with a plug at each end)")
+    return tuple(out)
+
+
+def _serves(filt: Filter, e: Stub, notches: Sequence[float]) -> float | None:
+    """The notch centre the stub alone attenuates most (if at least SERVES_MIN_DB)."""
+    if not notches:
+        return None
+    from notchkit.filters import evaluate_batch
+    from notchkit.lines import db20
+
+    f = np.asarray(notches, dtype=float) * 1e6
+    s21, _ = evaluate_batch((e.termination,), np.array([[e.length_m]]), filt.cable, f)
+    att = -db20(s21[0])
+    f1 = C0 * float(filt.cable.velocity_factor) / (4.0 * e.length_m) / 1e6
+    parity = 1 if e.termination == "open" else 0
+    for k in np.argsort(-att, kind="stable"):
+        if att[k] < SERVES_MIN_DB:
+            break
+        n = _order_near(f1, float(notches[k]), parity, 1, 1 << 20)
+        if n is not None and abs(math.log(n * f1 / float(notches[k]))) <= math.log(SERVES_RATIO):
+            return float(notches[k])
+    return None
+
+
 def cut_list(
     filt: Filter,
     *,
@@ -204,6 +404,7 @@ def cut_list(
     pass_mhz: Sequence[float],
     trim_margin_pct: float = DEFAULT_TRIM_MARGIN_PCT,
     filter_id: str = "F1",
+    analyser_mhz: tuple[float, float] = ANALYSER_MHZ,
 ) -> tuple[StubCut, ...]:
     """The cut list of a filter: one :class:`StubCut` per stub, radio side first.
 
@@ -219,6 +420,9 @@ def cut_list(
         practice); the extra is at least 10 mm.
     filter_id : str
         Prefix of the stub ids, ``f"{filter_id}-S{n}"`` with n from 1.
+    analyser_mhz : (lo, hi)
+        The analyser's range: the trim resonance is chosen inside it
+        (:func:`trim_resonance`).
 
     Returns
     -------
@@ -260,7 +464,9 @@ def cut_list(
                 f"{allowance:.4f} m (nothing left to cut)"
             )
         extra = max(cut_m * trim_margin_pct / 100.0, MIN_TRIM_EXTRA_M)
-        res, q, served = stub_resonance_mhz(e.termination, e.length_m, vf, notches)
+        served = _serves(filt, e, notches)
+        res, q, kind, in_range = trim_resonance(e.termination, e.length_m, vf, serves_mhz=served,
+                                                analyser_mhz=analyser_mhz)
         if hasattr(filt.cable, "stub_resonance_mhz"):  # hardware / RLGC model: refine on the model
             res = filt.cable.stub_resonance_mhz(e.kind, e.length_m, res)
         elec = tuple(
@@ -287,6 +493,8 @@ def cut_list(
                 trim_rate_mm_per_mhz=1000.0 * e.length_m / res,
                 end=_end_note(e.termination, filt.cable),
                 dc_note=e.kind.dc_text,
+                resonance_kind=kind,
+                trimmable=in_range,
                 reference_plane=reference_plane(filt),
             )
         )
@@ -351,31 +559,48 @@ def format_length(m: float, units: str = "both") -> str:
     return f"{mm} ({inch})"
 
 
-def format_cut_list(cuts: Sequence[StubCut], units: str = "both") -> str:
-    """A plain-text cut list, one block per stub."""
-    lines = []
+def resonance_text(c: StubCut) -> str:
+    """``438.0000 MHz (1 x quarter wave, a notch through the tee)``: the trim target."""
+    return f"{c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave, a notch through the tee)"
+
+
+def format_cut_list(cuts: Sequence[StubCut], units: str = "both",
+                    lines: Sequence[LineCut] = (), hardware: Sequence[str] = ()) -> str:
+    """A plain-text cut list: one block per stub (first cut first), then the line sections
+    and the hardware for several stubs at one point."""
+    out = []
     for c in cuts:
-        lines.append(
-            f"{c.stub_id}  {c.termination} stub at tee {c.tee}: cut {format_length(c.cut_length_m, units)}"
-            f" (first cut {format_length(c.first_cut_m, units)}, +{c.trim_margin_pct:g} %)"
+        out.append(
+            f"{c.stub_id}  {c.termination} stub at tee {c.tee}: "
+            f"FIRST CUT {format_length(c.first_cut_m, units)}"
+            f" (+{c.trim_margin_pct:g} %), then trim to the resonance below; about "
+            f"{format_length(c.cut_length_m, units)} when done"
         )
-        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
-            lines.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
-                         f"VF {c.velocity_factor:g}")
+        if c.trimmable:
+            out.append(f"    trim to {resonance_text(c)}; {c.trim_rate_mm_per_mhz:.1f} mm per MHz raises it")
         else:
-            lines.append(
+            out.append(f"    no resonance inside the analyser's range: cut to "
+                       f"{format_length(c.cut_length_m, units)}"
+                       f" and do not trim (nearest resonance {c.resonance_mhz:.4f} MHz)")
+        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
+            out.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
+                       f"VF {c.velocity_factor:g}")
+        else:
+            out.append(
                 f"    electrical path {format_length(c.length_m, units)} incl. tee allowance "
                 f"{format_length(c.tee_allowance_m, 'metric')}, VF {c.velocity_factor:g}"
             )
         if c.reference_plane:
-            lines.append(f"    cut length measured {c.reference_plane}")
-        lines.append(
-            f"    resonance {c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave); "
-            f"trim {c.trim_rate_mm_per_mhz:.1f} mm per MHz to raise it"
-        )
+            out.append(f"    cut length measured {c.reference_plane}")
         if c.electrical:
             degs = ", ".join(f"{e.degrees:.1f} deg at {e.freq_mhz:g} MHz ({e.role})" for e in c.electrical)
-            lines.append(f"    {degs}")
-        lines.append(f"    {c.end}")
-        lines.append(f"    {c.dc_note}")
-    return "\n".join(lines)
+            out.append(f"    {degs}")
+        out.append(f"    {c.end}")
+        out.append(f"    {c.dc_note}")
+    for x in lines:
+        out.append(f"{x.line_id}  {x.name} {x.where}: "
+                   + ("no cable to cut" if x.barrel else
+                      f"CUT {format_length(x.length_m, units)} (cut to length, not trimmed)"))
+    for h in hardware:
+        out.append(f"hardware: {h}")
+    return "\n".join(out)

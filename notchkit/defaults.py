@@ -6,8 +6,8 @@ when ``XDG_CONFIG_HOME`` is unset), next to the personal cable library
 
     units: imperial            # metric | imperial | both     (plan --units)
     page_size: letter          # a4 | letter                  (plan --page-size)
-    analyser_mhz: [1, 600]     # the range your analyser sweeps: the plan flags a
-                               # trimming target outside it
+    analyser_mhz: [1, 600]     # the range your analyser sweeps (a site file's
+                               # allowances.analyser_lo_mhz/hi_mhz win over it)
     cables: ~/radio/cables.yaml  # the personal cable library (default: cables.yaml here)
 
 An option given on the command line wins over the file; the library functions
@@ -157,3 +157,22 @@ def _load(path: str, _mtime_ns: int, _size: int) -> UserDefaults:
         else:
             raise _fail(p, knode, key, "unknown key (units, page_size, analyser_mhz, cables)")
     return UserDefaults(path=p, **values)
+
+
+def with_analyser(site: Any, flag: tuple[float, float] | None,
+                  mine: tuple[float, float] | None) -> Any:
+    """``site`` with the analyser range the user chose: ``flag`` (a command-line option) wins;
+    else the site file's ``allowances.analyser_lo_mhz/hi_mhz`` when it sets them; else ``mine``
+    (the defaults file). A site whose range is the built-in default counts as not setting it."""
+    import dataclasses
+
+    from notchkit.site.model import DEFAULT_ANALYSER_MHZ
+
+    al = site.allowances
+    given = (al.analyser_lo_mhz, al.analyser_hi_mhz) != tuple(DEFAULT_ANALYSER_MHZ)
+    chosen = flag if flag is not None else (None if given else mine)
+    if chosen is None:
+        return site
+    lo, hi = chosen
+    allowances = dataclasses.replace(al, analyser_lo_mhz=lo, analyser_hi_mhz=hi)
+    return dataclasses.replace(site, allowances=allowances)

@@ -69,12 +69,43 @@ class Design:
     cuts: tuple[Any, ...] = ()
     tolerance: Any = None
     power: Any = None
+    lines: tuple[Any, ...] = ()
+    """The line sections to cut (:class:`notchkit.cutlist.LineCut`)."""
+    hardware: tuple[str, ...] = ()
+    """What joins several stubs at one point (:func:`notchkit.cutlist.hardware_notes`)."""
+    build_problems: tuple[str, ...] = ()
+    """Parts that break a buildability rule (:func:`notchkit.cutlist.buildability`)."""
+    yield_target: float = 0.9
+    """Share of simulated builds that must meet (``limits.yield_target_pct`` / 100)."""
+
+    @property
+    def meets_as_designed(self) -> bool:
+        """The nominal design meets every requirement on the dense sweep."""
+        return self.solution.meets
+
+    @property
+    def build_yield(self) -> float | None:
+        """Share of simulated builds meeting every requirement (the tolerance run)."""
+        return None if self.tolerance is None else float(self.tolerance.build_yield)
+
+    @property
+    def advice(self) -> tuple[str, ...]:
+        """The solver's advice, and what to do when the design meets but too few builds would."""
+        out = list(self.solution.advice)
+        y = self.build_yield
+        if self.solution.meets and y is not None and y < self.yield_target - 1e-12:
+            out.insert(0, _yield_advice(self))
+        out += [f"cannot be built: {x}" for x in self.build_problems]
+        return tuple(out)
     model: Any = None
     """What the filter was verified against (:class:`notchkit.hardware.ModelReport`)."""
 
     @property
     def meets(self) -> bool:
-        return self.solution.meets
+        """Meets as designed, every part can be built, and the build yield reaches its target."""
+        y = self.build_yield
+        return (self.solution.meets and not self.build_problems
+                and (y is None or y >= self.yield_target - 1e-12))
 
     @property
     def filter(self) -> Filter:
@@ -98,6 +129,21 @@ class Design:
     def to_json(self) -> dict[str, Any]:
         """This filter as JSON-ready data (one entry of the report's ``filters``)."""
         return _design_json(self)
+
+
+def _yield_advice(d: Design) -> str:
+    """Which band fails most in the simulated builds, and what helps."""
+    t = d.tolerance
+    bands = [(n.probability, f"notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz (95 % of builds reach "
+              f"{n.p05_worst_db:.1f} of {n.required_db:.1f} dB)") for n in t.notches]
+    bands += [(b.probability, f"pass band {b.lo_mhz:g}-{b.hi_mhz:g} MHz (insertion loss "
+               f"{b.nominal_worst_insertion_loss_db:.2f} of {b.max_insertion_loss_db:g} dB, SWR "
+               f"{b.nominal_worst_swr:.2f} of {b.max_swr:g} as designed)") for b in t.passes]
+    worst = min(bands, key=lambda x: x[0])
+    return (f"meets as designed, but only {100 * t.build_yield:.1f} % of simulated builds do (target "
+            f"{100 * d.yield_target:g} %): the {worst[1]} fails in {100 * (1 - worst[0]):.1f} % of builds; "
+            f"allow another stub, a lower-loss cable or a looser limit, or lower yield_target_pct if "
+            f"every filter will be swept and adjusted after assembly")
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -141,14 +187,21 @@ def design_filter(
     """Solve one requirement and add its cut list, tolerance run and power check."""
     say = progress or (lambda _m: None)
     sol = solve(req, cable=cable, limits=limits, tee_allowance_m=allowances.tee_allowance_m,
-                z_system=z_system, progress=lambda m: say(f"{filter_id}: {m}"))
+                z_system=z_system, progress=lambda m: say(f"{filter_id}: {m}"), allowances=allowances)
     cuts, tol, power = _build_checks(req, sol, limits, allowances, filter_id, z_system, tolerance_samples)
+    from notchkit.cutlist import buildability, hardware_notes, line_cuts
     from notchkit.hardware import model_report
 
+    centres = [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches] + [b.centre_mhz for b in req.pass_bands]
+    problems = buildability(sol.filter, cuts, min_stub_cut_m=allowances.min_stub_cut_m,
+                            min_line_m=allowances.min_line_m, barrel_m=allowances.barrel_m)
     model = model_report(sol.filter, [0.5 * (n.lo_mhz + n.hi_mhz) for n in req.notches],
                          [b.centre_mhz for b in req.pass_bands], z_system)
     return Design(id=filter_id, requirement=req, solution=sol, cable=cable, cuts=cuts, tolerance=tol,
-                  power=power, model=model)
+                  power=power, lines=line_cuts(sol.filter, freq_mhz=centres, filter_id=filter_id,
+                                                barrel_m=allowances.barrel_m),
+                  hardware=hardware_notes(sol.filter), build_problems=problems,
+                  yield_target=float(limits.yield_target_pct) / 100.0, model=model)
 
 
 def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
@@ -163,7 +216,9 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
         pass_mhz=[b.centre_mhz for b in req.pass_bands],
         trim_margin_pct=allowances.trim_margin_pct,
         filter_id=filter_id,
+        analyser_mhz=(allowances.analyser_lo_mhz, allowances.analyser_hi_mhz),
     )
+    trimmable = {c.element_index: c.trimmable for c in cuts}
     tol = tolerance(
         filt,
         req.notches,
@@ -176,6 +231,10 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
         max_insertion_loss_db=limits.max_insertion_loss_db,
         max_swr=limits.max_swr,
         filter_id=filter_id,
+        trimmed=[trimmable.get(i, False) for i in range(len(filt.elements))],
+        trim_step_mm=allowances.trim_step_mm,
+        trim_freq_error_pct=allowances.trim_freq_error_pct,
+        drift_pct=allowances.drift_pct,
     )
     power = None
     if req.power_w is not None and req.power_mhz is not None:
@@ -406,9 +465,7 @@ def design_request(
     if max_stubs is not None:
         if not (isinstance(max_stubs, int) and not isinstance(max_stubs, bool) and 1 <= max_stubs <= 8):
             raise DesignError(f"max_stubs {max_stubs!r} must be an integer from 1 to 8")
-        limits = Limits(max_insertion_loss_db=limits.max_insertion_loss_db, max_swr=limits.max_swr,
-                        rejection_margin_db=limits.rejection_margin_db, max_stubs=max_stubs,
-                        max_total_cable_m=limits.max_total_cable_m)
+        limits = dataclasses.replace(limits, max_stubs=max_stubs)
     bands = tuple(_band(b, "pass") for b in pass_bands)
     specs = tuple(_notch(n) for n in notches)
     cab = get_cable(cable) if isinstance(cable, str) else cable
@@ -498,6 +555,10 @@ def design_record(d: Design) -> Any:
     out: dict[str, Any] = {}
     out["cable_loss"] = {"table_mhz": None if rng is None else [_f(rng[0]), _f(rng[1])],
                          "extrapolated": note is not None, "note": note}
+    out["meets_as_designed"] = s.meets
+    out["build_yield"] = None if d.build_yield is None else _f(d.build_yield)
+    out["yield_target"] = _f(d.yield_target)
+    out["build_problems"] = list(d.build_problems)
     out["margin_db"] = _f(s.margin_db)
     out["total_cable_m"] = _f(s.total_cable_m)
     out["max_total_cable_m"] = _f(s.max_total_cable_m)
@@ -506,14 +567,23 @@ def design_record(d: Design) -> Any:
          "required": _f(x.required), "achieved": _f(x.achieved), "missing_db": _f(x.missing_db)}
         for x in s.shortfall
     ]
-    out["advice"] = list(s.advice)
+    out["advice"] = list(d.advice)
     if r.reasons:
         out["reasons"] = list(r.reasons)
     out["cut_list"] = [c.to_json() for c in d.cuts]
+    out["line_sections"] = [x.to_json() for x in d.lines]
+    out["hardware"] = list(d.hardware)
+    out["alternatives"] = [
+        {"arrangement": a.arrangement, "stubs": a.n_stubs, "total_cable_m": _f(a.total_cable_m),
+         "margin_db": _f(a.margin_db), "meets_as_designed": a.meets,
+         "build_yield": None if a.build_yield is None else _f(a.build_yield)}
+        for a in s.alternatives
+    ]
     out["tolerance"] = d.tolerance.to_json() if d.tolerance is not None else None
     out["power"] = d.power.to_json() if d.power is not None else None
     out["model"] = d.model.to_json() if d.model is not None else None
-    return filter_record(d, extra=out)
+    # the verdict: meets as designed, buildable, and the build yield at its target
+    return dataclasses.replace(filter_record(d, extra=out), meets=bool(d.meets))
 
 
 __all__ = [

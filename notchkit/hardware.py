@@ -547,6 +547,14 @@ class ModelReport:
         return self.data
 
 
+def stub_plug_m(cable: Any) -> float:
+    """Length of the plug a stub's ``length_m`` includes under ``cable``'s connector hardware,
+    metres (0 on a plain cable, where the cut length is all cable and the tee allowance is
+    added apart). A stub's own cable is its length less this."""
+    hw = getattr(cable, "hardware", None) if isinstance(cable, Model) else None
+    return hw.family.plug_mm * 1e-3 if hw is not None else 0.0
+
+
 def reference_plane(filt: Any) -> str:
     """Where every cut length of ``filt`` is measured from (stated in the cut list)."""
     hw = getattr(filt.cable, "hardware", None) if isinstance(filt.cable, Model) else None

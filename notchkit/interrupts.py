@@ -84,9 +84,21 @@ def install() -> Callable[[], None]:
         old = _signal.signal(_signal.SIGINT, _raise)
     except (ValueError, OSError):  # not the main thread: Python's own handling
         return lambda: None
+    old_hook = sys.unraisablehook
+
+    def hook(unraisable: Any) -> None:
+        # Ctrl-C that landed in a weakref callback or __del__: Python ignores the exception
+        # there and would print its traceback; it is remembered (interrupted()) instead.
+        if isinstance(unraisable.exc_type, type) and issubclass(unraisable.exc_type, KeyboardInterrupt):
+            _state["hit"] = True
+            return
+        old_hook(unraisable)
+
+    sys.unraisablehook = hook
 
     def restore() -> None:
         _signal.signal(_signal.SIGINT, old)
+        sys.unraisablehook = old_hook
 
     return restore
 

@@ -120,9 +120,8 @@ class _UnderWay:
     """
 
     def __init__(self, site: Any, *, units: str, plan_json: str, page_size: str, footer: str,
-                 images: bool, check: Any = None, analyser_mhz: tuple[float, float] | None = None) -> None:
+                 images: bool, check: Any = None) -> None:
         self.site, self.units, self.plan_json = site, units, plan_json
-        self.analyser_mhz = analyser_mhz
         self.page_size, self.footer, self.images = page_size, footer, images
         self.check = check
         self.pdf: Any = None
@@ -156,7 +155,7 @@ class _UnderWay:
             return
         self.parts[index] = part = _part(d, self.site)
         if self.pdf is not None:
-            self.pdf.filter(index, filter_text(d, self.units, self.plan_json, self.analyser_mhz), part)
+            self.pdf.filter(index, filter_text(d, self.units, self.plan_json), part)
 
 
 def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
@@ -229,7 +228,6 @@ def plan(
     units: str = "both",
     page_size: str = "a4",
     calibration: Any = (),
-    analyser_mhz: tuple[float, float] | None = None,
     progress: Any = None,
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
@@ -253,9 +251,6 @@ def plan(
     calibration : sequence of SpoolCalibration or path, optional
         Measured cable spools: first cuts and trim targets use their VF and loss
         (:mod:`notchkit.calibration`), and the plan says so.
-    analyser_mhz : (low, high), optional
-        The range the user's analyser sweeps, MHz: a trimming target outside it
-        is flagged in the trimming steps.
     progress : callable(str), optional
         Called with a short message as the work goes on (the command line shows
         it on a terminal).
@@ -281,10 +276,6 @@ def plan(
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
     page_size_in(page_size)
-    if analyser_mhz is not None:
-        lo, hi = analyser_mhz
-        if not 0.0 < lo < hi:
-            raise UsageError(f"analyser_mhz {analyser_mhz!r}: must be (low, high) MHz with 0 < low < high")
     say = progress or (lambda _m: None)
     if isinstance(site, str | os.PathLike):
         site_path = str(site)
@@ -307,7 +298,7 @@ def plan(
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
     images = html is not None or outdir is not None
     under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
-                          images=images, analyser_mhz=analyser_mhz,
+                          images=images,
                           check=lambda sv: _check_outputs(out_pdf, html, outdir, site_path, _stems(sv)))
     report = _run_design(site, under_way=under_way, progress=progress)
     sv = getattr(report, "survey", None)
@@ -320,7 +311,7 @@ def plan(
     _check_outputs(out_pdf, html, outdir, site_path, stems)
     say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
-                   plan_json=json_name, analyser_mhz=analyser_mhz)
+                   plan_json=json_name)
     parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
     pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer, under_way=under_way.pdf)
 

@@ -9,8 +9,9 @@ the same design).
 How it searches, simplest topology first:
 
 1. **One stub.** A dense 1-D scan of every length from the shortest stub that
-   can be cut (tee allowance + :data:`MIN_CUT_M`) up to :data:`STUB_SCAN_WAVELENGTHS` wavelengths at
-   the lowest band, for an open and for a shorted end, in one
+   can be made (tee allowance + ``allowances.min_stub_cut_m``, default
+   :data:`MIN_CUT_M`; and a first resonance inside the analyser's range) up to
+   :data:`STUB_SCAN_WAVELENGTHS` wavelengths at the lowest band, for an open and for a shorted end, in one
    :func:`~notchkit.filters.evaluate_batch` call each. The quarter- and
    half-wave families (open lambda/4 notches f, 3f, 5f and passes 2f, 4f;
    shorted lambda/4 passes f, 3f and notches 2f, 4f; the longer odd and even
@@ -35,10 +36,23 @@ How it searches, simplest topology first:
    each band, edge to edge (at least :data:`VERIFY_POINTS` points per band).
    ``meets`` is true only when that sweep meets every requirement.
 
-Among designs that meet: fewest stubs, then least cable (designs within
-:data:`CABLE_TIE_FRACTION` of the shortest count as equal), then most margin.
-When none meets, the one with the least violation is returned with
-``meets=False``, what is missing per band, and advice.
+5. **Build yield.** Every verified design that meets is given the share of
+   :data:`YIELD_SAMPLES` simulated builds that still meet (the trim workflow of
+   :mod:`notchkit.tolerance`: stubs trimmed to resonance, line sections cut to
+   length). When designs meet but none reaches ``limits.yield_target_pct``,
+   they are refined once more on the mean penalty over a few simulated builds
+   (:func:`_refine_robust`) before another stub is tried.
+
+Ranking (:func:`_rank_key`): robust designs (meet, and build yield at the
+target) first; then fewest stubs; then those with ``limits.margin_goal_db`` of
+notch margin (or within :data:`MARGIN_GOAL_SLACK_DB` of the most any robust
+design of as many stubs has); then least cable (within
+:data:`CABLE_TIE_FRACTION` or :data:`CABLE_TIE_M` of the shortest counts as
+equal); then most margin. Designs that meet only as designed follow, by build
+yield. When none meets, the one with the least violation is returned with
+``meets=False``, what is missing per band, and advice (naming the class of
+remedy when stubs cannot close the gap). The best few others are
+``Solution.alternatives``.
 
 Limits
 ------
@@ -46,7 +60,9 @@ Limits
 caps the cable (stub cut lengths plus line sections); when it is ``None`` the
 cap is :data:`DEFAULT_CABLE_WAVELENGTHS` wavelengths in the cable at the lowest
 band frequency. Every stub's electrical path is at least the tee allowance
-plus :data:`MIN_CUT_M`; every line section is at least :data:`MIN_LINE_M`.
+plus ``allowances.min_stub_cut_m``; every line section is at least
+``allowances.min_line_m``, or is a barrel adapter (``allowances.barrel_m``, a
+fixed length: :data:`BARREL` in the solver's kinds).
 
 References
 ----------
@@ -68,12 +84,24 @@ from notchkit.errors import DesignError
 from notchkit.filters import Filter, Line, Medium, Stub, evaluate_batch
 from notchkit.lines import C0, db20, swr_from_s11
 from notchkit.requirements import FilterRequirement, NotchSpec
-from notchkit.site.model import Band, Limits
+from notchkit.site.model import (
+    DEFAULT_MIN_LINE_M,
+    DEFAULT_MIN_STUB_CUT_M,
+    Allowances,
+    Band,
+    Limits,
+)
 
-MIN_CUT_M = 0.020
-"""Shortest cable that can be cut for a stub, beyond the tee allowance, m."""
-MIN_LINE_M = 0.050
-"""Shortest line section between two tees (two connectors and some cable), m."""
+MIN_CUT_M = DEFAULT_MIN_STUB_CUT_M
+"""Shortest cable that can be cut for a stub, beyond the tee allowance, m (the
+default of ``allowances.min_stub_cut_m``: a plug body plus cable to finish and trim)."""
+MIN_LINE_M = DEFAULT_MIN_LINE_M
+"""Shortest line section between two tees (default of ``allowances.min_line_m``), m."""
+YIELD_SAMPLES = 400
+"""Simulated builds per candidate when the solver ranks designs by build yield
+(standard error at most 2.5 %; the design's own tolerance run uses more)."""
+ALTERNATIVES = 4
+"""Alternatives reported beside the chosen design."""
 DEFAULT_CABLE_WAVELENGTHS = 3.0
 """Default cap on the filter's total cable, in wavelengths in the cable at the
 lowest band frequency (used when ``limits.max_total_cable_m`` is ``None``)."""
@@ -84,11 +112,32 @@ VERIFY_POINTS = 201
 CABLE_TIE_FRACTION = 0.10
 """Designs whose cable is within this fraction of the shortest meeting design
 (with the same number of stubs) are ranked by margin instead of by cable."""
+CABLE_TIE_M = 0.25
+"""... or within this many metres of it: a few centimetres of coax are not worth a
+worse design (common sense at UHF, where whole filters are tens of centimetres)."""
 IL_WEIGHT = 10.0
 """Weight of pass-band insertion loss against notch depth in the penalty:
 0.1 dB of excess insertion loss counts as 1 dB of missing rejection."""
+MARGIN_GOAL_SLACK_DB = 1.0
+"""Designs within this many dB of the margin goal count as reaching it (then cable decides)."""
+PASS_CUSHION_DB = 1.0
+"""Pass-band margin (normalised dB) beyond which the search and the ranking give it no
+further weight, so that the freedom goes to notch margin."""
 MAX_FREQ_RANGE = (1e3, 1e11)
 
+BARREL = "barrel"
+"""The solver's name for a line section that is a barrel adapter (fixed length
+``allowances.barrel_m``); the filter model and the cut list see a line section."""
+_THROUGH = ("line", BARREL)
+
+
+def _model_kinds(kinds: tuple[str, ...]) -> tuple[str, ...]:
+    """The kinds as the filter model knows them (a barrel is a line section)."""
+    return tuple("line" if k == BARREL else k for k in kinds)
+
+
+_MATCH_WEIGHT = 0.03  # J per dB of mean pass-band return loss (a tie-breaker for a better match)
+_PASS_SLOPE = 10.0  # weight of pass-band margin beyond PASS_CUSHION_DB
 _SOFT_K = 2.0  # sharpness of the smooth minimum, 1/dB
 _MARGIN_WEIGHT = 0.1
 _SCAN_MAX = 6000
@@ -153,6 +202,18 @@ class Shortfall:
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
+class Alternative:
+    """Another design the solver verified, for a user who weighs stubs, cable and yield."""
+
+    arrangement: str
+    n_stubs: int
+    total_cable_m: float
+    margin_db: float
+    meets: bool
+    build_yield: float | None
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
 class Solution:
     """The solver's answer for one requirement.
 
@@ -175,6 +236,11 @@ class Solution:
     z_system: float = 50.0
     max_total_cable_m: float = 0.0
     candidates_evaluated: int = 0
+    build_yield: float | None = None
+    """Solver's estimate of the share of builds meeting every requirement (``None``:
+    the design does not meet as designed)."""
+    yield_target: float = 0.9
+    alternatives: tuple[Alternative, ...] = ()
 
     @property
     def n_stubs(self) -> int:
@@ -215,8 +281,11 @@ class _Problem:
     """Everything the search needs about one requirement, precomputed."""
 
     def __init__(self, req: FilterRequirement, cable: Medium, limits: Limits,
-                 tee_allowance_m: float, z_system: float):
+                 tee_allowance_m: float, z_system: float, allowances: Allowances | None = None):
         self.req = req
+        self.allowances = allowances or Allowances(tee_allowance_m=tee_allowance_m)
+        self.yield_target = float(getattr(limits, "yield_target_pct", 90.0)) / 100.0
+        self.margin_goal = float(getattr(limits, "margin_goal_db", 15.0))
         self.cable = cable
         self.limits = limits
         self.tee = float(tee_allowance_m)
@@ -238,10 +307,25 @@ class _Problem:
             self.cable_cap = DEFAULT_CABLE_WAVELENGTHS * self.lam_low
         else:
             self.cable_cap = float(limits.max_total_cable_m)
-        self.stub_min = self.tee + MIN_CUT_M
+        # Buildable: a stub has a plug body and cable to finish and trim, and its first
+        # resonance (quarter wave) within the analyser's range; a line section is cable
+        # with a plug at each end.
+        a = self.allowances
+        # the first series resonance (open: quarter wave; shorted: half wave) below the top
+        quarter = C0 * vf / (4.0 * float(a.analyser_hi_mhz) * 1e6)
+        # with connector hardware a stub's length includes its plug (notchkit.hardware): the
+        # cable beyond the plug is what must reach min_stub_cut_m
+        from notchkit.hardware import stub_plug_m
+
+        fixed = self.tee + stub_plug_m(cable)
+        self.kind_min = {"open": max(fixed + float(a.min_stub_cut_m), quarter),
+                         "short": max(fixed + float(a.min_stub_cut_m), 2.0 * quarter)}
+        self.stub_min = min(self.kind_min.values())
+        self.line_min = float(a.min_line_m)
+        self.barrel = float(getattr(a, "barrel_m", 0.0))
         scan_top = STUB_SCAN_WAVELENGTHS * self.lam_low + self.stub_min
         self.stub_max = max(self.stub_min + 1e-3, min(self.cable_cap + self.tee, scan_top))
-        self.line_max = max(MIN_LINE_M + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
+        self.line_max = max(self.line_min + 1e-3, min(self.cable_cap, 0.75 * self.lam_low))
         self.scan = self._grid(base=2, rel=0.01, cap=12)
         self.fine = self._grid(base=3, rel=0.004, cap=21)
         self.evaluated = 0
@@ -292,7 +376,7 @@ class _Problem:
     def evaluate(self, kinds: tuple[str, ...], lengths: np.ndarray, grid: _Grid):
         lengths = np.atleast_2d(lengths)
         self.evaluated += lengths.shape[0]
-        return evaluate_batch(kinds, lengths, self.cable, grid.freq_hz, self.z_system)
+        return evaluate_batch(_model_kinds(kinds), lengths, self.cable, grid.freq_hz, self.z_system)
 
     def margins(self, s21: np.ndarray, s11: np.ndarray, grid: _Grid) -> np.ndarray:
         """Normalised margins (dB of rejection equivalent), one column per check.
@@ -316,11 +400,16 @@ class _Problem:
                 il *= IL_WEIGHT
                 np.subtract(p_rl[:, lo:hi], self.rl_req, out=m[:, col + hi - lo:col + 2 * (hi - lo)])
                 col += 2 * (hi - lo)
+            # beyond a cushion, pass-band margin counts ten times over, so that it stops
+            # binding the smallest margin: the notches' margin is what a build loses, and
+            # the search spends the freedom on it
+            pm = m[:, grid.n_notch_cols:]
+            pm += (_PASS_SLOPE - 1.0) * np.maximum(pm - PASS_CUSHION_DB, 0.0)
         return m
 
     def cable_used(self, kinds: tuple[str, ...], lengths: np.ndarray) -> np.ndarray:
         lengths = np.atleast_2d(lengths)
-        allow = np.array([0.0 if k == "line" else self.tee for k in kinds])
+        allow = np.array([0.0 if k in _THROUGH else self.tee for k in kinds])
         return np.sum(lengths - allow[None, :], axis=1)
 
     def objective(self, kinds, lengths, grid: _Grid, s21=None, s11=None):
@@ -344,6 +433,11 @@ class _Problem:
         per = np.add.reduceat(e, grid.starts, axis=1)
         soft_worst = -(zmax + np.log(np.maximum(per, 1e-300))) / k
         j = np.sum(np.logaddexp(0.0, -k * soft_worst), axis=1) / k + _MARGIN_WEIGHT * lse_all
+        n_pass = grid.pass_idx.size
+        if n_pass and _MATCH_WEIGHT:
+            # a small preference for a better match in the pass bands, up to 40 dB of return loss
+            rl = -db20(s11[:, :n_pass])
+            j -= _MATCH_WEIGHT * np.mean(np.minimum(rl, 40.0), axis=1)
         over = self.cable_used(kinds, lengths) - self.cable_cap
         j = j + 10.0 * np.logaddexp(0.0, k * over) / k
         worst = np.minimum.reduceat(m, grid.starts, axis=1)
@@ -353,8 +447,10 @@ class _Problem:
     # ---- bounds
 
     def bounds(self, kinds: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
-        lo = np.array([MIN_LINE_M if k == "line" else self.stub_min for k in kinds])
-        hi = np.array([self.line_max if k == "line" else self.stub_max for k in kinds])
+        lo = np.array([self.barrel if k == BARREL else self.line_min if k == "line" else self.kind_min[k]
+                       for k in kinds])
+        hi = np.array([self.barrel if k == BARREL else self.line_max if k == "line" else self.stub_max
+                       for k in kinds])
         return lo, hi
 
 
@@ -373,7 +469,7 @@ def _rule_seeds(p: _Problem) -> dict[str, list[float]]:
         lam = C0 * vf / (b.centre_mhz * 1e6)
         seeds["short"] += [(2 * k + 1) * lam / 4 for k in range(3)]  # shorted odd quarter waves pass
         seeds["open"] += [k * lam / 2 for k in range(1, 3)]  # open half waves pass
-    return {k: [x for x in v if p.stub_min <= x <= p.stub_max] for k, v in seeds.items()}
+    return {k: [x for x in v if p.kind_min[k] <= x <= p.stub_max] for k, v in seeds.items()}
 
 
 def _compensation_lengths(p: _Problem, b_siemens: float, kind: str, freq_hz: float) -> list[float]:
@@ -390,7 +486,7 @@ def _compensation_lengths(p: _Problem, b_siemens: float, kind: str, freq_hz: flo
     out = []
     for m in range(3):
         length = (theta + m * math.pi) / beta
-        if p.stub_min <= length <= p.stub_max:
+        if p.kind_min[kind] <= length <= p.stub_max:
             out.append(length)
     return out[:2]
 
@@ -452,9 +548,10 @@ def _scan_one_stub(p: _Problem):
     seeds = _rule_seeds(p)
     cands: list[_Cand] = []
     pool: dict[str, list[float]] = {"open": [], "short": []}
-    best_single: list[tuple[float, int, str, float]] = []  # the best resonance of each kind per notch
+    best_single: list[tuple[float, int, str, float]] = []  # the best resonance of each kind for each notch
     for kind in ("open", "short"):
         lengths = np.unique(np.r_[grid_l, seeds[kind]])
+        lengths = lengths[lengths >= p.kind_min[kind]]
         s21, s11 = p.evaluate((kind,), lengths[:, None], p.scan)
         j, viol, margin, worst = p.objective((kind,), lengths[:, None], p.scan, s21, s11)
         idx = _local_minima(j)
@@ -499,7 +596,7 @@ def _back_susceptance(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray,
     """
     rev_kinds = tuple(reversed(kinds))
     rev = np.atleast_2d(np.asarray(lengths, dtype=float))[:, ::-1]
-    _, s11 = evaluate_batch(rev_kinds, rev, p.cable, freq_hz, p.z_system)
+    _, s11 = evaluate_batch(_model_kinds(rev_kinds), rev, p.cable, freq_hz, p.z_system)
     y = (1.0 - s11) / (1.0 + s11) / p.z_system
     return y.imag
 
@@ -526,8 +623,8 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
     for b in p.passes:
         lam = C0 * vf / (b.centre_mhz * 1e6)
         d_pool += [lam / 4, lam / 2]
-    d_pool += list(np.linspace(MIN_LINE_M, 0.5 * p.lam_low, 4))
-    d_pool = sorted({round(d, 6) for d in d_pool if MIN_LINE_M <= d <= p.line_max})
+    d_pool += list(np.linspace(p.line_min, 0.5 * p.lam_low, 4))
+    d_pool = sorted({round(d, 6) for d in d_pool if p.line_min <= d <= p.line_max})
     coarse = list(np.linspace(p.stub_min, p.stub_max, 16))
     f_pass = np.array([b.centre_mhz * 1e6 for b in p.passes])
     by_topology: dict[tuple[str, ...], list[np.ndarray]] = {}
@@ -537,6 +634,9 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
         if d_pool:
             rows = np.repeat(parent.lengths[None, :], len(d_pool), axis=0)
             places.append(((*parent.kinds, "line"), np.column_stack([rows, d_pool])))
+        if p.barrel > 0:
+            # behind a barrel: the next tee as close as the hardware allows
+            places.append(((*parent.kinds, BARREL), np.column_stack([parent.lengths[None, :], [p.barrel]])))
         for base_kinds, base_rows in places:
             b_back = (_back_susceptance(p, base_kinds, base_rows, f_pass) if f_pass.size
                       else np.zeros((base_rows.shape[0], 0)))
@@ -546,6 +646,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
                     for b, f in zip(b_row, f_pass, strict=True):
                         new += _compensation_lengths(p, float(b), kind, float(f))
                     new_arr = np.round(np.asarray(new), 6)  # repeats go in the unique() below
+                    new_arr = new_arr[new_arr >= p.kind_min[kind] - 1e-6]
                     rows = np.column_stack([np.repeat(row[None, :], new_arr.size, axis=0), new_arr])
                     by_topology.setdefault((*base_kinds, kind), []).append(rows)
     out_k: list[tuple[str, ...]] = []
@@ -573,7 +674,7 @@ def _children(p: _Problem, parents: list[_Cand], pool: dict[str, list[float]]) -
 
 
 def _refine_group(p: _Problem, cands: list[_Cand], stages: tuple | None = None,
-                  first_step: float = 0.25) -> list[_Cand]:
+                  first_step: float = 0.25, objective=None) -> list[_Cand]:
     """Local refinement of candidates of one topology: a bounded pattern search.
 
     Each iteration evaluates, in one batched call for every candidate still
@@ -603,8 +704,9 @@ def _refine_group(p: _Problem, cands: list[_Cand], stages: tuple | None = None,
     step = np.full(m, first_step)
     last = np.zeros((m, n))
     n_moves = 4 * n + 2
+    penalty = objective or (lambda k, lengths, g: p.objective(k, lengths, g)[0])
     for grid, stop in stages or ((p.fine, 1e-3),):
-        jx = p.objective(kinds, x * s, grid)[0]
+        jx = penalty(kinds, x * s, grid)
         for _ in range(_REFINE_ITER):
             active = np.flatnonzero(step >= stop)
             if not active.size:
@@ -614,7 +716,7 @@ def _refine_group(p: _Problem, cands: list[_Cand], stages: tuple | None = None,
             prev = last[active][:, None, :]
             moves = np.concatenate([unit * st, prev, 2 * prev], axis=1)
             trial = np.clip(x[active][:, None, :] + moves, lo_u, hi_u)
-            j = p.objective(kinds, trial.reshape(-1, n) * s, grid)[0].reshape(active.size, n_moves)
+            j = penalty(kinds, trial.reshape(-1, n) * s, grid).reshape(active.size, n_moves)
             best = np.argmin(j, axis=1)
             jb = j[np.arange(active.size), best]
             better = jb < jx[active] - 1e-3  # dB: smaller gains do not matter
@@ -643,6 +745,55 @@ def _refine_all(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
     return [c for c in out if c is not None]
 
 
+def _build_perturbations(p: _Problem, kinds: tuple[str, ...], k: int) -> tuple[np.ndarray, np.ndarray]:
+    """``k`` builds drawn from the build model (seeded): relative and absolute length
+    errors, each (k, len(kinds)), so a build of ``x`` is ``x * (1 + rel) + abs``."""
+    a = p.allowances
+    rng = np.random.default_rng(12345)
+    n = len(kinds)
+    is_line = np.array([kd in _THROUGH for kd in kinds])
+    vf0 = float(p.cable.velocity_factor)
+    spread = a.vf_spread
+    if spread is None:
+        published = getattr(p.cable, "vf_tolerance", None)
+        spread = 0.01 if published is None else float(published)
+    read = rng.uniform(-1, 1, (k, n)) * a.trim_freq_error_pct / 100.0
+    left = rng.uniform(0, 1, (k, n)) * a.trim_step_mm * 1e-3
+    vf = vf0 + rng.uniform(-1, 1, (k, 1)) * spread
+    cut = rng.uniform(-1, 1, (k, n)) * a.cut_tolerance_mm * 1e-3
+    drift = rng.uniform(-1, 1, (k, 1)) * a.drift_pct / 100.0
+    rel = np.where(is_line[None, :], vf0 / vf - 1.0, read)
+    rel = (1.0 + rel) * (1.0 + drift) - 1.0
+    ab = np.where(is_line[None, :], cut * (vf0 / vf), left) * (1.0 + drift)
+    return rel, ab
+
+
+_ROBUST_BUILDS = 16  # builds per trial in the robust refinement
+
+
+def _refine_robust(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
+    """Refine designs that meet as designed for the build instead: the pattern search on
+    the mean penalty over :data:`_ROBUST_BUILDS` simulated builds (the same builds for
+    every trial), so it trades nominal margin for margin that survives trimming, cutting
+    and the cable's spread."""
+    out: list[_Cand] = []
+    groups: dict[tuple[str, ...], list[_Cand]] = {}
+    for c in _distinct(sorted(cands, key=lambda c: c.j), p, _REFINE_MAX):
+        groups.setdefault(c.kinds, []).append(c)
+    for kinds in sorted(groups):
+        rel, ab = _build_perturbations(p, kinds, _ROBUST_BUILDS)
+
+        def robust_j(kd, lengths, grid, rel=rel, ab=ab):
+            lengths = np.atleast_2d(lengths)
+            m = lengths.shape[0]
+            built = lengths[:, None, :] * (1.0 + rel[None]) + ab[None]
+            j = p.objective(kd, np.maximum(built.reshape(m * rel.shape[0], -1), 1e-6), grid)[0]
+            return j.reshape(m, rel.shape[0]).mean(axis=1)
+
+        out += _refine_group(p, groups[kinds], first_step=0.1, objective=robust_j)
+    return out
+
+
 def _polish(p: _Problem, cand: _Cand) -> _Cand:
     """Final polish of the chosen design: the pattern search again on the fine
     grid, from small steps down to 1e-4 rad (a fraction of a millimetre)."""
@@ -653,7 +804,7 @@ def _polish(p: _Problem, cand: _Cand) -> _Cand:
 
 
 def _filter_of(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray) -> Filter:
-    elements = tuple(Line(length_m=float(x)) if k == "line" else
+    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else
                      Stub(termination="open" if k == "open" else "short", length_m=float(x))
                      for k, x in zip(kinds, lengths, strict=True))
     return Filter(elements=elements, cable=p.cable, tee_allowance_m=p.tee)
@@ -700,11 +851,18 @@ class _Verified:
     freq: np.ndarray
     s21: np.ndarray
     s11: np.ndarray
+    build_yield: float | None = None
+    """Share of simulated builds meeting every requirement (:func:`_add_yields`)."""
+
+
+def _pass_score(m: float) -> float:
+    """A pass-band margin as the search weighs it (see :meth:`_Problem.margins`)."""
+    return m + (_PASS_SLOPE - 1.0) * max(m - PASS_CUSHION_DB, 0.0)
 
 
 def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) -> _Verified:
     filt = _filter_of(p, cand.kinds, cand.lengths)
-    s21, s11 = evaluate_batch(cand.kinds, cand.lengths[None, :], p.cable, sweep, p.z_system)
+    s21, s11 = evaluate_batch(_model_kinds(cand.kinds), cand.lengths[None, :], p.cable, sweep, p.z_system)
     s21, s11 = s21[0], s11[0]
     att = -db20(s21)
     swr = swr_from_s11(s11)
@@ -718,7 +876,7 @@ def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) ->
         rl = float(np.min(-db20(s11[sl])))
         m_il, m_rl = IL_WEIGHT * (p.il_max - float(il[i_il])), rl - p.rl_req
         viol += max(0.0, -m_il) + max(0.0, -m_rl)
-        scores += [m_il, m_rl]
+        scores += [_pass_score(m_il), _pass_score(m_rl)]
         passes.append(PassResult(lo_mhz=b.lo_mhz, hi_mhz=b.hi_mhz,
                                  worst_insertion_loss_db=float(il[i_il]),
                                  worst_insertion_loss_mhz=float(f_mhz[sl][i_il]),
@@ -741,15 +899,69 @@ def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) ->
                      viol=viol, score=min(scores) if scores else 0.0, freq=sweep, s21=s21, s11=s11)
 
 
-def _best(found: list[_Verified]) -> _Verified:
-    meeting = [v for v in found if v.meets]
-    if meeting:
-        fewest = min(len(v.filt.stubs) for v in meeting)
-        group = [v for v in meeting if len(v.filt.stubs) == fewest]
-        shortest = min(v.filt.total_cable_m for v in group)
-        near = [v for v in group if v.filt.total_cable_m <= shortest * (1 + CABLE_TIE_FRACTION) + 1e-6]
-        return max(near, key=lambda v: (v.score, -v.filt.total_cable_m))
-    return min(found, key=lambda v: (round(v.viol, 9), len(v.filt.stubs), v.filt.total_cable_m))
+def _yield(p: _Problem, filt: Filter, samples: int = YIELD_SAMPLES) -> float:
+    """Build yield of one filter under the site's build model (:mod:`notchkit.tolerance`):
+    every stub trimmed to resonance, line sections cut to length."""
+    from notchkit.tolerance import tolerance
+
+    a = p.allowances
+    t = tolerance(filt, p.notches, cut_tolerance_mm=a.cut_tolerance_mm, vf_spread=a.vf_spread,
+                  samples=samples, seed=0, z_system=p.z_system, pass_bands=p.passes,
+                  max_insertion_loss_db=p.il_max, max_swr=p.swr_max,
+                  trimmed=[k != "line" for k in filt.kinds], trim_step_mm=a.trim_step_mm,
+                  trim_freq_error_pct=a.trim_freq_error_pct, drift_pct=a.drift_pct, sensitivity=False)
+    return t.build_yield
+
+
+def _add_yields(p: _Problem, found: list[_Verified]) -> None:
+    """Give every verified design that meets nominally its build yield (once)."""
+    for v in found:
+        if v.meets and v.build_yield is None:
+            v.build_yield = _yield(p, v.filt)
+
+
+def _robust(v: _Verified, target: float) -> bool:
+    return v.meets and v.build_yield is not None and v.build_yield >= target
+
+
+def _notch_margin(v: _Verified) -> float:
+    return min((r.margin_db for r in v.notches), default=math.inf)
+
+
+def _rank_key(v: _Verified, target: float, pick: dict[int, tuple[float, float]]):
+    """Sort key, best first: robust designs (meet as designed, and build yield at the
+    target), then fewest stubs, then those with the margin goal (or the most margin any
+    robust design of as many stubs has, if less), then cable (within
+    :data:`CABLE_TIE_FRACTION` of the shortest such design counts as equal), then
+    margin; then designs that meet only as designed, by build yield; then the rest by
+    violation."""
+    n = len(v.filt.stubs)
+    cable = v.filt.total_cable_m
+    if _robust(v, target):
+        goal, shortest = pick[n]
+        has_goal = _notch_margin(v) >= goal - MARGIN_GOAL_SLACK_DB
+        near = has_goal and cable <= max(shortest * (1 + CABLE_TIE_FRACTION), shortest + CABLE_TIE_M) + 1e-6
+        return (0, n, 0 if has_goal else 1, 0 if near else 1, 0.0 if near else cable, -v.score, cable)
+    if v.meets:
+        return (1, -round(v.build_yield or 0.0, 2), n, 0, cable, -v.score, 0.0)
+    return (2, round(v.viol, 9), n, 0, cable, 0.0, 0.0)
+
+
+def _ranked(found: list[_Verified], target: float, margin_goal_db: float = 0.0) -> list[_Verified]:
+    groups: dict[int, list[_Verified]] = {}
+    for v in found:
+        if _robust(v, target):
+            groups.setdefault(len(v.filt.stubs), []).append(v)
+    pick: dict[int, tuple[float, float]] = {}
+    for n, group in groups.items():
+        goal = min(margin_goal_db, max(_notch_margin(v) for v in group))
+        pick[n] = (goal, min(v.filt.total_cable_m for v in group
+                             if _notch_margin(v) >= goal - MARGIN_GOAL_SLACK_DB))
+    return sorted(found, key=lambda v: _rank_key(v, target, pick))
+
+
+def _best(found: list[_Verified], target: float = 0.0, margin_goal_db: float = 0.0) -> _Verified:
+    return _ranked(found, target, margin_goal_db)[0]
 
 
 # ---------------------------------------------------------------- advice
@@ -792,10 +1004,35 @@ def _lower_loss_cable(cable: Medium, freq_hz: float) -> tuple[str, float, float]
     return best[0], best[1] * to_db100, own * to_db100
 
 
+STUB_CEILING_DB = (30.0, 45.0)
+"""What one stub notches at most in practice on real cable, dB (common practice): a
+notch deeper than this, or a shortfall of :data:`LARGE_SHORTFALL_DB`, calls for
+another class of remedy."""
+LARGE_SHORTFALL_DB = 10.0
+
+
+def remedy_class_advice(short: Sequence[tuple[str, float, float]]) -> str:
+    """The advice when stubs cannot do it: the classes of remedy and the stubs' ceiling.
+
+    ``short`` holds ``(band, missing_db, required_db)`` for each notch too far short.
+    """
+    lo, hi = STUB_CEILING_DB
+    where = "; ".join(f"{band} {miss:.1f} dB short of {req:.1f} dB" for band, miss, req in short)
+    return (f"more than stubs can close ({where}): one stub notches about {lo:.0f}-{hi:.0f} dB in practice, "
+            f"and each further stub adds less while the pass band pays; use another class of remedy: a "
+            f"band-pass filter or a cavity filter at the radio, more antenna spacing (vertical separation "
+            f"isolates best), or time-sharing (the two radios never on the air at once)")
+
+
 def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
     if v.meets:
         return ()
     out = []
+    beyond = [r for r in v.notches if not r.meets and (
+        -r.margin_db >= LARGE_SHORTFALL_DB or r.required_db > STUB_CEILING_DB[1] * max(1, len(v.filt.stubs)))]
+    if beyond:
+        out.append(remedy_class_advice([(f"notch {r.lo_mhz:g}-{r.hi_mhz:g} MHz", -r.margin_db, r.required_db)
+                                        for r in beyond]))
     n_stubs = len(v.filt.stubs)
     if stubs_tried >= p.limits.max_stubs:
         out.append(f"allow another stub: no design with up to {p.limits.max_stubs} stub(s) meets every "
@@ -870,6 +1107,24 @@ def check_requirement(req: FilterRequirement) -> None:
                                   f"{_mhz(b.hi_mhz)} overlaps notch {_mhz(n.lo_mhz)}-{_mhz(n.hi_mhz)} MHz")
 
 
+def _check_build_settings(limits: Limits, allowances: Allowances | None) -> None:
+    """Refuse a yield target, margin goal or build rule no design could be ranked by."""
+    checks = [("yield_target_pct", getattr(limits, "yield_target_pct", 90.0), 0.0, 100.0),
+              ("margin_goal_db", getattr(limits, "margin_goal_db", 15.0), 0.0, 200.0)]
+    if allowances is not None:
+        for name, hi in (("min_stub_cut_m", 100.0), ("min_line_m", 100.0), ("barrel_m", 10.0),
+                         ("trim_step_mm", 1000.0), ("trim_freq_error_pct", 50.0), ("drift_pct", 50.0),
+                         ("cut_tolerance_mm", 1000.0)):
+            checks.append((name, getattr(allowances, name), 0.0, hi))
+        lo, hi = allowances.analyser_lo_mhz, allowances.analyser_hi_mhz
+        if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
+            raise DesignError(f"analyser range {lo!r}-{hi!r} MHz must have 0 < analyser_lo_mhz < "
+                              f"analyser_hi_mhz")
+    for name, value, lo, hi in checks:
+        if not (isinstance(value, int | float) and math.isfinite(value) and lo <= value <= hi):
+            raise DesignError(f"{name} {value!r} must be a number from {lo:g} to {hi:g}")
+
+
 def solve(
     req: FilterRequirement,
     *,
@@ -878,8 +1133,9 @@ def solve(
     tee_allowance_m: float,
     z_system: float = 50.0,
     progress: Callable[[str], None] | None = None,
+    allowances: Allowances | None = None,
 ) -> Solution:
-    """Design the simplest stub filter that meets ``req`` on ``cable``.
+    """Design the simplest stub filter that meets ``req`` on ``cable`` and keeps meeting when built.
 
     Parameters
     ----------
@@ -898,12 +1154,17 @@ def solve(
         Port reference impedance, ohms.
     progress : callable(str), optional
         Called with a short message at each stage.
+    allowances : Allowances, optional
+        The build model and buildability rules (shortest stub and line section,
+        analyser range, trim residuals, cut tolerance, VF spread, drift);
+        default :class:`~notchkit.site.model.Allowances` with ``tee_allowance_m``.
 
     Returns
     -------
     Solution
         ``meets`` is true only when the dense verification sweep meets every
-        requirement.
+        requirement; ``build_yield`` is the share of simulated builds that do
+        (:data:`YIELD_SAMPLES` builds), ``alternatives`` the next best designs.
 
     Raises
     ------
@@ -921,9 +1182,11 @@ def solve(
     if not (limits.max_swr > 1.0 and limits.max_insertion_loss_db > 0):
         raise DesignError(f"limits: max_swr {limits.max_swr!r} must be > 1 and max_insertion_loss_db "
                           f"{limits.max_insertion_loss_db!r} must be > 0 dB")
-    p = _Problem(req, cable, limits, tee_allowance_m, z_system)
+    _check_build_settings(limits, allowances)
+    p = _Problem(req, cable, limits, tee_allowance_m, z_system, allowances)
     sweep, slices = verify_sweep_hz(req)
     say = progress or (lambda _msg: None)
+    target = p.yield_target
 
     say("1 stub: scanning lengths")
     level, pool, best_single = _scan_one_stub(p)
@@ -947,15 +1210,29 @@ def solve(
         refined = _refine_all(p, level)
         level = refined
         verified = [_verify(p, c, sweep, slices) for c in refined]
+        _add_yields(p, verified)
         found += verified
-        if any(v.meets for v in verified):
+        if any(_robust(v, target) for v in verified):
             break
-    best = _best(found)
+        if any(v.meets for v in verified):
+            # they meet as designed but too few builds would: look for a design that
+            # keeps its margin when built (same topology, robust penalty)
+            say(f"{n_stubs} stub(s): seeking margin for the build")
+            robust = [_verify(p, c, sweep, slices) for c in _refine_robust(p, [v.cand for v in verified
+                                                                               if v.meets])]
+            _add_yields(p, robust)
+            found += robust
+            if any(_robust(v, target) for v in robust):
+                break
+    best = _best(found, target, p.margin_goal)
     if best.meets or len(best.cand.kinds) <= 3:
         say("polishing the chosen design")
         polished = _verify(p, _polish(p, best.cand), sweep, slices)
-        if _best([best, polished]) is polished:
+        _add_yields(p, [polished])
+        if _best([best, polished], target, p.margin_goal) is polished:
             best = polished
+            found.append(polished)
+    alternatives = _alternatives(found, best, target, p.margin_goal)
     return Solution(
         filter=best.filt,
         meets=best.meets,
@@ -970,7 +1247,28 @@ def solve(
         z_system=p.z_system,
         max_total_cable_m=p.cable_cap,
         candidates_evaluated=p.evaluated,
+        build_yield=best.build_yield,
+        yield_target=target,
+        alternatives=alternatives,
     )
+
+
+def _alternatives(found: list[_Verified], best: _Verified, target: float,
+                  margin_goal_db: float) -> tuple[Alternative, ...]:
+    """The best few other distinct designs, in rank order."""
+    out: list[Alternative] = []
+    seen = [(best.cand.kinds, best.cand.lengths)]
+    for v in _ranked(found, target, margin_goal_db):
+        if any(k == v.cand.kinds and np.max(np.abs(x - v.cand.lengths)) < 0.005 for k, x in seen):
+            continue
+        seen.append((v.cand.kinds, v.cand.lengths))
+        out.append(Alternative(arrangement=describe(v.filt), n_stubs=len(v.filt.stubs),
+                               total_cable_m=v.filt.total_cable_m,
+                               margin_db=min((r.margin_db for r in v.notches), default=math.inf),
+                               meets=v.meets, build_yield=v.build_yield))
+        if len(out) >= ALTERNATIVES:
+            break
+    return tuple(out)
 
 
 def describe(filt: Filter) -> str:
@@ -999,6 +1297,9 @@ __all__: Sequence[str] = [
     "PassResult",
     "NotchResult",
     "Shortfall",
+    "Alternative",
+    "remedy_class_advice",
+    "STUB_CEILING_DB",
     "MIN_CUT_M",
     "MIN_LINE_M",
     "DEFAULT_CABLE_WAVELENGTHS",

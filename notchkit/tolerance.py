@@ -6,15 +6,37 @@ its requirement, and how many dB per mm each element's length is worth.
 
 Model
 -----
-Cut error
-    Each element (every stub and every line section) independently gets an
+The build workflow the plan prints: every stub is cut long, measured on an
+analyser and trimmed to its target resonance; line sections (and any stub
+whose resonance cannot be measured) are cut to length from the cable.
+
+Trimmed stubs (``trimmed``)
+    Trimming to a measured resonance takes out the cut error and the cable's
+    velocity-factor error together (the resonance depends on the electrical
+    length only). What remains is the analyser's reading of the resonance, a
+    relative error drawn uniformly within ``+-trim_freq_error_pct`` (the
+    electrical length is off by the same fraction), plus the last trim step:
+    the crew stops at or just above the target ("never trim past it"), so the
+    stub stays long by an amount drawn uniformly in ``[0, trim_step_mm]``.
+    Defaults (:data:`DEFAULT_TRIM_FREQ_ERROR_PCT`, :data:`DEFAULT_TRIM_STEP_MM`)
+    are common practice: a 101-point sweep over a +-5 % span reads a dip to
+    about 0.1 %, and the last cuts near the target are a millimetre or so.
+Cut error (untrimmed pieces)
+    Each untrimmed element (every line section, and every stub when
+    ``trimmed`` is ``None``) independently gets an
     error drawn **uniformly** within ``+-cut_tolerance_mm``: "cut within 2 mm"
     says nothing about a bell shape, so every error in the range is taken as
     equally likely (a harsher assumption than a normal of the same width).
+Drift
+    Optional: after building, every electrical length of one sample is scaled
+    by ``1 + d``, ``d`` drawn uniformly within ``+-drift_pct`` percent (the
+    dielectric's velocity factor moving with temperature or age; the same
+    for every piece of one filter). Default 0 (not modelled).
 Velocity factor
     One draw per sample, uniform within ``+-vf_spread`` (the same reel of
     cable for every piece of one filter). ``vf_spread=None`` takes the cable's
-    published ``vf_tolerance``, else 0.01.
+    published ``vf_tolerance``, else 0.01. It moves the untrimmed pieces only
+    (a trimmed stub is trimmed on the cable it is made of).
     The draws are sorted into ``VF_BINS`` equal bins across the spread; each
     bin is evaluated on the cable with the bin's centre velocity factor (same
     impedance and loss per metre), and the small rest of each draw
@@ -65,6 +87,14 @@ from notchkit.site.model import DEFAULT_MAX_INSERTION_LOSS_DB, DEFAULT_MAX_SWR, 
 
 DEFAULT_VF_SPREAD = 0.01
 """Velocity-factor spread when the cable publishes none (absolute, +-)."""
+DEFAULT_TRIM_STEP_MM = 1.0
+"""Last trim step near the target, mm: a trimmed stub stays long by up to this
+much (common practice)."""
+DEFAULT_TRIM_FREQ_ERROR_PCT = 0.1
+"""How closely the analyser reads a stub's resonance, percent (+-): one point of
+a 101-point sweep over a +-5 % span (common practice)."""
+DEFAULT_DRIFT_PCT = 0.0
+"""Drift of every electrical length after building, percent (+-); 0: not modelled."""
 SENSITIVITY_STEP_MM = 0.5
 VF_BINS = 24
 """Velocity-factor bins of a tolerance run (one batched evaluation each)."""
@@ -165,10 +195,28 @@ class Tolerance:
     passes: tuple[PassTolerance, ...]
     probability_all: float
     """Fraction of samples meeting every notch and every pass band at once."""
+    trimmed: tuple[bool, ...] = ()
+    """Per element: trimmed to resonance (``True``) or cut to length."""
+    trim_step_mm: float = 0.0
+    trim_freq_error_pct: float = 0.0
+    drift_pct: float = 0.0
+
+    @property
+    def build_yield(self) -> float:
+        """Share of simulated builds meeting every requirement (``probability_all``)."""
+        return self.probability_all
+
+    @property
+    def workflow(self) -> str:
+        """``"trimmed"`` when any element is trimmed to resonance, else ``"cut to length"``."""
+        return "trimmed" if any(self.trimmed) else "cut to length"
 
     def to_json(self) -> dict[str, Any]:
         return {
             "samples": self.samples, "seed": self.seed,
+            "workflow": self.workflow, "trimmed": list(self.trimmed),
+            "trim_step_mm": _f(self.trim_step_mm), "trim_freq_error_pct": _f(self.trim_freq_error_pct),
+            "drift_pct": _f(self.drift_pct), "build_yield": _f(self.build_yield),
             "cut_tolerance_mm": _f(self.cut_tolerance_mm), "cut_distribution": self.cut_distribution,
             "vf_nominal": _f(self.vf_nominal), "vf_spread": _f(self.vf_spread),
             "vf_distribution": self.vf_distribution,
@@ -227,8 +275,13 @@ def tolerance(
     band_points: int = 11,
     phase_step_rad: float | None = PHASE_STEP_RAD,
     filter_id: str = "F1",
+    trimmed: Sequence[bool] | None = None,
+    trim_step_mm: float = DEFAULT_TRIM_STEP_MM,
+    trim_freq_error_pct: float = DEFAULT_TRIM_FREQ_ERROR_PCT,
+    drift_pct: float = DEFAULT_DRIFT_PCT,
+    sensitivity: bool = True,
 ) -> Tolerance:
-    """Monte Carlo over cut-length error and velocity-factor spread.
+    """Monte Carlo of the build: trimmed stubs, pieces cut to length, velocity-factor spread, drift.
 
     Parameters
     ----------
@@ -257,6 +310,17 @@ def tolerance(
         ``None``: every band gets ``band_points``.
     filter_id : str
         Prefix of the element ids in the sensitivities.
+    trimmed : sequence of bool, optional
+        Per element, ``True`` where it is trimmed to its resonance on an
+        analyser; ``None``: nothing is trimmed (every piece cut to length).
+    trim_step_mm : float
+        A trimmed stub stays long by up to this much (uniform in ``[0, step]``).
+    trim_freq_error_pct : float
+        Half-width of the uniform relative error of the resonance reading, %.
+    drift_pct : float
+        Half-width of the uniform drift of every electrical length, %.
+    sensitivity : bool
+        Compute the dB-per-mm sensitivities (``False``: zeros, a little faster).
 
     Returns
     -------
@@ -278,6 +342,9 @@ def tolerance(
     npts = int(_check(band_points, "band_points", 3, 201))
     step_rad = None if phase_step_rad is None else _check(phase_step_rad, "phase_step_rad", 1e-6, 10.0)
     zs = _check(z_system, "z_system", 1e-3, 1e6)
+    step_trim = _check(trim_step_mm, "trim_step_mm", 0.0, 100.0)
+    f_err = _check(trim_freq_error_pct, "trim_freq_error_pct", 0.0, 20.0)
+    drift = _check(drift_pct, "drift_pct", 0.0, 20.0)
     notches = tuple(notches)
     pass_bands = tuple(pass_bands)
     if not notches and not pass_bands:
@@ -296,6 +363,9 @@ def tolerance(
     kinds = filt.kinds
     nominal = filt.lengths_m
     n_el = nominal.size
+    trim_mask = np.zeros(n_el, dtype=bool) if trimmed is None else np.array([bool(t) for t in trimmed])
+    if trim_mask.shape != (n_el,):
+        raise DesignError(f"trimmed: {len(trim_mask)} flags for a filter of {n_el} elements")
     rng = np.random.default_rng(seed)
     cut_err = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (tol_mm * 1e-3)
     u = rng.uniform(-1.0, 1.0, size=n_samples)
@@ -303,15 +373,26 @@ def tolerance(
     n_bins = VF_BINS if spread > 0 else 1
     bin_of = np.minimum(((u + 1.0) * 0.5 * n_bins).astype(int), n_bins - 1)
     vf_bin = vf0 + ((bin_of + 0.5) * 2.0 / n_bins - 1.0) * spread if spread > 0 else np.full(n_samples, vf0)
+    # untrimmed: the piece as cut, on this sample's cable (VF vf), expressed on the bin's cable
     drawn = np.maximum(nominal[None, :] + cut_err, 0.0) * (vf_bin / vf)[:, None]
+    if trim_mask.any():
+        # trimmed: the electrical length the analyser says is right (nominal at vf0, read
+        # within +-f_err %), plus the last step left on; on the bin's cable
+        read = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (f_err / 100.0)
+        left = rng.uniform(0.0, 1.0, size=(n_samples, n_el)) * (step_trim * 1e-3)
+        electrical = nominal[None, :] * (1.0 + read) + left
+        drawn = np.where(trim_mask[None, :], electrical * (vf_bin / vf0)[:, None], drawn)
+    if drift > 0:
+        drawn *= 1.0 + rng.uniform(-1.0, 1.0, size=(n_samples, 1)) * (drift / 100.0)
 
     # Sensitivity probes: nominal +- h on one element at a time, and the nominal itself.
     h = SENSITIVITY_STEP_MM * 1e-3
-    probes = np.repeat(nominal[None, :], 2 * n_el + 1, axis=0)
-    for j in range(n_el):
+    probes = np.repeat(nominal[None, :], 2 * n_el + 1 if sensitivity else 1, axis=0)
+    for j in range(n_el if sensitivity else 0):
         probes[2 * j, j] += h
         probes[2 * j + 1, j] = max(probes[2 * j + 1, j] - h, 0.0)
-    step_mm = (probes[0::2, :].diagonal()[:n_el] - probes[1::2, :].diagonal()[:n_el]) * 1e3
+    step_mm = (np.array([probes[2 * j, j] - probes[2 * j + 1, j] for j in range(n_el)]) * 1e3
+               if sensitivity else np.ones(n_el))
     nb, npass = len(notches), len(pass_bands)
     n_rows = n_samples + probes.shape[0]
     notch_worst = np.empty((n_rows, nb))  # worst (least) attenuation over each notch band, dB
@@ -352,7 +433,7 @@ def tolerance(
         sens = tuple(
             ElementSensitivity(
                 element_id=ids[j], element_index=j,
-                db_per_mm=float((wp[2 * j] - wp[2 * j + 1]) / (step_mm[j])),
+                db_per_mm=float((wp[2 * j] - wp[2 * j + 1]) / (step_mm[j])) if sensitivity else 0.0,
             )
             for j in range(n_el)
         )
@@ -380,16 +461,32 @@ def tolerance(
         samples=n_samples, seed=int(seed), cut_tolerance_mm=tol_mm, cut_distribution="uniform",
         vf_nominal=vf0, vf_spread=spread, vf_distribution="uniform, one draw per sample",
         notches=tuple(notch_results), passes=tuple(pass_results),
-        probability_all=float(ok_all.mean()),
+        probability_all=float(ok_all.mean()), trimmed=tuple(bool(t) for t in trim_mask),
+        trim_step_mm=step_trim if trim_mask.any() else 0.0,
+        trim_freq_error_pct=f_err if trim_mask.any() else 0.0, drift_pct=drift,
     )
+
+
+def model_text(t: Tolerance) -> str:
+    """The build model of a tolerance run in one phrase (terminal, PDF and HTML)."""
+    parts = []
+    n_trim = sum(t.trimmed)
+    if n_trim:
+        parts.append(f"{n_trim} stub(s) trimmed to resonance (reading +-{t.trim_freq_error_pct:g} %, "
+                     f"last step up to {t.trim_step_mm:g} mm long)")
+    n_cut = len(t.trimmed) - n_trim if t.trimmed else None
+    what = "every piece" if n_cut is None or not n_trim else f"{n_cut} piece(s)"
+    if n_cut is None or n_cut:
+        parts.append(f"{what} cut to length within +-{t.cut_tolerance_mm:g} mm ({t.cut_distribution}) "
+                     f"on VF {t.vf_nominal:g} +-{t.vf_spread:g}")
+    if t.drift_pct:
+        parts.append(f"drift +-{t.drift_pct:g} %")
+    return "; ".join(parts)
 
 
 def format_tolerance(t: Tolerance) -> str:
     """A few plain-text lines: probability per band and the most sensitive element."""
-    lines = [
-        f"tolerance: {t.samples} builds, cut +-{t.cut_tolerance_mm:g} mm ({t.cut_distribution}), "
-        f"VF {t.vf_nominal:g} +-{t.vf_spread:g}"
-    ]
+    lines = [f"build yield {100 * t.build_yield:.1f} % of {t.samples} simulated builds: {model_text(t)}"]
     for n in t.notches:
         top = max(n.sensitivity, key=lambda s: abs(s.db_per_mm), default=None)
         sens = f"; most sensitive {top.element_id} {top.db_per_mm:+.2f} dB/mm" if top else ""
@@ -402,5 +499,5 @@ def format_tolerance(t: Tolerance) -> str:
             f"  pass {p.lo_mhz:g}-{p.hi_mhz:g} MHz: {100 * p.probability:.1f} % of builds within "
             f"{p.max_insertion_loss_db:g} dB and SWR {p.max_swr:g}"
         )
-    lines.append(f"  all bands at once: {100 * t.probability_all:.1f} %")
+    lines.append(f"  all bands at once (build yield): {100 * t.probability_all:.1f} %")
     return "\n".join(lines)

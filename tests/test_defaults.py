@@ -116,16 +116,22 @@ def test_imperial_plan_prints_no_millimetres(ridge):
                                                                      abs=5e-4)
 
 
-def test_analyser_range_flags_targets_outside_it(ridge):
-    site, report = ridge
-    kw = dict(site=site, sv=report.survey, designs=report.designs, date="2026-01-01", version="0")
-    plain = plan_text(**kw)
-    narrow = plan_text(analyser_mhz=(1.0, 2.0), **kw)
-    n_stubs = sum(len(d.cuts) for d in report.designs)
-    flagged = [s for f in narrow.filters for s in f.trim_steps if "outside your analyser's range" in s]
-    assert len(flagged) == n_stubs
-    wide = plan_text(analyser_mhz=(0.1, 1e5), **kw)
-    assert [f.trim_steps for f in wide.filters] == [f.trim_steps for f in plain.filters]
+def test_analyser_range_precedence_flag_then_site_file_then_defaults(ridge):
+    import dataclasses
+
+    from notchkit.defaults import with_analyser
+    from notchkit.site.model import DEFAULT_ANALYSER_MHZ
+
+    site, _ = ridge
+    assert (site.allowances.analyser_lo_mhz, site.allowances.analyser_hi_mhz) == DEFAULT_ANALYSER_MHZ
+    mine = with_analyser(site, None, (1.0, 600.0)).allowances
+    assert (mine.analyser_lo_mhz, mine.analyser_hi_mhz) == (1.0, 600.0)
+    flag = with_analyser(site, (2.0, 200.0), (1.0, 600.0)).allowances
+    assert (flag.analyser_lo_mhz, flag.analyser_hi_mhz) == (2.0, 200.0)
+    own = dataclasses.replace(site, allowances=dataclasses.replace(site.allowances, analyser_hi_mhz=450.0))
+    kept = with_analyser(own, None, (1.0, 600.0)).allowances
+    assert kept.analyser_hi_mhz == 450.0
+    assert with_analyser(site, None, None) is site
 
 
 class _Tty(io.StringIO):

@@ -143,11 +143,11 @@ def test_pdf_text_has_every_cut_length_and_target_resonance(run):
     for d in res.design.designs:
         vf = d.filter.cable.velocity_factor
         for c in d.cuts:
-            assert f"CUT {format_length(c.cut_length_m, 'both')}" in text  # its cut label
-            assert format_length(c.first_cut_m, "both") in text
+            assert f"FIRST CUT {format_length(c.first_cut_m, 'both')}" in text  # its label leads with it
+            assert f"about {format_length(c.cut_length_m, 'both')}" in text
             # The printed target resonance against Pozar sec. 2.3, n c VF / (4 l), to the printed 0.1 kHz.
             expect = c.quarter_waves * C0 * vf / (4 * c.length_m) / 1e6
-            assert f"target resonance {mhz(round(expect, 4))} MHz" in text
+            assert f"trim to {mhz(round(expect, 4))} MHz" in text
             assert c.cut_length_m == pytest.approx(c.length_m - d.filter.tee_allowance_m, abs=1e-12)
 
 
@@ -190,7 +190,7 @@ def test_html_is_self_contained_and_prints_the_same_numbers(run):
     assert srcs and all(s.startswith("data:image/") for s in srcs)  # nothing to fetch
     for d in res.design.designs:
         for c in d.cuts:
-            assert f"CUT {format_length(c.cut_length_m, 'both')}" in html
+            assert f"FIRST CUT {format_length(c.first_cut_m, 'both')}" in html
             assert format_length(c.first_cut_m, "both") in html
     from notchkit.report.text import threat_groups
 
@@ -269,7 +269,7 @@ def test_letter_pages_and_metric_units(run, reuse_design, tmp_path):
                                  + expected_label_pages(n_stubs, "letter") + 1)
     text = " ".join(" ".join((p.extract_text() or "").split()) for p in reader.pages)
     for c in _cuts(res):
-        assert f"CUT {format_length(c.cut_length_m, 'metric')}" in text
+        assert f"FIRST CUT {format_length(c.first_cut_m, 'metric')}" in text
     assert not re.search(r"\d+ \d+/\d+ in\b", text)  # no inches anywhere
 
 

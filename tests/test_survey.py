@@ -63,13 +63,14 @@ def radio(name, t=None, r=None, x=0.0, h=10.0, g=0.0, **kw):
     return Radio(name=name, tx=t, rx=r, antenna=Antenna(x_m=x, height_m=h, gain_dbi=g), **kw)
 
 
-NO_CEILING = {"max_stub_rejection_db": 200.0, "max_filter_rejection_db": 200.0}
+NO_CEILING = {"max_stub_rejection_db": 200.0}
 """The mechanism tests below look at levels and notches, not at the stub ceiling
 (tests/test_survey_operating.py checks that)."""
 
 
 def site(*radios, couplings=(), **kw):
     kw.setdefault("limits", Limits(**NO_CEILING))
+    kw.setdefault("depth_ceiling_db", 200.0)  # the survey's filter ceiling is the site's depth ceiling
     return Site(name="Test Hill", cable="RG-213", radios=tuple(radios), couplings=couplings, **kw)
 
 

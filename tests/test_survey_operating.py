@@ -55,11 +55,13 @@ def interp_log(x, x0, y0, x1, y1):
     return y0 + t * (y1 - y0)
 
 
-NO_CEILING = Limits(max_stub_rejection_db=200.0, max_filter_rejection_db=200.0)
+NO_CEILING = Limits(max_stub_rejection_db=200.0)
 
 
 def mk(*radios, **kw):
-    kw.setdefault("limits", NO_CEILING)
+    if "limits" not in kw:  # no ceiling: neither per stub nor the site's depth ceiling
+        kw["limits"] = NO_CEILING
+        kw.setdefault("depth_ceiling_db", 200.0)
     return Site(name="Test Flats (fictional)", cable="RG-213", radios=tuple(radios), **kw)
 
 
@@ -401,6 +403,32 @@ def test_not_a_stub_job_asks_no_stub_and_says_what_would():
     assert only(free.threats, mechanism="harmonic").filters == (("A", "tx"),)
 
 
+def test_the_stub_ceiling_is_the_sites_depth_ceiling():
+    """One practical ceiling: the notch depth the design claims at most (depth_ceiling_db, a
+    leakage floor added in power, docs/hardware.md) is the deepest notch the survey asks of
+    stubs; a requirement above it is not a stub job, with its remedy class."""
+    from notchkit.design import design
+    from notchkit.hardware import DEFAULT_DEPTH_CEILING_DB
+
+    a = tx_radio("A", 146.52)
+    c = rx_radio("C", 439.56, x=30.0)
+    lim = Limits(max_stub_rejection_db=200.0)
+    free = survey(mk(a, c, limits=lim, depth_ceiling_db=150.0))
+    need = only(free.threats, mechanism="harmonic").required_db
+    assert need > DEFAULT_DEPTH_CEILING_DB  # the default ceiling refuses it (test above)
+    above = survey(mk(a, c, limits=lim, depth_ceiling_db=need + 5.0))
+    assert only(above.threats, mechanism="harmonic").filters == (("A", "tx"),)
+    below = survey(mk(a, c, limits=lim, depth_ceiling_db=need - 5.0))
+    h = only(below.threats, mechanism="harmonic")
+    assert h.filters == () and h.remedy.startswith("not a stub job") and h.remedy_class != "stub"
+    # every notch the survey does ask for stays within what the design may claim
+    site = mk(a, c, limits=lim, depth_ceiling_db=need + 5.0)
+    res = design(site, workers=1)
+    for d in res.designs:
+        assert d.filter.cable.depth_ceiling_db == site.depth_ceiling_db
+        assert all(n.required_db < d.filter.cable.depth_ceiling_db for n in d.requirement.notches)
+
+
 # ---------------------------------------------------------------- bad input
 
 
@@ -461,7 +489,7 @@ ROOT = __import__("pathlib").Path(__file__).resolve().parent.parent
 def test_contest_example_asks_stubs_only_for_what_stubs_can_do():
     site = load_site(ROOT / "sites" / "contest-two-position.yaml")
     res = survey(site)
-    ceiling = L.stub_ceiling_db(site.limits.max_stub_rejection_db, site.limits.max_filter_rejection_db,
+    ceiling = L.stub_ceiling_db(site.limits.max_stub_rejection_db, site.depth_ceiling_db,
                                 site.limits.max_stubs)  # fmt: skip
     above = [t for t in res.threats if t.excess_db > 0]
     assert above

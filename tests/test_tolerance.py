@@ -215,3 +215,71 @@ def _same(a, b):
         return True
     assert a == b
     return True
+
+
+# ---------------------------------------------------------------- the trim workflow
+
+
+def _lossless():
+    from notchkit.cables import Cable
+
+    return Cable(name="lossless 50", z0_ohm=50.0, velocity_factor=VF)
+
+
+def _trim_probability(required_db, read_pct, step_mm, e0):
+    """P(a trimmed lossless open quarter-wave stub still gives ``required_db`` at f0).
+
+    A shunt impedance Z on a 50-ohm line has S21 = 2Z / (2Z + Z0) (Pozar sec. 4.4,
+    table 4.2); an open stub of Z0 = 50 ohm has Z = -j Z0 cot(theta) (Pozar sec. 2.3),
+    so |S21|^2 = 4 cot^2 / (4 cot^2 + 1). With theta = (pi/2)(e/e0), e = e0(1 + d) + s,
+    it meets iff |d + s/e0| <= (2/pi) atan(c_max), c_max^2 = r / (4 (1 - r)),
+    r = 10^(-A/10). d ~ U(-read, read), s ~ U(0, step): integrated on a fine grid.
+    """
+    r = 10 ** (-required_db / 10)
+    w = 2 / np.pi * np.arctan(np.sqrt(r / (4 * (1 - r))))
+    d = np.linspace(-read_pct / 100, read_pct / 100, 2001)[:, None]
+    s = np.linspace(0, step_mm * 1e-3, 2001)[None, :] / e0
+    return float(np.mean(np.abs(d + s) <= w))
+
+
+@pytest.mark.parametrize(("required_db", "read_pct", "step_mm"), [(30.0, 1.0, 5.0), (40.0, 0.5, 2.0),
+                                                                   (25.0, 2.0, 0.0)])
+def test_trimmed_stub_matches_the_textbook_probability(required_db, read_pct, step_mm):
+    f0 = 146.0
+    e0 = C * VF / (4 * f0 * 1e6)
+    filt = _single(length=e0, cable=_lossless())
+    notch = [NotchSpec(lo_mhz=f0, hi_mhz=f0, required_db=required_db)]
+    # trimming takes out the cut error and the reel's VF error: give both absurd values
+    t = tolerance(filt, notch, cut_tolerance_mm=40.0, vf_spread=0.05, samples=20_000, seed=3, trimmed=[True],
+                  trim_step_mm=step_mm, trim_freq_error_pct=read_pct)
+    expect = _trim_probability(required_db, read_pct, step_mm, e0)
+    assert 0.05 < expect < 0.995  # the case discriminates
+    sigma = np.sqrt(expect * (1 - expect) / 20_000)
+    assert t.notches[0].probability == pytest.approx(expect, abs=4 * sigma + 0.003)
+    assert t.workflow == "trimmed" and t.build_yield == t.probability_all
+
+
+def test_untrimmed_line_sections_keep_the_cut_and_vf_errors():
+    """A line section is cut to length: its spread is the cut and the reel's VF, so the
+    same filter with its line trimmed (electrically exact) does at least as well."""
+    cable = get_cable("RG-213")
+    q = C * VF / (4 * 21.225e6)
+    filt = Filter(elements=(Stub(termination="open", length_m=3 * q), Line(length_m=2.0),
+                            Stub(termination="open", length_m=3 * q)), cable=cable, tee_allowance_m=0.03)
+    notch = [NotchSpec(lo_mhz=21.0, hi_mhz=21.45, required_db=_worst_db(filt, 21.0, 21.45) - 1.0)]
+    common = {"cut_tolerance_mm": 20.0, "vf_spread": 0.03, "samples": 3000}
+    cut = tolerance(filt, notch, trimmed=[True, False, True], **common)
+    exact = tolerance(filt, notch, trimmed=[True, True, True], trim_freq_error_pct=0.0, trim_step_mm=0.0,
+                      **common)
+    assert cut.probability_all < exact.probability_all == 1.0
+    assert cut.to_json()["trimmed"] == [True, False, True]
+    assert "1 piece(s) cut to length" in format_tolerance(cut)
+
+
+def test_drift_lowers_the_yield_of_a_narrow_margin():
+    e0 = C * VF / (4 * 146e6)
+    filt = _single(length=e0, cable=_lossless())
+    notch = [NotchSpec(lo_mhz=146.0, hi_mhz=146.0, required_db=35.0)]
+    calm = tolerance(filt, notch, samples=4000, trimmed=[True])
+    warm = tolerance(filt, notch, samples=4000, trimmed=[True], drift_pct=1.0)
+    assert warm.probability_all < calm.probability_all and warm.drift_pct == 1.0

@@ -55,7 +55,7 @@ def printed_commands(res):
             cmd, note = line.strip().split("   (", 1)
             argv = shlex.split(cmd)[2:]  # after "notchkit trim"
             target = float(re.search(r"target ([0-9.]+) MHz", note).group(1))
-            qw = int(re.search(r"(\d+) quarter waves", note).group(1))
+            qw = int(re.search(r"(\d+) quarter waves?\b", note).group(1))
             out.append((argv[argv.index("--stub") + 1], argv, target, qw))
     return out
 
@@ -118,6 +118,30 @@ def test_printed_trim_commands_give_the_true_cut(ridge, tmp_path, capsys, monkey
         assert got["too_short"] is False
 
 
+def test_printed_steps_trim_at_the_resonance_the_stub_exists_for(ridge):
+    """Each command's note names the cut list's Trim to value and the order the stub exists
+    for: the series resonance ``n c VF / (4 L)`` (Pozar sec. 2.3; n odd for an open stub,
+    even for a shorted one) nearest the notch it serves, and step 2 says to trim there."""
+    doc = read_plan(ridge.outdir / "plan.json")
+    commands = {c[0]: c for c in printed_commands(ridge)}
+    for ft, d in zip(ridge.text.filters, ridge.design.designs, strict=True):
+        assert any("resonance the stub exists for" in x and "Trim to column" in x for x in ft.trim_steps)
+        column = ft.cuts.header.index("Trim to (MHz)")
+        for c in d.cuts:
+            _, argv, target, qw = commands[c.stub_id]
+            row = next(r for r in ft.cuts.rows if r[0] == c.stub_id)
+            note = next(x for x in ft.trim_steps if f"--stub {c.stub_id} " in x)
+            assert f"Trim to {row[column]} MHz" in note  # the command's note and the column agree
+            _, rec = doc.stub(c.stub_id)
+            assert target == pytest.approx(rec.resonance_alone_mhz, rel=1e-6)  # what trim --plan reads
+            assert qw == c.quarter_waves and (qw % 2 == 1) == (c.termination == "open")
+            if c.serves_notch_mhz is not None and c.serves_notch_mhz < 900.0:
+                f1 = C * 0.66 / (4 * c.length_m) / 1e6  # RG-213's VF 0.66 (the site's cable)
+                orders = [n for n in range(qw % 2 or 2, qw + 8, 2)]
+                nearest = min(orders, key=lambda n: abs(math.log(n * f1 / c.serves_notch_mhz)))
+                assert qw == nearest, c.stub_id
+
+
 def test_the_six_quarter_wave_stub_is_not_called_too_short(ridge, tmp_path, capsys, monkeypatch):
     # Issue 14's case: a shorted stub of ridge-eoc six or more quarter waves long, measured alone.
     doc = read_plan(ridge.outdir / "plan.json")
@@ -142,10 +166,13 @@ def test_the_six_quarter_wave_stub_is_not_called_too_short(ridge, tmp_path, caps
 
 
 def test_plan_lengths_allowance_and_overrides(ridge, tmp_path, capsys, monkeypatch):
-    # F4-S2 (shorted, two quarter waves) through the tee: the electrical path is the cut cable plus
-    # the tee allowance, so scikit-rf's shunt stub is built with the bench length + allowance.
+    # A shorted stub several quarter waves long through the tee (the shortest such on the site's
+    # designs): the electrical path is the cut cable plus the tee allowance, so scikit-rf's shunt
+    # stub is built with the bench length + allowance.
     doc = read_plan(ridge.outdir / "plan.json")
-    _, stub = doc.stub("F4-S2")
+    stub = min((s for f in doc.filters for s in f.stubs if s.termination == "short" and s.quarter_waves >= 2),
+               key=lambda s: s.quarter_waves)
+    sid = stub.id
     plan = str(ridge.outdir / "plan.json")
     a = stub.length_m - stub.cut_length_m
     vf = 0.66
@@ -153,12 +180,12 @@ def test_plan_lengths_allowance_and_overrides(ridge, tmp_path, capsys, monkeypat
     f_now = stub.quarter_waves * C * vf / (4 * (stub.cut_length_m + a))
     synthesise(termination="short", ports=2, length_m=stub.cut_length_m + a, vf=vf, cable=get_cable("RG-213"),
                f_lo=f_now * 0.8, f_hi=f_now * 1.2, seed=11).write_touchstone("tee", dir=str(tmp_path))
-    base = ["tee.s2p", "--cable", "RG-213", "--plan", plan, "--stub", "F4-S2"]
+    base = ["tee.s2p", "--cable", "RG-213", "--plan", plan, "--stub", sid]
     code, out, err = run(capsys, base)
     got = json.loads(out)
     assert got["present_length_m"] == pytest.approx(stub.cut_length_m)
     assert "cut_length_m" in got["length_source"]
-    assert got["allowance_m"] == pytest.approx(a) and got["quarter_waves"] == 2
+    assert got["allowance_m"] == pytest.approx(a) and got["quarter_waves"] == stub.quarter_waves
     assert got["velocity_factor"] == pytest.approx(vf, abs=0.002)
     assert got["target_mhz"] == pytest.approx(stub.resonance_mhz)
     assert got["cut_mm"] == pytest.approx(0.0, abs=0.5)  # cut to plan with the plan's VF: on target
@@ -168,7 +195,7 @@ def test_plan_lengths_allowance_and_overrides(ridge, tmp_path, capsys, monkeypat
     code, out, err = run(capsys, [*base, "--length-m", str(given)])
     assert json.loads(out)["present_length_m"] == pytest.approx(given)
     code, out, err = run(capsys, [*base[:-1], "F9-S9"])
-    assert code == 2 and "F9-S9" in err and "F4-S2" in err
+    assert code == 2 and "F9-S9" in err and sid in err
     code, out, err = run(capsys, [*base, "--termination", "open"])
     assert code == 2 and "--termination" in err and "disagrees" in err
 

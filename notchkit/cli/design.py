@@ -46,6 +46,24 @@ def add_parser(sub) -> None:
                    help="stub cable type for --pass/--notch designs (see `notchkit cables`; default RG-213)")
     p.add_argument("--max-stubs", metavar="N", type=int, default=None,
                    help="largest number of stubs to try (default: 3)")
+    g = p.add_argument_group("ad-hoc limits, power and allowances (without a site file; the defaults "
+                             "are the site file's, docs/site-format.md)")
+    g.add_argument("--power-w", metavar="W", type=str, default=None,
+                   help="carrier power through the filter, W: adds the power check (voltage, current, heat)")
+    g.add_argument("--power-mhz", metavar="MHZ", type=str, default=None,
+                   help="carrier frequency for the power check (default: centre of the first --pass band)")
+    g.add_argument("--max-il-db", metavar="DB", type=str, default=None,
+                   help="largest pass-band insertion loss, dB (default 0.5)")
+    g.add_argument("--max-swr", metavar="X", type=str, default=None,
+                   help="largest pass-band SWR (default 1.5)")
+    g.add_argument("--yield-target-pct", metavar="PCT", type=str, default=None,
+                   help="share of simulated builds that must meet, percent (default 90)")
+    g.add_argument("--tee-allowance-mm", metavar="MM", type=str, default=None,
+                   help="electrical length of each tee and its connectors, mm of stub cable (default 30)")
+    g.add_argument("--trim-margin-pct", metavar="PCT", type=str, default=None,
+                   help="first cut this much long, percent (default 3)")
+    g.add_argument("--cut-tolerance-mm", metavar="MM", type=str, default=None,
+                   help="how close to a mark you cut, mm (default 2)")
     p.add_argument("--load", metavar="FILE", default=None,
                    help="the antenna's impedance, a .s1p or an R+jX table (freq_mhz r_ohm x_ohm); "
                         "without a site file")
@@ -98,6 +116,55 @@ def parse_notch(text: str) -> tuple[float, float, float]:
     return lo, hi, db
 
 
+_AD_HOC = ("power_w", "power_mhz", "max_il_db", "max_swr", "yield_target_pct", "tee_allowance_mm",
+           "trim_margin_pct", "cut_tolerance_mm")
+
+
+def _ranged(args, name: str, lo: float, hi: float, *, lo_open: bool = False) -> float | None:
+    text = getattr(args, name)
+    if text is None:
+        return None
+    option = "--" + name.replace("_", "-")
+    value = _number(text, option)
+    if value < lo or value > hi or (lo_open and value == lo):
+        low = f"greater than {lo:g}" if lo_open else f"from {lo:g}"
+        raise UsageError(f"{option} {text}: must be {low} {'and at most' if lo_open else 'to'} {hi:g}")
+    return value
+
+
+def ad_hoc_settings(args, passes):
+    """Limits, allowances and the power check's carrier from the ad-hoc options
+    (the site file's ranges; the defaults where an option is not given)."""
+    import dataclasses
+
+    from notchkit.site.model import MAX_FREQ_MHZ, MIN_FREQ_MHZ, Allowances, Limits
+
+    lim: dict = {}
+    alw: dict = {}
+    if (v := _ranged(args, "max_il_db", 0.0, 10.0, lo_open=True)) is not None:
+        lim["max_insertion_loss_db"] = v
+    if (v := _ranged(args, "max_swr", 1.0, 10.0, lo_open=True)) is not None:
+        lim["max_swr"] = v
+    if (v := _ranged(args, "yield_target_pct", 0.0, 100.0)) is not None:
+        lim["yield_target_pct"] = v
+    if (v := _ranged(args, "tee_allowance_mm", 0.0, 500.0)) is not None:
+        alw["tee_allowance_m"] = v / 1000.0
+    if (v := _ranged(args, "trim_margin_pct", 0.0, 25.0)) is not None:
+        alw["trim_margin_pct"] = v
+    if (v := _ranged(args, "cut_tolerance_mm", 0.0, 50.0, lo_open=True)) is not None:
+        alw["cut_tolerance_mm"] = v
+    power_w = _ranged(args, "power_w", 0.0, 100_000.0, lo_open=True)
+    power_mhz = _ranged(args, "power_mhz", MIN_FREQ_MHZ, MAX_FREQ_MHZ)
+    if power_mhz is not None and power_w is None:
+        raise UsageError("--power-mhz needs --power-w (the carrier's power)")
+    if power_w is not None and power_mhz is None:
+        power_mhz = 0.5 * (passes[0][0] + passes[0][1])
+    if args.max_stubs is not None:
+        lim["max_stubs"] = args.max_stubs
+    return (dataclasses.replace(Limits(), **lim), dataclasses.replace(Allowances(), **alw), power_w,
+            power_mhz)
+
+
 def run(args) -> int:
     from notchkit.design import design, design_request, write_touchstones
 
@@ -107,8 +174,10 @@ def run(args) -> int:
 
         check_dir_writable(args.touchstone, "--touchstone")
     if args.site is not None:
-        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or args.load:
-            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load, not both")
+        given = [n for n in _AD_HOC if getattr(args, n, None) is not None]
+        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or given or args.load:
+            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load and the "
+                             "ad-hoc limits, not both (a site file sets its limits and allowances itself)")
         from notchkit.site import load_site
 
         report = design(load_site(args.site), progress=progress, calibration=args.calibration)
@@ -128,8 +197,9 @@ def run(args) -> int:
         from notchkit.site.model import DEFAULT_CABLE
 
         cable = get_cable(args.cable or DEFAULT_CABLE)
-        report = design_request(passes, notches, cable=cable, max_stubs=args.max_stubs, progress=progress,
-                                load=args.load)
+        limits, allowances, power_w, power_mhz = ad_hoc_settings(args, passes)
+        report = design_request(passes, notches, cable=cable, limits=limits, allowances=allowances,
+                                power_w=power_w, power_mhz=power_mhz, progress=progress, load=args.load)
     if progress is not None:
         progress.done()
     written: tuple[Path, ...] = ()
@@ -166,7 +236,16 @@ def format_design(d) -> str:
 
     s = d.solution
     cab = d.cable
-    status = "meets every requirement" if s.meets else "DOES NOT MEET its requirements (best design shown)"
+    y = d.build_yield
+    yield_text = "" if y is None else f", build yield {100 * y:.1f} % (target {100 * d.yield_target:g} %)"
+    if d.meets:
+        status = "meets every requirement" + yield_text
+    elif s.meets and d.build_problems:
+        status = "meets as designed but a part cannot be built" + yield_text
+    elif s.meets:
+        status = "meets as designed but too few builds would: NOT MET" + yield_text
+    else:
+        status = "DOES NOT MEET its requirements (best design shown)"
     lines = [
         f"{d.id}: {d.where} on {getattr(cab, 'name', '?')} ({cab.z0_ohm:g} ohm, VF {cab.velocity_factor:g})"
         f" - {status}",
@@ -195,11 +274,25 @@ def format_design(d) -> str:
         lines += ["  " + x for x in model.lines]
     if d.cuts:
         lines.append("  cut list:")
-        lines += ["    " + x for x in format_cut_list(d.cuts).splitlines()]
+        text = format_cut_list(d.cuts, lines=d.lines, hardware=d.hardware)
+        lines += ["    " + x for x in text.splitlines()]
+    for problem in d.build_problems:
+        lines.append(f"  cannot be built: {problem}")
     if d.tolerance is not None:
         lines += ["  " + x for x in format_tolerance(d.tolerance).splitlines()]
     if d.power is not None:
         lines += ["  " + x for x in format_power(d.power).splitlines()]
+    if s.alternatives:
+        lines.append("  alternatives (stubs, cable, smallest notch margin, build yield):")
+        for a in s.alternatives:
+            ay = "-" if a.build_yield is None else f"{100 * a.build_yield:.0f} %"
+            tag = "" if a.meets else ", does not meet"
+            lines.append(f"    {a.n_stubs} stub(s), {a.total_cable_m:.2f} m, {a.margin_db:+.1f} dB, "
+                         f"{ay}{tag}: "
+                         f"{a.arrangement}")
+    if not d.meets and s.meets:
+        for a in d.advice:
+            lines.append(f"  advice: {a}")
     if not s.meets:
         lines.append("  what is missing:")
         for x in s.shortfall:
@@ -213,7 +306,7 @@ def format_design(d) -> str:
                 lines.append(f"    pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: SWR {x.achieved:.2f} over "
                              f"{x.required:g} "
                              f"({x.missing_db:.1f} dB of return loss short)")
-        for a in s.advice:
+        for a in d.advice:
             lines.append(f"  advice: {a}")
     note = getattr(d, "cable_note", None)
     if note:

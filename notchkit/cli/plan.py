@@ -17,7 +17,7 @@ filter's curve (PNG, CSV), its Touchstone .s2p and the plan JSON that
 
 EPILOG = """\
 exit codes: 0 every filter meets its requirements; 1 a filter does not (the plan is
-written all the same, marked DOES NOT MEET); 2 bad input or an unwritable output (nothing
+written all the same, marked NOT MET); 2 bad input or an unwritable output (nothing
 is written).
 
 Work on RF equipment can hurt: open stub ends carry high voltage at high power,
@@ -40,8 +40,8 @@ def add_parser(sub) -> None:
     p.add_argument("--page-size", choices=PAGE_SIZES, default=None,
                    help="paper size of the PDF (default: the defaults file's page_size, else a4)")
     p.add_argument("--analyser-mhz", metavar="LO-HI", default=None,
-                   help="the range your analyser sweeps: a trimming target outside it is flagged "
-                        "(default: the defaults file's analyser_mhz)")
+                   help="the range your analyser sweeps, for this plan (default: the site file's "
+                        "allowances, else the defaults file's analyser_mhz, else 0.1-900)")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type): first cuts and trim targets use its VF and loss")
@@ -61,24 +61,29 @@ def _analyser(text: str) -> tuple[float, float]:
 
 def run(args) -> int:
     from notchkit.cli.progress import terminal_progress
-    from notchkit.defaults import load_defaults
+    from notchkit.defaults import load_defaults, with_analyser
     from notchkit.plan import plan
 
     mine = load_defaults()
-    analyser = _analyser(args.analyser_mhz) if args.analyser_mhz is not None else mine.analyser_mhz
+    flag = _analyser(args.analyser_mhz) if args.analyser_mhz is not None else None
+    site = args.site
+    if flag is not None or mine.analyser_mhz is not None:
+        from notchkit.site import load_site
+
+        site = with_analyser(load_site(args.site), flag, mine.analyser_mhz)
     progress = terminal_progress()
     try:
-        result = plan(args.site, args.output, html=args.html, outdir=args.outdir,
+        result = plan(site, args.output, html=args.html, outdir=args.outdir,
                       units=args.units or mine.units or "both",
                       page_size=args.page_size or mine.page_size or "a4", calibration=args.calibration,
-                      analyser_mhz=analyser, progress=progress)
+                      progress=progress)
     finally:
         if progress is not None:
             progress.done()
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:
-        print(f"  {f.title}: {state_word(f.meets, loud=True)}")
+        print(f"  {f.title}: {state_word(f.meets, loud=True)} (build yield {f.build_yield})")
     print(f"wrote {result.pdf} ({result.pages} pages)")
     if result.html is not None:
         print(f"wrote {result.html}")

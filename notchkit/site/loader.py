@@ -340,7 +340,7 @@ SECTIONS: dict[str, dict[str, Field]] = {
         "depth_ceiling_db": Field(
             kind="number", num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
             doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
-            "default: 60 dB.",
+            "the survey asks no deeper notch of stubs (more is not a stub job); default: 60 dB.",
         ),
     },
     "transmitter": {"name": _NAME, **_FREQ_FIELDS, **_TX_FIELDS, **_RADIO_COMMON},
@@ -500,9 +500,10 @@ SECTIONS: dict[str, dict[str, Field]] = {
         "max_total_cable_m": Field(
             kind="number",
             # lo: the solver's shortest cut (notchkit.solver.MIN_CUT_M, checked by a test)
-            num=Num(lo=0.02, hi=1_000.0, unit="m", lo_open=True, length_unit_m=1.0),
+            num=Num(lo=m.DEFAULT_MIN_STUB_CUT_M, hi=1_000.0, unit="m", lo_open=True, length_unit_m=1.0),
             default=None,
-            doc="Most cable in one filter, in metres (more than the 0.02 m shortest cut); "
+            doc=f"Most cable in one filter, in metres (more than the {m.DEFAULT_MIN_STUB_CUT_M:g} m "
+            "shortest stub cut); "
             "default: no limit.",
         ),
         "max_stub_rejection_db": Field(
@@ -511,12 +512,19 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=m.DEFAULT_MAX_STUB_REJECTION_DB,
             doc="Notch depth one stub plausibly gives, in dB.",
         ),
-        "max_filter_rejection_db": Field(
+        "yield_target_pct": Field(
             kind="number",
-            num=Num(lo=1.0, hi=200.0, unit="dB"),
-            default=m.DEFAULT_MAX_FILTER_REJECTION_DB,
-            doc="Deepest notch asked of a stub filter, in dB; a threat needing more is "
-            "reported as not a stub job.",
+            num=Num(lo=0.0, hi=100.0, unit="%"),
+            default=m.DEFAULT_YIELD_TARGET_PCT,
+            doc="Share of simulated builds (the build model of docs/design.md) a filter must meet "
+            "its requirements in, in percent.",
+        ),
+        "margin_goal_db": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=60.0, unit="dB"),
+            default=m.DEFAULT_MARGIN_GOAL_DB,
+            doc="Notch margin the solver prefers (before less cable) among designs at the yield "
+            "target, in dB.",
         ),
     },
     "allowances": {
@@ -544,6 +552,55 @@ SECTIONS: dict[str, dict[str, Field]] = {
             default=None,
             doc="Velocity-factor spread for tolerance runs; default: the cable's published "
             "tolerance, else 0.01.",
+        ),
+        "trim_step_mm": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=50.0, unit="mm", length_unit_m=0.001),
+            default=m.DEFAULT_TRIM_STEP_MM,
+            doc="Last trim step near a stub's target resonance, in millimetres.",
+        ),
+        "trim_freq_error_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=10.0, unit="%"),
+            default=m.DEFAULT_TRIM_FREQ_ERROR_PCT,
+            doc="How closely the analyser reads a stub's resonance, in percent (+-).",
+        ),
+        "drift_pct": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=10.0, unit="%"),
+            default=m.DEFAULT_DRIFT_PCT,
+            doc="Drift of every electrical length after building (temperature, age), in percent (+-).",
+        ),
+        "min_stub_cut_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=2.0, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_MIN_STUB_CUT_M,
+            doc="Shortest stub cable that can be made (plug body plus cable to finish and trim), in metres.",
+        ),
+        "min_line_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=2.0, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_MIN_LINE_M,
+            doc="Shortest line section of cable between two tees (a plug at each end), in metres.",
+        ),
+        "barrel_m": Field(
+            kind="number",
+            num=Num(lo=0.0, hi=0.5, unit="m", length_unit_m=1.0),
+            default=m.DEFAULT_BARREL_M,
+            doc="Electrical length between two tees joined by a barrel adapter, in metres; 0: never "
+            "use one.",
+        ),
+        "analyser_lo_mhz": Field(
+            kind="number",
+            num=_FREQ,
+            default=m.DEFAULT_ANALYSER_MHZ[0],
+            doc="Lowest frequency of the analyser stubs are trimmed on, in MHz.",
+        ),
+        "analyser_hi_mhz": Field(
+            kind="number",
+            num=_FREQ,
+            default=m.DEFAULT_ANALYSER_MHZ[1],
+            doc="Highest frequency of the analyser stubs are trimmed on, in MHz.",
         ),
     },
     "hardware": {
@@ -1371,6 +1428,19 @@ class _Builder:
             return d["band_mhz"][0], True
         return None, self._bad_key(node, ("freq_mhz", "band_mhz"))
 
+    def analyser_range(self, top: dict) -> None:
+        """The analyser's range must be a range: ``analyser_lo_mhz < analyser_hi_mhz``."""
+        if "allowances" not in top or not isinstance(top["allowances"][0], dict):
+            return
+        a = top["allowances"][0]
+        lo = _val(a, "analyser_lo_mhz", m.DEFAULT_ANALYSER_MHZ[0])
+        hi = _val(a, "analyser_hi_mhz", m.DEFAULT_ANALYSER_MHZ[1])
+        if isinstance(lo, int | float) and isinstance(hi, int | float) and not lo < hi:
+            key = "analyser_hi_mhz" if "analyser_hi_mhz" in a else "analyser_lo_mhz"
+            self.r.add(a[key][1], _join("allowances", key),
+                       f"analyser range {lo:g}-{hi:g} MHz is empty (allowed: analyser_lo_mhz below "
+                       f"analyser_hi_mhz)")
+
     def missing_freq(self, node: yaml.Node, path: str, where: str = "") -> None:
         self.r.add(
             node,
@@ -1577,6 +1647,7 @@ class _Builder:
         cables = self.cables(top)
         self.resolve_cables()
         couplings = self.couplings(top)
+        self.analyser_range(top)
         self.derived(top, radios, site_cable)
         scenarios = self.scenarios(top)
         hardware = self.hardware(top)

@@ -37,13 +37,36 @@ DEFAULT_RECEIVER_CLASS = "mobile"
 level stays the flat default unless a class or table is given)."""
 DEFAULT_MAX_STUBS = 3
 DEFAULT_CUT_TOLERANCE_MM = 2.0
+DEFAULT_YIELD_TARGET_PCT = 90.0
+"""Share of simulated builds a filter must meet its requirements in (docs/design.md)."""
+DEFAULT_MARGIN_GOAL_DB = 15.0
+"""Notch margin the solver prefers among designs that reach the yield target, dB (a
+design choice: margin for what the build model leaves out, such as tee and connector
+parasitics, weather and ageing; a notch measured on the bench is often 10-20 dB
+shallower than a model's, common practice, from memory)."""
+DEFAULT_TRIM_STEP_MM = 1.0
+"""Last trim step near the target: a trimmed stub stays long by up to this (common practice)."""
+DEFAULT_TRIM_FREQ_ERROR_PCT = 0.1
+"""How closely the analyser reads a resonance, +-percent: one point of a 101-point
+sweep over a +-5 % span (common practice)."""
+DEFAULT_DRIFT_PCT = 0.0
+"""Drift of every electrical length after building, +-percent; 0: not modelled."""
+DEFAULT_MIN_STUB_CUT_M = 0.070
+"""Shortest stub cable that can be made: a plug body (about 40 mm for a PL-259 or
+N plug, from memory) plus 30 mm to finish the end and trim (common practice)."""
+DEFAULT_MIN_LINE_M = 0.100
+"""Shortest line section: a piece of cable with a plug at each end, two plug
+bodies plus 20 mm of cable (common practice); anything shorter is a barrel."""
+DEFAULT_BARREL_M = 0.050
+"""Electrical length between two tees joined by a barrel adapter (female-female):
+the barrel, about 25-40 mm for UHF or N, plus the tees' through halves (from
+memory); 0: the solver never uses one."""
+DEFAULT_ANALYSER_MHZ = (0.1, 900.0)
+"""Range of the analyser stubs are trimmed on: that of the common low-cost hobby
+vector network analysers (common practice, from memory)."""
 DEFAULT_MAX_STUB_REJECTION_DB = 40.0
 """Notch depth one coax stub plausibly gives at a site, dB (common practice: 30-45 dB,
 less with lossy cable or a wide notch band)."""
-DEFAULT_MAX_FILTER_REJECTION_DB = 60.0
-"""Practical ceiling of a stub filter, dB (common practice: leakage around tees and
-connectors and cable loss keep a real stub filter near 60 dB); a threat needing
-more is reported as not a stub job, with its remedy class."""
 DEFAULT_CABLE = "RG-213"
 """Stub cable when a site file names none: a common 50-ohm solid-PE cable."""
 
@@ -281,8 +304,11 @@ class Limits:
     rejection_margin_db: float = DEFAULT_REJECTION_MARGIN_DB
     max_stubs: int = DEFAULT_MAX_STUBS
     max_total_cable_m: float | None = None
+    yield_target_pct: float = DEFAULT_YIELD_TARGET_PCT
+    """A filter meets only when this share of simulated builds meets (docs/design.md)."""
+    margin_goal_db: float = DEFAULT_MARGIN_GOAL_DB
+    """Notch margin preferred among designs at the yield target (before less cable)."""
     max_stub_rejection_db: float = DEFAULT_MAX_STUB_REJECTION_DB
-    max_filter_rejection_db: float = DEFAULT_MAX_FILTER_REJECTION_DB
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -295,6 +321,14 @@ class Allowances:
     vf_spread: float | None = None
     """Velocity-factor spread for tolerance runs; ``None``: the cable's published
     tolerance, else 0.01."""
+    trim_step_mm: float = DEFAULT_TRIM_STEP_MM
+    trim_freq_error_pct: float = DEFAULT_TRIM_FREQ_ERROR_PCT
+    drift_pct: float = DEFAULT_DRIFT_PCT
+    min_stub_cut_m: float = DEFAULT_MIN_STUB_CUT_M
+    min_line_m: float = DEFAULT_MIN_LINE_M
+    barrel_m: float = DEFAULT_BARREL_M
+    analyser_lo_mhz: float = DEFAULT_ANALYSER_MHZ[0]
+    analyser_hi_mhz: float = DEFAULT_ANALYSER_MHZ[1]
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)

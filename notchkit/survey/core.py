@@ -340,7 +340,7 @@ class _Ctx:
         self.margin = margin
         lim = sa.physical.limits
         self.ceiling = limits.stub_ceiling_db(
-            lim.max_stub_rejection_db, lim.max_filter_rejection_db, lim.max_stubs
+            lim.max_stub_rejection_db, getattr(sa.physical, "depth_ceiling_db", None), lim.max_stubs
         )
         self.names = sa.names
         self.d = np.hypot(

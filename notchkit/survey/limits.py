@@ -206,9 +206,18 @@ SPACING_PLUS_DB = 30.0
 practice: separation can buy a few tens of dB; beyond that, time-sharing)."""
 
 
-def stub_ceiling_db(max_stub_rejection_db: float, max_filter_rejection_db: float, max_stubs: int) -> float:
-    """The deepest notch a stub filter is asked for: min(filter ceiling, per-stub x stubs)."""
-    return min(float(max_filter_rejection_db), float(max_stub_rejection_db) * int(max_stubs))
+def stub_ceiling_db(max_stub_rejection_db: float, depth_ceiling_db: float | None, max_stubs: int) -> float:
+    """The deepest notch a stub filter is asked for: min(depth ceiling, per-stub x stubs).
+
+    ``depth_ceiling_db`` is the site's (``depth_ceiling_db``, None: the default of
+    :data:`notchkit.hardware.DEFAULT_DEPTH_CEILING_DB`): the same figure caps every notch
+    the design claims, so a requirement above it is one no design can reach.
+    """
+    if depth_ceiling_db is None:
+        from notchkit.hardware import DEFAULT_DEPTH_CEILING_DB
+
+        depth_ceiling_db = DEFAULT_DEPTH_CEILING_DB
+    return min(float(depth_ceiling_db), float(max_stub_rejection_db) * int(max_stubs))
 
 
 def remedy_class(required_db: float, ceiling_db: float, freq_mhz: float) -> str:
