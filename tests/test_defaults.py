@@ -103,6 +103,7 @@ def test_imperial_plan_prints_no_millimetres(ridge):
     for f in text.filters:
         words += [*f.facts, *f.tolerance, *f.trim_steps, *f.stub_labels, *f.cuts.header]
         words += [cell for row in f.cuts.rows for cell in row]
+    words += [line for tag in text.tags for line in tag.lines]
     joined = "\n".join(words)
     assert not re.search(r"\bmm\b", joined), [w for w in words if re.search(r"\bmm\b", w)]
     assert "in/MHz" in joined

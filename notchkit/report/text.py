@@ -697,7 +697,8 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
         for c in d.cuts:
             if getattr(c, "trimmable", True):
                 trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz (the notch)",
-                        f"about {format_length(c.cut_length_m, units)}; {c.trim_rate_mm_per_mhz:.1f} mm/MHz")
+                        f"about {format_length(c.cut_length_m, units)}; "
+                        f"{rate_text(c.trim_rate_mm_per_mhz / 1000.0, units)}")
             else:
                 trim = ("do not trim (no resonance in the analyser's range)",
                         f"cut to {format_length(c.cut_length_m, units)}")
