@@ -19,6 +19,7 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.errors import UsageError
+from notchkit.report.summary import summary_html, summary_repr
 
 UNITS = ("metric", "imperial", "both")
 PAGE_SIZES = ("a4", "letter")
@@ -33,6 +34,9 @@ class PlanResult:
     ``meets`` is true only when every designed filter meets its requirements;
     the command line exits 1 otherwise (the plan is written all the same).
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site_name: str
     date: str
@@ -91,16 +95,16 @@ def _stems(sv: Any) -> list[str]:
 
     from notchkit.design import touchstone_name
 
-    return [touchstone_name(SimpleNamespace(id=f"F{i}", requirement=req)).removesuffix(".s2p")
-            for i, req in enumerate(sv.filters, start=1)]
+    stand_ins: list[Any] = [SimpleNamespace(id=f"F{i}", requirement=r) for i, r in enumerate(sv.filters, 1)]
+    return [touchstone_name(d).removesuffix(".s2p") for d in stand_ins]
 
 
-def _run_design(site: Any, under_way: _UnderWay | None = None) -> Any:
+def _run_design(site: Any, under_way: _UnderWay | None = None, progress: Any = None) -> Any:
     from notchkit.design import design
 
     if under_way is None:
-        return design(site)
-    return design(site, meanwhile=under_way.start, on_design=under_way.add)
+        return design(site, progress=progress)
+    return design(site, progress=progress, meanwhile=under_way.start, on_design=under_way.add)
 
 
 class _UnderWay:
@@ -224,6 +228,7 @@ def plan(
     units: str = "both",
     page_size: str = "a4",
     calibration: Any = (),
+    progress: Any = None,
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
 
@@ -246,6 +251,9 @@ def plan(
     calibration : sequence of SpoolCalibration or path, optional
         Measured cable spools: first cuts and trim targets use their VF and loss
         (:mod:`notchkit.calibration`), and the plan says so.
+    progress : callable(str), optional
+        Called with a short message as the work goes on (the command line shows
+        it on a terminal).
 
     Returns
     -------
@@ -268,6 +276,7 @@ def plan(
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
     page_size_in(page_size)
+    say = progress or (lambda _m: None)
     if isinstance(site, str | os.PathLike):
         site_path = str(site)
         _check_outputs(out_pdf, html, outdir, site_path)
@@ -291,7 +300,7 @@ def plan(
     under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
                           images=images,
                           check=lambda sv: _check_outputs(out_pdf, html, outdir, site_path, _stems(sv)))
-    report = _run_design(site, under_way=under_way)
+    report = _run_design(site, under_way=under_way, progress=progress)
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
@@ -300,6 +309,7 @@ def plan(
     designs = _designs(report)
     stems = [_stem_of(d) for d in designs]
     _check_outputs(out_pdf, html, outdir, site_path, stems)
+    say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
                    plan_json=json_name)
     parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
@@ -309,6 +319,8 @@ def plan(
     if html is not None or outdir is not None:
         from notchkit.design import touchstone_sweep_hz
         from notchkit.parallel import fork_map
+
+        say("drawing the images")
 
         jobs = []
         for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
@@ -320,14 +332,14 @@ def plan(
                               _stem_of(d))
             jobs.append((filt, curve, spans, ft, touchstone))
         made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
-    images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
+    pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
 
     # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
     writes: list[tuple[Any, bytes, str]] = [(out_pdf, pdf_bytes, "PDF")]
     if html is not None:
         from notchkit.report.html import render_html
 
-        writes.append((html, render_html(pt, images, footer=footer).encode("utf-8"), "HTML"))
+        writes.append((html, render_html(pt, pngs, footer=footer).encode("utf-8"), "HTML"))
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
     n_before = len(writes)
     if outdir is not None:

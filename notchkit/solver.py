@@ -565,7 +565,7 @@ def _scan_one_stub(p: _Problem):
     seeds = _rule_seeds(p)
     cands: list[_Cand] = []
     pool: dict[str, list[float]] = {"open": [], "short": []}
-    best_single: list[tuple[str, float]] = []  # the best resonance of each kind for each notch
+    best_single: list[tuple[float, int, str, float]] = []  # the best resonance of each kind for each notch
     for kind in ("open", "short"):
         lengths = np.unique(np.r_[grid_l, seeds[kind]])
         lengths = lengths[lengths >= p.kind_min[kind]]
@@ -876,7 +876,8 @@ def _polish(p: _Problem, cand: _Cand) -> _Cand:
 
 
 def _filter_of(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray) -> Filter:
-    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else Stub(termination=k, length_m=float(x))
+    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else
+                     Stub(termination="open" if k == "open" else "short", length_m=float(x))
                      for k, x in zip(kinds, lengths, strict=True))
     return Filter(elements=elements, cable=p.cable, tee_allowance_m=p.tee)
 
@@ -1049,11 +1050,11 @@ def _shortfalls(v: _Verified, p: _Problem) -> tuple[Shortfall, ...]:
             rl = -20.0 * math.log10((r.worst_swr - 1.0) / (r.worst_swr + 1.0))
             out.append(Shortfall(band="pass", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="swr",
                                  required=r.max_swr, achieved=r.worst_swr, missing_db=p.rl_req - rl))
-    for r in v.notches:
-        if not r.meets:
-            out.append(Shortfall(band="notch", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="attenuation",
-                                 required=r.required_db, achieved=r.worst_attenuation_db,
-                                 missing_db=-r.margin_db))
+    for n in v.notches:
+        if not n.meets:
+            out.append(Shortfall(band="notch", lo_mhz=n.lo_mhz, hi_mhz=n.hi_mhz, quantity="attenuation",
+                                 required=n.required_db, achieved=n.worst_attenuation_db,
+                                 missing_db=-n.margin_db))
     return tuple(out)
 
 
@@ -1131,10 +1132,10 @@ def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
         else:
             out.append(f"relax the notch at {r.lo_mhz:g} MHz to {max(r.worst_attenuation_db, 0):.0f} dB or "
                        f"add isolation elsewhere (antenna spacing, a cavity filter)")
-    for r in v.passes:
-        if not r.meets:
-            out.append(f"pass band {r.lo_mhz:g}-{r.hi_mhz:g} MHz: insertion loss "
-                       f"{r.worst_insertion_loss_db:.2f} dB, SWR {r.worst_swr:.2f}; widen the gap to the "
+    for pb in v.passes:
+        if not pb.meets:
+            out.append(f"pass band {pb.lo_mhz:g}-{pb.hi_mhz:g} MHz: insertion loss "
+                       f"{pb.worst_insertion_loss_db:.2f} dB, SWR {pb.worst_swr:.2f}; widen the gap to the "
                        f"notches or allow another stub")
     if n_stubs < stubs_tried and not out:
         out.append("allow another stub")
