@@ -20,6 +20,8 @@ from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
 from notchkit.textsafe import clean
 
+EXIT_BROKEN_PIPE = 141  # 128 + SIGPIPE, what a shell reports for a tool whose reader went away
+
 COMMANDS = ("check", "cables", "survey", "design", "plan", "trim", "verify", "recheck")
 
 EPILOG = """\
@@ -97,6 +99,11 @@ def main(argv: list[str] | None = None) -> int:
             except KeyboardInterrupt:
                 print("error: interrupted", file=sys.stderr)
                 return 130
+            except BrokenPipeError:
+                # The reader of our output went away (`notchkit survey ... | head`): stop
+                # quietly, as a shell tool would; what was left unprinted goes nowhere.
+                _silence(out)
+                return EXIT_BROKEN_PIPE
             except MemoryError:  # the caps (docs/robustness.md) should make this unreachable
                 print("error: out of memory (the input is too large for this machine; the limits are "
                       "in docs/robustness.md)", file=sys.stderr)
@@ -118,6 +125,17 @@ def main(argv: list[str] | None = None) -> int:
                 pass
         sys.stdout, sys.stderr = out, err
         restore()
+
+
+def _silence(stream) -> None:  # noqa: ANN001 - a text stream with a file descriptor
+    """Point ``stream``'s descriptor at the null device, so the flush at exit cannot fail
+    again on a closed pipe (the Python documentation's advice for SIGPIPE)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, stream.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):
+        pass
 
 
 def _run(argv: list[str] | None) -> int:
