@@ -10,7 +10,9 @@ cut at least as long as the length its resonance really needs, and no longer
 than that plus the trim margin. The truth is the textbook quarter-wave relation
 ``L = n c VF / (4 f) - tee allowance`` (Pozar, *Microwave Engineering*, 4th ed.,
 sec. 2.3) with VF 0.68; the trim margin is the plan's own (3 %, at least
-10 mm: common practice).
+10 mm: common practice). Should the site declare connection hardware, the
+measured stub carries the plan JSON's plug and short (tests/hw_bench.py) and
+the truth is the lossless input impedance of plug and cable (Pozar eq. 2.44).
 """
 
 from __future__ import annotations
@@ -22,6 +24,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 import skrf
+from hw_bench import plan_hardware, stub_network, truth_length_m
 from skrf.media import DefinedGammaZ0
 
 from notchkit.cables import get_cable
@@ -36,22 +39,32 @@ VF_TRUE = 0.68
 MARGIN_PCT, MIN_EXTRA_M = 3.0, 0.010  # the plan's trim margin (common practice)
 
 
-def stub_alone(stub, length_m, vf, seed):
+def stub_alone(stub, length_m, vf, seed, hw=None):
+    """The stub alone at its connector; with the plan's hardware, its plug and short too."""
     cable = get_cable("RG-213")
     n = stub.quarter_waves
     f0 = n * C * vf / (4 * length_m)
     freq = skrf.Frequency(0.8 * f0 / 1e6, 1.2 * f0 / 1e6, 801, "MHz")
-    gamma = cable.alpha_np_per_m(freq.f) + 1j * 2 * np.pi * freq.f / (C * vf)
-    media = DefinedGammaZ0(frequency=freq, z0=50.0, gamma=gamma)
-    net = (media.delay_open if stub.termination == "open" else media.delay_short)(length_m, "m")
+    if hw is not None:
+        net = stub_network(freq, termination=stub.termination, length_m=length_m, vf=vf, cable=cable,
+                           hw=hw, ports=1)
+    else:
+        gamma = cable.alpha_np_per_m(freq.f) + 1j * 2 * np.pi * freq.f / (C * vf)
+        media = DefinedGammaZ0(frequency=freq, z0=50.0, gamma=gamma)
+        net = (media.delay_open if stub.termination == "open" else media.delay_short)(length_m, "m")
     rng = np.random.default_rng(seed)
     shape = net.s.shape
     net.s = net.s + 1e-3 * (rng.standard_normal(shape) + 1j * rng.standard_normal(shape)) / math.sqrt(2)
     return net
 
 
-def truth_cut_m(stub, vf):
-    """The cable that puts the stub's resonance at the tee where the plan wants it."""
+def truth_cut_m(stub, vf, hw=None):
+    """The cable that puts the stub's resonance at the tee where the plan wants it; with the
+    plan's hardware, the length (plug included) whose resonance alone at the plug's mating
+    face is the plan's (Pozar eq. 2.44, tests/hw_bench.py)."""
+    if hw is not None:
+        return truth_length_m(termination=stub.termination, quarter_waves=stub.quarter_waves,
+                              resonance_hz=stub.resonance_alone_mhz * 1e6, vf=vf, z0=50.0, hw=hw)
     return stub.quarter_waves * C * vf / (4 * stub.resonance_mhz * 1e6) - stub.allowance_m
 
 
@@ -66,13 +79,15 @@ def plans(tmp_path_factory):
     outs = []
     for k, sid in enumerate(("F1-S1", "F3-S1")):
         _, stub = doc.stub(sid)
-        net = stub_alone(stub, stub.first_cut_m, VF_TRUE, seed=k)
+        net = stub_alone(stub, stub.first_cut_m, VF_TRUE, seed=k,
+                         hw=plan_hardware(nominal.outdir / "plan.json", sid))
         net.write_touchstone(f"SWEEP-{sid}", dir=str(folder))
         argv = ["trim", str(folder / f"SWEEP-{sid}.s1p"), "--cable", "RG-213", "--plan",
                 str(nominal.outdir / "plan.json"), "--stub", sid, "--plan-length", "first-cut",
                 "--spool", "drum-7", "--calibration", str(cal), "--json"]
         outs.append(argv)
-    return {"folder": folder, "nominal": doc, "cal": cal, "argv": outs}
+    return {"folder": folder, "nominal": doc, "cal": cal, "argv": outs,
+            "plan_json": nominal.outdir / "plan.json"}
 
 
 def test_two_trims_calibrate_the_third_stubs_first_cut(plans, capsys):
@@ -99,7 +114,7 @@ def test_two_trims_calibrate_the_third_stubs_first_cut(plans, capsys):
         for s in f.stubs:
             if s.id in ("F1-S1", "F3-S1"):
                 continue
-            truth = truth_cut_m(s, VF_TRUE)
+            truth = truth_cut_m(s, VF_TRUE, plan_hardware(res.outdir / "plan.json", s.id))
             margin = max(truth * MARGIN_PCT / 100, MIN_EXTRA_M)
             assert truth < s.first_cut_m <= truth + margin + 0.0005, s.id
             checked += 1
@@ -107,10 +122,10 @@ def test_two_trims_calibrate_the_third_stubs_first_cut(plans, capsys):
     # and the printed plan says so on every filter page
     assert all(any("spool 'drum-7'" in x for x in ft.facts) for ft in res.text.filters)
 
-    # Without the calibration the long F5-S1's first cut is shorter than the spool needs:
-    # it could never be trimmed to its resonance.
-    _, s = plans["nominal"].stub("F5-S1")
-    assert s.first_cut_m < truth_cut_m(s, VF_TRUE)
+    # Without the calibration the longest stub's first cut is shorter than the spool needs
+    # (the spool is 3.03 % faster, the trim margin 3 %): it could never be trimmed to its resonance.
+    s = max((x for f in plans["nominal"].filters for x in f.stubs), key=lambda x: x.first_cut_m)
+    assert s.first_cut_m < truth_cut_m(s, VF_TRUE, plan_hardware(plans["plan_json"], s.id))
 
 
 def test_a_calibration_file_of_another_spool_is_refused(plans, tmp_path, capsys):

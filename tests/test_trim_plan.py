@@ -11,7 +11,10 @@ with the stub cut to its printed first cut, and the advised cut is compared
 with the truth: the cut that puts the stub's resonance at the tee where the
 plan wants it, from the textbook relation ``f_n = n c VF / (4 L)`` (Pozar,
 *Microwave Engineering*, 4th ed., sec. 2.3) with the VF the measurement was
-made with.
+made with. Should the site declare connection hardware, the measurement
+carries the plan JSON's plug, short and tee (tests/hw_bench.py), and the truth
+is the lossless input impedance of plug and cable (Pozar eq. 2.44);
+tests/test_trim_hardware.py runs that case on a UHF copy of the site.
 """
 
 from __future__ import annotations
@@ -25,6 +28,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 import skrf
+from hw_bench import plan_hardware, stub_network, truth_length_m
 from skrf.media import DefinedGammaZ0
 
 from notchkit.cables import get_cable
@@ -60,16 +64,22 @@ def printed_commands(res):
     return out
 
 
-def synthesise(*, termination, ports, length_m, vf, cable, f_lo, f_hi, seed, points=801):
-    """The stub alone (one port) or across a tee (two ports), scikit-rf's line model."""
+def synthesise(*, termination, ports, length_m, vf, cable, f_lo, f_hi, seed, points=801, hw=None):
+    """The stub alone (one port) or across a tee (two ports), scikit-rf's line model; with the
+    plan's hardware (``hw``), its plug, its short's inductance and the tee's arms too
+    (tests/hw_bench.py)."""
     freq = skrf.Frequency(f_lo / 1e6, f_hi / 1e6, points, "MHz")
-    gamma = cable.alpha_np_per_m(freq.f) + 1j * 2 * np.pi * freq.f / (C * vf)
-    media = DefinedGammaZ0(frequency=freq, z0=cable.z0_ohm, z0_port=50.0, gamma=gamma)
-    if ports == 1:
-        build = media.delay_open if termination == "open" else media.delay_short
+    if hw is not None:
+        ntwk = stub_network(freq, termination=termination, length_m=length_m, vf=vf, cable=cable, hw=hw,
+                            ports=ports)
     else:
-        build = media.shunt_delay_open if termination == "open" else media.shunt_delay_short
-    ntwk = build(length_m, "m")
+        gamma = cable.alpha_np_per_m(freq.f) + 1j * 2 * np.pi * freq.f / (C * vf)
+        media = DefinedGammaZ0(frequency=freq, z0=cable.z0_ohm, z0_port=50.0, gamma=gamma)
+        if ports == 1:
+            build = media.delay_open if termination == "open" else media.delay_short
+        else:
+            build = media.shunt_delay_open if termination == "open" else media.shunt_delay_short
+        ntwk = build(length_m, "m")
     rng = np.random.default_rng(seed)
     ntwk.s = ntwk.s + 1e-3 * (rng.standard_normal(ntwk.s.shape)
                               + 1j * rng.standard_normal(ntwk.s.shape)) / math.sqrt(2)
@@ -96,14 +106,20 @@ def test_printed_trim_commands_give_the_true_cut(ridge, tmp_path, capsys, monkey
         assert printed_qw == n
         a = stub.length_m - stub.cut_length_m  # the tee allowance inside the plan's electrical path
         bench = stub.first_cut_m  # step 1: cut to the first cut
+        hw = plan_hardware(ridge.outdir / "plan.json", sid)
         # the truth: the cable length that puts the n-th quarter wave at the tee where the plan wants it
-        truth_len = n * C * vf_true / (4 * stub.resonance_mhz * 1e6) - a
+        # (with hardware: the length, plug included, whose resonance alone is the plan's, Pozar eq. 2.44)
+        if hw is None:
+            truth_len = n * C * vf_true / (4 * stub.resonance_mhz * 1e6) - a
+        else:
+            truth_len = truth_length_m(termination=stub.termination, quarter_waves=n, vf=vf_true,
+                                       resonance_hz=stub.resonance_alone_mhz * 1e6, z0=cable.z0_ohm, hw=hw)
         truth_cut_mm = (bench - truth_len) * 1000
         le = bench + (a if ports == 2 else 0.0)
         f_now = n * C * vf_true / (4 * le)
         f_target = printed_target * 1e6 if ports == 1 else stub.resonance_mhz * 1e6
         ntwk = synthesise(termination=stub.termination, ports=ports, length_m=le, vf=vf_true, cable=cable,
-                          f_lo=min(f_now, f_target) * 0.8, f_hi=max(f_now, f_target) * 1.2, seed=k)
+                          f_lo=min(f_now, f_target) * 0.8, f_hi=max(f_now, f_target) * 1.2, seed=k, hw=hw)
         name = argv[0] if ports == 1 else argv[0].replace(".s1p", ".s2p")
         ntwk.write_touchstone(name.rsplit(".", 1)[0], dir=str(tmp_path))
         code, out, err = run(capsys, [name, *argv[1:]])

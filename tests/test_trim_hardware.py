@@ -1,0 +1,92 @@
+"""The trim route on a plan made with UHF connection hardware.
+
+``sites/ridge-eoc.yaml`` with a ``hardware: {family: uhf}`` block added (a
+copy; the example itself keeps the classic model, docs/hardware.md says why)
+is planned by the library's own :func:`notchkit.plan.plan`. Each stub is then
+"measured" with scikit-rf as built: its PL-259 plug (35 ohm, 15 mm, the plan
+JSON's figures), its RG-213 cable (``DefinedGammaZ0``, the library's loss
+figures) and its open end or its short with 3 nH (tests/hw_bench.py), cut to
+the printed first cut. The truth is the length (plug included) whose series
+resonance alone at the plug's mating face is the plan's, from the textbook
+lossless input impedance (Pozar, *Microwave Engineering*, 4th ed., eq. 2.44).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from hw_bench import C, plan_hardware, truth_length_m
+from test_trim_plan import CUT_TOLERANCE_MM, printed_commands, run, synthesise
+
+from notchkit.cables import get_cable
+from notchkit.planfile import read_plan
+
+ROOT = Path(__file__).resolve().parents[1]
+UHF = "\nhardware:\n  family: uhf\n"
+
+
+@pytest.fixture(scope="module")
+def uhf_plan(tmp_path_factory):
+    from notchkit.plan import plan
+
+    folder = tmp_path_factory.mktemp("ridge-uhf")
+    site = folder / "ridge-eoc-uhf.yaml"
+    site.write_text((ROOT / "sites" / "ridge-eoc.yaml").read_text() + UHF)
+    return plan(site, folder / "plan.pdf", outdir=folder / "out")
+
+
+def test_the_plan_cuts_are_the_textbook_lengths_with_the_plug_and_short(uhf_plan):
+    path = uhf_plan.outdir / "plan.json"
+    doc = read_plan(path)
+    checked = 0
+    for f in doc.filters:
+        for s in f.stubs:
+            hw = plan_hardware(path, s.id)
+            assert hw["family"] == "uhf" and hw["z_pair_ohm"] == 35.0 and s.allowance_m == 0.0
+            truth = truth_length_m(termination=s.termination, quarter_waves=s.quarter_waves,
+                                   resonance_hz=s.resonance_alone_mhz * 1e6, vf=0.66, z0=50.0, hw=hw)
+            assert s.cut_length_m == pytest.approx(truth, abs=1e-4), s.id  # 0.1 mm
+            checked += 1
+    assert checked >= 5
+
+
+def _trim_all(plan_res, tmp_path, capsys, monkeypatch, *, ports, vf_true):
+    path = plan_res.outdir / "plan.json"
+    doc = read_plan(path)
+    cable = get_cable("RG-213")
+    monkeypatch.chdir(tmp_path)
+    out = []
+    for k, (sid, argv, target, n) in enumerate(printed_commands(plan_res)):
+        _, stub = doc.stub(sid)
+        hw = plan_hardware(path, sid)
+        truth = truth_length_m(termination=stub.termination, quarter_waves=n, vf=vf_true,
+                               resonance_hz=stub.resonance_alone_mhz * 1e6, z0=cable.z0_ohm, hw=hw)
+        f_now = n * C * vf_true / (4 * stub.first_cut_m)
+        ntwk = synthesise(termination=stub.termination, ports=ports, length_m=stub.first_cut_m, vf=vf_true,
+                          cable=cable, f_lo=min(f_now, target * 1e6) * 0.8,
+                          f_hi=max(f_now, target * 1e6) * 1.2, seed=k, hw=hw)
+        name = argv[0] if ports == 1 else argv[0].replace(".s1p", ".s2p")
+        ntwk.write_touchstone(name.rsplit(".", 1)[0], dir=str(tmp_path))
+        code, text, err = run(capsys, [name, *argv[1:]])
+        assert code == 0, f"{sid}: {err}"
+        out.append((sid, json.loads(text)["cut_mm"], (stub.first_cut_m - truth) * 1000))
+    return out
+
+
+@pytest.mark.parametrize("vf_true", [0.66, 0.645], ids=["vf-nominal", "vf-2pct-slow"])
+def test_the_stub_alone_trims_to_the_true_cut(uhf_plan, tmp_path, capsys, monkeypatch, vf_true):
+    # The one-port route scales the measured stub, plug included; the plug is a small part of
+    # every stub here, so the advised cut stays within the cut tolerance (the VF it reports
+    # absorbs the plug: docs/hardware.md, "What is not modelled").
+    for sid, got, truth in _trim_all(uhf_plan, tmp_path, capsys, monkeypatch, ports=1, vf_true=vf_true):
+        assert got == pytest.approx(truth, abs=CUT_TOLERANCE_MM), sid
+
+
+@pytest.mark.xfail(strict=True, reason="known gap: through the tee, trim on a hardware plan takes no "
+                   "allowance for the tee's side arm and over-cuts every stub by 15-17 mm "
+                   "(docs/hardware.md)")
+def test_the_stub_through_the_tee_trims_to_the_true_cut(uhf_plan, tmp_path, capsys, monkeypatch):
+    for sid, got, truth in _trim_all(uhf_plan, tmp_path, capsys, monkeypatch, ports=2, vf_true=0.66):
+        assert got == pytest.approx(truth, abs=CUT_TOLERANCE_MM), sid
