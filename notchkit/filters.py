@@ -44,14 +44,22 @@ KINDS = ("open", "short", "line")
 _CHUNK_POINTS = 1 << 14  # candidate-chunk size in points: scratch stays in cache, few Python steps
 _THREAD_POINTS = 1 << 19
 """Batches of at least this many points are shared among threads (numpy's loops release the GIL)."""
-_threads = max(1, min(4, os.cpu_count() or 1))
+
+
+def _cores() -> int:
+    from notchkit.parallel import cores
+
+    return cores()
+
+
+_threads = max(1, min(4, _cores()))
 _pool = None
 
 
 def set_threads(n: int) -> int:
     """How many threads :func:`evaluate_batch` may use on a large batch; returns the old number.
 
-    The default is the machine's core count (at most 4). Use 1 inside worker
+    The default is the cores this process may run on (its CPU affinity, at most 4). Use 1 inside worker
     processes that already share the cores among themselves.
     """
     global _threads, _pool
