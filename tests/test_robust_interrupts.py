@@ -16,8 +16,6 @@ import sys
 import time
 from pathlib import Path
 
-import pytest
-
 from notchkit.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
