@@ -66,6 +66,7 @@ def phases(site: Path) -> None:
     from notchkit.site import load_site
 
     plan_mod = importlib.import_module("notchkit.plan")
+    import reportlab.pdfgen.canvas  # noqa: F401  (imported outside the timings)
 
     from notchkit.report.curves import curve_data
     from notchkit.report.html import filter_images
@@ -101,13 +102,13 @@ from notchkit.parallel import fork_map
 from notchkit.site import load_site
 import matplotlib.figure, reportlab.pdfgen.canvas  # imports outside the timings
 plan = importlib.import_module("notchkit.plan")  # the module, not the function
-what, n = sys.argv[1], int(sys.argv[2])
+what, n = sys.argv[1], int(sys.argv[2])  # n: processes (0: one process, one thread)
 site = load_site(sys.argv[3])
 if what == "design":
     if n == 0:
         filters.set_threads(1)
     t0 = time.perf_counter()
-    design(site, workers=1 if n <= 1 else None)
+    design(site, workers=max(1, n))
 else:
     filters.set_threads(1)
     report = design(site, workers=1)
@@ -125,10 +126,11 @@ def variants(site: Path, runs: int) -> None:
     """Wall time of the design and of the images with and without processes/threads."""
     from notchkit.parallel import cores
 
-    cases = (("design: worker processes, 1 thread each", "design", 2),
+    n = max(2, cores())
+    cases = (("design: worker processes, 1 thread each", "design", n),
              ("design: this process, core's threads", "design", 1),
              ("design: this process, 1 thread", "design", 0),
-             ("images: worker processes", "images", 2),
+             ("images: worker processes", "images", n),
              ("images: this process", "images", 1))
     walls: dict[str, list[float]] = {label: [] for label, _w, _n in cases}
     for k in range(runs):

@@ -248,12 +248,15 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     progress : callable(str), optional
         Called with a short message as each filter is designed.
     workers : int, optional
-        Processes to design filters in at once. ``None`` (default) uses the
-        cores this process may run on (:func:`notchkit.parallel.cores`) when
-        there is more than one filter; ``1`` designs them one after another in
-        this process. The results are the same either way: every filter's
-        search is deterministic and independent. The designs are returned
-        finished; nothing else runs while they are made.
+        Processes to design filters in at once. ``None`` or ``1`` (default)
+        designs them one after another in this process: on the development
+        machine worker processes gave no wall-time gain
+        (``benchmarks/plan.py``, docs/performance.md). ``2`` or more designs
+        them in at most that many worker processes, no more than the cores
+        this process may run on (:func:`notchkit.parallel.fork_map`). The
+        results are the same either way: every filter's search is
+        deterministic and independent. The designs are returned finished;
+        nothing else runs while they are made.
     Returns
     -------
     DesignReport
@@ -299,7 +302,7 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     jobs = [(req, m, site.limits, site.allowances if m.hardware is None else no_allowance, f"F{i}")
             for i, req, m in ((i, req, medium(req)) for i, req in enumerate(sv.filters, start=1))]
     n = len(jobs)
-    if workers != 1 and n > 1:
+    if workers is not None and int(workers) > 1 and n > 1:
         done = _design_in_processes(jobs, workers, say)
         return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     designs: list[Design] = []

@@ -69,9 +69,9 @@ def fork_map(
     items : sequence
         Handed out in this order, one at a time, so put the longest jobs first.
     processes : int, optional
-        At most this many workers (default: :func:`cores`, the cores this
-        process may run on). With fewer than two, or fewer than two items,
-        the jobs run here.
+        At most this many workers, and never more than :func:`cores` (the
+        cores this process may run on, the default). With fewer than two, or
+        fewer than two items, the jobs run here.
     initializer : callable, optional
         Run once in each worker before its first job (after the worker has
         arranged to be killed if this process dies); never in this process.
@@ -113,7 +113,7 @@ def _in_workers(fn: Callable[[Any], Any], items: Sequence[Any], processes: int |
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    n = min(cores() if processes is None else int(processes), len(items))
+    n = min(cores(), cores() if processes is None else int(processes), len(items))
     if n < 2:
         return
     if (not sys.platform.startswith("linux") or "fork" not in multiprocessing.get_all_start_methods()

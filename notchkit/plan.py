@@ -6,7 +6,7 @@ writes the PDF, and optionally a self-contained HTML page and an output
 folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
 plan's JSON. Every output is planned and checked together before the long
 computation (:func:`notchkit.report.files.plan_outputs`; the per-filter names
-again once the survey is done), and all are written together, all or none
+again once the filters are designed), and all are written together, all or none
 (:func:`notchkit.fileio.write_all`); the site file is only read.
 """
 
@@ -241,7 +241,6 @@ def plan(
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
         from notchkit.design import touchstone_sweep_hz
-        from notchkit.parallel import fork_map
 
         jobs = []
         for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
@@ -252,7 +251,8 @@ def plan(
                               f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
                               _stem_of(d))
             jobs.append((filt, curve, spans, ft, touchstone))
-        made = fork_map(_filter_files, jobs)
+        # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
+        made = [_filter_files(job) for job in jobs]
     images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
 
     # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).

@@ -366,3 +366,14 @@ def test_cores_honour_the_cpu_affinity(monkeypatch):
     assert parallel.cores() == 1
     monkeypatch.delattr(os, "sched_getaffinity", raising=False)
     assert parallel.cores() == 8
+
+
+def test_threads_are_capped_at_the_cores(monkeypatch):
+    from notchkit import filters, parallel
+
+    monkeypatch.setattr(parallel, "cores", lambda: 1)
+    old = filters.set_threads(4)
+    try:
+        assert filters.set_threads(4) == 1  # asked for 4, given the one core allowed
+    finally:
+        filters.set_threads(old)
