@@ -41,6 +41,7 @@ from notchkit.plan import PlanResult, plan
 from notchkit.power import PowerCheck, power_check
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import Site, check, load_site
+from notchkit.site.checked import SiteCheck, check_site
 from notchkit.solver import Solution, solve
 from notchkit.survey import SurveyResult, Threat, survey
 from notchkit.tolerance import Tolerance, tolerance
@@ -82,6 +83,8 @@ __all__ = [
     "PlanResult",
     "load_site",
     "check",
+    "check_site",
+    "SiteCheck",
     "Site",
     "FilterRequirement",
     "NotchSpec",

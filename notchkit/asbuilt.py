@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from notchkit.errors import MeasurementError, UsageError
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.resonance import named
 
 BAND_POINTS = 41
@@ -70,6 +71,9 @@ class ThreatCheck:
 
 @dataclass(frozen=True, slots=True, kw_only=True)
 class RecheckResult:
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
+
     plan: str
     measured: Mapping[str, str]
     threats: tuple[ThreatCheck, ...]

@@ -848,9 +848,12 @@ def load_library_file(path: str | os.PathLike) -> tuple[Cable, ...]:
 
 
 def user_library_path() -> Path:
-    """``$XDG_CONFIG_HOME/notchkit/cables.yaml`` (``~/.config/notchkit/cables.yaml`` by default)."""
-    base = os.environ.get("XDG_CONFIG_HOME") or os.path.join(os.path.expanduser("~"), ".config")
-    return Path(base) / "notchkit" / USER_LIBRARY_NAME
+    """``$XDG_CONFIG_HOME/notchkit/cables.yaml`` (``~/.config/notchkit/cables.yaml`` by default),
+    or the file the user's defaults file names (``cables:``, :mod:`notchkit.defaults`)."""
+    from notchkit.defaults import config_dir, load_defaults
+
+    chosen = load_defaults().cables
+    return chosen if chosen is not None else config_dir() / USER_LIBRARY_NAME
 
 
 def site_library_path(site_path: str | os.PathLike) -> Path:
@@ -875,6 +878,11 @@ def library() -> tuple[Cable, ...]:
     base = _load()
     p = user_library_path()
     if not p.is_file():
+        from notchkit.defaults import load_defaults
+
+        named = load_defaults()
+        if named.cables is not None:
+            raise CableError(f"{named.path}: cables: {p} is not a file (the personal cable library it names)")
         return base
     own = load_library_file(p)
     keys = {_normalise(c.name) for c in own}
@@ -1051,14 +1059,14 @@ def cable_table(
     cables = list(library())
     for item in site_cables:
         cables.append(item if isinstance(item, Cable) else cable_from_def(item))
-    f = np.array(freqs, dtype=float)
+    fs = np.array(freqs, dtype=float)
     return tuple(
         CableRow(
             cable=c,
-            at_mhz=tuple(float(x) for x in f),
-            loss_db_per_100m=tuple(float(x) for x in c.loss_db_per_100m(f)),
-            loss_db_per_100ft=tuple(float(x) for x in c.loss_db_per_100ft(f)),
-            extrapolated=tuple(bool(x) for x in c.extrapolated(f)),
+            at_mhz=tuple(float(x) for x in fs),
+            loss_db_per_100m=tuple(float(x) for x in c.loss_db_per_100m(fs)),
+            loss_db_per_100ft=tuple(float(x) for x in c.loss_db_per_100ft(fs)),
+            extrapolated=tuple(bool(x) for x in c.extrapolated(fs)),
         )
         for c in cables
     )

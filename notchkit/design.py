@@ -26,6 +26,7 @@ import numpy as np
 from notchkit.errors import DesignError
 from notchkit.filters import Filter
 from notchkit.jsonvalues import finite
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
     DEFAULT_CABLE,
@@ -57,6 +58,9 @@ class Design:
     ``power`` the voltage/current/heat check (:class:`notchkit.power.PowerCheck`)
     or ``None`` when no transmitter's power flows through the filter.
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     id: str
     requirement: FilterRequirement
@@ -110,10 +114,7 @@ class Design:
     @property
     def where(self) -> str:
         """Where the filter goes, e.g. ``"rx filter at wx-alert"``."""
-        r = self.requirement
-        if r.radio is None:
-            return "ad-hoc filter"
-        return f"{r.side} filter at {r.radio}" if r.side else f"filter at {r.radio}"
+        return self.requirement.label
 
     @property
     def cable_note(self) -> str | None:
@@ -121,7 +122,8 @@ class Design:
         from notchkit.cables import extrapolation_note
 
         s = self.solution
-        freqs = [x for b in (*s.passes, *s.notches) for x in (b.lo_mhz, b.hi_mhz)]
+        freqs = [x for b in s.passes for x in (b.lo_mhz, b.hi_mhz)]
+        freqs += [x for b in s.notches for x in (b.lo_mhz, b.hi_mhz)]
         return extrapolation_note(getattr(self.cable, "cable", self.cable), freqs)  # a hardware.Model's cable
 
     def to_json(self) -> dict[str, Any]:
@@ -147,6 +149,9 @@ def _yield_advice(d: Design) -> str:
 @dataclass(frozen=True, slots=True, kw_only=True)
 class DesignReport:
     """Every filter designed for a site (or one ad-hoc request)."""
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site_name: str | None
     survey: Any
@@ -307,7 +312,7 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     designs: list[Design] = []
     for i, (req, cable, limits, allowances, fid) in enumerate(jobs, start=1):
-        say(f"{fid} ({i}/{n}): {req.side} filter at {req.radio}")
+        say(f"{fid} ({i}/{n}): {req.label}")
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                      filter_id=fid, progress=say))
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
@@ -334,7 +339,7 @@ def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress) 
 
     def report(i: int, _d: Design, done: int) -> None:
         req, fid = jobs[order[i]][0], jobs[order[i]][4]
-        say(f"{fid} ({done}/{len(jobs)} done): {req.side} filter at {req.radio}")
+        say(f"{fid} ({done}/{len(jobs)} done): {req.label}")
 
     results = fork_map(_design_job, [jobs[k] for k in order], processes=workers, initializer=_one_thread,
                        on_result=report)
@@ -474,7 +479,7 @@ def touchstone_name(d: Design) -> str:
 
 
 def write_touchstones(report: DesignReport, folder: str | os.PathLike,
-                      inputs: Sequence[str | os.PathLike | None] = ()) -> tuple[Path, ...]:
+                      inputs: Sequence[str | os.PathLike | tuple[Any, str] | None] = ()) -> tuple[Path, ...]:
     """Write one ``.s2p`` per filter into ``folder`` (created if missing): all or none.
 
     ``inputs`` are the files the command read (the site file): no output may be one of them.

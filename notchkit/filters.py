@@ -90,8 +90,11 @@ def _thread_pool():
 class Medium(Protocol):
     """What the filter model needs to know about a cable."""
 
-    z0_ohm: float
-    velocity_factor: float
+    @property
+    def z0_ohm(self) -> float: ...
+
+    @property
+    def velocity_factor(self) -> float: ...
 
     def alpha_np_per_m(self, freq_hz: ArrayLike) -> NDArray[np.float64]: ...
 
@@ -235,9 +238,10 @@ def evaluate_batch(
     """
     kinds = tuple(kind_of(k) for k in kinds)
     if hasattr(cable, "evaluate_batch"):  # a notchkit.hardware.Model
-        if not cable.is_plain:
-            return cable.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
-        cable = cable.cable
+        model: Any = cable
+        if not model.is_plain:
+            return model.evaluate_batch(kinds, lengths_m, freq_hz, z_system)
+        cable = model.cable
     lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
     if lengths.shape[1] != len(kinds):
         raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
@@ -342,9 +346,9 @@ class _Sweep:
         for start, stop, n_coarse, n_fine, minus_j_b in self.runs:
             factors = np.exp(x * minus_j_b)  # the coarse factors, then the fine ones
             coarse, fine = factors[:, :n_coarse], factors[:, n_coarse:]
-            prod = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
-            np.multiply(coarse[:, :, None], fine[:, None, :], out=prod)
-            prod = prod.reshape(rows, n_coarse * n_fine)
+            cube = flat[: rows * n_coarse * n_fine].reshape(rows, n_coarse, n_fine)
+            np.multiply(coarse[:, :, None], fine[:, None, :], out=cube)
+            prod = cube.reshape(rows, n_coarse * n_fine)
             np.multiply(prod[:, : stop - start], real[:, start:stop], out=out[:, start:stop])
         return out
 
@@ -392,6 +396,21 @@ class _Work:
     __slots__ = ("a", "b", "c", "d", "y", "u", "u_all", "t1", "t2", "t3", "t4", "t5", "r1", "r2", "flat",
                  "_views")
     _ARRAYS = __slots__[:-1]
+    a: NDArray[np.complex128]
+    b: NDArray[np.complex128]
+    c: NDArray[np.complex128]
+    d: NDArray[np.complex128]
+    y: NDArray[np.complex128]
+    u: NDArray[np.complex128]
+    u_all: NDArray[np.complex128]
+    t1: NDArray[np.complex128]
+    t2: NDArray[np.complex128]
+    t3: NDArray[np.complex128]
+    t4: NDArray[np.complex128]
+    t5: NDArray[np.complex128]
+    r1: NDArray[np.float64]
+    r2: NDArray[np.float64]
+    flat: NDArray[np.complex128]
 
     def __init__(self, rows: int, sweep: _Sweep) -> None:
         self._views: dict[int, _Work] = {}
@@ -619,7 +638,7 @@ def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArra
     """
     f = np.asarray(freq_hz, dtype=float).ravel()
     _check_freq(f)
-    if hasattr(filt.cable, "abcd") and not filt.cable.is_plain:  # a notchkit.hardware.Model
+    if hasattr(filt.cable, "abcd") and not getattr(filt.cable, "is_plain", True):  # a hardware.Model
         # The filter with its hardware between z_system ports (no load, no ceiling: a Touchstone
         # file describes the filter itself).
         a, b, c, d = filt.cable.abcd(filt.kinds, filt.lengths_m[None, :], f)

@@ -305,7 +305,7 @@ class Model:
         plug = _section(fam.z_pair_ohm, fam.pair_vf, fam.plug_mm * mm, f) if fam else None
         arm = _section(fam.tee_z_ohm, fam.tee_vf, fam.tee_through_mm * mm, f) if fam else None
         barrel = (_chain(*[_section(fam.barrel_z_ohm, fam.barrel_vf, fam.barrel_mm * mm, f)]
-                         * hw.barrels_per_port) if fam and hw.barrels_per_port else None)
+                         * hw.barrels_per_port) if fam and hw is not None and hw.barrels_per_port else None)
         plug_m = fam.plug_mm * mm if fam else 0.0
         short_l = (hw.short_nh * 1e-9) if hw is not None else 0.0
         yl_short = 1.0 / (1j * 2 * np.pi * f * short_l) if short_l > 0 else None
@@ -316,7 +316,7 @@ class Model:
         # the cable, then the fixed plug and side arm, composed once (one complex division a point).
         fixed = _chain(_section(fam.tee_z_ohm, fam.tee_vf, side_m, f) if fam else None,
                        _section(fam.z_pair_ohm, fam.pair_vf, plug_m, f) if fam else None)
-        ends = {"open": (yc, 0.0, 0.0, 1.0)}
+        ends: dict[str, tuple[Any, Any, Any, Any]] = {"open": (yc, 0.0, 0.0, 1.0)}
         ends["short"] = ((yc * yc, yc * yl_short, yl_short, yc) if yl_short is not None
                          else (0.0, yc, 1.0, 0.0))
         maps = {}
@@ -594,12 +594,12 @@ def model_report(filt: Any, notch_mhz: Any, pass_mhz: Any, z_system: float = 50.
     data["other_line_model"] = None
     if notch_mhz and hasattr(m.cable, "z0_ohm"):
         # The same filter on the other line model, at each notch centre: how much the choice matters.
-        f = np.asarray(list(notch_mhz), dtype=float) * 1e6
+        f_hz = np.asarray(list(notch_mhz), dtype=float) * 1e6
         other = m.with_(rlgc=not m.rlgc)
         try:
             rows = filt.lengths_m[None, :]
-            a = -20 * np.log10(np.abs(m.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
-            b = -20 * np.log10(np.abs(other.evaluate_batch(filt.kinds, rows, f, z_system)[0][0]))
+            a = -20 * np.log10(np.abs(m.evaluate_batch(filt.kinds, rows, f_hz, z_system)[0][0]))
+            b = -20 * np.log10(np.abs(other.evaluate_batch(filt.kinds, rows, f_hz, z_system)[0][0]))
         except (ValueError, ZeroDivisionError, FloatingPointError):  # a cable without a loss split
             a = b = None
         if a is not None:

@@ -19,6 +19,7 @@ from pathlib import Path
 from typing import Any
 
 from notchkit.errors import UsageError
+from notchkit.report.summary import summary_html, summary_repr
 
 UNITS = ("metric", "imperial", "both")
 PAGE_SIZES = ("a4", "letter")
@@ -33,6 +34,9 @@ class PlanResult:
     ``meets`` is true only when every designed filter meets its requirements;
     the command line exits 1 otherwise (the plan is written all the same).
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site_name: str
     date: str
@@ -85,10 +89,10 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str,
                  dirs=[(outdir, "--outdir")] if outdir is not None else [])
 
 
-def _run_design(site: Any) -> Any:
+def _run_design(site: Any, progress: Any = None) -> Any:
     from notchkit.design import design
 
-    return design(site)
+    return design(site, progress=progress)
 
 
 def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
@@ -161,6 +165,7 @@ def plan(
     units: str = "both",
     page_size: str = "a4",
     calibration: Any = (),
+    progress: Any = None,
 ) -> PlanResult:
     """Survey a site, design its filters and write the printed notch plan.
 
@@ -183,6 +188,9 @@ def plan(
     calibration : sequence of SpoolCalibration or path, optional
         Measured cable spools: first cuts and trim targets use their VF and loss
         (:mod:`notchkit.calibration`), and the plan says so.
+    progress : callable(str), optional
+        Called with a short message as the work goes on (the command line shows
+        it on a terminal).
 
     Returns
     -------
@@ -205,6 +213,7 @@ def plan(
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
     page_size_in(page_size)
+    say = progress or (lambda _m: None)
     if isinstance(site, str | os.PathLike):
         site_path = str(site)
         _check_outputs(out_pdf, html, outdir, site_path)
@@ -224,7 +233,7 @@ def plan(
     json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
     json_name = str(json_path) if json_path is not None else "OUTDIR/plan.json"
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
-    report = _run_design(site)  # finished designs: the PDF is drawn from them below
+    report = _run_design(site, progress=progress)  # finished designs: the PDF is drawn from them below
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
@@ -233,6 +242,7 @@ def plan(
     designs = _designs(report)
     stems = [_stem_of(d) for d in designs]
     _check_outputs(out_pdf, html, outdir, site_path, stems)
+    say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
                    plan_json=json_name)
     parts = [_part(d, site) for d in designs]
@@ -241,6 +251,8 @@ def plan(
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
         from notchkit.design import touchstone_sweep_hz
+
+        say("drawing the images")
 
         jobs = []
         for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
@@ -253,14 +265,14 @@ def plan(
             jobs.append((filt, curve, spans, ft, touchstone))
         # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
         made = [_filter_files(job) for job in jobs]
-    images = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
+    pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
 
     # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
     writes: list[tuple[Any, bytes, str]] = [(out_pdf, pdf_bytes, "PDF")]
     if html is not None:
         from notchkit.report.html import render_html
 
-        writes.append((html, render_html(pt, images, footer=footer).encode("utf-8"), "HTML"))
+        writes.append((html, render_html(pt, pngs, footer=footer).encode("utf-8"), "HTML"))
     doc = plan_json(site, sv, report, date=date, version=version, units=units)
     n_before = len(writes)
     if outdir is not None:

@@ -391,7 +391,7 @@ def power_check(
 
 def _margin_warnings(out: list[str], margin: float | None, vmax: float, rating_rms: float | None,
                      where: str) -> None:
-    if margin is None or margin >= THIN_MARGIN:
+    if margin is None or margin >= THIN_MARGIN or rating_rms is None:
         return
     word = "EXCEEDS" if margin < 1.0 else "is within 2x of"
     out.append(

@@ -353,7 +353,8 @@ def _curve(network: Any, ports: int, kind: str) -> tuple[NDArray[np.complex128],
             p = np.clip(p, 1e-30, 1.0 - 1e-12)
             w = (p / (1.0 - p)).astype(complex)
             contrast = -10.0 * np.log10(p)
-    return w, np.where(np.isfinite(contrast), contrast, 300.0)
+    return (np.asarray(w, dtype=np.complex128),
+            np.asarray(np.where(np.isfinite(contrast), contrast, 300.0), dtype=np.float64))
 
 
 def _fit_candidate(f: NDArray[np.float64], w: NDArray[np.complex128], contrast: NDArray[np.float64], i: int,

@@ -31,7 +31,12 @@ How it searches, simplest topology first:
    bounded pattern search (:func:`_refine_group`: every trial move of every
    candidate in one batched evaluation) on a smooth penalty of the lossy model
    over a moderate grid: each band's edges plus interior points. The chosen
-   design is polished by the same search with finer steps.
+   design is polished by the same search with finer steps. From two stubs on,
+   the best few refined designs have each element re-scanned over its whole
+   range with the others held (:func:`_rescan`), and the best new local minima
+   are refined too: a child keeps its parent's lengths, and a design whose
+   earlier stub must move to another resonance once a stub is added is out of
+   a local search's reach.
 4. **Verification.** Every refined candidate is evaluated on a dense sweep of
    each band, edge to edge (at least :data:`VERIFY_POINTS` points per band).
    ``meets`` is true only when that sweep meets every requirement.
@@ -146,6 +151,8 @@ _POOL_MAX = 16  # new-stub lengths per kind taken from the scan
 _REFINE_WINDOW = 8.0  # dB of penalty
 _REFINE_ITER = 30
 _REFINE_MAX = 4  # candidates refined per level (plus the shortest that meets on the scan grid)
+_RESCAN_FROM = 3  # refined designs per level whose elements are re-scanned
+_RESCAN_KEEP = 6  # re-scanned starts refined per level
 _FD_STEP = 1e-4  # radians at the highest frequency
 
 
@@ -524,6 +531,16 @@ def _distinct(cands: list[_Cand], p: _Problem, n: int) -> list[_Cand]:
     return out
 
 
+def _same_removed(cands: list[_Cand]) -> list[_Cand]:
+    """The candidates without repeats (refinements that ended at the same lengths, within
+    0.1 mm): each is verified once."""
+    out: list[_Cand] = []
+    for c in cands:
+        if not any(o.kinds == c.kinds and np.max(np.abs(o.lengths - c.lengths)) < 1e-4 for o in out):
+            out.append(c)
+    return out
+
+
 def _pick(kinds, lengths, j, viol, margin, p: _Problem, n: int) -> list[_Cand]:
     """Best ``n`` distinct by penalty, plus the shortest coarse-feasible one."""
     order = np.lexsort((np.arange(j.size), j))
@@ -548,7 +565,7 @@ def _scan_one_stub(p: _Problem):
     seeds = _rule_seeds(p)
     cands: list[_Cand] = []
     pool: dict[str, list[float]] = {"open": [], "short": []}
-    best_single: list[tuple[str, float]] = []  # the best resonance of each kind for each notch
+    best_single: list[tuple[float, int, str, float]] = []  # the best resonance of each kind for each notch
     for kind in ("open", "short"):
         lengths = np.unique(np.r_[grid_l, seeds[kind]])
         lengths = lengths[lengths >= p.kind_min[kind]]
@@ -745,6 +762,61 @@ def _refine_all(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
     return [c for c in out if c is not None]
 
 
+_RESCAN_POINTS_PER_WAVE = 60  # points per wavelength at the highest band in a re-scan
+_RESCAN_MAX = 600
+_RESCAN_TAKE = 2  # new starts per element re-scanned
+
+
+def _rescan(p: _Problem, cands: list[_Cand]) -> list[_Cand]:
+    """New starting points from refined designs: each element's length scanned over its
+    whole range (the others held), the best other local minima kept.
+
+    The children of a level keep their parent's lengths, and the pattern search only
+    moves locally, so a design whose earlier stub must sit elsewhere once another stub
+    is added (a different resonance, not a small shift) is never reached. One scan per
+    element (one batched evaluation each) finds it; the new starts are refined with
+    the rest.
+    """
+    out: list[_Cand] = []
+    for c in cands:
+        n = len(c.kinds)
+        if n < 2:
+            continue
+        for i, kind in enumerate(c.kinds):
+            if kind == BARREL:
+                continue
+            lo, hi = p.bounds((kind,))
+            if kind == "line":
+                hi = np.minimum(hi, max(lo[0], 0.5 * p.lam_low))  # the children's longest line
+            if hi[0] - lo[0] < 1e-3:
+                continue
+            count = int(math.ceil((hi[0] - lo[0]) / (p.lam_high / _RESCAN_POINTS_PER_WAVE))) + 1
+            values = np.linspace(lo[0], hi[0], min(max(count, 50), _RESCAN_MAX))
+            rows = np.repeat(c.lengths[None, :], values.size, axis=0)
+            rows[:, i] = values
+            ok = p.cable_used(c.kinds, rows) <= p.cable_cap
+            rows = rows[ok]
+            if rows.shape[0] < 3:
+                continue
+            # a whole range can reach lengths whose loss underflows |S21| (kilometres of
+            # line at GHz on a request spanning kHz to GHz): those rows are no start
+            with np.errstate(over="ignore", under="ignore", invalid="ignore", divide="ignore"):
+                j, viol, margin, _ = p.objective(c.kinds, rows, p.scan)
+            j = np.where(np.isfinite(j), j, np.inf)
+            idx = _local_minima(j)
+            idx = idx[np.isfinite(j[idx])]
+            idx = idx[np.argsort(j[idx], kind="stable")]
+            taken = 0
+            for k in idx:
+                if abs(rows[k, i] - c.lengths[i]) < 0.3 * p.scale:
+                    continue  # the refined design's own minimum
+                out.append(_Cand(c.kinds, rows[k].copy(), float(j[k]), float(viol[k]), float(margin[k])))
+                taken += 1
+                if taken >= _RESCAN_TAKE:
+                    break
+    return out
+
+
 def _build_perturbations(p: _Problem, kinds: tuple[str, ...], k: int) -> tuple[np.ndarray, np.ndarray]:
     """``k`` builds drawn from the build model (seeded): relative and absolute length
     errors, each (k, len(kinds)), so a build of ``x`` is ``x * (1 + rel) + abs``."""
@@ -804,7 +876,8 @@ def _polish(p: _Problem, cand: _Cand) -> _Cand:
 
 
 def _filter_of(p: _Problem, kinds: tuple[str, ...], lengths: np.ndarray) -> Filter:
-    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else Stub(termination=k, length_m=float(x))
+    elements = tuple(Line(length_m=float(x)) if k in _THROUGH else
+                     Stub(termination="open" if k == "open" else "short", length_m=float(x))
                      for k, x in zip(kinds, lengths, strict=True))
     return Filter(elements=elements, cable=p.cable, tee_allowance_m=p.tee)
 
@@ -977,11 +1050,11 @@ def _shortfalls(v: _Verified, p: _Problem) -> tuple[Shortfall, ...]:
             rl = -20.0 * math.log10((r.worst_swr - 1.0) / (r.worst_swr + 1.0))
             out.append(Shortfall(band="pass", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="swr",
                                  required=r.max_swr, achieved=r.worst_swr, missing_db=p.rl_req - rl))
-    for r in v.notches:
-        if not r.meets:
-            out.append(Shortfall(band="notch", lo_mhz=r.lo_mhz, hi_mhz=r.hi_mhz, quantity="attenuation",
-                                 required=r.required_db, achieved=r.worst_attenuation_db,
-                                 missing_db=-r.margin_db))
+    for n in v.notches:
+        if not n.meets:
+            out.append(Shortfall(band="notch", lo_mhz=n.lo_mhz, hi_mhz=n.hi_mhz, quantity="attenuation",
+                                 required=n.required_db, achieved=n.worst_attenuation_db,
+                                 missing_db=-n.margin_db))
     return tuple(out)
 
 
@@ -1059,10 +1132,10 @@ def _advice(v: _Verified, p: _Problem, stubs_tried: int) -> tuple[str, ...]:
         else:
             out.append(f"relax the notch at {r.lo_mhz:g} MHz to {max(r.worst_attenuation_db, 0):.0f} dB or "
                        f"add isolation elsewhere (antenna spacing, a cavity filter)")
-    for r in v.passes:
-        if not r.meets:
-            out.append(f"pass band {r.lo_mhz:g}-{r.hi_mhz:g} MHz: insertion loss "
-                       f"{r.worst_insertion_loss_db:.2f} dB, SWR {r.worst_swr:.2f}; widen the gap to the "
+    for pb in v.passes:
+        if not pb.meets:
+            out.append(f"pass band {pb.lo_mhz:g}-{pb.hi_mhz:g} MHz: insertion loss "
+                       f"{pb.worst_insertion_loss_db:.2f} dB, SWR {pb.worst_swr:.2f}; widen the gap to the "
                        f"notches or allow another stub")
     if n_stubs < stubs_tried and not out:
         out.append("allow another stub")
@@ -1207,6 +1280,13 @@ def solve(
         level = [c for c in level if c.j <= j_best + _REFINE_WINDOW]
         say(f"{n_stubs} stub(s): refining {len(level)} candidates")
         refined = _refine_all(p, level)
+        if n_stubs > 1:
+            # escape the local minima the children's fixed parent lengths lead into
+            starts = _rescan(p, _distinct(sorted(refined, key=lambda c: c.j), p, _RESCAN_FROM))
+            j_top = min(c.j for c in refined)
+            starts = _distinct(sorted((c for c in starts if c.j <= j_top + _REFINE_WINDOW),
+                                      key=lambda c: c.j), p, _RESCAN_KEEP)
+            refined = _same_removed(sorted(refined + _refine_all(p, starts), key=lambda c: c.j))
         level = refined
         verified = [_verify(p, c, sweep, slices) for c in refined]
         _add_yields(p, verified)

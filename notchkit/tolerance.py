@@ -349,11 +349,12 @@ def tolerance(
     pass_bands = tuple(pass_bands)
     if not notches and not pass_bands:
         raise DesignError("tolerance needs at least one notch or pass band (got none)")
-    for k, b in enumerate((*notches, *pass_bands)):
-        if not (0 < b.lo_mhz <= b.hi_mhz and math.isfinite(b.hi_mhz)):
-            raise DesignError(f"band {k + 1}: {b.lo_mhz!r}-{b.hi_mhz!r} MHz must have 0 < lo <= hi")
+    every: tuple[NotchSpec | Band, ...] = (*notches, *pass_bands)
+    for k, band in enumerate(every):
+        if not (0 < band.lo_mhz <= band.hi_mhz and math.isfinite(band.hi_mhz)):
+            raise DesignError(f"band {k + 1}: {band.lo_mhz!r}-{band.hi_mhz!r} MHz must have 0 < lo <= hi")
 
-    bands = (*notches, *pass_bands)
+    bands = every
     sizes = band_sizes(bands, filt, npts, step_rad)
     freq_hz = np.concatenate([np.linspace(b.lo_mhz, b.hi_mhz, n) for b, n in zip(bands, sizes, strict=True)])
     freq_hz = freq_hz * 1e6

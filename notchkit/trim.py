@@ -57,6 +57,7 @@ import numpy as np
 from notchkit.errors import MeasurementError, UsageError
 from notchkit.lines import C0
 from notchkit.planfile import StubRecord, read_plan, stub_alone_mhz
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.resonance import (  # noqa: F401  (re-exported: the measuring step of trim)
     FIT_SPAN,
     MAX_QUARTER_WAVES,
@@ -103,6 +104,9 @@ class TrimResult:
     ``cut_m`` is what to cut off (negative: the stub is already too short).
     Fields that need the present length are ``None`` without one.
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     measurement: str
     cable: str

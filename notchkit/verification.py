@@ -33,13 +33,15 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
 import numpy as np
 
 from notchkit.errors import CableError, MeasurementError, UsageError
+from notchkit.report.summary import summary_html, summary_repr
+from notchkit.requirements import filter_label, guarded
 from notchkit.resonance import named
 
 MIN_BAND_POINTS = 3
@@ -82,6 +84,9 @@ class BandCheck:
 class VerifyResult:
     """Everything ``notchkit verify`` says about one measured filter."""
 
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
+
     measurement: str
     plan: str
     filter_id: str
@@ -104,8 +109,10 @@ class VerifyResult:
 
     @property
     def verdict(self) -> str:
-        return {True: "met", False: "NOT MET", None: "not shown (a one-port sweep cannot measure it all)"}[
-            self.meets]
+        from notchkit.report.summary import state_word
+
+        word = state_word(self.meets, loud=True)
+        return word if self.meets is not None else f"{word} (a one-port sweep cannot measure it all)"
 
     def to_json(self) -> dict[str, Any]:
         return {"measurement": self.measurement, "plan": self.plan, "filter": self.filter_id,
@@ -237,6 +244,14 @@ def read_sweeps(paths: str | os.PathLike[str] | Sequence[str | os.PathLike[str]]
     return skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=s[first], z0=50.0)
 
 
+def _victims(survey: Any, record: Any) -> list[str]:
+    """The victims of the plan's survey threats that ask a notch of ``record``'s location."""
+    loc = {"radio": record.radio, "side": record.side}
+    threats = survey.get("threats", []) if isinstance(survey, Mapping) else []
+    return [str(t.get("victim")) for t in threats
+            if isinstance(t, Mapping) and loc in (t.get("filters") or [])]
+
+
 def verify(
     measurement_path: str | os.PathLike[str] | Sequence[str | os.PathLike[str]],
     *,
@@ -301,8 +316,7 @@ def verify(
         except CableError as exc:
             warns = (*warns, f"no diagnosis: {exc}")
     f = np.asarray(ntwk.f, dtype=float)
-    where = (f"{record.side} filter at {record.radio}" if record.radio and record.side
-             else f"filter at {record.radio}" if record.radio else "ad-hoc filter")
+    where = filter_label(record.radio, record.side, guarded(record.radio, _victims(doc.survey, record)))
     return VerifyResult(measurement=label, plan=str(plan_path), filter_id=record.id, where=where,
                         ports=int(ntwk.nports), sweep_mhz=(float(f[0] / 1e6), float(f[-1] / 1e6)),
                         checks=checks, diagnosis=diag, warnings=warns)

@@ -128,3 +128,19 @@ def test_an_error_in_the_parent_ends_the_workers_at_once():
                        cwd=ROOT)
     words = r.stdout.split()
     assert words[0] == "stopped" and float(words[1]) < 4.0, (r.stdout, r.stderr)
+
+
+def test_a_reader_that_goes_away_ends_the_command_quietly():
+    """`notchkit survey ... | head`: the pipe closes while the survey prints (common practice
+    for shell tools: no traceback, exit status 128 + SIGPIPE = 141)."""
+    site = Path(__file__).resolve().parent.parent / "sites" / "hilltop-repeaters.yaml"
+    with subprocess.Popen([sys.executable, "-c", "from notchkit.cli import entry; entry()",
+                           "survey", str(site), "--json"],
+                          stdout=subprocess.PIPE, stderr=subprocess.PIPE) as proc:
+        assert proc.stdout is not None and proc.stderr is not None
+        proc.stdout.read(10)
+        proc.stdout.close()  # the reader goes away long before the JSON is all written
+        err = proc.stderr.read().decode()
+        code = proc.wait(timeout=120)
+    assert code == 141
+    assert "Traceback" not in err and "BrokenPipe" not in err

@@ -86,3 +86,52 @@ def test_check_without_a_file_is_a_usage_error(capsys):
         main(["check"])
     assert info.value.code == EXIT_BAD_INPUT
     assert "Traceback" not in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("path", sorted(SITES.glob("*.yaml")), ids=lambda p: p.name)
+def test_check_json_carries_what_the_site_file_says(path, capsys):
+    import json
+
+    from notchkit import check_site
+
+    assert main(["check", "--json", str(path)]) == EXIT_OK
+    out, err = capsys.readouterr()
+    assert err == ""
+    doc = json.loads(out)
+    site = load_site(path)
+    assert doc == check_site(path).to_json()
+    assert doc["site"] == site.name and doc["ok"] is True and doc["problems"] == []
+    assert [r["name"] for r in doc["radios"]] == [r.name for r in site.radios]
+    for row, radio in zip(doc["radios"], site.radios, strict=True):
+        assert row["tx_mhz"] == ([radio.tx.band.lo_mhz, radio.tx.band.hi_mhz] if radio.tx else None)
+        assert row["power_w"] == (radio.tx.power_w if radio.tx else None)
+        assert row["antenna"]["height_m"] == radio.antenna.height_m
+    assert doc["limits"]["max_swr"] == site.limits.max_swr
+    assert bool(doc["cautions"]) == bool(site.transmitters)
+
+
+def test_check_json_on_a_bad_file_is_lines_on_stderr_and_exit_2(tmp_path, capsys):
+    bad = tmp_path / "bad.yaml"
+    bad.write_text("site: x\ntransmitters:\n  - name: a\n    freq_mhz: -1\n", encoding="utf-8")
+    assert main(["check", "--json", str(bad)]) == EXIT_BAD_INPUT
+    out, err = capsys.readouterr()
+    assert out == ""
+    assert err.startswith(f"{bad}:") or "bad.yaml:" in err
+
+
+def test_a_radio_working_several_bands_shows_them_all(capsys):
+    import json
+
+    path = SITES / "contest-two-position.yaml"
+    site = load_site(path)
+    multi = [r for r in site.radios if r.tx is not None and len(r.tx.choices) > 1]
+    assert multi, "the contest example has band-switched radios"
+    assert main(["check", "--json", str(path)]) == EXIT_OK
+    doc = {r["name"]: r for r in json.loads(capsys.readouterr().out)["radios"]}
+    assert main(["check", str(path)]) == EXIT_OK
+    out = capsys.readouterr().out
+    for r in multi:
+        assert doc[r.name]["tx_bands_mhz"] == [[b.lo_mhz, b.hi_mhz] for b in r.tx.choices]
+        row = next(line for line in out.splitlines() if line.startswith(f"  {r.name} "))
+        for b in r.tx.choices:
+            assert f"{b.lo_mhz:.1f}" in row

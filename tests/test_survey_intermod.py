@@ -498,7 +498,9 @@ def test_example_sites_survey_as_documented():
     text = (root / "docs" / "survey.md").read_text(encoding="utf-8")
     rows = re.findall(r"^\| ([\w-]+) \| [\d ]+/[\d ]+/[\d ]+ \| (\d+) / (\d+) / (\d+) \|", text, re.M)
     assert {r[0] for r in rows} == {p.stem for p in (root / "sites").glob("*.yaml")}
-    for name, n, over, locs in rows:
+    # a site's latest row counts (a later table records a later, deliberate change)
+    latest = {name: (n, over, locs) for name, n, over, locs in rows}
+    for name, (n, over, locs) in latest.items():
         res = survey(load_site(str(root / "sites" / f"{name}.yaml")))
         got = (len(res.threats), sum(t.excess_db > 0 for t in res.threats), len(res.filters))
         assert got == (int(n), int(over), int(locs)), name

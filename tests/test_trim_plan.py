@@ -277,3 +277,22 @@ def test_oversized_plan_is_refused_before_parsing(tmp_path, monkeypatch):
     p.write_text(json.dumps({"filters": [], "meets": True, "pad": "x" * 2000}))
     with pytest.raises(PlanFileError, match="larger than"):
         read_plan(p)
+
+
+def test_plan_and_trim_results_have_a_short_repr(ridge, tmp_path):
+    from notchkit.trim import trim
+
+    text = repr(ridge)
+    assert text.startswith("<PlanResult ") and len(text) < 3000
+    for d in ridge.design.designs:
+        assert d.id in text
+    cable = get_cable("RG-213")
+    f_res = C * 0.66 / (4 * 0.5)  # a quarter-wave open stub of 0.5 m (textbook: f = c VF / 4 l)
+    ntwk = synthesise(termination="open", ports=1, length_m=0.5, vf=0.66, cable=cable,
+                      f_lo=0.7 * f_res, f_hi=1.3 * f_res, seed=5)
+    ntwk.write_touchstone("stub", dir=str(tmp_path))
+    res = trim(tmp_path / "stub.s1p", cable="RG-213", termination="open", target_mhz=0.95 * f_res / 1e6,
+               length_m=0.5)
+    text = repr(res)
+    assert text.startswith("<TrimResult ") and "quarter waves: 1" in text and len(text) < 2000
+    assert "advice" in res._repr_html_()

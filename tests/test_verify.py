@@ -319,3 +319,29 @@ def test_a_one_port_sweep_into_a_load_is_diagnosed_too(ridge, tmp_path, kw, expe
         assert d.swapped == "F3-S1" and d.faulty == ()
     else:
         assert d.loss_scale == pytest.approx(3.0, rel=0.1) and d.faulty == ()
+
+
+def test_verify_and_recheck_results_have_a_short_repr(ridge, tmp_path):
+    from notchkit.asbuilt import recheck
+
+    rec = ridge.filter("F1")
+    path = write(build(rec, seed=3), tmp_path, "F1")
+    res = verify(path, plan_path=plan_path(ridge), filter_id="F1")
+    text = repr(res)
+    assert text.startswith("<VerifyResult ") and "F1" in text and len(text) < 3000
+    assert len(text.splitlines()) == len(res.checks) + 2  # the facts line, the header, one row a band
+    assert "<table>" in res._repr_html_()
+    again = recheck(plan_path(ridge), {"F1": path})
+    text = repr(again)
+    assert text.startswith("<RecheckResult ") and len(text) < 3000
+
+
+def test_verify_names_the_filter_as_the_plan_does(ridge, tmp_path):
+    from notchkit.design import design
+    from notchkit.site import load_site
+
+    report = design(load_site(ROOT / "sites" / "ridge-eoc.yaml"), workers=1)
+    for fid in ("F1", "F3"):
+        rec = ridge.filter(fid)
+        res = verify(write(build(rec, seed=4), tmp_path, fid), plan_path=plan_path(ridge), filter_id=fid)
+        assert res.where == next(d.where for d in report.designs if d.id == fid)

@@ -20,6 +20,8 @@ from notchkit import __version__
 from notchkit.errors import EXIT_BAD_INPUT, EXIT_OK, NotchkitError, SiteError
 from notchkit.textsafe import clean
 
+EXIT_BROKEN_PIPE = 141  # 128 + SIGPIPE, what a shell reports for a tool whose reader went away
+
 COMMANDS = ("check", "cables", "survey", "design", "plan", "trim", "verify", "recheck")
 
 EPILOG = """\
@@ -50,10 +52,21 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"notchkit {__version__}")
+    _add_chatter_flags(parser, False)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMANDS:
         importlib.import_module(f"notchkit.cli.{name}").add_parser(sub)
+    for p in sub.choices.values():  # also after the command: notchkit plan SITE -o P.pdf -q
+        _add_chatter_flags(p, argparse.SUPPRESS)
     return parser
+
+
+def _add_chatter_flags(p: argparse.ArgumentParser, default: object) -> None:
+    g = p.add_mutually_exclusive_group()
+    g.add_argument("-q", "--quiet", action="store_true", default=default,
+                   help="no progress and no warning lines on stderr, only their count (errors still show)")
+    g.add_argument("-v", "--verbose", action="store_true", default=default,
+                   help="progress as plain lines on stderr, also when stderr is not a terminal")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -64,8 +77,10 @@ def main(argv: list[str] | None = None) -> int:
     traceback; whatever the command had computed is not written).
     """
     from notchkit import interrupts
+    from notchkit.cli import progress
     from notchkit.textsafe import SafeStream
 
+    progress.configure()
     restore = interrupts.install()
     out, err = sys.stdout, sys.stderr
     sys.stdout, sys.stderr = SafeStream(out), SafeStream(err)
@@ -84,6 +99,11 @@ def main(argv: list[str] | None = None) -> int:
             except KeyboardInterrupt:
                 print("error: interrupted", file=sys.stderr)
                 return 130
+            except BrokenPipeError:
+                # The reader of our output went away (`notchkit survey ... | head`): stop
+                # quietly, as a shell tool would; what was left unprinted goes nowhere.
+                _silence(out)
+                return EXIT_BROKEN_PIPE
             except MemoryError:  # the caps (docs/robustness.md) should make this unreachable
                 print("error: out of memory (the input is too large for this machine; the limits are "
                       "in docs/robustness.md)", file=sys.stderr)
@@ -107,12 +127,28 @@ def main(argv: list[str] | None = None) -> int:
         restore()
 
 
+def _silence(stream) -> None:  # noqa: ANN001 - a text stream with a file descriptor
+    """Point ``stream``'s descriptor at the null device, so the flush at exit cannot fail
+    again on a closed pipe (the Python documentation's advice for SIGPIPE)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, stream.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
 def _run(argv: list[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "run", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
+    if args.quiet and args.verbose:
+        parser.error("--quiet and --verbose together")
+    from notchkit.cli import progress
+
+    progress.configure(quiet=args.quiet, verbose=args.verbose)
     return int(args.run(args))
 
 
@@ -151,15 +187,20 @@ class _LogCatcher(logging.Handler):
         self._saved.clear()
 
 
-def _print_warnings(caught, logs: _LogCatcher | None = None) -> None:
-    """Each warning raised during a command as one ``warning: ...`` line on stderr."""
-    seen = set()
+def _print_warnings(caught, logs: _LogCatcher | None = None, quiet: bool | None = None) -> None:
+    """Each warning raised during a command as one ``warning: ...`` line on stderr
+    (``--quiet``: one line with their count)."""
+    from notchkit.cli import progress
+
+    seen: dict[str, None] = {}
     texts = [str(w.message) for w in caught] + (logs.messages if logs is not None else [])
     for raw in texts:
-        text = clean(" ".join(raw.split()), one_line=True)
-        if text not in seen:
-            seen.add(text)
-            print(f"warning: {text}", file=sys.stderr)
+        seen.setdefault(clean(" ".join(raw.split()), one_line=True), None)
+    if (progress.is_quiet() if quiet is None else quiet) and seen:
+        print(f"warning: {len(seen)} warning(s) not shown (run without --quiet to see them)", file=sys.stderr)
+        return
+    for text in seen:
+        print(f"warning: {text}", file=sys.stderr)
 
 
 def entry() -> None:

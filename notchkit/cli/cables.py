@@ -159,7 +159,7 @@ def run(args) -> int:
     at = parse_at(args.at)
     if getattr(args, "type", None):
         c = get_cable(args.type)
-        rows = [r for r in cable_table(at, (c,)) if r.cable == c][-1:]
+        rows = tuple(r for r in cable_table(at, (c,)) if r.cable == c)[-1:]
         if args.json:
             print(dumps(rows[0].to_json(), indent=2))
         else:

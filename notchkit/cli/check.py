@@ -10,8 +10,9 @@ from __future__ import annotations
 import argparse
 
 from notchkit.errors import EXIT_OK
-from notchkit.site.loader import check
-from notchkit.site.model import Band, Radio, Site
+from notchkit.jsonvalues import dumps
+from notchkit.site.checked import check_site, site_check
+from notchkit.site.model import Site
 
 
 def add_parser(sub) -> None:
@@ -22,37 +23,18 @@ def add_parser(sub) -> None:
         "or print a summary of the site. Exit 0 when clean, 2 on any problem.",
     )
     p.add_argument("site", metavar="SITE.yaml", help="the site file to check")
+    p.add_argument("--json", action="store_true",
+                   help="print the summary as JSON (problems stay lines on stderr, exit 2)")
     p.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace) -> int:
-    site = check(args.site)
-    print(format_site(site))
+    result = check_site(args.site)
+    if args.json:
+        print(dumps(result.to_json(), indent=2))
+    else:
+        print(format_site(result.site))
     return EXIT_OK
-
-
-def _mhz(f: float) -> str:
-    """A frequency with the decimals it needs (at most 4, at least 1): 146.52, 446.0."""
-    text = f"{f:.4f}".rstrip("0")
-    return text + "0" if text.endswith(".") else text
-
-
-def _band(band: Band) -> str:
-    if band.lo_mhz == band.hi_mhz:
-        return _mhz(band.lo_mhz)
-    return f"{_mhz(band.lo_mhz)}-{_mhz(band.hi_mhz)}"
-
-
-def _role(r: Radio) -> str:
-    return "both" if r.tx and r.rx else ("tx" if r.tx else "rx")
-
-
-def _freq(r: Radio) -> str:
-    if r.tx and r.rx:
-        if r.tx.band == r.rx.band:
-            return _band(r.tx.band)
-        return f"tx {_band(r.tx.band)} / rx {_band(r.rx.band)}"
-    return _band((r.tx or r.rx).band)  # type: ignore[union-attr]
 
 
 def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> list[str]:
@@ -63,37 +45,16 @@ def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> list[str]:
     return out
 
 
-def _caution(site: Site) -> list[str]:
-    """The usual cautions when the site has transmitters (empty otherwise)."""
-    powers = [r.tx.power_w for r in site.transmitters if r.tx]
-    if not powers:
-        return []
-    return [
-        f"Caution: transmitters up to {max(powers):g} W. Open stub ends and tees carry high RF voltage;",
-        "keep clear of antennas while transmitting; follow local codes and licensed practice.",
-        "",
-    ]
-
-
 def format_site(site: Site) -> str:
     """The human-readable summary that ``notchkit check`` prints."""
     lines = [f"Site: {site.name}", f"File: {site.path}", f"Default cable: {site.cable}", ""]
-    rows = []
-    for r in site.radios:
-        a = r.antenna
-        feed = f"{r.feedline.cable}, {r.feedline.length_m:.1f} m" if r.feedline else "-"
-        rows.append(
-            (
-                r.name,
-                _role(r),
-                _freq(r),
-                f"{r.tx.power_w:g}" if r.tx else "-",
-                f"{a.x_m:.1f}, {a.y_m:.1f}, {a.height_m:.1f}",
-                f"{a.gain_dbi:g}",
-                feed,
-                r.stub_cable or site.cable,
-            )
-        )
+    checked = site_check(site)
+    rows: list[tuple[str, ...]] = []
+    for r in checked.radios:
+        x, y, h = r.antenna_m
+        feed = f"{r.feedline[0]}, {r.feedline[1]:.1f} m" if r.feedline else "-"
+        rows.append((r.name, r.role, r.mhz, f"{r.power_w:g}" if r.power_w is not None else "-",
+                     f"{x:.1f}, {y:.1f}, {h:.1f}", f"{r.gain_dbi:g}", feed, r.stub_cable))
     lines.append(f"Radios ({len(site.radios)}):")
     lines += _table(
         ("name", "role", "MHz", "power W", "antenna x, y, height m", "gain dBi", "feedline", "stubs"),
@@ -137,7 +98,8 @@ def format_site(site: Site) -> str:
         f"Harmonics considered up to order {site.max_harmonic}",
         *_hardware_lines(site),
         "",
-        *_caution(site),
+        *checked.cautions,
+        *([""] if checked.cautions else []),
         f"OK: {len(site.radios)} radios, no problems found",
     ]
     return "\n".join(lines)

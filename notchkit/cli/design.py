@@ -4,10 +4,11 @@ from __future__ import annotations
 
 import math
 import re
-import sys
+from pathlib import Path
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
 from notchkit.jsonvalues import dumps
+from notchkit.report.summary import state_word
 
 CAUTION = (
     "Safety: open stub ends carry the highest voltage of the filter (kilovolts at high power); "
@@ -200,8 +201,8 @@ def run(args) -> int:
         report = design_request(passes, notches, cable=cable, limits=limits, allowances=allowances,
                                 power_w=power_w, power_mhz=power_mhz, progress=progress, load=args.load)
     if progress is not None:
-        print("", file=sys.stderr)
-    written = ()
+        progress.done()
+    written: tuple[Path, ...] = ()
     if args.touchstone is not None:
         written = write_touchstones(report, args.touchstone, inputs=[(args.site, "site file")])
     if args.json:
@@ -214,23 +215,16 @@ def run(args) -> int:
 
 
 def _progress(args):
-    if args.json or not sys.stderr.isatty():
-        return None
+    from notchkit.cli.progress import terminal_progress
 
-    def show(message: str) -> None:
-        err = sys.stderr  # the line is redrawn in place: its own control sequence, the text sanitised
-        getattr(err, "write_control", err.write)("\r\x1b[K")
-        err.write(message[:100])
-        sys.stderr.flush()
-
-    return show
+    return terminal_progress(enabled=not args.json)
 
 
 # ---------------------------------------------------------------- formatting
 
 
 def _ok(flag: bool) -> str:
-    return "ok" if flag else "FAILS"
+    return state_word(flag, loud=True)
 
 
 def format_design(d) -> str:
@@ -271,7 +265,8 @@ def format_design(d) -> str:
                      f"(max {p.max_insertion_loss_db:g}), SWR {p.worst_swr:.2f} (max {p.max_swr:g})  "
                      f"{_ok(p.meets)}")
     for n in s.notches:
-        tail = "ok" if n.meets else f"FAILS: {-n.margin_db:.1f} dB missing"
+        tail = (state_word(True) if n.meets
+                else f"{state_word(False, loud=True)}: {-n.margin_db:.1f} dB missing")
         lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
                      f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
     model = getattr(d, "model", None)

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from notchkit.errors import EXIT_OK, EXIT_UNMET
+from notchkit.defaults import PAGE_SIZES, UNITS
+from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+from notchkit.report.summary import state_word
 
 DESCRIPTION = """\
 Survey the site, design every filter it needs and write the notch plan: a PDF with
@@ -32,25 +34,56 @@ def add_parser(sub) -> None:
     p.add_argument("--html", metavar="PLAN.html", help="also write the plan as one self-contained HTML page")
     p.add_argument("--outdir", metavar="DIR",
                    help="also write curves (PNG, CSV), Touchstone files and plan.json into DIR")
-    p.add_argument("--units", choices=("metric", "imperial", "both"), default="both",
-                   help="lengths in mm, inches (to 1/16 in) or both (default both)")
-    p.add_argument("--page-size", choices=("a4", "letter"), default="a4",
-                   help="paper size of the PDF (default a4)")
+    p.add_argument("--units", choices=UNITS, default=None,
+                   help="lengths in mm, inches (to 1/16 in) or both (default: the defaults file's "
+                        "units, else both)")
+    p.add_argument("--page-size", choices=PAGE_SIZES, default=None,
+                   help="paper size of the PDF (default: the defaults file's page_size, else a4)")
+    p.add_argument("--analyser-mhz", metavar="LO-HI", default=None,
+                   help="the range your analyser sweeps, for this plan (default: the site file's "
+                        "allowances, else the defaults file's analyser_mhz, else 0.1-900)")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type): first cuts and trim targets use its VF and loss")
     p.set_defaults(run=run)
 
 
+def _analyser(text: str) -> tuple[float, float]:
+    lo, sep, hi = text.partition("-")
+    try:
+        band = (float(lo), float(hi))
+    except ValueError:
+        band = (0.0, 0.0)
+    if not sep or not 0.0 < band[0] < band[1] <= 1e6:
+        raise UsageError(f"--analyser-mhz {text!r}: must be LO-HI in MHz with 0 < LO < HI (e.g. 1-600)")
+    return band
+
+
 def run(args) -> int:
+    from notchkit.cli.progress import terminal_progress
+    from notchkit.defaults import load_defaults, with_analyser
     from notchkit.plan import plan
 
-    result = plan(args.site, args.output, html=args.html, outdir=args.outdir, units=args.units,
-                  page_size=args.page_size, calibration=args.calibration)
+    mine = load_defaults()
+    flag = _analyser(args.analyser_mhz) if args.analyser_mhz is not None else None
+    site = args.site
+    if flag is not None or mine.analyser_mhz is not None:
+        from notchkit.site import load_site
+
+        site = with_analyser(load_site(args.site), flag, mine.analyser_mhz)
+    progress = terminal_progress()
+    try:
+        result = plan(site, args.output, html=args.html, outdir=args.outdir,
+                      units=args.units or mine.units or "both",
+                      page_size=args.page_size or mine.page_size or "a4", calibration=args.calibration,
+                      progress=progress)
+    finally:
+        if progress is not None:
+            progress.done()
     for line in result.text.summary:
         print(line)
     for f in result.text.filters:
-        print(f"  {f.title}: {'meets' if f.meets else 'NOT MET'} (build yield {f.build_yield})")
+        print(f"  {f.title}: {state_word(f.meets, loud=True)} (build yield {f.build_yield})")
     print(f"wrote {result.pdf} ({result.pages} pages)")
     if result.html is not None:
         print(f"wrote {result.html}")

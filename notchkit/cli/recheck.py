@@ -5,6 +5,7 @@ from __future__ import annotations
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError, UsageError
 from notchkit.jsonvalues import dumps
+from notchkit.report.summary import state_word
 
 FLAGS = {"measured": "FILTER=SWEEP.s2p"}
 
@@ -52,7 +53,8 @@ def format_text(result) -> str:
     for t in result.threats:
         state = {True: "held off", False: "NOT HELD OFF", None: "no stub helps"}[t.meets]
         if t.meets is False and t.remaining_db <= 0:
-            state = "NOT MET: under the limit but short of the rejection margin"
+            state = (f"{state_word(False, loud=True)} the margin: under the limit but short of the "
+                     "rejection margin")
         if not t.filters:
             lines.append(f"{t.source} -> {t.victim} {t.mechanism} {t.lo_mhz:g}-{t.hi_mhz:g} MHz: excess "
                          f"{t.excess_db:.1f} dB, no filter location: {state if t.excess_db > 0 else 'clear'}")

@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+from collections.abc import Set
+
 from notchkit.errors import EXIT_OK
 from notchkit.jsonvalues import dumps
-from notchkit.report.text import on_band
+from notchkit.report.text import on_band, order_text
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
@@ -72,7 +74,7 @@ def run(args) -> int:
     return EXIT_OK
 
 
-def _table(head: list[str], rows: list[list[str]], right: set[int] = frozenset()) -> list[str]:
+def _table(head: list[str], rows: list[list[str]], right: Set[int] = frozenset()) -> list[str]:
     widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
 
     def fmt(row: list[str]) -> str:
@@ -107,7 +109,7 @@ def format_result(result) -> str:
             on_band(", ".join(t.sources), t).replace(", ", " + "),
             on_band(t.victim, t),
             t.mechanism,
-            str(t.order),
+            order_text(t),
             f"{t.f_mhz:.4f}",
             f"{t.level_dbm:.1f}",
             f"{t.threshold_dbm:.1f}",
@@ -116,15 +118,15 @@ def format_result(result) -> str:
         ]
         for t in result.threats
     ]
-    head = ["source", "victim", "mechanism", "order", "MHz", "level dBm", "threshold dBm", "excess dB",
+    head = ["source", "victim", "mechanism", "order", "MHz", "level dBm", "limit dBm", "excess dB",
             "where a stub helps"]  # fmt: skip
     lines += _table(head, rows, right={3, 4, 5, 6, 7}) if rows else ["  (none)"]
-    lines += ["", "Worst excess in dB, transmitter (rows) x receiver (columns); '.' = no threat:"]
+    lines += ["", "Worst excess in dB, transmitter (rows) x receiver (columns); '-' = no threat:"]
     m = result.matrix()
     if m.transmitters and m.receivers:
         keys = [f"R{j + 1}" for j in range(len(m.receivers))]
         mrows = [
-            [tx] + ["." if v is None else f"{v:+.1f}" for v in row]
+            [tx] + ["-" if v is None else f"{v:+.1f}" for v in row]
             for tx, row in zip(m.transmitters, m.excess_db, strict=True)
         ]
         lines += _table(["tx \\ rx", *keys], mrows, right=set(range(1, len(keys) + 1)))

@@ -5,6 +5,7 @@ from __future__ import annotations
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError
 from notchkit.jsonvalues import dumps
+from notchkit.report.summary import state_word
 
 FLAGS = {"filter_id": "--filter", "plan_path": "--plan", "diagnose": "--diagnose",
          "measurement_path": "MEASUREMENT", "spool": "--spool", "calibration_path": "--calibration"}
@@ -65,7 +66,7 @@ def format_text(result) -> str:
              f"filter       {result.filter_id}: {result.where} (plan {result.plan})"]
     for c in result.checks:
         limit = "at most" if c.kind == "pass" else "at least"
-        state = {True: "met", False: "NOT MET", None: "not measured"}[c.meets]
+        state = state_word(c.meets, loud=True)
         at = "" if c.worst_mhz is None else f" at {c.worst_mhz:.4f} MHz"
         designed = "" if c.designed is None else f"; designed {_value(c.designed, c.quantity)}"
         measured = _value(c.measured, c.quantity)

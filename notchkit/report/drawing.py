@@ -126,8 +126,8 @@ def arrangement_sketch(
             k += 1
             continue
         group: list[Stub] = []
-        while k < len(elements) and isinstance(elements[k], Stub):
-            group.append(elements[k])
+        while k < len(elements) and isinstance(stub := elements[k], Stub):
+            group.append(stub)
             k += 1
         # One tee: a dot on the through line, a bus when several stubs share it.
         width = _STUB_PITCH * (len(group) - 1)

@@ -86,7 +86,7 @@ def filter_images(filt: Any, curve: Any, spans: Any, ft: FilterText, dpi: int = 
     from notchkit.report.curves import MPL_RC, curve_figure, figure_bytes
     from notchkit.report.drawing import arrangement_figure
 
-    with matplotlib.rc_context(MPL_RC):
+    with matplotlib.rc_context(MPL_RC):  # type: ignore[arg-type]
         draw = arrangement_figure(filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
                                   radio_label=ft.radio_label, antenna_label=ft.antenna_label,
                                   cable_label=ft.cable_label)
@@ -108,7 +108,8 @@ def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: 
     o.append("<table>" + "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in pt.cover_facts)
              + "</table>")
     if pt.unmet:
-        o.append('<div class="notmet">' + f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:<br>"
+        o.append('<div class="notmet">'
+                 + f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:<br>"
                  + "<br>".join(_e(u) for u in pt.unmet) + "</div>")
     else:
         o.append(f'<p class="met">{_e(pt.verdict)}</p>')

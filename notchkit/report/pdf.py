@@ -30,7 +30,7 @@ from typing import Any
 
 from notchkit.report.files import write_bytes_atomic
 from notchkit.report.pdfdraw import Face, draw_plot, draw_sketch, text_lines
-from notchkit.report.text import NOT_MET, FilterText, PlanText, Table, Tag
+from notchkit.report.text import FilterText, PlanText, Table, Tag
 
 PAGE_SIZES_IN = {"a4": (210.0 / 25.4, 297.0 / 25.4), "letter": (8.5, 11.0)}
 """Page sizes in inches: ISO 216 A4 (210 x 297 mm) and ANSI US Letter (8.5 x 11 in)."""
@@ -95,7 +95,8 @@ def _register(font: PdfFont) -> None:
     from reportlab.pdfbase.ttfonts import TTFont
 
     spec = importlib.util.find_spec("matplotlib")
-    folder = Path(next(iter(spec.submodule_search_locations or ())), "mpl-data", "fonts", "ttf")
+    places = spec.submodule_search_locations if spec is not None else None
+    folder = Path(next(iter(places or ())), "mpl-data", "fonts", "ttf")
     if not (folder / font.files[0]).is_file():  # a system matplotlib may keep its data elsewhere
         import matplotlib
 
@@ -421,7 +422,8 @@ def _cover(page: _Page, pt: PlanText, body: float = 9.0) -> None:
         page.y += len(lines) * page.pitch(body) + 0.02
     page.y += 0.15
     if pt.unmet:
-        page.boxed([f"{len(pt.unmet)} FILTER(S) {NOT_MET} - read before building:", *pt.unmet], 10.5)
+        page.boxed([f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:",
+                    *pt.unmet], 10.5)
     else:
         page.boxed([pt.verdict], 10.0)
     page.table(pt.filters_table, 8.5)
@@ -520,6 +522,11 @@ def _filter_rest(page: _Page, ft: FilterText, body: float) -> None:
     page.para("Trimming steps", body + 0.5, bold=True, gap=0.0)
     for s in ft.trim_steps:
         page.para(s, body - 0.5, gap=0.0)
+
+
+def _constant(page: _Page) -> Callable[[], _Page]:
+    """A ``new_page`` that hands back the one page already made."""
+    return lambda: page
 
 
 def _tag_pages(new_page: Callable[[], _Page], tags: Sequence[Tag], per_page: int) -> list[_Page]:
@@ -700,7 +707,7 @@ class PlanPdf:
             if what is None:
                 _cover(page, pt)
             elif isinstance(what, int):  # the cut labels from tag ``what`` on
-                _tag_pages(lambda page=page: page, pt.tags[what:what + per], per)
+                _tag_pages(_constant(page), pt.tags[what:what + per], per)
             else:
                 c.saveState()
                 c.doForm(what)

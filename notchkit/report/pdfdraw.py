@@ -78,7 +78,7 @@ def draw_sketch(c: Any, face: Face, sketch: Sketch, rect: Sequence[float]) -> No
     c.setLineCap(0)  # butt ends
     c.setStrokeGray(0.0)
     # Shapes in order, then the labels over them (as matplotlib stacks text above lines).
-    items = [it for it in sketch.items if not isinstance(it, Label)]
+    items: list[Any] = [it for it in sketch.items if not isinstance(it, Label)]
     items += [it for it in sketch.items if isinstance(it, Label)]
     for it in items:
         if isinstance(it, Lines):

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, cast
 
 Point = tuple[float, float]
 
@@ -106,6 +106,6 @@ def to_matplotlib(sketch: Sketch, fig: Any, rect: Sequence[float]) -> None:
             fig.add_artist(dot)
         else:
             fig.add_artist(Text(it.x, it.y, it.text, transform=tr, fontsize=it.size, ha=it.ha, va=it.va,
-                                multialignment=it.ha, color="black", linespacing=it.linespacing,
+                                multialignment=cast(Any, it.ha), color="black", linespacing=it.linespacing,
                                 fontweight="bold" if it.bold else "normal",
                                 usetex=False, parse_math=False))  # names as written, '$' too

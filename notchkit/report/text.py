@@ -9,16 +9,19 @@ check) and the site.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
 from notchkit.cutlist import format_length
+from notchkit.report.summary import state_word
 from notchkit.tolerance import element_ids
 
-NOT_MET = "NOT MET"
+NOT_MET = state_word(False, loud=True)
+"""``DOES NOT MEET``: the printed failure word (:func:`notchkit.report.summary.state_word`)."""
 _MAX_ADVICE = 3
-MET = "met"
+MET = state_word(True)
 DASH = "-"
 
 
@@ -132,6 +135,36 @@ def _shown_path(path: object) -> str:
 
     return clean(str(path or ""), one_line=True)
 
+
+MM_PER_IN = 25.4
+"""Millimetres in an inch (exact, by the 1959 international yard)."""
+
+
+_MM = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?) mm\b")
+
+
+def lengths_in_units(text: str, units: str) -> str:
+    """A sentence written in millimetres (``30 mm``) for an inches-only plan: each length to
+    1/16 in (:func:`notchkit.cutlist.format_length`); unchanged for ``metric`` and ``both``."""
+    if units != "imperial":
+        return text
+    return _MM.sub(lambda m: format_length(float(m.group(1)) / 1000.0, "imperial"), text)
+
+
+def rate_text(m_per_mhz: float, units: str = "both") -> str:
+    """A trim rate: ``4.2 mm/MHz``, or ``0.165 in/MHz`` when the plan is in inches only."""
+    if units == "imperial":
+        return f"{1000.0 * m_per_mhz / MM_PER_IN:.3f} in/MHz"
+    return f"{1000.0 * m_per_mhz:.1f} mm/MHz"
+
+
+def order_text(threat: Any) -> str:
+    """A threat's order for the tables: the harmonic or product order, ``-`` where there is none
+    (transmitter noise, blocking: ``order`` 0)."""
+    order = int(getattr(threat, "order", 0) or 0)
+    return str(order) if order > 0 else DASH
+
+
 def mhz(x: float) -> str:
     """A frequency in MHz to 1 Hz resolution, trailing zeros dropped (``146.52``, ``155.475``)."""
     s = f"{float(x):.6f}".rstrip("0").rstrip(".")
@@ -191,6 +224,9 @@ def design_cable_name(d: Any) -> str:
 def _location(req: Any) -> str:
     if getattr(req, "radio", None):
         side = {"rx": "receiver input", "tx": "transmitter output"}.get(req.side, str(req.side))
+        if req.side == "tx" and getattr(req, "protects", None) in ("receiver", "both"):
+            side = "radio port, " + ("in its receive path" if req.protects == "receiver"
+                                     else "in its receive and transmit paths")
         return f"{req.radio} ({side})"
     return "ad-hoc design"
 
@@ -198,7 +234,7 @@ def _location(req: Any) -> str:
 def design_title(d: Any) -> str:
     req = d.requirement
     if getattr(req, "radio", None):
-        return f"{design_id(d)}: {req.side} filter at {req.radio}"
+        return f"{design_id(d)}: {getattr(req, 'label', f'{req.side} filter at {req.radio}')}"
     return f"{design_id(d)}: filter"
 
 
@@ -289,7 +325,7 @@ def threat_table(sv: Any, max_rows: int = MAX_THREAT_ROWS) -> Table:
     for i, (t, n) in enumerate(groups[:max_rows], start=1):
         source = t.product if t.mechanism in ("intermod", "blocking") else on_band(", ".join(t.sources), t)
         rows.append((
-            str(i), source, on_band(t.victim, t), t.mechanism, str(t.order), mhz4(t.f_mhz),
+            str(i), source, on_band(t.victim, t), t.mechanism, order_text(t), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), str(n - 1) if n > 1 else DASH,
             threat_where(t),
         ))
@@ -411,7 +447,7 @@ def cut_table(d: Any, units: str = "both") -> Table:
         header += ["Final (in)"]
         align += ["right"]
         widths += [0.95]
-    header += ["Trim to (MHz)", "Trim (mm/MHz)", "Tee"]
+    header += ["Trim to (MHz)", "Trim (in/MHz)" if units == "imperial" else "Trim (mm/MHz)", "Tee"]
     align += ["right", "right", "right"]
     widths += [1.0, 0.9, 0.5]
     rows = []
@@ -426,8 +462,10 @@ def cut_table(d: Any, units: str = "both") -> Table:
 
     for c in d.cuts:
         target = mhz(round(c.resonance_mhz, 4)) if getattr(c, "trimmable", True) else "cut, no trim"
+        rate = (f"{c.trim_rate_mm_per_mhz / MM_PER_IN:.3f}" if units == "imperial"
+                else f"{c.trim_rate_mm_per_mhz:.1f}")
         rows.append((c.stub_id, cable, f"{c.termination} stub", format_length(c.first_cut_m, units),
-                     *finals(c.cut_length_m), target, f"{c.trim_rate_mm_per_mhz:.1f}", str(c.tee)))
+                     *finals(c.cut_length_m), target, rate, str(c.tee)))
     for x in getattr(d, "lines", ()) or ():
         a, b = x.between_tees
         if getattr(x, "barrel", False):
@@ -443,6 +481,7 @@ def cut_table(d: Any, units: str = "both") -> Table:
             "are cut to length: cable with a plug at each end.")
     if hardware:
         note += " Hardware: " + " ".join(h[:1].upper() + h[1:] + "." for h in hardware)
+    note = lengths_in_units(note, units)
     plug = any("plug" in getattr(c, "reference_plane", "") and c.length_m == c.cut_length_m for c in d.cuts)
     return Table(
         title=("Cut list (stub lengths from the plug's mating face to the end, the plug included)"
@@ -452,7 +491,7 @@ def cut_table(d: Any, units: str = "both") -> Table:
     )
 
 
-def tolerance_lines(d: Any) -> tuple[str, ...]:
+def tolerance_lines(d: Any, units: str = "both") -> tuple[str, ...]:
     """The tolerance run in two lines; per-band shares are in the requirements table."""
     from notchkit.tolerance import model_text
 
@@ -463,17 +502,20 @@ def tolerance_lines(d: Any) -> tuple[str, ...]:
     aim = "" if target is None else f" (target {100.0 * target:g} %)"
     out = [
         f"Build yield: {pct(t.probability_all)} of {t.samples} simulated builds meet every requirement{aim}; "
-        f"the build: {model_text(t)}; seed {t.seed}."
+        + lengths_in_units(f"the build: {model_text(t)}; seed {t.seed}.", units)
     ]
     sens = [(s, n) for n in t.notches for s in n.sensitivity]
     if sens:
         s, n = max(sens, key=lambda x: abs(x[0].db_per_mm))
-        out.append(f"Most sensitive: {s.element_id}, {s.db_per_mm:+.2f} dB per mm of length in the notch "
+        per = (f"{s.db_per_mm * MM_PER_IN:+.2f} dB per in" if units == "imperial"
+               else f"{s.db_per_mm:+.2f} dB per mm")
+        out.append(f"Most sensitive: {s.element_id}, {per} of length in the notch "
                    f"{band_text(n.lo_mhz, n.hi_mhz)} (95 % of builds give >= {n.p05_worst_db:.1f} dB there).")
     alts = getattr(getattr(d, "solution", None), "alternatives", ()) or ()
     for a in alts[:3]:
         y = DASH if a.build_yield is None else pct(a.build_yield)
-        out.append(f"Alternative: {a.n_stubs} stub(s), {a.total_cable_m:.2f} m of cable, notch margin "
+        used = f"{a.total_cable_m:.2f} m" if units != "imperial" else format_length(a.total_cable_m, units)
+        out.append(f"Alternative: {a.n_stubs} stub(s), {used} of cable, notch margin "
                    f"{a.margin_db:+.1f} dB, build yield {y}{'' if a.meets else ' (does not meet)'}: "
                    f"{a.arrangement}.")
     return tuple(out)
@@ -533,8 +575,9 @@ def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tup
         "find the resonance the stub exists for: the Trim to column of the cut list, the stub's n-th "
         "quarter wave that makes its notch (given with its command below). A long stub shows many "
         "resonances: take the impedance minimum nearest its target, not the lowest one. " + where,
-        "3. The resonance reads low because the stub is long: trim in small steps (the rate below is mm per "
-        "MHz of error), re-measuring each time; stop at the target. Never trim past it.",
+        "3. The resonance reads low because the stub is long: trim in small steps (the rate below is "
+        f"{'inches' if units == 'imperial' else 'mm'} per MHz of error), re-measuring each time; stop at "
+        "the target. Never trim past it.",
         "4. Or save the sweep of the stub alone (Touchstone .s1p) and let notchkit say how much to cut "
         "(after a first trim, add --length-m with the length now):",
     ]
@@ -552,7 +595,7 @@ def trim_steps(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> tup
                      f"--stub {c.stub_id} --plan-length first-cut   (stub alone: target "
                      f"{mhz(round(alone, 4))} MHz, the resonance of Trim to "
                      f"{mhz(round(c.resonance_mhz, 4))} MHz; "
-                     f"{qw}{why}; {1000.0 * c.cut_length_m / alone:.1f} mm/MHz)")
+                     f"{qw}{why}; {rate_text(c.cut_length_m / alone, units)})")
     steps.append("   A sweep through the tee with the stub in place (.s2p) works too: its target is the "
                  "Trim to column of the cut list.")
     steps.append("5. Assemble the filter, sweep it end to end and compare with the curve above before use "
@@ -579,7 +622,8 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     cable = getattr(filt, "cable", None)
     vf = getattr(cable, "velocity_factor", None)
     cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
-    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, 'metric')} per stub "
+    tee_units = "imperial" if units == "imperial" else "metric"
+    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, tee_units)} per stub "
                     "(drawing not to scale)")
     if getattr(cable, "balanced", False):
         cable_label += ("; balanced line: each stub joins its tee through a 1:1 current balun, "
@@ -598,7 +642,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
     advice = [str(a) for a in advice]
     model = getattr(d, "model", None)
     if model is not None:  # what it was verified against, the load spread, the depth ceiling
-        facts += list(model.lines)
+        facts += [lengths_in_units(line, units) for line in model.lines]
     facts += advice[:_MAX_ADVICE]
     if len(advice) > _MAX_ADVICE:
         facts.append(f"... and {len(advice) - _MAX_ADVICE} more suggestions (the plan JSON lists them all).")
@@ -607,7 +651,7 @@ def filter_text(d: Any, units: str = "both", plan_json: str = "PLAN.json") -> Fi
         filter_id=design_id(d), title=design_title(d), meets=meets,
         verdict=(_met_verdict(d) if meets else _unmet_verdict(d)),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
-        tolerance=tolerance_lines(d), power=power_table(d), power_lines=power_lines(d),
+        tolerance=tolerance_lines(d, units), power=power_table(d), power_lines=power_lines(d),
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
         line_labels=tuple(line_labels), cable_label=cable_label,
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
@@ -653,7 +697,8 @@ def tags(designs: Sequence[Any], units: str = "both") -> tuple[Tag, ...]:
         for c in d.cuts:
             if getattr(c, "trimmable", True):
                 trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz (the notch)",
-                        f"about {format_length(c.cut_length_m, units)}; {c.trim_rate_mm_per_mhz:.1f} mm/MHz")
+                        f"about {format_length(c.cut_length_m, units)}; "
+                        f"{rate_text(c.trim_rate_mm_per_mhz / 1000.0, units)}")
             else:
                 trim = ("do not trim (no resonance in the analyser's range)",
                         f"cut to {format_length(c.cut_length_m, units)}")
@@ -712,7 +757,7 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                           + (f", worst {worst:+.1f} dB)" if worst is not None else ")")),
         ("Filters designed", f"{len(designs)} with {n_stubs} stubs; "
                              f"{sum(f.meets for f in ftexts)} meet every requirement, "
-                             f"{len(unmet)} {NOT_MET}"),
+                             f"{len(unmet)} do not"),
         ("Lengths in", {"both": "millimetres and inches", "metric": "millimetres",
                         "imperial": "inches"}[units]),
     )
@@ -731,7 +776,8 @@ def plan_text(*, site: Any, sv: Any, designs: Sequence[Any], date: str, version:
                     else "no filter is needed: no threat over the limit calls for a stub.")
     summary = (
         f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
-        f"{n_stubs} stubs; " + (f"{len(unmet)} filter(s) {NOT_MET}." if unmet else verdict_line),
+        f"{n_stubs} stubs; "
+        + (f"{len(unmet)} filter(s) DO NOT MEET their requirements." if unmet else verdict_line),
     )
     return PlanText(
         site_name=site.name, title=plan_title(site.name), cover_facts=facts, unmet=unmet,

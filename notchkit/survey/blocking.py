@@ -20,6 +20,8 @@ stub helps and the remedy says so.
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from notchkit.survey.result import Threat
@@ -54,7 +56,7 @@ def blocking_threats(ctx, tx: np.ndarray, rx: np.ndarray) -> list[Threat]:
     order = np.lexsort((-level, vv))
     oo, vv, level, iso, meth = oo[order], vv[order], level[order], iso[order], meth[order]
     starts = np.r_[0, np.nonzero(vv[1:] != vv[:-1])[0] + 1, vv.size]
-    groups = []
+    groups: list[Any] = []
     for a, b in zip(starts[:-1].tolist(), starts[1:].tolist(), strict=True):
         v = int(vv[a])
         for scen in range(sa.op.active.shape[1]):  # carriers on the air together: one scenario,

@@ -9,10 +9,12 @@ from __future__ import annotations
 
 import dataclasses
 from operator import attrgetter
+from typing import Any
 
 import numpy as np
 
-from notchkit.site.model import Site
+from notchkit.requirements import guarded
+from notchkit.site.model import Radio, Site
 from notchkit.survey import limits, products
 from notchkit.survey.blocking import blocking_threats
 from notchkit.survey.intermod import DEFAULT_MAX_THREATS, intermod_threats
@@ -21,6 +23,10 @@ from notchkit.survey.locations import build_filters, too_close
 from notchkit.survey.paths import OUT_PORTS, SiteArrays, check_max_harmonic
 from notchkit.survey.result import NotchFeed, SurveyResult, Threat
 
+
+def _noise_of(radio: Radio) -> float | None:
+    """A transmitter's broadband noise, dBc/Hz (``None``: not given)."""
+    return radio.tx.noise_dbc_hz if radio.tx is not None else None
 
 def survey(
     site: Site, *, max_harmonic: int | None = None, max_threats: int | None = None
@@ -92,7 +98,7 @@ def survey(
         threats += blocking_threats(ctx, tx, rx)
         if outcome.left_over or outcome.left_under:
             left_out.append(("intermod", outcome.left_over, outcome.left_under))
-            ww = outcome.worst
+            ww = outcome.worst if outcome.worst is not None else np.empty((0, 0))
             worst_by_radio: dict[tuple[str, str], float] = {}  # units -> their radios (operating layer)
             for t, r in np.argwhere(np.isfinite(ww)).tolist():
                 key = (sa.radio_names[t], sa.radio_names[r])
@@ -111,7 +117,7 @@ def survey(
         transmitters=tuple(r.name for r in site.radios if r.tx is not None),
         receivers=tuple(r.name for r in site.radios if r.rx is not None),
         threats=tuple(threats),
-        filters=build_filters(site, sa, ctx.all_feeds()),
+        filters=_with_protects(build_filters(site, sa, ctx.all_feeds()), threats),
         notes=tuple(notes),
         max_harmonic=n_harm,
         rejection_margin_db=margin,
@@ -120,6 +126,17 @@ def survey(
         left_out_worst=left_worst,
     )
 
+
+
+def _with_protects(filters: tuple[Any, ...], threats: list[Threat]) -> tuple[Any, ...]:
+    """Each filter requirement with whose reception it guards (``protects``), from the
+    threats that ask a notch of its location."""
+    victims: dict[tuple[str, str], set[str]] = {}
+    for t in threats:
+        for loc in t.filters:
+            victims.setdefault(loc, set()).add(t.victim)
+    return tuple(dataclasses.replace(f, protects=guarded(f.radio, victims.get((f.radio, f.side), ())))
+                 for f in filters)
 
 def _default_notes(sa: SiteArrays, ctx) -> list[str]:
     """Which radios rest on the survey's documented defaults."""
@@ -134,12 +151,14 @@ def _default_notes(sa: SiteArrays, ctx) -> list[str]:
         if r.rx is not None and r.rx.blocking_dbm is None and not r.rx.selectivity
         and r.rx.receiver_class is None
     ]  # fmt: skip
-    for cls in sorted({r.rx.receiver_class for r in site.receivers if r.rx.receiver_class}):
-        who = [r.name for r in site.receivers if r.rx.receiver_class == cls and not r.rx.selectivity]
-        if who:
+    rxs = [(r.name, r.rx) for r in site.receivers if r.rx is not None]
+    for cls in sorted({rx.receiver_class for _, rx in rxs if rx.receiver_class}):
+        who = [name for name, rx in rxs if rx.receiver_class == cls and not rx.selectivity]
+        first = next(rx for name, rx in rxs if name == who[0]) if who else None
+        if first is not None:
             out.append(
                 "blocking by offset from the " + limits.selectivity_table(
-                    dataclasses.replace(site.radio(who[0]).rx, selectivity=())
+                    dataclasses.replace(first, selectivity=())
                 )[1] + " for: " + ", ".join(who)
             )  # fmt: skip
     if blocking:
@@ -452,7 +471,7 @@ def _fundamental(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         lo, hi = float(sa.tx_lo[t]), float(sa.tx_hi[t])
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[t], ctx.names[r]
-        where = ()
+        where: tuple[Any, ...] = ()
         if cochannel[k]:
             tsrc = sa.rx_threshold_source[r] + " (carrier inside the receiver's band)"
             remedy = (
@@ -516,7 +535,7 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
             f"pass {src}'s fundamental (a harmonic inside {vic}'s band can only be removed "
             "at the transmitter)"
         )
-        where = ()
+        where: tuple[Any, ...] = ()
         if excess > 0:
             reason = f"{src} harmonic {order} into {vic}"
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, reason)
@@ -545,11 +564,11 @@ def _harmonics(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray, n_harm: int) -> list[T
 def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
     sa = ctx.sa
     radios = sa.site.radios
-    has = np.array([radios[int(t)].tx.noise_dbc_hz is not None for t in tt], dtype=bool)
+    has = np.array([_noise_of(radios[int(t)]) is not None for t in tt], dtype=bool)
     if not has.any():
         return []
     t, r = tt[has], rr[has]
-    dbc = np.array([radios[int(i)].tx.noise_dbc_hz for i in t], dtype=float)
+    dbc = np.array([_noise_of(radios[int(i)]) for i in t], dtype=float)
     f = sa.rx_lo[r]
     total, iso, meth = sa.path_db(t, r, f)
     level = sa.p_dbm[t] + dbc + 10.0 * np.log10(sa.rx_bandwidth_hz[r]) - total
@@ -561,7 +580,7 @@ def _noise(ctx: _Ctx, tt: np.ndarray, rr: np.ndarray) -> list[Threat]:
         excess = float(level[k] - thr[k])
         src, vic = ctx.names[ti], ctx.names[ri]
         remedy = f"tx-side filter at {src}: notch {vic}'s band, pass {src}'s band"
-        where = ()
+        where: tuple[Any, ...] = ()
         if excess > 0:
             fd, clash = ctx.feed(ti, "tx", lo, hi, excess + ctx.margin, f"{src} noise into {vic}")
             if fd is None:

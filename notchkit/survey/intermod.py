@@ -111,16 +111,16 @@ def intermod_threats(
             st.worst(rows, outcome.worst)
             keep.add(rows)
     st.flush_notches()
-    rows, over, under = keep.result()
+    kept, over, under = keep.result()
     outcome.left_over, outcome.left_under = over, under
-    return st.threats(rows), outcome
+    return st.threats(kept), outcome
 
 
 def _combinations(n: int, k: int, per: int):
     """Index combinations i < j (< l) of n items, in blocks of about ``per`` rows."""
     if k == 2:
-        i, j = np.triu_indices(n, k=1)
-        allc = np.stack([i, j], axis=1)
+        first, second = np.triu_indices(n, k=1)
+        allc = np.stack([first, second], axis=1)
         for s in range(0, len(allc), per):
             yield allc[s : s + per]
         return
@@ -277,8 +277,10 @@ class _State:
         self.cover = np.concatenate([[0], np.cumsum(covered)]).astype(np.int32)
         with np.errstate(invalid="ignore"):
             self.simplex = (sa.tx_lo <= sa.rx_hi) & (sa.rx_lo <= sa.tx_hi)
-        self.notch_tx = (np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
-        self.notch_rx = (np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
+        self.notch_tx: tuple[np.ndarray, np.ndarray, dict] = (
+            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
+        self.notch_rx: tuple[np.ndarray, np.ndarray, dict] = (
+            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
         self.labels: dict[tuple, str] = {}
         self.texts: dict[tuple, str] = {}
         self.remedies: dict[tuple, tuple] = {}
@@ -552,7 +554,8 @@ class _State:
             rx_route = b == 3
             m = None if rx_route else s[b]
             iso_text = ctx.iso_text(frm_l[j], v, f_iso_l[j], iso_l[j], meth_l[j])
-            details = (self._route_text(s, c, v, b, order), self._routes_line(s, routes_l[j]))
+            details: tuple[str, ...] = (self._route_text(s, c, v, b, order),
+                                        self._routes_line(s, routes_l[j]))
             if held_l[j]:
                 details += (levels.CLAMP_NOTE,)
             out.append(

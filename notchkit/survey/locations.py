@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import Band, Site
 
@@ -50,7 +52,7 @@ def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
             feeds = by_loc.get((radio.name, side))
             if not feeds:
                 continue
-            common = {
+            common: dict[str, Any] = {
                 "radio": radio.name, "side": side, "cable": radio.stub_cable or site.cable,
                 "power_w": None if radio.tx is None else radio.tx.power_w,
                 "power_mhz": None if radio.tx is None else radio.tx.band.centre_mhz,

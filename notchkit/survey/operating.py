@@ -22,6 +22,7 @@ the radio and the band (``run-a 21-21.45 MHz``).
 from __future__ import annotations
 
 import dataclasses
+from typing import cast
 
 import numpy as np
 
@@ -124,12 +125,13 @@ def expand(site: Site) -> Operating:
             label = ""
             name = r.name
             if len(choices) > 1:
-                label = band_label(tb if tb is not None else rb)
+                label = band_label(cast(Band, tb if tb is not None else rb))  # a choice has one or both
                 if tb is not None and rb is not None and tb != rb:
                     label = f"tx {band_label(tb)} / rx {band_label(rb)}"
                 name = f"{r.name} {label}"
-            tx = None if r.tx is None else dataclasses.replace(r.tx, band=tb, bands=())
-            rx = None if r.rx is None else dataclasses.replace(r.rx, band=rb, bands=())
+            # every choice of a transmitting radio has a tx band, of a receiving one an rx band
+            tx = None if r.tx is None else dataclasses.replace(r.tx, band=cast(Band, tb), bands=())
+            rx = None if r.rx is None else dataclasses.replace(r.rx, band=cast(Band, rb), bands=())
             units.append(dataclasses.replace(r, name=name, tx=tx, rx=rx))
             radio_of.append(i)
             labels.append(label)

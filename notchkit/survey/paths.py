@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from typing import Any
 
 import numpy as np
 
@@ -167,7 +168,7 @@ class SiteArrays:
                 text = f"measured {iso:g} dB" + (f" at {f:g} MHz" if f else "")
                 self._measured[key] = (np.zeros(1), np.array([iso]))
             else:
-                fs = np.log10([f for f, _ in got])
+                fs = np.log10(np.array([f for f, _ in got], dtype=float))
                 self._measured[key] = (fs, np.array([v for _, v in got], dtype=float))
                 pts = ", ".join(f"{v:g} dB at {f:g} MHz" for f, v in got)
                 text = (
@@ -230,8 +231,8 @@ class SiteArrays:
         return min(g, 0.0) - float(self.ant_oob[i])
 
     # ------------------------------------------------------------ feedlines
-    def _feedlines(self, radios: tuple[Radio, ...], site: Site) -> dict[int, tuple[object, float]]:
-        feeds: dict[int, tuple[object, float]] = {}
+    def _feedlines(self, radios: tuple[Radio, ...], site: Site) -> dict[int, tuple[Any, float]]:
+        feeds: dict[int, tuple[Any, float]] = {}
         missing: dict[str, None] = {}
         cache: dict[str, object] = {}
         for i, r in enumerate(radios):

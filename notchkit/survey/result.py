@@ -6,6 +6,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement
 
 MULTI_SOURCE = ("intermod", "blocking")
@@ -151,6 +152,9 @@ class SurveyResult:
     has at least one notch; ``notes`` records assumptions (defaults used, pairs
     not evaluated).
     """
+
+    __repr__ = summary_repr
+    _repr_html_ = summary_html
 
     site: str
     transmitters: tuple[str, ...]
