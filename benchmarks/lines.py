@@ -91,8 +91,10 @@ def main() -> None:
     print(f"scikit-rf sample {k} candidates scaled to {n}; best of {args.repeat} runs of each\n")
 
     rows = []
-    threads = filters.set_threads(1)  # the default, given back: restored just below
-    filters.set_threads(threads)
+    from notchkit.parallel import cores
+
+    filters.set_threads(cores())  # the core's threads column: every core this process may use
+    threads = filters.set_threads(cores())
     for label, kinds in (("single stub", ("open",)), ("two stubs", ("open", "line", "short"))):
         lengths = rng.uniform(0.05, 3.0, size=(n, len(kinds)))
         n_stubs = sum(kind != "line" for kind in kinds)

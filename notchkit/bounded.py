@@ -58,7 +58,8 @@ class ReadRefused(Exception):
         self.kind, self.reason, self.size = kind, reason, size
 
 
-def _special(mode: int) -> str | None:
+def file_kind(mode: int) -> str | None:
+    """``None`` for a regular file, else what it is ("a directory", "a FIFO (named pipe)", ...)."""
     if stat.S_ISREG(mode):
         return None
     if stat.S_ISDIR(mode):
@@ -99,7 +100,7 @@ def read_regular(path: str | os.PathLike[str], limit: int) -> bytes:
         raise ReadRefused("other", f"cannot be read ({exc.strerror or exc})") from None
     try:
         st = os.fstat(fd)
-        what = _special(st.st_mode)
+        what = file_kind(st.st_mode)
         if what == "a directory":
             raise ReadRefused("directory", "is a directory")
         if what is not None:

@@ -244,8 +244,6 @@ def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
 
 
 def design(site: Any, *, progress: Progress | None = None, workers: int | None = None,
-           meanwhile: Callable[[Any], None] | None = None,
-           on_design: Callable[[int, Design], None] | None = None,
            calibration: Sequence[Any] = ()) -> DesignReport:
     """Survey a site and design every filter the survey asks for.
 
@@ -255,21 +253,15 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     progress : callable(str), optional
         Called with a short message as each filter is designed.
     workers : int, optional
-        Processes to design filters in at once. ``None`` (default) uses the
-        machine's cores when there is more than one filter; ``1`` designs them
-        one after another in this process. The results are the same either
-        way: every filter's search is deterministic and independent.
-    meanwhile : callable(survey), optional
-        Called once in this process, with the site's
-        :class:`~notchkit.survey.result.Survey`, while the worker processes
-        design (or before the first filter, when there are none):
-        :func:`notchkit.plan.plan` draws its threat pages then.
-    on_design : callable(index, Design), optional
-        Called in this process as each filter is designed (in the order they
-        finish), with its index in the report's ``designs``, after
-        ``meanwhile``: :func:`notchkit.plan.plan` draws each filter's pages
-        while the others are still being designed.
-
+        Processes to design filters in at once. ``None`` or ``1`` (default)
+        designs them one after another in this process: on the development
+        machine worker processes gave no wall-time gain
+        (``benchmarks/plan.py``, docs/performance.md). ``2`` or more designs
+        them in at most that many worker processes, no more than the cores
+        this process may run on (:func:`notchkit.parallel.fork_map`). The
+        results are the same either way: every filter's search is
+        deterministic and independent. The designs are returned finished;
+        nothing else runs while they are made.
     Returns
     -------
     DesignReport
@@ -315,24 +307,14 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
     jobs = [(req, m, site.limits, site.allowances if m.hardware is None else no_allowance, f"F{i}")
             for i, req, m in ((i, req, medium(req)) for i, req in enumerate(sv.filters, start=1))]
     n = len(jobs)
+    if workers is not None and int(workers) > 1 and n > 1:
+        done = _design_in_processes(jobs, workers, say)
+        return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
     designs: list[Design] = []
-    pending = [meanwhile] if meanwhile is not None else []
-
-    def once() -> None:
-        if pending:
-            pending.pop()(sv)
-
-    if workers != 1:
-        done = _design_in_processes(jobs, workers, say, once, on_design)
-        if done is not None:
-            return DesignReport(site_name=site.name, survey=sv, designs=tuple(done))
-    once()
     for i, (req, cable, limits, allowances, fid) in enumerate(jobs, start=1):
         say(f"{fid} ({i}/{n}): {req.label}")
         designs.append(design_filter(req, cable=cable, limits=limits, allowances=allowances,
                                      filter_id=fid, progress=say))
-        if on_design is not None:
-            on_design(i - 1, designs[-1])
     return DesignReport(site_name=site.name, survey=sv, designs=tuple(designs))
 
 
@@ -347,26 +329,20 @@ def _one_thread() -> None:
     filters.set_threads(1)  # the processes share the cores already
 
 
-def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress,
-                         meanwhile: Callable[[], None],
-                         on_design: Callable[[int, Design], None] | None) -> list[Design] | None:
-    """Design ``jobs`` in worker processes (:func:`notchkit.parallel.fork_map`), the
-    largest requirements first so the workers finish together; ``None`` where
-    processes cannot be used."""
+def _design_in_processes(jobs: list[tuple], workers: int | None, say: Progress) -> list[Design]:
+    """Design ``jobs`` with :func:`notchkit.parallel.fork_map` (worker processes where
+    they can be used, else here), the largest requirements first so the workers
+    finish together; the designs in the order of ``jobs``."""
     from notchkit.parallel import fork_map
 
     order = sorted(range(len(jobs)), key=lambda k: -(len(jobs[k][0].notches) + len(jobs[k][0].pass_bands)))
 
-    def report(i: int, d: Design, done: int) -> None:
+    def report(i: int, _d: Design, done: int) -> None:
         req, fid = jobs[order[i]][0], jobs[order[i]][4]
         say(f"{fid} ({done}/{len(jobs)} done): {req.label}")
-        if on_design is not None:
-            on_design(order[i], d)
 
     results = fork_map(_design_job, [jobs[k] for k in order], processes=workers, initializer=_one_thread,
-                       meanwhile=meanwhile, on_result=report)
-    if results is None:
-        return None
+                       on_result=report)
     out: list[Design] = [None] * len(jobs)  # type: ignore[list-item]
     for k, d in zip(order, results, strict=True):
         out[k] = d

@@ -44,19 +44,24 @@ KINDS = ("open", "short", "line")
 _CHUNK_POINTS = 1 << 14  # candidate-chunk size in points: scratch stays in cache, few Python steps
 _THREAD_POINTS = 1 << 19
 """Batches of at least this many points are shared among threads (numpy's loops release the GIL)."""
-_threads = max(1, min(4, os.cpu_count() or 1))
+_threads = 1
+"""One thread by default: on the development machine (2 cores, shared) more gave no
+wall-time gain to a design (0.99x) and a mixed one to the largest batches of
+``benchmarks/lines.py`` (docs/performance.md); :func:`set_threads` asks for more."""
 _pool = None
 
 
 def set_threads(n: int) -> int:
     """How many threads :func:`evaluate_batch` may use on a large batch; returns the old number.
 
-    The default is the machine's core count (at most 4). Use 1 inside worker
-    processes that already share the cores among themselves.
+    The default is 1. ``n`` is capped at the cores this process may run on
+    (:func:`notchkit.parallel.cores`, its CPU affinity).
     """
     global _threads, _pool
+    from notchkit.parallel import cores
+
     old = _threads
-    n = max(1, int(n))
+    n = max(1, min(int(n), cores()))
     if n != _threads and _pool is not None:
         _pool.shutdown(wait=False)
         _pool = None

@@ -1,4 +1,4 @@
-"""Independent jobs in forked worker processes, with an in-process fallback.
+"""Independent jobs in forked worker processes where that is safe, else in this one.
 
 Designing several filters, rendering the plan's pages and drawing its images
 are each a list of independent jobs; :func:`fork_map` runs them on the
@@ -8,8 +8,8 @@ libraries do not promise to survive it, which is why Python there defaults to
 ``spawn``), a process running no other thread (a fork copies only the calling
 thread), and not inside a daemonic worker of someone else's pool (which may
 have no children).
-Everywhere else it returns ``None`` and the caller runs the jobs itself, so the
-results never depend on whether processes were used.
+Everywhere else it runs the jobs itself, one after another, so it always
+returns the results, and they never depend on whether processes were used.
 """
 
 from __future__ import annotations
@@ -57,10 +57,9 @@ def fork_map(
     *,
     processes: int | None = None,
     initializer: Callable[[], None] | None = None,
-    meanwhile: Callable[[], None] | None = None,
     on_result: Callable[[int, Any, int], None] | None = None,
-) -> list[Any] | None:
-    """``[fn(item) for item in items]`` in forked worker processes, or ``None``.
+) -> list[Any]:
+    """``[fn(item) for item in items]``, in forked worker processes where they can be used.
 
     Parameters
     ----------
@@ -70,38 +69,56 @@ def fork_map(
     items : sequence
         Handed out in this order, one at a time, so put the longest jobs first.
     processes : int, optional
-        At most this many workers (default: :func:`cores`); fewer than two,
-        or fewer than two items, returns ``None``.
+        At most this many workers, and never more than :func:`cores` (the
+        cores this process may run on, the default). With fewer than two, or
+        fewer than two items, the jobs run here.
     initializer : callable, optional
         Run once in each worker before its first job (after the worker has
-        arranged to be killed if this process dies).
-    meanwhile : callable, optional
-        Run here once the workers are forked and working (so it may import
-        modules or start threads without harm to them).
+        arranged to be killed if this process dies); never in this process.
     on_result : callable(index, result, done), optional
-        Called here as each job finishes, in finishing order.
+        Called here as each job finishes, in finishing order (``done`` counts
+        from 1).
 
     Returns
     -------
-    list or None
-        The results in the order of ``items``; ``None`` when processes cannot
-        be used here (not Linux, other threads running, a daemonic process, no
-        processes allowed, a worker killed). ``meanwhile`` may have run before such a failure, so
-        a caller that falls back should make it safe to call twice.
+    list
+        The results in the order of ``items``. Where processes cannot be used
+        (not Linux, other threads running, a daemonic process, no processes
+        allowed) the jobs run in this process; a worker killed mid-way leaves
+        its unfinished jobs to this process too.
     """
+    out: list[Any] = [None] * len(items)
+    finished: set[int] = set()
+
+    def keep(k: int, result: Any) -> None:
+        out[k] = result
+        finished.add(k)
+        if on_result is not None:
+            on_result(k, result, len(finished))
+
+    _in_workers(fn, items, processes, initializer, keep)
+    for k, item in enumerate(items):
+        if k not in finished:
+            keep(k, fn(item))
+    return out
+
+
+def _in_workers(fn: Callable[[Any], Any], items: Sequence[Any], processes: int | None,
+                initializer: Callable[[], None] | None, keep: Callable[[int, Any], None]) -> None:
+    """Run what jobs it can in forked workers, handing each result to ``keep``; returns
+    quietly (leaving the rest to the caller) where processes cannot be used."""
     import multiprocessing
     import sys
     import threading
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    n = min(cores() if processes is None else int(processes), len(items))
+    n = min(cores(), cores() if processes is None else int(processes), len(items))
     if n < 2:
-        return None
+        return
     if (not sys.platform.startswith("linux") or "fork" not in multiprocessing.get_all_start_methods()
             or threading.active_count() > 1 or multiprocessing.current_process().daemon):
-        return None
-    out: list[Any] = [None] * len(items)
+        return
     try:
         pool = ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"),
                                    initializer=_start_worker, initargs=(os.getpid(), initializer))
@@ -109,13 +126,8 @@ def fork_map(
             # With fork, every worker is started at the first submit, before the
             # pool's own thread: nothing here runs in a thread while forking.
             futures = {pool.submit(fn, item): k for k, item in enumerate(items)}
-            if meanwhile is not None:
-                meanwhile()
-            for done, fut in enumerate(as_completed(futures), start=1):
-                k = futures[fut]
-                out[k] = fut.result()
-                if on_result is not None:
-                    on_result(k, out[k], done)
+            for fut in as_completed(futures):
+                keep(futures[fut], fut.result())
         except BaseException:
             # An error or Ctrl-C here: end the workers now rather than wait for every job.
             for proc in list((getattr(pool, "_processes", None) or {}).values()):
@@ -129,5 +141,4 @@ def fork_map(
     except (OSError, ImportError, BrokenProcessPool):
         # OSError: no processes or pipes allowed; ImportError: no working sem_open
         # (no /dev/shm in some containers); BrokenProcessPool: a worker was killed.
-        return None
-    return out
+        return

@@ -6,7 +6,7 @@ writes the PDF, and optionally a self-contained HTML page and an output
 folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
 plan's JSON. Every output is planned and checked together before the long
 computation (:func:`notchkit.report.files.plan_outputs`; the per-filter names
-again once the survey is done), and all are written together, all or none
+again once the filters are designed), and all are written together, all or none
 (:func:`notchkit.fileio.write_all`); the site file is only read.
 """
 
@@ -89,73 +89,10 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str,
                  dirs=[(outdir, "--outdir")] if outdir is not None else [])
 
 
-def _stems(sv: Any) -> list[str]:
-    """The file stems of the filters a survey asks for (``F1-wx-alert-rx``), as design names them."""
-    from types import SimpleNamespace
-
-    from notchkit.design import touchstone_name
-
-    stand_ins: list[Any] = [SimpleNamespace(id=f"F{i}", requirement=r) for i, r in enumerate(sv.filters, 1)]
-    return [touchstone_name(d).removesuffix(".s2p") for d in stand_ins]
-
-
-def _run_design(site: Any, under_way: _UnderWay | None = None, progress: Any = None) -> Any:
+def _run_design(site: Any, progress: Any = None) -> Any:
     from notchkit.design import design
 
-    if under_way is None:
-        return design(site, progress=progress)
-    return design(site, progress=progress, meanwhile=under_way.start, on_design=under_way.add)
-
-
-class _UnderWay:
-    """The plan's PDF while the filters are designed (in worker processes).
-
-    :meth:`start` runs once the survey is done and the workers are designing:
-    it imports the PDF writer (and matplotlib, for --html / --outdir) and draws
-    the threat and caution pages. :meth:`add` runs here as each design arrives:
-    it computes the filter's drawing data and curve and draws its pages, so
-    little is left to draw when the last filter is done. Everything drawn is
-    checked against the finished plan's text before it is used
-    (:meth:`notchkit.report.pdf.PlanPdf.matches`).
-    """
-
-    def __init__(self, site: Any, *, units: str, plan_json: str, page_size: str, footer: str,
-                 images: bool, check: Any = None) -> None:
-        self.site, self.units, self.plan_json = site, units, plan_json
-        self.page_size, self.footer, self.images = page_size, footer, images
-        self.check = check
-        self.pdf: Any = None
-        self.parts: dict[int, tuple[Any, Any, Any]] = {}
-
-    def start(self, sv: Any) -> None:
-        from notchkit.report.pdf import PlanPdf, choose_font, strings_of
-        from notchkit.report.text import CAUTIONS, matrix_table, plan_title, threat_table
-
-        if self.check is not None:  # every output, now that the filters' file names are known
-            self.check(sv)
-        if self.images:
-            import matplotlib.backends.backend_agg  # noqa: F401
-            import matplotlib.figure  # noqa: F401
-        matrix, threats = matrix_table(sv), threat_table(sv)
-        # The site's own strings decide the font (only they can hold characters outside
-        # Windows-1252); the finished plan checks the choice.
-        from notchkit.textsafe import clean
-
-        font = choose_font([*strings_of(self.site), clean(str(self.site.path), one_line=True), self.footer,
-                            *strings_of((matrix, threats))])
-        self.pdf = PlanPdf(title=plan_title(self.site.name), font=font, page_size=self.page_size,
-                           footer=self.footer)
-        self.pdf.threats(matrix, threats)
-        self.pdf.cautions(CAUTIONS)
-
-    def add(self, index: int, d: Any) -> None:
-        from notchkit.report.text import filter_text
-
-        if index in self.parts:  # designed again after the worker processes failed: keep the first
-            return
-        self.parts[index] = part = _part(d, self.site)
-        if self.pdf is not None:
-            self.pdf.filter(index, filter_text(d, self.units, self.plan_json), part)
+    return design(site, progress=progress)
 
 
 def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
@@ -296,11 +233,7 @@ def plan(
     json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
     json_name = str(json_path) if json_path is not None else "OUTDIR/plan.json"
     footer = f"{site.name} - notch plan {date} - notchkit {version}"
-    images = html is not None or outdir is not None
-    under_way = _UnderWay(site, units=units, plan_json=json_name, page_size=page_size, footer=footer,
-                          images=images,
-                          check=lambda sv: _check_outputs(out_pdf, html, outdir, site_path, _stems(sv)))
-    report = _run_design(site, under_way=under_way, progress=progress)
+    report = _run_design(site, progress=progress)  # finished designs: the PDF is drawn from them below
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.survey import survey
@@ -312,13 +245,12 @@ def plan(
     say("writing the PDF")
     pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
                    plan_json=json_name)
-    parts = [under_way.parts.get(k) or _part(d, site) for k, d in enumerate(designs)]
-    pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer, under_way=under_way.pdf)
+    parts = [_part(d, site) for d in designs]
+    pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer)
 
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
         from notchkit.design import touchstone_sweep_hz
-        from notchkit.parallel import fork_map
 
         say("drawing the images")
 
@@ -331,7 +263,8 @@ def plan(
                               f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
                               _stem_of(d))
             jobs.append((filt, curve, spans, ft, touchstone))
-        made = fork_map(_filter_files, jobs) or [_filter_files(job) for job in jobs]
+        # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
+        made = [_filter_files(job) for job in jobs]
     pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
 
     # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).

@@ -332,14 +332,17 @@ def test_workers_must_be_at_least_one(tmp_path):
         design(load_site(path), workers=0)
 
 
-def test_fork_map_declines_where_processes_are_unsafe(monkeypatch):
-    # Then the caller runs the jobs itself: None, never an exception.
+def test_fork_map_runs_the_jobs_here_where_processes_are_unsafe(monkeypatch):
+    # Then fork_map runs the jobs itself: the same results, never None, never an exception.
     import threading
 
     from notchkit import parallel
 
-    assert parallel.fork_map(abs, [1, 2], processes=1) is None  # one worker: nothing to gain
-    assert parallel.fork_map(abs, [1], processes=2) is None  # one job
+    said = []
+    assert parallel.fork_map(abs, [1, -2], processes=1, on_result=lambda *a: said.append(a)) == [1, 2]
+    assert said == [(0, 1, 1), (1, 2, 2)]  # one worker: the jobs in order, here
+    assert parallel.fork_map(abs, [-1], processes=2) == [1]  # one job
+    assert parallel.fork_map(abs, [], processes=2) == []
     import concurrent.futures
 
     def no_sem_open(*_a, **_k):
@@ -348,6 +351,29 @@ def test_fork_map_declines_where_processes_are_unsafe(monkeypatch):
     with monkeypatch.context() as m:  # a container without /dev/shm
         m.setattr(threading, "active_count", lambda: 1)  # so the pool is really tried
         m.setattr(concurrent.futures, "ProcessPoolExecutor", no_sem_open)
-        assert parallel.fork_map(abs, [1, 2], processes=2) is None
+        assert parallel.fork_map(abs, [1, -2], processes=2) == [1, 2]
     monkeypatch.setattr(threading, "active_count", lambda: 2)  # another thread is running
-    assert parallel.fork_map(abs, [1, 2], processes=2) is None
+    assert parallel.fork_map(abs, [1, -2], processes=2) == [1, 2]
+
+
+def test_cores_honour_the_cpu_affinity(monkeypatch):
+    import os
+
+    from notchkit import parallel
+
+    monkeypatch.setattr(os, "sched_getaffinity", lambda _pid: {0}, raising=False)
+    monkeypatch.setattr(os, "cpu_count", lambda: 8)
+    assert parallel.cores() == 1
+    monkeypatch.delattr(os, "sched_getaffinity", raising=False)
+    assert parallel.cores() == 8
+
+
+def test_threads_are_capped_at_the_cores(monkeypatch):
+    from notchkit import filters, parallel
+
+    monkeypatch.setattr(parallel, "cores", lambda: 1)
+    old = filters.set_threads(4)
+    try:
+        assert filters.set_threads(4) == 1  # asked for 4, given the one core allowed
+    finally:
+        filters.set_threads(old)

@@ -652,9 +652,9 @@ def test_design_with_a_file_as_touchstone_folder_writes_nothing(tmp_path, capsys
     assert (tmp_path / "afile").read_bytes() == b""
 
 
-def test_killing_the_plan_kills_its_worker_processes(tmp_path):
+def test_killing_the_designer_kills_its_worker_processes(tmp_path):
     # A SIGKILLed parent must not leave its design workers waiting forever
-    # (Linux PR_SET_PDEATHSIG, notchkit.parallel).
+    # (Linux PR_SET_PDEATHSIG, notchkit.parallel); design(site, workers=2) uses them.
     import signal
     import subprocess
     import sys
@@ -669,17 +669,17 @@ def test_killing_the_plan_kills_its_worker_processes(tmp_path):
               "d = importlib.import_module('notchkit.design')\n"
               "real = d.design_filter\n"
               "d.design_filter = lambda *a, **k: (time.sleep(60), real(*a, **k))[1]\n"
-              "from notchkit.cli import main\n"
-              "sys.exit(main(sys.argv[1:]))\n")
+              "from notchkit.site import load_site\n"
+              "d.design(load_site(sys.argv[1]), workers=2)\n")
     site = Path(__file__).resolve().parent.parent / "sites" / "hilltop-repeaters.yaml"  # ten filters
-    proc = subprocess.Popen([sys.executable, "-c", script, "plan", str(site), "-o", str(tmp_path / "x.pdf")],
+    proc = subprocess.Popen([sys.executable, "-c", script, str(site)],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     children: set[int] = set()
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline and proc.poll() is None and len(children) < 2:
         children = _children_of(proc.pid)
         time.sleep(0.02)
-    assert proc.poll() is None, "the plan ended before its workers were seen"
+    assert proc.poll() is None, "the design ended before its workers were seen"
     assert children, "no worker process was started"
     proc.send_signal(signal.SIGKILL)
     proc.wait()

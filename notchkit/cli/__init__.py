@@ -210,9 +210,9 @@ def entry() -> None:
     exits. Python's cycle collector walks every object it tracks on each full
     pass and several times at exit (about 25 ms a pass once numpy and the
     package are loaded). ``gc.freeze()`` moves what exists so far out of its
-    view: once here, after the imports (the forked design workers then also
-    leave those pages unwritten, as the :mod:`gc` documentation advises for
-    ``fork``), and once before exit, so the passes at shutdown skip everything
+    view: once here, after the imports (forked workers, where ``workers=N`` asks
+    for them, then also leave those pages unwritten, as the :mod:`gc`
+    documentation advises for ``fork``), and once before exit, so the passes at shutdown skip everything
     the command made. Objects made while the command runs are collected as
     usual. Together about 0.3 s of a 2.5 s plan (docs/performance.md). The
     library functions leave the caller's collector alone.

@@ -23,11 +23,11 @@ The files are then written together by :func:`notchkit.fileio.write_all`
 from __future__ import annotations
 
 import os
-import stat
 from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
+from notchkit.bounded import file_kind
 from notchkit.errors import InputError
 from notchkit.fileio import name_max, write_all, write_bytes_atomic, write_text_atomic
 from notchkit.textsafe import clean
@@ -41,22 +41,6 @@ PATH_MAX_DEFAULT = 4096
 
 def _q(p: object) -> str:
     return repr(clean(str(p), one_line=True))
-
-
-def _kind(mode: int) -> str | None:
-    if stat.S_ISREG(mode):
-        return None
-    if stat.S_ISDIR(mode):
-        return "a directory"
-    if stat.S_ISCHR(mode):
-        return "a character device"
-    if stat.S_ISBLK(mode):
-        return "a block device"
-    if stat.S_ISFIFO(mode):
-        return "a FIFO (named pipe)"
-    if stat.S_ISSOCK(mode):
-        return "a socket"
-    return "not a regular file"
 
 
 def _path_max(folder: Path) -> int:
@@ -110,7 +94,7 @@ def check_writable(path: str | os.PathLike, what: str = "output") -> Path:
     except OSError as exc:
         raise InputError(f"{label}: cannot be checked ({exc.strerror or exc})") from None
     if st is not None:
-        kind = _kind(st.st_mode)
+        kind = file_kind(st.st_mode)
         if kind == "a directory":
             raise InputError(f"{label} is a directory (give a file name, e.g. plan.pdf)")
         if kind is not None:

@@ -13,9 +13,8 @@ the same data matplotlib draws for the PNG images
 (:mod:`notchkit.report.sketch`, :func:`notchkit.report.curves.plot_layout`) by
 :mod:`notchkit.report.pdfdraw`.
 
-Each section's pages are drawn as PDF forms as soon as its data exist, and
-put in order at the end (:class:`PlanPdf`): the plan draws a filter's pages
-while the other filters are still being designed.
+Each section's pages are drawn as PDF forms, then put in order with their
+footers (:class:`PlanPdf`), once every filter is designed.
 """
 
 from __future__ import annotations
@@ -612,23 +611,12 @@ def _fit_filter(size_in: tuple[float, float], ft: FilterText, curve: Any, spans:
 
 
 class PlanPdf:
-    """The plan's PDF, drawn in parts as their data become known, then put in order.
-
-    The threat pages and the cautions (from the survey) and each filter's
-    page or pages (from its design) are drawn as PDF form XObjects (ISO 32000-1
-    sec. 8.10) the moment their data exist: :func:`notchkit.plan.plan` draws a
-    filter's pages as soon as its design arrives, while the other filters are
-    still being designed in worker processes. :meth:`finish` draws what is
-    still missing, then the cover and the cut labels, and puts every page in
-    order with its footer (``page k of N`` needs the count). A PDF reader shows
-    and extracts a form's text as its page's own.
-
-    With the embedded font a subset's glyph codes follow the order in which
-    characters are first drawn, so there the filters' pages wait for
-    :meth:`finish` and are drawn in their own order: the same plan always gives
-    the same pages, whatever order the designs finished in. (The threat pages
-    are always drawn first, so the standard font's resource names never depend
-    on that order either.)
+    """The plan's PDF: each section's pages drawn as a PDF form XObject (ISO 32000-1
+    sec. 8.10), then every page put in order with its footer (``page k of N``
+    needs the count). A PDF reader shows and extracts a form's text as its
+    page's own. The threat pages are drawn first, then the cautions, then the
+    filters in their own order, so the same plan always gives the same pages
+    (an embedded font subset numbers its glyphs in drawing order).
     """
 
     def __init__(self, *, title: str, font: PdfFont, page_size: str = "a4", footer: str = "") -> None:
@@ -651,7 +639,6 @@ class PlanPdf:
         self._threats: tuple[Table, Table, tuple[str, ...]] | None = None
         self._cautions: tuple[tuple[tuple[str, str], ...], tuple[str, ...]] | None = None
         self._filters: dict[int, tuple[FilterText, Any, tuple[str, ...]]] = {}
-        self._waiting: dict[int, tuple[FilterText, Any]] = {}
         self._finished = False
 
     def _forms(self, prefix: str, draw: Callable[[Callable[[], _Page]], Any]) -> tuple[str, ...]:
@@ -683,17 +670,6 @@ class PlanPdf:
             self._cautions = (cautions, self._forms("nk-cautions", lambda new_page: _cautions(new_page(),
                                                                                               cautions)))
 
-    def filter(self, index: int, ft: FilterText, part: tuple[Any, Any, Any]) -> None:
-        """Filter ``index``'s page(s) (0-based; ``part`` is (filter, CurveData, spans)): drawn
-        now with the standard font, at :meth:`finish` with the embedded one. The first copy
-        given for an index is kept."""
-        if index in self._filters or index in self._waiting:
-            return
-        if self.font.files is not None:
-            self._waiting[index] = (ft, part)
-        else:
-            self._draw_filter(index, ft, part)
-
     def _draw_filter(self, index: int, ft: FilterText, part: tuple[Any, Any, Any]) -> None:
         filt, curve, spans = part
         step, one_page = _fit_filter(self.size_in, ft, curve, spans, filt, self.font)
@@ -704,27 +680,10 @@ class PlanPdf:
 
         self._filters[index] = (ft, part, self._forms(f"nk-filter{index + 1}", draw))
 
-    def matches(self, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str,
-                footer: str) -> bool:
-        """Whether everything drawn so far is what ``pt`` prints (same font, title, tables,
-        filter texts and the very same curve data), so :meth:`finish` may use it."""
-        if self._finished or page_size != self.page_size or footer != self.footer or pt.title != self.title:
-            return False
-        if choose_font(strings_of(pt) + [footer]) is not self.font:
-            return False
-        if self._threats is not None and self._threats[:2] != (pt.matrix, pt.threats):
-            return False
-        if self._cautions is not None and self._cautions[0] != pt.cautions:
-            return False
-        done = {**{k: v[:2] for k, v in self._filters.items()}, **self._waiting}
-        return all(k < len(pt.filters) and ft == pt.filters[k] and part is filter_parts[k]
-                   for k, (ft, part) in done.items())
-
     def finish(self, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]]) -> tuple[bytes, PdfLayout]:
         """Draw what is missing, put every page in order with its footer and return the file.
 
-        The parts drawn before must match ``pt`` (:meth:`matches`); a :class:`PlanPdf`
-        is finished once.
+        A :class:`PlanPdf` is finished once.
         """
         from reportlab import rl_config
 
@@ -733,9 +692,6 @@ class PlanPdf:
         self._finished = True
         self.threats(pt.matrix, pt.threats)
         self.cautions(pt.cautions)
-        for k in sorted(self._waiting):
-            self._draw_filter(k, *self._waiting[k])
-        self._waiting.clear()
         for k, (ft, part) in enumerate(zip(pt.filters, filter_parts, strict=True)):
             if k not in self._filters:
                 self._draw_filter(k, ft, part)
@@ -770,7 +726,7 @@ class PlanPdf:
 
 
 def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, page_size: str = "a4",
-               footer: str = "", under_way: PlanPdf | None = None) -> tuple[bytes, PdfLayout]:
+               footer: str = "") -> tuple[bytes, PdfLayout]:
     """Render the plan to PDF bytes.
 
     Parameters
@@ -782,27 +738,21 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *, pa
     page_size : {"a4", "letter"}
     footer : str
         Left footer text of every page.
-    under_way : PlanPdf, optional
-        A plan whose parts were drawn as their data arrived; it is finished when
-        what it drew :meth:`~PlanPdf.matches` ``pt``, else the plan is drawn anew.
 
     Returns
     -------
     bytes, PdfLayout
     """
     page_size_in(page_size)
-    pdf = under_way
-    if pdf is None or not pdf.matches(pt, filter_parts, page_size=page_size, footer=footer):
-        pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), page_size=page_size,
-                      footer=footer)
+    pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), page_size=page_size,
+                  footer=footer)
     return pdf.finish(pt, filter_parts)
 
 
 def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[tuple[Any, Any, Any]], *,
-              page_size: str = "a4", footer: str = "", under_way: PlanPdf | None = None
-              ) -> tuple[Path, PdfLayout]:
+              page_size: str = "a4", footer: str = "") -> tuple[Path, PdfLayout]:
     """Render with :func:`render_pdf` and write the file atomically."""
-    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer, under_way=under_way)
+    data, layout = render_pdf(pt, filter_parts, page_size=page_size, footer=footer)
     return write_bytes_atomic(path, data), layout
 
 
