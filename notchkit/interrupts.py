@@ -60,15 +60,20 @@ def guard_startup() -> None:
 
 
 def hold_until_exit() -> None:
-    """Block SIGINT for the rest of the process: the command has finished (its outputs are
+    """Ignore SIGINT for the rest of the process: the command has finished (its outputs are
     complete), and Python's shutdown restores the default handler, under which a late
-    Ctrl-C would kill the process with no message and a signal status."""
+    Ctrl-C would kill the process with no message and a signal status.
+
+    Ignoring is process-wide (and Python's shutdown leaves an ignored signal ignored);
+    blocking alone is not enough: it holds only in this thread, and a signal sent to the
+    process goes to any thread that does not block it (numpy's BLAS threads among them).
+    """
     try:
-        _signal.pthread_sigmask(_signal.SIG_BLOCK, [_signal.SIGINT])
-    except (AttributeError, OSError, ValueError):  # no pthread_sigmask: ignore it instead
+        _signal.signal(_signal.SIGINT, _signal.SIG_IGN)
+    except (ValueError, OSError):  # not the main thread: block it here at least
         try:
-            _signal.signal(_signal.SIGINT, _signal.SIG_IGN)
-        except (ValueError, OSError):
+            _signal.pthread_sigmask(_signal.SIG_BLOCK, [_signal.SIGINT])
+        except (AttributeError, OSError, ValueError):
             pass
 
 
