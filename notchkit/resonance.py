@@ -21,6 +21,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from notchkit.errors import MeasurementError, NotchkitError, UsageError
+from notchkit.lines import C0
 
 Termination = Literal["open", "short"]
 
@@ -377,4 +378,122 @@ def _fit_candidate(f: NDArray[np.float64], w: NDArray[np.complex128], contrast: 
     )
 
 
-__all__ = ["Resonance", "find_resonance", "named"]
+# ------------------------------------------------------------------ a stub with its hardware
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class HardwareStub:
+    """A stub with its connection hardware, for the resonance -> length / VF inversion.
+
+    From the far end: the cable (``z0_ohm``) ending open or in the short's
+    inductance ``short_nh``; the plug, ``plug_m`` of ``z_pair_ohm`` line at
+    ``pair_vf`` (included in the stub's length); measured through the tee,
+    the tee's side arm, ``tee_side_m`` of ``tee_z_ohm`` line at ``tee_vf``.
+    All lossless: the stub's input reactance through a chain of lines is the
+    textbook ``Z_in = Z (Z_L + j Z tan bl) / (Z + j Z_L tan bl)`` (Pozar,
+    *Microwave Engineering*, 4th ed., eq. 2.44), carried as an unwrapped angle
+    ``psi`` with ``X = Z tan psi`` so the ``n``-th resonance is one root.
+    """
+
+    z0_ohm: float
+    z_pair_ohm: float
+    plug_m: float
+    pair_vf: float
+    tee_z_ohm: float
+    tee_side_m: float
+    tee_vf: float
+    short_nh: float
+    tee_through_m: float = 0.0
+
+    @classmethod
+    def from_json(cls, hw: Any, z0_ohm: float) -> HardwareStub:
+        """From a plan's ``filters[i].model.hardware`` (or a :class:`notchkit.hardware.Hardware`)."""
+        from notchkit.hardware import FAMILIES, Hardware
+
+        if isinstance(hw, Hardware):
+            fam = hw.family
+            return cls(z0_ohm=z0_ohm, z_pair_ohm=fam.z_pair_ohm, plug_m=fam.plug_mm * 1e-3,
+                       pair_vf=fam.pair_vf, tee_z_ohm=fam.tee_z_ohm, tee_side_m=fam.tee_side_mm * 1e-3,
+                       tee_vf=fam.tee_vf, short_nh=hw.short_nh, tee_through_m=fam.tee_through_mm * 1e-3)
+        fam = FAMILIES.get(str(hw.get("family", "")).lower(), FAMILIES["uhf"])
+        return cls(z0_ohm=z0_ohm, z_pair_ohm=float(hw["z_pair_ohm"]), plug_m=float(hw["plug_mm"]) * 1e-3,
+                   pair_vf=float(hw.get("pair_vf", fam.pair_vf)), tee_z_ohm=float(hw["tee_z_ohm"]),
+                   tee_side_m=float(hw["tee_side_mm"]) * 1e-3, tee_vf=float(hw.get("tee_vf", fam.tee_vf)),
+                   short_nh=float(hw["short_nh"]), tee_through_m=float(hw.get("tee_through_mm", 0.0)) * 1e-3)
+
+    def junction_impedance(self, network: Any) -> Any:
+        """The stub branch's impedance at the tee's junction from a two-port sweep through the
+        tee: the two through arms (lossless lines) are taken off the measured ABCD matrix and
+        the shunt left is ``[[1, 0], [1/Z, 1]]`` (Pozar table 4.1). Returned as a one-port
+        :class:`skrf.Network` in the sweep's port impedance, so its series resonance is found
+        as for a stub alone, free of the notch shape the arms' mismatch gives ``|S21|``."""
+        import skrf
+
+        f = np.asarray(network.f, dtype=float)
+        a = np.asarray(network.a, dtype=complex)
+        bl = 2.0 * np.pi * f * self.tee_through_m / (C0 * self.tee_vf)
+        inv = np.empty_like(a)
+        inv[:, 0, 0] = inv[:, 1, 1] = np.cos(bl)
+        inv[:, 0, 1] = -1j * self.tee_z_ohm * np.sin(bl)
+        inv[:, 1, 0] = -1j * np.sin(bl) / self.tee_z_ohm
+        shunt = inv @ a @ inv
+        z_sys = float(np.real(np.asarray(network.z0)[0, 0]))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            z = 1.0 / shunt[:, 1, 0]
+            s11 = (z - z_sys) / (z + z_sys)
+        s11 = np.where(np.isfinite(s11), s11, 1.0)
+        return skrf.Network(frequency=network.frequency, s=s11.reshape(-1, 1, 1), z0=z_sys)
+
+    @staticmethod
+    def target_angle(termination: str, quarter_waves: int) -> float:
+        """``psi`` at the ``quarter_waves``-th series resonance (``X = 0``)."""
+        return quarter_waves * math.pi / 2.0 - (math.pi / 2.0 if termination == "open" else 0.0)
+
+    def angle(self, freq_hz: float, cable_angle: float, termination: str, ports: int) -> float:
+        """Unwrapped ``psi`` (``X = Z tan psi``) at the plug's mating face (one port) or at the
+        tee's junction (two ports), the cable ``cable_angle`` radians long."""
+        w = 2.0 * math.pi * freq_hz
+        psi = -math.pi / 2.0 if termination == "open" else math.atan(w * self.short_nh * 1e-9 / self.z0_ohm)
+        psi += cable_angle
+        z = self.z0_ohm
+        sections = [(self.z_pair_ohm, self.pair_vf, self.plug_m)]
+        if ports == 2:
+            sections.append((self.tee_z_ohm, self.tee_vf, self.tee_side_m))
+        for zs, vf, length in sections:
+            k = math.floor(psi / math.pi + 0.5)
+            psi = math.atan(z / zs * math.tan(psi - k * math.pi)) + k * math.pi
+            psi += w * length / (C0 * vf)
+            z = zs
+        return psi
+
+    def cable_angle(self, freq_hz: float, termination: str, quarter_waves: int, ports: int) -> float | None:
+        """The cable's electrical length, radians, that resonates at ``freq_hz``; ``None``
+        when the hardware alone is already longer."""
+        from scipy.optimize import brentq
+
+        goal = self.target_angle(termination, quarter_waves)
+
+        def err(theta: float) -> float:
+            return self.angle(freq_hz, theta, termination, ports) - goal
+
+        if err(0.0) >= 0.0:
+            return None
+        return float(brentq(err, 0.0, goal + 1.5 * math.pi, xtol=1e-13, rtol=1e-13))
+
+    def resonance_hz(self, cable_m: float, vf: float, termination: str, quarter_waves: int, ports: int,
+                     guess_hz: float) -> float:
+        """The ``quarter_waves``-th series resonance of this stub with ``cable_m`` of cable at ``vf``."""
+        from scipy.optimize import brentq
+
+        goal = self.target_angle(termination, quarter_waves)
+
+        def err(f: float) -> float:
+            return self.angle(f, 2.0 * math.pi * f * cable_m / (C0 * vf), termination, ports) - goal
+
+        lo, hi = guess_hz * 1e-3, guess_hz
+        while err(hi) < 0.0:
+            hi *= 2.0
+        return float(brentq(err, lo, hi, xtol=1e-6, rtol=1e-13))
+
+
+__all__ = ["HardwareStub", "Resonance", "find_resonance", "named"]

@@ -48,7 +48,7 @@ import io
 import math
 import os
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any, Literal
 
@@ -64,6 +64,7 @@ from notchkit.resonance import (  # noqa: F401  (re-exported: the measuring step
     MIN_DEPTH_DB,
     MIN_SIDE_POINTS,
     NOISE_SIGMAS,
+    HardwareStub,
     Resonance,
     _default_quarter_waves,
     find_resonance,
@@ -485,6 +486,7 @@ def trim(
     quarter_waves: int | None = None,
     allowance_m: float | None = None,
     png_path: str | os.PathLike[str] | None = None,
+    hardware: Any = None,
 ) -> TrimResult:
     """Find a stub's measured resonance and say how much to cut to reach the target.
 
@@ -519,6 +521,12 @@ def trim(
         tee allowance for an ``.s2p``, else 0.
     png_path : path, optional
         Write a plot of the measurement there (atomically).
+    hardware : notchkit.hardware.Hardware or dict, optional
+        The stub's connection hardware (plug, tee side arm, the short's
+        inductance); default: the plan filter's ``model.hardware``, if any.
+        With hardware the length runs from the plug's mating face (plug
+        included), the tee allowance is not used, and the inversion is
+        :func:`hardware_inversion`.
 
     Returns
     -------
@@ -544,7 +552,22 @@ def trim(
         plan_outputs([(png_path, "--png")], inputs=[(measurement_path, "measurement"),
                                                         (plan_path, "plan JSON")])
     cable_obj = _cable(cable)
-    stub = None if plan_path is None else load_plan_stub(plan_path, str(stub_id))
+    stub = filt = None
+    if plan_path is not None:
+        filt, stub = read_plan(plan_path).stub(str(stub_id))
+    if hardware is None and filt is not None:
+        hardware = (filt.extra.get("model") or {}).get("hardware")
+    hw = None
+    if hardware is not None:
+        try:
+            hw = HardwareStub.from_json(hardware, _z0(filt, cable_obj))
+        except (KeyError, TypeError, ValueError, AttributeError) as exc:
+            raise named(UsageError(f"hardware: {hardware!r} is not a connection hardware model ({exc}; "
+                                   "allowed: a notchkit.hardware.Hardware or a plan's model.hardware)"),
+                        "hardware") from None
+    if hw is not None and allowance_m:
+        raise named(UsageError(f"allowance_m: {allowance_m!r} is not used with connection hardware (the "
+                               "tee's side arm is modelled); leave it out"), "allowance_m")
     if stub is None and termination not in ("open", "short"):
         raise named(UsageError(f"termination: {termination!r} must be 'open' or 'short'"), "termination")
     ntwk = read_measurement(measurement_path)
@@ -553,7 +576,21 @@ def trim(
     tgt = plan_target(stub, ports=ports, termination=termination, target_mhz=target_mhz,
                       quarter_waves=quarter_waves, length_m=length_m, plan_length=plan_length,
                       allowance_m=allowance_m)
+    n0 = tgt.quarter_waves or _default_quarter_waves(ports, tgt.termination)
+    if hw is not None and ports == 2 and target_mhz is None and stub is not None and filt is not None:
+        # the plan's trim resonance is the stub's alone at its plug: move it to the tee's junction
+        vf_plan = float(filt.cable.velocity_factor)
+        f_tee = hw.resonance_hz(stub.cut_length_m - hw.plug_m, vf_plan, tgt.termination, n0, 2,
+                                tgt.target_mhz * 1e6)
+        tgt = replace(tgt, target_mhz=f_tee / 1e6,
+                      target_source=f"plan {stub.id} resonance alone, moved to the tee's junction "
+                                    f"({hw.tee_side_m * 1000:g} mm side arm)")
     res = _measure(ntwk, tgt, label)
+    if hw is not None and ports == 2:
+        # the frequency from the stub branch at the junction (the arms taken off); depth and Q
+        # stay those of the notch
+        at_junction = _measure(hw.junction_impedance(ntwk), replace(tgt, quarter_waves=n0), label)
+        res = replace(res, freq_hz=at_junction.freq_hz)
     n = tgt.quarter_waves or _default_quarter_waves(res.ports, tgt.termination)
     ratio = res.freq_mhz / tgt.target_mhz
     notes = _resonance_warnings(res, ratio, n, expected_q(cable_obj, res.freq_hz), cable_obj)
@@ -563,12 +600,19 @@ def trim(
                                f"allowance) is longer than any stub (allowed: at most {MAX_LENGTH_M:g} m)"),
                     "length_m")
     if tgt.present_length_m is not None:
-        le = tgt.present_length_m + tgt.allowance_m
-        vf = effective_vf(le, res.freq_hz, n)
-        check_vf(vf, quarter_waves=n, electrical_length_m=le, resonance_hz=res.freq_hz,
-                 nominal=float(cable_obj.velocity_factor))
-        target_len, cut = cut_for_target(tgt.present_length_m, tgt.allowance_m, res.freq_mhz,
-                                         tgt.target_mhz)
+        if hw is None:
+            le = tgt.present_length_m + tgt.allowance_m
+            vf = effective_vf(le, res.freq_hz, n)
+            check_vf(vf, quarter_waves=n, electrical_length_m=le, resonance_hz=res.freq_hz,
+                     nominal=float(cable_obj.velocity_factor))
+            target_len, cut = cut_for_target(tgt.present_length_m, tgt.allowance_m, res.freq_mhz,
+                                             tgt.target_mhz)
+        else:  # the cable's own VF and length, the plug, the short and the tee's side arm modelled
+            vf, target_len = hardware_inversion(hw, tgt.present_length_m, res.freq_hz, tgt.target_mhz * 1e6,
+                                                tgt.termination, n, ports)
+            check_vf(vf, quarter_waves=n, electrical_length_m=tgt.present_length_m - hw.plug_m,
+                     resonance_hz=res.freq_hz, nominal=float(cable_obj.velocity_factor))
+            cut = tgt.present_length_m - target_len
         notes += _vf_warnings(vf, cable_obj)
     f = np.asarray(ntwk.f, dtype=float)
     result = TrimResult(
@@ -585,6 +629,50 @@ def trim(
     if png_path is not None:
         plot_measurement(ntwk, result, png_path)
     return result
+
+
+def _z0(filt: Any, cable: Any) -> float:
+    """The cable's impedance: the plan's, else the cable's."""
+    if filt is not None:
+        return float(filt.cable.z0_ohm)
+    return float(cable.z0_ohm)
+
+
+def hardware_inversion(hw: HardwareStub, present_m: float, resonance_hz: float, target_hz: float,
+                       termination: str, quarter_waves: int, ports: int) -> tuple[float, float]:
+    """``(velocity_factor, target_length_m)`` of a stub with connection hardware.
+
+    ``present_m`` runs from the plug's mating face (plug included). The cable's
+    electrical length that makes the hardware stub (plug, short's inductance,
+    and through the tee its side arm) resonate at ``resonance_hz`` is solved
+    with :func:`scipy.optimize.brentq` on the model's phase
+    (:class:`notchkit.resonance.HardwareStub`); the effective VF is that of the
+    cable part alone, ``VF = w l_cable / (c theta)``. The target length is the
+    plug plus the cable that, at that VF, resonates at ``target_hz`` in the same
+    measurement.
+
+    Raises
+    ------
+    MeasurementError
+        The hardware alone resonates below the measurement or the target (names
+        ``length_m`` and ``quarter_waves``).
+    """
+    cable_m = present_m - hw.plug_m
+    theta = hw.cable_angle(resonance_hz, termination, quarter_waves, ports)
+    if cable_m <= 0 or theta is None or theta <= 0:
+        raise named(MeasurementError(
+            f"the stub's hardware alone (plug {hw.plug_m * 1000:g} mm"
+            f"{f', tee side arm {hw.tee_side_m * 1000:g} mm' if ports == 2 else ''}) leaves no cable for "
+            f"{quarter_waves} quarter waves at {resonance_hz / 1e6:.4f} MHz with length_m {present_m:g}: "
+            "check quarter_waves, length_m and that this is the right stub; no cut is advised"),
+            "quarter_waves", "length_m")
+    vf = 2.0 * math.pi * resonance_hz * cable_m / (C0 * theta)
+    theta_t = hw.cable_angle(target_hz, termination, quarter_waves, ports)
+    if theta_t is None:
+        raise named(MeasurementError(
+            f"the stub's hardware alone resonates below the target {target_hz / 1e6:.4f} MHz: no cable "
+            "length reaches it (check quarter_waves)"), "quarter_waves")
+    return vf, hw.plug_m + theta_t * C0 * vf / (2.0 * math.pi * target_hz)
 
 
 def _measure(ntwk: Any, tgt: TrimTarget, label: str) -> Resonance:
