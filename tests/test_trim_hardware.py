@@ -17,7 +17,7 @@ import json
 from pathlib import Path
 
 import pytest
-from hw_bench import C, plan_hardware, truth_length_m
+from hw_bench import C, plan_hardware, stub_network, truth_length_m
 from test_trim_plan import CUT_TOLERANCE_MM, printed_commands, run, synthesise
 
 from notchkit.cables import get_cable
@@ -91,3 +91,48 @@ def test_the_stub_through_the_tee_trims_to_the_true_cut(uhf_plan, tmp_path, caps
     for sid, got, truth, vf in _trim_all(uhf_plan, tmp_path, capsys, monkeypatch, ports=2, vf_true=0.66):
         assert got == pytest.approx(truth, abs=CUT_TOLERANCE_MM), sid
         assert vf == pytest.approx(0.66, abs=0.005), sid
+
+
+@pytest.mark.parametrize(("termination", "n", "ports", "length"),
+                         [("open", 1, 1, 0.140), ("open", 1, 2, 0.140), ("short", 2, 1, 0.300),
+                          ("short", 2, 2, 0.300)])
+def test_the_hardware_option_without_a_plan(tmp_path, termination, n, ports, length):
+    # A UHF stub built in scikit-rf (tests/hw_bench.py) at VF 0.64, trimmed with the library's
+    # hardware option and a target of its own: the advised cut leaves the textbook length whose
+    # alone resonance (one port) is the target (Pozar eq. 2.44), and the VF is the cable's.
+    import skrf
+
+    from notchkit.hardware import Hardware
+    from notchkit.trim import trim
+
+    hw = Hardware.of("uhf")
+    cable = get_cable("RG-213")
+    vf_true, target_mhz = 0.64, 330.0
+    freq = skrf.Frequency(200, 420, 1201, "MHz")
+    ntwk = stub_network(freq, termination=termination, length_m=length, vf=vf_true, cable=cable,
+                        hw=hw.to_json(), ports=ports)
+    name = f"stub.s{ports}p"
+    ntwk.write_touchstone("stub", dir=str(tmp_path))
+    res = trim(tmp_path / name, cable="RG-213", termination=termination, target_mhz=target_mhz,
+               length_m=length, quarter_waves=n, hardware=hw)
+    assert res.velocity_factor == pytest.approx(vf_true, abs=0.005)
+    if ports == 1:
+        truth = truth_length_m(termination=termination, quarter_waves=n, resonance_hz=target_mhz * 1e6,
+                               vf=vf_true, z0=cable.z0_ohm, hw=hw.to_json())
+        assert res.target_length_m == pytest.approx(truth, abs=CUT_TOLERANCE_MM / 1000)
+    else:  # through the tee: the same stub cut to the advised length notches at the target
+        cut = stub_network(freq, termination=termination, length_m=res.target_length_m, vf=vf_true,
+                           cable=cable, hw=hw.to_json(), ports=2)
+        f_notch = freq.f[int(abs(cut.s[:, 1, 0]).argmin())]
+        assert f_notch == pytest.approx(target_mhz * 1e6, rel=2 * (freq.f[1] - freq.f[0]) / freq.f[0])
+
+
+def test_a_bad_hardware_option_is_refused(tmp_path):
+    from notchkit.errors import UsageError
+    from notchkit.trim import trim
+
+    s1p = tmp_path / "x.s1p"
+    s1p.write_text("# MHz S RI R 50\n" + "".join(f"{100 + i} 0.5 0.5\n" for i in range(10)))
+    with pytest.raises(UsageError, match="^hardware: "):
+        trim(s1p, cable="RG-213", termination="open", target_mhz=105.0, length_m=0.5,
+             hardware={"family": "uhf"})
