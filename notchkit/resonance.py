@@ -181,13 +181,15 @@ def _fit_notch(f, u, center_hz):
 
     The weights follow the noise of ``u`` for a constant noise on ``S21``:
     ``sigma_u ~ 2 |S21| sigma (1 + u)^2``, with the smallest ``|S21|`` of the
-    window as a floor. Returns (f0, u_min, curvature_per_hz2, u_min_std).
+    window as a floor (never below 1e-6, -120 dB). Returns (f0, u_min, curvature_per_hz2, u_min_std).
     """
 
     def fit(lo, hi, t):
         uw = u[lo:hi]
         mag = np.sqrt(uw / (1.0 + uw))
-        weight = 1.0 / ((mag + mag.min()) * (1.0 + uw) ** 2)
+        # floor at |S21| = 1e-6 (-120 dB, below any analyser's noise): a simulated lossless
+        # notch reaches exactly zero, which would give an infinite weight
+        weight = 1.0 / ((mag + max(float(mag.min()), 1e-6)) * (1.0 + uw) ** 2)
         (a2, a1, a0), cov = _polyfit_cov(t, uw, 2, weight)
         if not a2 > 0:
             raise _NoResonance("curvature")

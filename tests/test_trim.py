@@ -356,3 +356,36 @@ def test_library_names_parameters_and_the_command_line_its_flags(tmp_path, capsy
     assert code == 2 and out == ""
     assert "--quarter-waves 1" in err and "--length-m" in err
     assert "quarter_waves" not in err and " length_m" not in err
+
+
+def test_a_lossless_noiseless_notch_through_the_tee(tmp_path, capsys):
+    """A simulated perfect stub (no loss, no noise) takes |S21| to exactly zero at its
+    resonance; the notch fit must still find it (it once failed with a singular matrix).
+    Truth: the textbook f = c VF / (4 L) (Pozar, section 6.3) of scikit-rf's lossless line."""
+    length_m, vf = 0.35, 0.66
+    f_true = quarter_wave_hz(1, vf, length_m)
+    ntwk = stub_network(termination="open", ports=2, length_m=length_m, vf=vf,
+                        start_mhz=f_true / 1e6 * 0.8, stop_mhz=f_true / 1e6 * 1.2, points=401,
+                        alpha_at_100mhz=0.0, noise=0.0)
+    k = int(np.argmin(abs(ntwk.f - f_true)))
+    ntwk.s[k, 1, 0] = ntwk.s[k, 0, 1] = 0.0  # what the lossless model gives on resonance
+    ntwk.s[k, 0, 0] = ntwk.s[k, 1, 1] = -1.0
+    path = write(ntwk, tmp_path, "perfect_open")
+    got = run_json(capsys, path, "--cable", "RG-213", "--termination", "open",
+                   "--target-mhz", f"{f_true / 1e6 * 0.98:.4f}", "--length-m", str(length_m))
+    assert got["resonance_mhz"] == pytest.approx(f_true / 1e6, rel=5e-4)
+    assert got["velocity_factor"] == pytest.approx(vf, rel=2e-3)
+
+
+def test_the_notch_fit_takes_an_exact_zero():
+    """The notch parabola's weights once divided by |S21| = 0 (singular least squares).
+    u = |S21|^2 / (1 - |S21|^2) of an ideal notch is a parabola in the fractional
+    detuning with its vertex at zero (common practice: a resonator's response near
+    resonance); the fit must return that vertex."""
+    from notchkit.resonance import _fit_notch
+
+    f = np.linspace(90e6, 110e6, 401)
+    u = ((f - 100e6) / 100e6 * 50.0) ** 2
+    f0, u_min, _curv, _std = _fit_notch(f, u, 100.2e6)
+    assert f0 == pytest.approx(100e6, rel=1e-9)
+    assert u_min == pytest.approx(0.0, abs=1e-12)
