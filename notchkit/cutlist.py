@@ -308,15 +308,17 @@ class LineCut:
         }
 
 
+def _tee_numbers(filt: Filter) -> dict[int, int]:
+    """Element index -> the number (from 1, radio side first) of the tee it hangs on or joins."""
+    return {i: t for t, idx in enumerate(filt.tees(), start=1) for i in idx}
+
+
 def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = "F1",
               barrel_m: float = 0.0) -> tuple[LineCut, ...]:
     """Every line section of ``filt``, radio side first, with the tees it joins; one
     ``barrel_m`` long (within 0.1 mm) is a barrel adapter."""
     vf = float(filt.cable.velocity_factor)
-    tee_of: dict[int, int] = {}
-    for t, idx in enumerate(filt.tees(), start=1):
-        for i in idx:
-            tee_of[i] = t
+    tee_of = _tee_numbers(filt)
     out = []
     ids = element_ids(filt, filter_id)
     for i, e in enumerate(filt.elements):
@@ -447,10 +449,7 @@ def cut_list(
     passes = _positive_freqs(pass_mhz, "pass_mhz")
     vf = float(filt.cable.velocity_factor)
     allowance = float(filt.tee_allowance_m)
-    tee_of: dict[int, int] = {}
-    for t, idx in enumerate(filt.tees(), start=1):
-        for i in idx:
-            tee_of[i] = t
+    tee_of = _tee_numbers(filt)
     cuts = []
     ids = element_ids(filt, filter_id)
     for i, e in enumerate(filt.elements):
