@@ -15,13 +15,13 @@ import time
 from pathlib import Path
 
 from notchkit.cables import get_cable
-from notchkit.design import design_filter
 from notchkit.hardware import model_for
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import load_site
 from notchkit.site.model import Allowances, Band, Limits
 from notchkit.solver import solve
-from notchkit.survey import survey
+from notchkit.synthesis import design_filter
+from notchkit.threats import survey
 
 TARGET_S = 1.0
 ROOT = Path(__file__).resolve().parent.parent

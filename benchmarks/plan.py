@@ -65,7 +65,7 @@ def phases(site: Path) -> None:
 
     from notchkit.site import load_site
 
-    plan_mod = importlib.import_module("notchkit.plan")
+    plan_mod = importlib.import_module("notchkit.siteplan")
     import reportlab.pdfgen.canvas  # noqa: F401  (imported outside the timings)
 
     from notchkit.report.curves import curve_data
@@ -97,11 +97,11 @@ def phases(site: Path) -> None:
 VARIANT = """
 import importlib, sys, time
 from notchkit import filters
-from notchkit.design import design
+from notchkit.synthesis import design
 from notchkit.parallel import fork_map
 from notchkit.site import load_site
 import matplotlib.figure, reportlab.pdfgen.canvas  # imports outside the timings
-plan = importlib.import_module("notchkit.plan")  # the module, not the function
+plan = importlib.import_module("notchkit.siteplan")  # the module, not the function
 what, n = sys.argv[1], int(sys.argv[2])  # n: processes (0: one process, one thread)
 site = load_site(sys.argv[3])
 if what == "design":

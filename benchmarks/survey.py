@@ -20,7 +20,7 @@ import time
 import numpy as np
 
 from notchkit.site.model import Antenna, Band, Radio, Receive, Site, Transmit
-from notchkit.survey import survey
+from notchkit.threats import survey
 
 TARGET_S = 30.0
 TARGET_MB = 2048.0

@@ -12,12 +12,12 @@ from __future__ import annotations
 
 import time
 
+from notchkit.buildyield import tolerance
 from notchkit.cables import get_cable
 from notchkit.cutlist import quarter_wave_m
 from notchkit.filters import Filter, Line, Stub
 from notchkit.requirements import NotchSpec
 from notchkit.site.model import Band
-from notchkit.tolerance import tolerance
 
 BUDGET_S = 1.0
 REPEATS = 5

@@ -21,9 +21,9 @@ if _interrupts.running_as_command():
     _interrupts.guard_startup()
 
 from notchkit.asbuilt import RecheckResult, recheck  # noqa: E402
+from notchkit.buildyield import Tolerance, tolerance
 from notchkit.cables import Cable, cable_table, get_cable, library
 from notchkit.cutlist import StubCut, cut_list, format_length
-from notchkit.design import Design, DesignReport, design, design_request
 from notchkit.errors import (
     EXIT_BAD_INPUT,
     EXIT_OK,
@@ -37,15 +37,15 @@ from notchkit.errors import (
     UsageError,
 )
 from notchkit.filters import Filter, Line, Stub, evaluate, evaluate_batch, to_network, write_touchstone
-from notchkit.plan import PlanResult, plan
 from notchkit.power import PowerCheck, power_check
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import Site, check, load_site
 from notchkit.site.checked import SiteCheck, check_site
+from notchkit.siteplan import PlanResult, plan
 from notchkit.solver import Solution, solve
-from notchkit.survey import SurveyResult, Threat, survey
-from notchkit.tolerance import Tolerance, tolerance
-from notchkit.trim import Resonance, TrimResult, find_resonance, trim
+from notchkit.synthesis import Design, DesignReport, design, design_request
+from notchkit.threats import SurveyResult, Threat, survey
+from notchkit.trimming import Resonance, TrimResult, find_resonance, trim
 from notchkit.verification import VerifyResult, verify
 
 __all__ = [

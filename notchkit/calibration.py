@@ -1,7 +1,7 @@
 """A cable spool's measured velocity factor and loss, learnt from the first trims.
 
 Every stub trimmed on an analyser measures its spool's effective velocity
-factor (``VF = 4 L f / (n c)``, :func:`notchkit.trim.effective_vf`) and, from its
+factor (``VF = 4 L f / (n c)``, :func:`notchkit.trimming.effective_vf`) and, from its
 Q against the cable's own ``beta / (2 alpha)``, how lossy the spool is against
 its published figures. :func:`record` keeps these per named spool in a JSON
 file (one file per spool); :func:`calibrated_cable` and :func:`apply` give the
@@ -15,7 +15,7 @@ atomically, bounded (:data:`MAX_CALIBRATION_BYTES`, :mod:`notchkit.jsonread`),
 and every bad value is one line naming its key.
 
 Which samples count: a VF from a trim whose length was known, within
-``notchkit.trim.MIN_VF``-1 (trim refuses the rest); a loss scale only where the
+``notchkit.trimming.MIN_VF``-1 (trim refuses the rest); a loss scale only where the
 resonance's Q was resolved (not at the noise floor). The spool's figure is the
 mean of its samples; the spread (sample standard deviation) is kept so a user
 can see how consistent the pieces were.
@@ -146,7 +146,7 @@ def write_calibration(path: str | os.PathLike[str], cal: SpoolCalibration) -> Pa
 
 
 def sample_from_trim(result: Any, piece: str | None = None) -> Sample:
-    """A sample from a :class:`notchkit.trim.TrimResult` (its length must have been known).
+    """A sample from a :class:`notchkit.trimming.TrimResult` (its length must have been known).
 
     The loss scale is ``q_expected / q`` (the cable's own resonator Q over the
     measured one, Pozar eq. 6.33), only where Q was resolved.

@@ -4,7 +4,7 @@
 :class:`StubCut` per stub, in element order (radio side first). Every length
 is given in metres, in millimetres and in inches to the nearest 1/16 in, so a
 person with either tape can cut it. The tolerance run lives in
-:mod:`notchkit.tolerance`, the voltage/current/heat check in
+:mod:`notchkit.buildyield`, the voltage/current/heat check in
 :mod:`notchkit.power`.
 
 Lengths

@@ -284,7 +284,7 @@ def _interpret(record: Any, kinds: tuple[str, ...], k: np.ndarray, loss: float, 
 def _findings(record: Any, elements: tuple[ElementFit, ...], vf: float | None, vf0: float, loss: float,
               swap_i: int | None, kinds: tuple[str, ...]) -> tuple[str, ...]:
     from notchkit.cutlist import format_length
-    from notchkit.trim import inches_16ths
+    from notchkit.trimming import inches_16ths
 
     out = []
     if swap_i is not None:

@@ -401,7 +401,7 @@ class PlanDocument:
 
 
 def filter_record(d: Any, *, extra: Mapping[str, Any] | None = None) -> FilterRecord:
-    """The record of a :class:`notchkit.design.Design` (``extra``: the keys no reader uses)."""
+    """The record of a :class:`notchkit.synthesis.Design` (``extra``: the keys no reader uses)."""
     from notchkit.elements import element_ids
     from notchkit.filters import Line
     from notchkit.jsonvalues import finite

@@ -1,6 +1,6 @@
 """A stub's resonance in a measured sweep: where it is, how deep, its Q.
 
-:func:`find_resonance` is the measuring step of :func:`notchkit.trim.trim`
+:func:`find_resonance` is the measuring step of :func:`notchkit.trimming.trim`
 (and usable alone): a one-port sweep of the stub alone, or a two-port sweep
 through the tee with the stub in place. The methods are in its Notes.
 

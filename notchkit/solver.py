@@ -43,7 +43,7 @@ How it searches, simplest topology first:
 
 5. **Build yield.** Every verified design that meets is given the share of
    :data:`YIELD_SAMPLES` simulated builds that still meet (the trim workflow of
-   :mod:`notchkit.tolerance`: stubs trimmed to resonance, line sections cut to
+   :mod:`notchkit.buildyield`: stubs trimmed to resonance, line sections cut to
    length). When designs meet but none reaches ``limits.yield_target_pct``,
    they are refined once more on the mean penalty over a few simulated builds
    (:func:`_refine_robust`) before another stub is tried.
@@ -972,9 +972,9 @@ def _verify(p: _Problem, cand: _Cand, sweep: np.ndarray, slices: list[slice]) ->
 
 
 def _yield(p: _Problem, filt: Filter, samples: int = YIELD_SAMPLES) -> float:
-    """Build yield of one filter under the site's build model (:mod:`notchkit.tolerance`):
+    """Build yield of one filter under the site's build model (:mod:`notchkit.buildyield`):
     every stub trimmed to resonance, line sections cut to length."""
-    from notchkit.tolerance import tolerance
+    from notchkit.buildyield import tolerance
 
     a = p.allowances
     t = tolerance(filt, p.notches, cut_tolerance_mm=a.cut_tolerance_mm, vf_spread=a.vf_spread,

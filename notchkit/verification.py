@@ -215,12 +215,12 @@ def read_sweeps(paths: str | os.PathLike[str] | Sequence[str | os.PathLike[str]]
     Raises
     ------
     MeasurementError
-        A file that cannot be read (see :func:`notchkit.trim.read_measurement`) or
+        A file that cannot be read (see :func:`notchkit.trimming.read_measurement`) or
         files with different port counts.
     """
     import skrf
 
-    from notchkit.trim import read_measurement
+    from notchkit.trimming import read_measurement
 
     items = [paths] if isinstance(paths, str | os.PathLike) else list(paths)
     if not items or len(items) > MAX_SWEEPS:

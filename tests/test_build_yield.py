@@ -1,6 +1,6 @@
 """Build yield, the solver's ranking for it, and buildable parts.
 
-The build yield every design reports comes from :mod:`notchkit.tolerance`. Here
+The build yield every design reports comes from :mod:`notchkit.buildyield`. Here
 it is checked by an independent Monte Carlo written from the documented model
 (docs/design.md, "Build yield") without that module: each simulated build is a
 scikit-rf network (``skrf.media.DefinedGammaZ0`` with the cable's loss and the
@@ -30,11 +30,11 @@ import skrf
 
 from notchkit.cables import get_cable
 from notchkit.cutlist import buildability, cut_list, hardware_notes, line_cuts
-from notchkit.design import design, design_request
 from notchkit.filters import Filter, Line, Stub
 from notchkit.site import load_site
 from notchkit.site.model import Allowances
 from notchkit.solver import STUB_CEILING_DB
+from notchkit.synthesis import design, design_request
 
 C0 = 299_792_458.0  # m/s, SI definition
 SITES = ("sites/ridge-eoc.yaml", "sites/hilltop-repeaters.yaml", "sites/field-day-hf.yaml")
@@ -66,7 +66,7 @@ def _plain(cable) -> bool:
 
 def _model_s(kinds, lengths_m, cable, vf, freq_hz):
     """S-parameters of one build on a hardware model, by the model's own two-port
-    (``Model.evaluate_batch``, the ABCD path of notchkit.hardware; not notchkit.tolerance)."""
+    (``Model.evaluate_batch``, the ABCD path of notchkit.hardware; not notchkit.buildyield)."""
     medium = cable.with_velocity_factor(vf)
     s21, s11 = medium.evaluate_batch(tuple(kinds), np.array([lengths_m]), freq_hz)
     s = np.zeros((freq_hz.size, 2, 2), dtype=complex)
@@ -81,7 +81,7 @@ def independent_yield(d, samples: int, seed: int = 7, allowances: Allowances | N
     build is a scikit-rf network, with the depth ceiling added as a leakage path in
     power, ``|S21|^2 + 10^(-ceiling/10)`` (docs/hardware.md). On a site with connector
     hardware, each build is recomputed by the hardware model's own two-port: the draws
-    and the verdicts are still written here, apart from notchkit.tolerance.
+    and the verdicts are still written here, apart from notchkit.buildyield.
     """
     allowances = allowances or Allowances()
     filt = d.filter

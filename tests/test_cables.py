@@ -487,8 +487,8 @@ def test_bad_balanced_geometry():
 def test_balanced_stub_cut_list_power_and_drawing():
     # A notch on window line: the cut list says how to strap, insulate and feed a balanced
     # stub, and the power check uses the line's voltage rating.
-    from notchkit.design import design_request
     from notchkit.power import power_check
+    from notchkit.synthesis import design_request
 
     report = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="window line")
     (d,) = report.designs
@@ -519,7 +519,7 @@ def test_extrapolation_flags():
 
 def test_design_json_flags_extrapolated_loss():
     # A real design, written as JSON, says whether its bands lie in the cable's table.
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     hf = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-8-foam").to_json()
     vhf = design_request([(144.0, 148.0)], [(155.0, 156.0, 20.0)], cable="RG-8-foam").to_json()

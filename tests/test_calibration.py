@@ -70,7 +70,7 @@ def truth_cut_m(stub, vf, hw=None):
 
 @pytest.fixture(scope="module")
 def plans(tmp_path_factory):
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     folder = tmp_path_factory.mktemp("cal")
     nominal = plan(SITE, folder / "a.pdf", outdir=folder / "a")
@@ -91,7 +91,7 @@ def plans(tmp_path_factory):
 
 
 def test_two_trims_calibrate_the_third_stubs_first_cut(plans, capsys):
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     for argv in plans["argv"]:
         code = main(argv)

@@ -20,9 +20,9 @@ import skrf
 
 from notchkit.cables import get_cable
 from notchkit.cli import main
-from notchkit.design import design, design_request, write_touchstones
 from notchkit.errors import CableError, DesignError
 from notchkit.site import load_site
+from notchkit.synthesis import design, design_request, write_touchstones
 
 C = 299_792_458.0  # m/s, exact (SI)
 
@@ -311,7 +311,7 @@ def test_designing_in_processes_gives_the_same_json_as_one_process(tmp_path):
     path.write_text(TINY_SITE)
     script = textwrap.dedent(f"""
         import json
-        from notchkit.design import design
+        from notchkit.synthesis import design
         from notchkit.site import load_site
         site = load_site({str(path)!r})
         said = []

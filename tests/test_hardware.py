@@ -286,8 +286,8 @@ def test_trim_target_includes_the_short_inductance():
 
 
 def test_tolerance_keeps_the_hardware():
+    from notchkit.buildyield import tolerance
     from notchkit.requirements import NotchSpec
-    from notchkit.tolerance import tolerance
 
     cable = get_cable("RG-213")
     model = Model(cable=cable, hardware=Hardware.of("uhf"))
@@ -305,8 +305,8 @@ def test_tolerance_keeps_the_hardware():
 
 
 def test_site_hardware_and_load_reach_the_design(tmp_path):
-    from notchkit.design import design
     from notchkit.site import load_site
+    from notchkit.synthesis import design
 
     (tmp_path / "ant.txt").write_text("140 20 -30\n160 25 -10\n")
     site = tmp_path / "s.yaml"
@@ -357,8 +357,8 @@ def test_cli_design_load_option(tmp_path, capsys):
 def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
     # A design with N hardware, rebuilt from its own JSON (elements and the model's figures) with
     # scikit-rf parts only, gives the reported worst figures (leakage floor added as stated).
-    from notchkit.design import design
     from notchkit.site import load_site
+    from notchkit.synthesis import design
 
     site = tmp_path / "s.yaml"
     site.write_text(
@@ -415,7 +415,7 @@ def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
 def test_report_shows_the_rlgc_line_beside_the_classic_one():
     # A 40 m notch on RG-58 designed on the classic line: the report gives the RLGC line's figure
     # at the notch centre, computed on that line (hand: the quarter wave is ~1.9 % short there).
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     (d,) = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-58").designs
     other = d.to_json()["model"]["other_line_model"]

@@ -31,7 +31,7 @@ from notchkit.lines import C0, db20
 from notchkit.report.pdf import expected_label_pages
 from notchkit.report.text import mhz, mhz4
 
-plan_mod = importlib.import_module("notchkit.plan")  # the module (notchkit.plan is the function)
+plan_mod = importlib.import_module("notchkit.siteplan")  # the module behind notchkit.plan
 
 SITE = """\
 # A fictional two-radio knoll: a 2 m and a 70 cm transceiver on one mast.
@@ -236,7 +236,7 @@ def test_curve_csv_and_png_per_filter(run):
 
 
 def test_plan_json_feeds_notchkit_trim(run):
-    from notchkit.trim import load_plan_stub
+    from notchkit.trimming import load_plan_stub
 
     res = run["result"]
     doc = json.loads((res.outdir / "plan.json").read_text())
@@ -354,11 +354,11 @@ def test_plan_designed_in_processes_is_the_same_file_as_designed_in_one(tmp_path
         import importlib
         from pathlib import Path
         from pypdf import PdfReader
-        from notchkit.plan import plan
+        from notchkit.siteplan import plan
         def _forms(page):
             x = page["/Resources"].get("/XObject") or {{}}
             return sorted((str(k), x[k].get_object().get_data()) for k in x)
-        pm, dm = importlib.import_module("notchkit.plan"), importlib.import_module("notchkit.design")
+        pm, dm = importlib.import_module("notchkit.siteplan"), importlib.import_module("notchkit.synthesis")
         one_process, said = pm._run_design, []
         pm._run_design = lambda s, **_k: dm.design(s, workers=2, progress=said.append)
         plan({str(site)!r}, {str(tmp_path / "two.pdf")!r})

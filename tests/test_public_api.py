@@ -35,6 +35,19 @@ def test_every_command_is_one_library_function():
     assert all(callable(f) for f in functions.values())
 
 
+def test_no_public_name_is_shadowed_by_a_module():
+    # `from notchkit import tolerance` must give one thing: no submodule carries the
+    # name of a public function or class (issue 21 item 4; the modules are
+    # synthesis, siteplan, trimming, buildyield and threats).
+    import importlib
+    import importlib.util
+
+    for name in notchkit.__all__:
+        assert importlib.util.find_spec(f"notchkit.{name}") is None, name
+    for module in ("synthesis", "siteplan", "trimming", "buildyield", "threats"):
+        assert isinstance(importlib.import_module(f"notchkit.{module}"), type(notchkit))
+
+
 def test_import_does_not_pull_in_plotting_or_scikit_rf():
     code = "import sys, notchkit; print('matplotlib' in sys.modules, 'skrf' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)

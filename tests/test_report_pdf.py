@@ -125,7 +125,7 @@ def test_a_filter_too_big_for_one_page_continues_on_a_second(tmp_path):
     from notchkit.report.text import plan_text
     from notchkit.requirements import FilterRequirement, NotchSpec
     from notchkit.site.model import Band, Radio, Receive, Site
-    from notchkit.survey import SurveyResult
+    from notchkit.threats import SurveyResult
 
     cable = get_cable("RG-213")
     filt = Filter(elements=(Stub(termination="open", length_m=0.35),), cable=cable, tee_allowance_m=0.03)

@@ -535,7 +535,7 @@ def test_ctrl_c_during_design_exits_130_and_writes_nothing(tmp_path, monkeypatch
         pytest.skip("notchkit design is not built yet")
     import importlib
 
-    design_mod = importlib.import_module("notchkit.design")  # the module, not the re-exported function
+    design_mod = importlib.import_module("notchkit.synthesis")  # the module behind the function
 
     def interrupted(*args, **kwargs):
         raise KeyboardInterrupt
@@ -666,7 +666,7 @@ def test_killing_the_designer_kills_its_worker_processes(tmp_path):
     # the forked workers inherit it): the workers are certainly running when the
     # parent is killed, however fast the machine.
     script = ("import importlib, sys, time\n"
-              "d = importlib.import_module('notchkit.design')\n"
+              "d = importlib.import_module('notchkit.synthesis')\n"
               "real = d.design_filter\n"
               "d.design_filter = lambda *a, **k: (time.sleep(60), real(*a, **k))[1]\n"
               "from notchkit.site import load_site\n"

@@ -181,7 +181,7 @@ def test_impossible_lengths_are_refused_with_the_value(element, length):
     ids=["pass-bottom-notch-top", "pass-top-notch-bottom", "both-edges"],
 )
 def test_design_at_the_edges_of_the_range_is_finite(passes, notches):
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     report = design_request(passes, notches, cable="RG-213")
     doc = report.to_json()
@@ -206,7 +206,7 @@ def test_design_outside_the_range_is_refused(capsys, band):
 def test_notch_adjacent_to_a_pass_band_designs_and_reports(capsys):
     """10 kHz between a pass band and a notch at 146 MHz: a coax stub's Q (a few hundred,
     common practice) cannot give 30 dB there, so the design is computed and shows what is missing."""
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     report = design_request([(146.0, 146.4)], [(146.41, 146.8)], cable="RG-213")
     finite_json(report.to_json())
@@ -232,7 +232,7 @@ OVERLAPS = {
 @needs_design
 @pytest.mark.parametrize("name", sorted(OVERLAPS))
 def test_overlapping_pass_and_notch_is_refused_clearly(capsys, name):
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     passes, notches = OVERLAPS[name]
     with pytest.raises(DesignError, match="^cannot pass and notch the same frequency"):
@@ -259,7 +259,7 @@ def test_overlapping_pass_and_notch_is_refused_clearly(capsys, name):
 @needs_design
 def test_lossless_user_cable_warns_and_still_designs():
     from notchkit.cables import Cable
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     with pytest.warns(LosslessCableWarning, match="lossless"):
         cable = Cable.from_table(name="Userline", z0_ohm=50.0, velocity_factor=0.66)
@@ -355,7 +355,7 @@ def test_power_check_voltages_match_the_hand_formula(power_w):
 @needs_design
 def test_design_power_scales_as_the_square_root_of_power():
     """A linear network: voltages scale with sqrt(P), dissipation with P (1 W vs 10 kW: x100, x10^4)."""
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     def run(p):
         r = design_request([(144.0, 148.0)], [(430.0, 440.0)], cable="RG-213", power_w=p, power_mhz=146.52)

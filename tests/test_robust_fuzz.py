@@ -294,7 +294,7 @@ def _overlaps(req) -> bool:
 @settings(FUZZ, max_examples=25)
 @given(fs.design_requests())
 def test_design_requests_give_finite_numbers_or_a_clear_refusal(req):
-    from notchkit.design import design_request
+    from notchkit.synthesis import design_request
 
     with only_notchkit_warnings():
         try:
@@ -351,7 +351,7 @@ def test_design_arguments_fuzz(argv):
 @settings(FUZZ, max_examples=40)
 @given(fs.stub_measurements())
 def test_trim_on_synthetic_stub_sweeps_gives_finite_figures(m):
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     with tempfile.TemporaryDirectory() as tmp:
         path = write(tmp, "stub" + m["suffix"], m["text"])
@@ -375,7 +375,7 @@ def test_trim_on_synthetic_stub_sweeps_gives_finite_figures(m):
 @settings(FUZZ, max_examples=60)
 @given(fs.broken_touchstone())
 def test_trim_on_damaged_files_raises_only_notchkit_errors(m):
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     with tempfile.TemporaryDirectory() as tmp:
         path = write(tmp, "stub" + m["suffix"], m["text"])
@@ -406,7 +406,7 @@ DAMAGED = {
 @pytest.mark.parametrize("kind", sorted(DAMAGED))
 def test_trim_damaged_file_warns_nothing_foreign(tmp_path, kind):
     from notchkit.errors import MeasurementError
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     option, rows, message = DAMAGED[kind]
     path = write(str(tmp_path), f"{kind}.s1p", "\n".join([option, *rows]) + "\n")

@@ -197,7 +197,7 @@ def test_library_trim_refuses_a_huge_plan_length(tmp_path, stub_s2p):
     """A real plan JSON (written by ``plan --outdir``) whose stub claims 1e300 m: one clear
     refusal, not an overflow."""
     from notchkit.errors import NotchkitError
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     site = tmp_path / "flat.yaml"
     site.write_text("site: Fictional Flat\ntransmitters:\n"
@@ -274,12 +274,12 @@ def test_loader_total_cable_floor_is_the_solvers_shortest_cut():
 def test_loader_and_tolerance_agree_on_the_vf_spread(tmp_path, vf, ok):
     """A custom cable with the default spread 0.01: the loader accepts exactly what the
     tolerance run accepts (spread <= VF / 2)."""
+    from notchkit.buildyield import DEFAULT_VF_SPREAD, tolerance
     from notchkit.cables import Cable
     from notchkit.errors import SiteError
     from notchkit.filters import Filter, Stub
     from notchkit.requirements import NotchSpec
     from notchkit.site import load_site
-    from notchkit.tolerance import DEFAULT_VF_SPREAD, tolerance
 
     site = tmp_path / "s.yaml"
     site.write_text(f"""\
@@ -365,7 +365,7 @@ def test_survey_max_harmonic_is_bounded_like_the_site_file(capsys, value):
 def test_library_survey_max_harmonic_is_bounded():
     from notchkit.errors import UsageError
     from notchkit.site import load_site
-    from notchkit.survey import survey
+    from notchkit.threats import survey
 
     with pytest.raises(UsageError, match="1 to 20"):
         survey(load_site(ROOT / "sites" / "ridge-eoc.yaml"), max_harmonic=10**8)
@@ -383,7 +383,7 @@ def test_a_site_built_in_python_is_held_to_the_same_caps(tmp_path):
 
     from notchkit.errors import SiteError
     from notchkit.site import load_site
-    from notchkit.survey import survey
+    from notchkit.threats import survey
 
     p = tmp_path / "s.yaml"
     p.write_text(_transceivers(200), encoding="utf-8")

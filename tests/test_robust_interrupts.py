@@ -78,7 +78,7 @@ def test_a_swallowed_ctrl_c_still_writes_nothing(tmp_path, monkeypatch, capsys):
     KeyboardInterrupt and goes on must not make the command write its outputs."""
     import importlib
 
-    plan_mod = importlib.import_module("notchkit.plan")
+    plan_mod = importlib.import_module("notchkit.siteplan")
     real = plan_mod._run_design
 
     def swallowing(*a, **k):

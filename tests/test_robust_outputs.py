@@ -62,7 +62,7 @@ def no_design(monkeypatch):
     """Fail the test if the plan gets as far as designing."""
     import importlib
 
-    plan_mod = importlib.import_module("notchkit.plan")  # the module, not the re-exported function
+    plan_mod = importlib.import_module("notchkit.siteplan")  # the module behind the function
 
     def reached(*_a, **_k):
         raise AssertionError("the design ran before the outputs were refused")

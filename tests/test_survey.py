@@ -33,7 +33,7 @@ from notchkit.site.model import (
     Site,
     Transmit,
 )
-from notchkit.survey import (
+from notchkit.threats import (
     KTB_DBM_PER_HZ,
     free_space_loss_db,
     horizontal_isolation_db,
@@ -43,8 +43,8 @@ from notchkit.survey import (
     survey,
     vertical_isolation_db,
 )
-from notchkit.survey.isolation import estimate_isolation_db
-from notchkit.survey.products import THREE_TONE
+from notchkit.threats.isolation import estimate_isolation_db
+from notchkit.threats.products import THREE_TONE
 
 
 def band(lo, hi=None):
@@ -557,7 +557,7 @@ def test_intermod_of_tuning_ranges_by_interval_arithmetic():
 
 
 def test_too_close_rule_boundary():
-    from notchkit.survey.locations import TOO_CLOSE_FRACTION, too_close
+    from notchkit.threats.locations import TOO_CLOSE_FRACTION, too_close
 
     # pass 100 MHz (a point): a notch 2.9 MHz away is too close, 3.1 MHz away is not (3 % rule)
     assert TOO_CLOSE_FRACTION == 0.03
@@ -579,7 +579,7 @@ def test_carrier_inside_receiver_band_uses_sensitivity_and_no_filter():
 def test_interval_arithmetic_bounds_every_point_product():
     # Property (interval arithmetic, textbook): for f_i in [lo_i, hi_i], |sum c_i f_i| lies in
     # the computed interval, and the interval's ends are reached at band corners.
-    from notchkit.survey.products import combine
+    from notchkit.threats.products import combine
 
     rng = np.random.default_rng(99)
     lo = rng.uniform(1.0, 500.0, size=(50, 3))

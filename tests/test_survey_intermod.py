@@ -26,8 +26,8 @@ import pytest
 
 from notchkit.site import model
 from notchkit.site.model import Antenna, Band, Coupling, Radio, Receive, Site, Transmit
-from notchkit.survey import levels, survey
-from notchkit.survey.products import coefficient_sets, combine, orders
+from notchkit.threats import levels, survey
+from notchkit.threats.products import coefficient_sets, combine, orders
 
 P50 = 10 * math.log10(50e3)  # 50 W in dBm = 46.99 (definition of dBm)
 

@@ -34,8 +34,8 @@ from notchkit.site.model import (
     Site,
     Transmit,
 )
-from notchkit.survey import limits as L
-from notchkit.survey import survey
+from notchkit.threats import limits as L
+from notchkit.threats import survey
 
 KTB = 10 * math.log10(1.380649e-23 * 290 * 1000)  # SI 2019: -173.98 dBm/Hz
 
@@ -407,8 +407,8 @@ def test_the_stub_ceiling_is_the_sites_depth_ceiling():
     """One practical ceiling: the notch depth the design claims at most (depth_ceiling_db, a
     leakage floor added in power, docs/hardware.md) is the deepest notch the survey asks of
     stubs; a requirement above it is not a stub job, with its remedy class."""
-    from notchkit.design import design
     from notchkit.hardware import DEFAULT_DEPTH_CEILING_DB
+    from notchkit.synthesis import design
 
     a = tx_radio("A", 146.52)
     c = rx_radio("C", 439.56, x=30.0)
@@ -645,7 +645,7 @@ def test_front_end_selectivity_lowers_products_formed_in_the_receiver():
 def test_contest_example_every_stub_filter_is_met():
     # what the survey leaves to stubs on the contest example is what stubs can do: every
     # filter (band-switched sets included) meets on the lossy model's dense verification
-    from notchkit.design import design
+    from notchkit.synthesis import design
 
     rep = design(load_site(ROOT / "sites" / "contest-two-position.yaml"), workers=1)
     assert rep.designs and all(d.solution.meets for d in rep.designs), [

@@ -1,4 +1,4 @@
-"""Tests for `notchkit trim` (notchkit/trim.py, notchkit/cli/trim.py).
+"""Tests for `notchkit trim` (notchkit/trimming.py, notchkit/cli/trim.py).
 
 Independent reference: the measurements are synthesised with scikit-rf's own
 transmission-line media (``skrf.media.DefinedGammaZ0`` with
@@ -28,7 +28,7 @@ from skrf.media import DefinedGammaZ0
 
 from notchkit.cli import main
 from notchkit.errors import MeasurementError
-from notchkit.trim import find_resonance, inches_16ths, read_measurement, trim
+from notchkit.trimming import find_resonance, inches_16ths, read_measurement, trim
 
 C = 299_792_458.0  # speed of light, m/s (exact, SI definition)
 INCH = 0.0254  # m per inch (exact, international inch, 1959)

@@ -2,7 +2,7 @@
 
 ``sites/ridge-eoc.yaml`` with a ``hardware: {family: uhf}`` block added (a
 copy; the example itself keeps the classic model, docs/hardware.md says why)
-is planned by the library's own :func:`notchkit.plan.plan`. Each stub is then
+is planned by the library's own :func:`notchkit.siteplan.plan`. Each stub is then
 "measured" with scikit-rf as built: its PL-259 plug (35 ohm, 15 mm, the plan
 JSON's figures), its RG-213 cable (``DefinedGammaZ0``, the library's loss
 figures) and its open end or its short with 3 nH (tests/hw_bench.py), cut to
@@ -29,7 +29,7 @@ UHF = "\nhardware:\n  family: uhf\n"
 
 @pytest.fixture(scope="module")
 def uhf_plan(tmp_path_factory):
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     folder = tmp_path_factory.mktemp("ridge-uhf")
     site = folder / "ridge-eoc-uhf.yaml"
@@ -103,7 +103,7 @@ def test_the_hardware_option_without_a_plan(tmp_path, termination, n, ports, len
     import skrf
 
     from notchkit.hardware import Hardware
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     hw = Hardware.of("uhf")
     cable = get_cable("RG-213")
@@ -129,7 +129,7 @@ def test_the_hardware_option_without_a_plan(tmp_path, termination, n, ports, len
 
 def test_a_bad_hardware_option_is_refused(tmp_path):
     from notchkit.errors import UsageError
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     s1p = tmp_path / "x.s1p"
     s1p.write_text("# MHz S RI R 50\n" + "".join(f"{100 + i} 0.5 0.5\n" for i in range(10)))

@@ -1,6 +1,6 @@
 """The trim route end to end on a real plan: `notchkit plan` -> printed command -> `notchkit trim`.
 
-The plan is written by the library's own :func:`notchkit.plan.plan` for the
+The plan is written by the library's own :func:`notchkit.siteplan.plan` for the
 example site ``sites/ridge-eoc.yaml`` (it has shorted stubs many quarter
 waves long). Each stub's trim command is taken from the plan's printed
 trimming steps, run through the command line's ``main`` on a measurement of
@@ -42,7 +42,7 @@ CUT_TOLERANCE_MM = 1.5  # issue 14: the advised cut within 1.5 mm of the truth
 
 @pytest.fixture(scope="module")
 def ridge(tmp_path_factory):
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     folder = tmp_path_factory.mktemp("ridge")
     res = plan(ROOT / "sites" / "ridge-eoc.yaml", folder / "plan.pdf", outdir=folder / "out")
@@ -296,7 +296,7 @@ def test_oversized_plan_is_refused_before_parsing(tmp_path, monkeypatch):
 
 
 def test_plan_and_trim_results_have_a_short_repr(ridge, tmp_path):
-    from notchkit.trim import trim
+    from notchkit.trimming import trim
 
     text = repr(ridge)
     assert text.startswith("<PlanResult ") and len(text) < 3000

@@ -1,6 +1,6 @@
 """`notchkit verify` and the diagnosis on measurements of built filters made with scikit-rf.
 
-The plan is a real one, written by :func:`notchkit.plan.plan` for the example
+The plan is a real one, written by :func:`notchkit.siteplan.plan` for the example
 site ``sites/ridge-eoc.yaml``. Each "measurement" is that plan's filter built
 with scikit-rf's own line model (``skrf.media.DefinedGammaZ0``: ``line``,
 ``shunt_delay_open``, ``shunt_delay_short``; ``gamma = alpha + j 2 pi f /
@@ -41,7 +41,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 @pytest.fixture(scope="module")
 def ridge(tmp_path_factory):
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     folder = tmp_path_factory.mktemp("ridge")
     res = plan(ROOT / "sites" / "ridge-eoc.yaml", folder / "plan.pdf", outdir=folder / "out")
@@ -337,8 +337,8 @@ def test_verify_and_recheck_results_have_a_short_repr(ridge, tmp_path):
 
 
 def test_verify_names_the_filter_as_the_plan_does(ridge, tmp_path):
-    from notchkit.design import design
     from notchkit.site import load_site
+    from notchkit.synthesis import design
 
     report = design(load_site(ROOT / "sites" / "ridge-eoc.yaml"), workers=1)
     for fid in ("F1", "F3"):

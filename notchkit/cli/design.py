@@ -104,7 +104,7 @@ def parse_band(text: str, option: str = "--pass") -> tuple[float, float]:
 
 def parse_notch(text: str) -> tuple[float, float, float]:
     """``"21.0-21.45:30"`` -> ``(21.0, 21.45, 30.0)``; the dB part defaults to 30."""
-    from notchkit.design import DEFAULT_NOTCH_DB
+    from notchkit.synthesis import DEFAULT_NOTCH_DB
 
     band, sep, db_text = text.partition(":")
     lo, hi = parse_band(band, "--notch")
@@ -166,7 +166,7 @@ def ad_hoc_settings(args, passes):
 
 
 def run(args) -> int:
-    from notchkit.design import design, design_request, write_touchstones
+    from notchkit.synthesis import design, design_request, write_touchstones
 
     progress = _progress(args)
     if args.touchstone is not None:  # before any work: the folder (its files are named after the survey)
@@ -229,10 +229,10 @@ def _ok(flag: bool) -> str:
 
 def format_design(d) -> str:
     """The human text of one designed filter."""
+    from notchkit.buildyield import format_tolerance
     from notchkit.cutlist import format_cut_list
     from notchkit.power import format_power
     from notchkit.solver import describe
-    from notchkit.tolerance import format_tolerance
 
     s = d.solution
     cab = d.cable

@@ -62,7 +62,7 @@ def _analyser(text: str) -> tuple[float, float]:
 def run(args) -> int:
     from notchkit.cli.progress import terminal_progress
     from notchkit.defaults import load_defaults, with_analyser
-    from notchkit.plan import plan
+    from notchkit.siteplan import plan
 
     mine = load_defaults()
     flag = _analyser(args.analyser_mhz) if args.analyser_mhz is not None else None

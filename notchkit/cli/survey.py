@@ -64,7 +64,7 @@ def add_parser(sub) -> None:
 
 def run(args) -> int:
     from notchkit.site import load_site
-    from notchkit.survey import survey
+    from notchkit.threats import survey
 
     result = survey(load_site(args.site), max_harmonic=args.max_harmonic, max_threats=args.max_threats)
     if args.json:

@@ -7,7 +7,7 @@ import math
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, NotchkitError, UsageError
 from notchkit.jsonvalues import dumps
-from notchkit.trim import SAFETY, inches_16ths, trim
+from notchkit.trimming import SAFETY, inches_16ths, trim
 
 FLAGS = {
     "target_mhz": "--target-mhz", "length_m": "--length-m", "quarter_waves": "--quarter-waves",
@@ -111,7 +111,7 @@ def _allowance(text: str | None) -> float | None:
         value = float(text)
     except ValueError:
         raise UsageError(f"--allowance-m: {text!r} is not a number") from None
-    from notchkit.trim import MAX_LENGTH_M
+    from notchkit.trimming import MAX_LENGTH_M
 
     if not (math.isfinite(value) and 0 <= value <= MAX_LENGTH_M):
         raise UsageError(f"--allowance-m: {text} must be a length in metres from 0 to {MAX_LENGTH_M:g}")
@@ -119,7 +119,7 @@ def _allowance(text: str | None) -> float | None:
 
 
 def format_text(result) -> str:
-    """The human report for a :class:`notchkit.trim.TrimResult`."""
+    """The human report for a :class:`notchkit.trimming.TrimResult`."""
     r = result.resonance
     kind = "notch (S21)" if r.ports == 2 else f"{r.kind} resonance"
     lines = [
@@ -158,7 +158,7 @@ def format_text(result) -> str:
 
 
 def run(args) -> int:
-    from notchkit.trim import MAX_LENGTH_M
+    from notchkit.trimming import MAX_LENGTH_M
 
     target = (None if args.target_mhz is None
               else _positive_float("--target-mhz", MAX_TARGET_MHZ, " MHz")(args.target_mhz))
@@ -199,7 +199,7 @@ def run(args) -> int:
             if together:  # the plot and the calibration: both written, or neither
                 from notchkit.fileio import write_all
                 from notchkit.report.measurement import measurement_png
-                from notchkit.trim import read_measurement
+                from notchkit.trimming import read_measurement
 
                 png = measurement_png(read_measurement(args.measurement), result)
                 write_all([(args.png, png, "--png"),

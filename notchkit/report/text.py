@@ -2,7 +2,7 @@
 
 The PDF, the HTML page and the terminal summary all print these rows, so a
 number appears in one spelling everywhere and is never typed twice. Nothing
-here computes physics: it formats :class:`notchkit.survey.SurveyResult`,
+here computes physics: it formats :class:`notchkit.threats.SurveyResult`,
 the design report's designs (their filter, cut list, tolerance and power
 check) and the site.
 """
@@ -14,9 +14,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+from notchkit.buildyield import element_ids
 from notchkit.cutlist import format_length
 from notchkit.report.summary import state_word
-from notchkit.tolerance import element_ids
 
 NOT_MET = state_word(False, loud=True)
 """``DOES NOT MEET``: the printed failure word (:func:`notchkit.report.summary.state_word`)."""
@@ -493,7 +493,7 @@ def cut_table(d: Any, units: str = "both") -> Table:
 
 def tolerance_lines(d: Any, units: str = "both") -> tuple[str, ...]:
     """The tolerance run in two lines; per-band shares are in the requirements table."""
-    from notchkit.tolerance import model_text
+    from notchkit.buildyield import model_text
 
     t = getattr(d, "tolerance", None)
     if t is None:

@@ -92,12 +92,12 @@ class CrossRefs:
         position of the value the user wrote, so ``check`` and ``design`` agree:
         the tolerance run draws each stub cable's velocity factor within
         ``+-vf_spread`` (``allowances.vf_spread``, else the cable's published
-        tolerance, else :data:`notchkit.tolerance.DEFAULT_VF_SPREAD`), which
+        tolerance, else :data:`notchkit.buildyield.DEFAULT_VF_SPREAD`), which
         must stay at most half the velocity factor
-        (:func:`notchkit.tolerance.tolerance` refuses more).
+        (:func:`notchkit.buildyield.tolerance` refuses more).
         """
+        from notchkit.buildyield import DEFAULT_VF_SPREAD
         from notchkit.cables import library
-        from notchkit.tolerance import DEFAULT_VF_SPREAD
 
         allow = top.get("allowances", ({}, None))[0]
         explicit = allow.get("vf_spread")

@@ -29,8 +29,8 @@ RECEIVER_CLASSES = ("hf", "base", "mobile", "scanner")
 """Receiver classes: ``hf`` an HF transceiver with switched band-pass filters,
 ``base`` / ``mobile`` a VHF/UHF FM land-mobile radio, ``scanner`` a scanner or SDR
 dongle with no front-end filter; their selectivity defaults and sources are
-notchkit.survey.limits.SELECTIVITY_BY_CLASS, and their default intercept points
-notchkit.survey.levels.RECEIVER_CLASSES (docs/survey.md)."""
+notchkit.threats.limits.SELECTIVITY_BY_CLASS, and their default intercept points
+notchkit.threats.levels.RECEIVER_CLASSES (docs/survey.md)."""
 DEFAULT_MAX_IM_ORDER = 5
 DEFAULT_RECEIVER_CLASS = "mobile"
 """Class whose intercept points apply when a receiver gives none (its blocking

@@ -1,13 +1,13 @@
 """Intermodulation products of two and three transmitters: enumeration, levels, threats.
 
-Enumeration (:mod:`notchkit.survey.products`): every coefficient set of order 2
+Enumeration (:mod:`notchkit.threats.products`): every coefficient set of order 2
 to the site's ``max_im_order`` for every pair and triple of transmitters, as
 interval arithmetic on their emission intervals, in chunks of at most
 :data:`CHUNK_PRODUCTS` products; the receivers a product lands in are found
 by binary search on receivers sorted by band edge (grouped by band width), so
 the cost grows with the number of products, not products x receivers.
 
-Levels (:mod:`notchkit.survey.levels`): each product has up to k + 1 routes:
+Levels (:mod:`notchkit.threats.levels`): each product has up to k + 1 routes:
 formed in the output stage of each of its k transmitters (the "mixer"; the
 other carriers arrive there through the antennas) and formed in the victim's
 own front end (orders 2 and 3, from its IIP2/IIP3). The threat's level is the
@@ -19,7 +19,7 @@ carriers. A notch of X dB on carriers whose |coefficients| sum to S lowers
 the product by S * X dB, so each asks (excess + margin) / S.
 
 Only the :data:`DEFAULT_MAX_THREATS` worst products (by excess) become
-:class:`~notchkit.survey.result.Threat` objects; the rest are counted, and
+:class:`~notchkit.threats.result.Threat` objects; the rest are counted, and
 their worst excess per transmitter and receiver still reaches the matrix.
 """
 
@@ -30,8 +30,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from notchkit.errors import UsageError
-from notchkit.survey import levels, products
-from notchkit.survey.result import Threat
+from notchkit.threats import levels, products
+from notchkit.threats.result import Threat
 
 GRID = 9
 """Frequencies (log-spaced, band edges included) at which each transmitter-to-receiver
@@ -75,7 +75,7 @@ def intermod_threats(
 
     Parameters
     ----------
-    ctx : notchkit.survey.core._Ctx
+    ctx : notchkit.threats.core._Ctx
         The survey run (site arrays, margin, notch collection).
     tx, rx : ndarray of int
         Radio indices of the transmitters and receivers.

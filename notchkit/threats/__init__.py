@@ -9,8 +9,8 @@ several carriers together against the blocking level) and returns a
 
 from __future__ import annotations
 
-from notchkit.survey.core import survey
-from notchkit.survey.isolation import (
+from notchkit.threats.core import survey
+from notchkit.threats.isolation import (
     ISOLATION_FLOOR_DB,
     estimate_isolation_db,
     free_space_loss_db,
@@ -18,15 +18,15 @@ from notchkit.survey.isolation import (
     slant_isolation_db,
     vertical_isolation_db,
 )
-from notchkit.survey.limits import (
+from notchkit.threats.limits import (
     DEFAULT_BLOCKING_DBM,
     DEFAULT_IM_CONVERSION_DB,
     KTB_DBM_PER_HZ,
     noise_floor_dbm,
     spurious_suppression_dbc,
 )
-from notchkit.survey.locations import TOO_CLOSE_FRACTION
-from notchkit.survey.result import MECHANISMS, NotchFeed, SurveyMatrix, SurveyResult, Threat
+from notchkit.threats.locations import TOO_CLOSE_FRACTION
+from notchkit.threats.result import MECHANISMS, NotchFeed, SurveyMatrix, SurveyResult, Threat
 
 __all__ = [
     "survey",

@@ -15,9 +15,9 @@ import numpy as np
 
 from notchkit.errors import Problem, SiteError, UsageError
 from notchkit.site.model import Band, Radio, Site
-from notchkit.survey import limits
-from notchkit.survey.isolation import HORIZONTAL, SLANT, describe_estimate, estimate_isolation_db
-from notchkit.survey.operating import expand
+from notchkit.threats import limits
+from notchkit.threats.isolation import HORIZONTAL, SLANT, describe_estimate, estimate_isolation_db
+from notchkit.threats.operating import expand
 
 OUT_PORTS = ("tx", "antenna")
 """Installed-filter ports an emission leaves a transmitter through."""
@@ -481,7 +481,7 @@ def _rising(rows, finite, x_positive: bool = True) -> bool:
 def _validate_operating(site: Site, bad, finite) -> None:
     """The keys of how a site operates, for sites built in Python (the loader checks files)."""
     from notchkit.site.model import INSTALLED_PORTS
-    from notchkit.survey.limits import SELECTIVITY_BY_CLASS as RECEIVER_CLASSES
+    from notchkit.threats.limits import SELECTIVITY_BY_CLASS as RECEIVER_CLASSES
 
     for i, r in enumerate(site.radios):
         where = f"radios[{i}]"

@@ -1,6 +1,6 @@
 """The site notch plan: survey, design and every printed and exported output in one call.
 
-:func:`plan` runs :func:`notchkit.survey.survey` and :func:`notchkit.design.design`
+:func:`plan` runs :func:`notchkit.threats.survey` and :func:`notchkit.synthesis.design`
 on a site, builds every printed row once (:mod:`notchkit.report.text`) and
 writes the PDF, and optionally a self-contained HTML page and an output
 folder with each filter's curve (PNG and CSV), its Touchstone ``.s2p`` and the
@@ -90,7 +90,7 @@ def _check_outputs(out_pdf: Any, html: Any, outdir: Any, site_path: str,
 
 
 def _run_design(site: Any, progress: Any = None) -> Any:
-    from notchkit.design import design
+    from notchkit.synthesis import design
 
     return design(site, progress=progress)
 
@@ -107,7 +107,7 @@ def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
 
 def _stem_of(d: Any) -> str:
     """A design's file stem in ``outdir`` (``F1-wx-alert-rx``)."""
-    from notchkit.design import touchstone_name
+    from notchkit.synthesis import touchstone_name
 
     return touchstone_name(d).removesuffix(".s2p")
 
@@ -144,8 +144,8 @@ def _spans(d: Any, site: Any) -> tuple[list[Any], list[Any]]:
 def plan_json(site: Any, sv: Any, report: Any, *, date: str, version: str, units: str) -> dict[str, Any]:
     """The plan as JSON-ready data: the design JSON (``filters`` at the top level) plus the survey,
     written through the plan file's types (:class:`notchkit.planfile.PlanDocument`)."""
-    from notchkit.design import design_record
     from notchkit.planfile import PlanDocument
+    from notchkit.synthesis import design_record
 
     designs = _designs(report)
     whole = report.to_json() if hasattr(report, "to_json") else {}
@@ -236,7 +236,7 @@ def plan(
     report = _run_design(site, progress=progress)  # finished designs: the PDF is drawn from them below
     sv = getattr(report, "survey", None)
     if sv is None:
-        from notchkit.survey import survey
+        from notchkit.threats import survey
 
         sv = survey(site)
     designs = _designs(report)
@@ -250,7 +250,7 @@ def plan(
 
     made: list[tuple[bytes, bytes, str | None]] = []
     if html is not None or outdir is not None:
-        from notchkit.design import touchstone_sweep_hz
+        from notchkit.synthesis import touchstone_sweep_hz
 
         say("drawing the images")
 

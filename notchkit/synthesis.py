@@ -7,7 +7,7 @@ command line, the plan and the reports format; :meth:`DesignReport.to_json`
 is the JSON document (keys ``filters``, ``meets``, ``site`` fixed).
 
 Nothing here prints. The physics is in :mod:`notchkit.solver`,
-:mod:`notchkit.cutlist`, :mod:`notchkit.tolerance` and :mod:`notchkit.power`.
+:mod:`notchkit.cutlist`, :mod:`notchkit.buildyield` and :mod:`notchkit.power`.
 """
 
 from __future__ import annotations
@@ -54,7 +54,7 @@ class Design:
     """One designed filter with everything needed to build it.
 
     ``cuts`` is the cut list (one :class:`notchkit.cutlist.StubCut` per stub),
-    ``tolerance`` the Monte Carlo result (:class:`notchkit.tolerance.Tolerance`),
+    ``tolerance`` the Monte Carlo result (:class:`notchkit.buildyield.Tolerance`),
     ``power`` the voltage/current/heat check (:class:`notchkit.power.PowerCheck`)
     or ``None`` when no transmitter's power flows through the filter.
     """
@@ -205,9 +205,9 @@ def design_filter(
 
 
 def _build_checks(req, sol, limits, allowances, filter_id, z_system, samples):
+    from notchkit.buildyield import tolerance
     from notchkit.cutlist import cut_list
     from notchkit.power import power_check
-    from notchkit.tolerance import tolerance
 
     filt = sol.filter
     cuts = cut_list(
@@ -278,7 +278,7 @@ def design(site: Any, *, progress: Progress | None = None, workers: int | None =
         A requirement no filter can satisfy (a pass band overlapping a notch).
     """
     from notchkit.cables import get_cable
-    from notchkit.survey import survey
+    from notchkit.threats import survey
 
     say = progress or (lambda _m: None)
     if calibration:

@@ -145,7 +145,7 @@ class SurveyMatrix:
 
 @dataclass(frozen=True, slots=True, kw_only=True)
 class SurveyResult:
-    """What :func:`notchkit.survey.survey` found.
+    """What :func:`notchkit.threats.survey` found.
 
     ``threats`` are sorted by excess, worst first; ``filters`` holds one
     :class:`~notchkit.requirements.FilterRequirement` per filter location that

@@ -15,13 +15,13 @@ import numpy as np
 
 from notchkit.requirements import guarded
 from notchkit.site.model import Radio, Site
-from notchkit.survey import limits, products
-from notchkit.survey.blocking import blocking_threats
-from notchkit.survey.intermod import DEFAULT_MAX_THREATS, intermod_threats
-from notchkit.survey.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
-from notchkit.survey.locations import build_filters, too_close
-from notchkit.survey.paths import OUT_PORTS, SiteArrays, check_max_harmonic
-from notchkit.survey.result import NotchFeed, SurveyResult, Threat
+from notchkit.threats import limits, products
+from notchkit.threats.blocking import blocking_threats
+from notchkit.threats.intermod import DEFAULT_MAX_THREATS, intermod_threats
+from notchkit.threats.isolation import C0_M_PER_S, ISOLATION_FLOOR_DB
+from notchkit.threats.locations import build_filters, too_close
+from notchkit.threats.paths import OUT_PORTS, SiteArrays, check_max_harmonic
+from notchkit.threats.result import NotchFeed, SurveyResult, Threat
 
 
 def _noise_of(radio: Radio) -> float | None:
@@ -41,7 +41,7 @@ def survey(
         Highest harmonic evaluated (>= 1; 1: none); default ``site.max_harmonic``.
     max_threats : int, optional
         Intermodulation threats kept as objects, the worst first (default
-        :data:`notchkit.survey.intermod.DEFAULT_MAX_THREATS`); the rest are counted
+        :data:`notchkit.threats.intermod.DEFAULT_MAX_THREATS`); the rest are counted
         in ``left_out`` and still reach the matrix.
 
     Returns

@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from notchkit.survey.result import Threat
+from notchkit.threats.result import Threat
 
 MODEL = "power sum: 10 log10(sum_j 10^(P_j/10)) of the carriers outside the receiver's band"
 HALF_DB = 10.0 * np.log10(2.0)

@@ -30,7 +30,7 @@ def too_close(lo: float, hi: float, pass_bands) -> tuple[float, float] | None:
 def build_filters(site: Site, sa, feeds) -> tuple[FilterRequirement, ...]:
     """One FilterRequirement per (radio, side) that some threat with positive excess needs.
 
-    ``feeds`` are :class:`~notchkit.survey.result.NotchFeed` requests (only threats with
+    ``feeds`` are :class:`~notchkit.threats.result.NotchFeed` requests (only threats with
     positive excess make them).
 
     Overlapping (or touching) notch bands at one location are unioned and the
