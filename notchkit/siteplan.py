@@ -16,10 +16,13 @@ import datetime as _dt
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from notchkit.errors import UsageError
 from notchkit.report.summary import summary_html, summary_repr
+
+if TYPE_CHECKING:
+    from notchkit.report.curves import FilterPart
 
 UNITS = ("metric", "imperial", "both")
 PAGE_SIZES = ("a4", "letter")
@@ -95,14 +98,14 @@ def _run_design(site: Any, progress: Any = None) -> Any:
     return design(site, progress=progress)
 
 
-def _part(d: Any, site: Any) -> tuple[Any, Any, Any]:
+def _part(d: Any, site: Any) -> FilterPart:
     """What a filter's page draws besides its text: the filter, its curve and its bands."""
-    from notchkit.report.curves import curve_data
+    from notchkit.report.curves import FilterPart, curve_data
     from notchkit.report.text import design_filter
 
     filt = design_filter(d)
-    spans = _spans(d, site)
-    return filt, curve_data(filt, spans[0] + spans[1]), spans
+    passes, notches = _spans(d, site)
+    return FilterPart(filt=filt, curve=curve_data(filt, passes + notches), passes=passes, notches=notches)
 
 
 def _stem_of(d: Any) -> str:
@@ -117,9 +120,9 @@ def _filter_files(job: tuple) -> tuple[bytes, bytes, str | None]:
     from notchkit.filters import touchstone_text
     from notchkit.report.html import filter_images
 
-    filt, curve, spans, ft, touchstone = job
-    draw_png, curve_png = filter_images(filt, curve, spans, ft)
-    s2p = touchstone_text(filt, *touchstone) if touchstone is not None else None
+    part, ft, touchstone = job
+    draw_png, curve_png = filter_images(part, ft)
+    s2p = touchstone_text(part.filt, *touchstone) if touchstone is not None else None
     return draw_png, curve_png, s2p
 
 
@@ -255,14 +258,14 @@ def plan(
         say("drawing the images")
 
         jobs = []
-        for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
+        for d, ft, part in zip(designs, pt.filters, parts, strict=True):
             touchstone = None
             if outdir is not None:
                 z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
                 touchstone = (touchstone_sweep_hz(d.requirement), z_system,
                               f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
                               _stem_of(d))
-            jobs.append((filt, curve, spans, ft, touchstone))
+            jobs.append((part, ft, touchstone))
         # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
         made = [_filter_files(job) for job in jobs]
     pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
@@ -279,9 +282,9 @@ def plan(
         from notchkit.report.curves import curve_csv_text
 
         folder = Path(outdir)
-        for stem, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
+        for stem, part, (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
             writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
-                       (folder / f"{stem}.csv", curve_csv_text(curve).encode("utf-8"), "--outdir CSV"),
+                       (folder / f"{stem}.csv", curve_csv_text(part.curve).encode("utf-8"), "--outdir CSV"),
                        (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
         from notchkit.jsonvalues import dumps
 

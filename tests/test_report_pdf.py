@@ -12,16 +12,16 @@ import io
 
 import pytest
 
-from notchkit.report.pdf import (
+from notchkit.report.pdf import tags_per_page
+from notchkit.report.pdfpage import (
     CORE_FONT,
     EMBEDDED_FONT,
     LINE_EM,
     MARGIN_IN,
     PAGE_SIZES_IN,
-    _Page,
+    Page,
     choose_font,
     page_size_in,
-    tags_per_page,
 )
 
 
@@ -29,13 +29,13 @@ def _one_page(font, draw):
     """PDF bytes of one A4 page drawn by ``draw(page)`` with ``font``."""
     from reportlab.pdfgen.canvas import Canvas
 
-    from notchkit.report.pdf import _register
+    from notchkit.report.pdfpage import register_font
 
-    _register(font)
+    register_font(font)
     buf = io.BytesIO()
     w, h = PAGE_SIZES_IN["a4"]
     c = Canvas(buf, pagesize=(w * 72, h * 72))
-    draw(_Page((w, h), font=font, canvas=c))
+    draw(Page((w, h), font=font, canvas=c))
     c.showPage()
     c.save()
     return buf.getvalue()
@@ -100,7 +100,7 @@ def test_page_sizes_and_labels_fit():
     for name, (w, h) in PAGE_SIZES_IN.items():
         n = tags_per_page(name)
         assert n >= 10
-        page = _Page((w, h), dry=True)
+        page = Page((w, h), dry=True)
         assert page.bottom < h - MARGIN_IN + 1e-9
 
 
@@ -120,7 +120,7 @@ def test_a_filter_too_big_for_one_page_continues_on_a_second(tmp_path):
     from notchkit.cables import get_cable
     from notchkit.cutlist import cut_list
     from notchkit.filters import Filter, Stub
-    from notchkit.report.curves import curve_data, notch_spans, pass_spans
+    from notchkit.report.curves import FilterPart, curve_data, notch_spans, pass_spans
     from notchkit.report.pdf import render_pdf
     from notchkit.report.text import plan_text
     from notchkit.requirements import FilterRequirement, NotchSpec
@@ -140,8 +140,9 @@ def test_a_filter_too_big_for_one_page_continues_on_a_second(tmp_path):
                 radios=(Radio(name="rx-a", rx=Receive(band=Band(lo_mhz=144.0, hi_mhz=148.0))),))
     sv = SurveyResult(site="Test Flat", transmitters=(), receivers=("rx-a",), threats=(), filters=(req,))
     pt = plan_text(site=site, sv=sv, designs=[d], date="2026-01-01", version="0")
-    spans = (pass_spans(req.pass_bands, 0.5), notch_spans(req.notches))
-    data, layout = render_pdf(pt, [(filt, curve_data(filt, spans[0] + spans[1]), spans)])
+    passes, notch = pass_spans(req.pass_bands, 0.5), notch_spans(req.notches)
+    part = FilterPart(filt=filt, curve=curve_data(filt, passes + notch), passes=passes, notches=notch)
+    data, layout = render_pdf(pt, [part])
     assert layout.filters == 2
     pages = [p.extract_text() for p in PdfReader(io.BytesIO(data)).pages]
     assert len(pages) == layout.total
@@ -180,7 +181,7 @@ def _dejavu_width_pt(text, size, bold=False):
 @pytest.mark.parametrize("width_in", [1.2, 2.5, 4.0, 6.9])
 @pytest.mark.parametrize("bold", [False, True])
 def test_wrapped_lines_fit_their_width_measured_by_the_font_file(width_in, bold):
-    page = _Page(PAGE_SIZES_IN["a4"], dry=True, font=EMBEDDED_FONT)
+    page = Page(PAGE_SIZES_IN["a4"], dry=True, font=EMBEDDED_FONT)
     size = 8.0
     lines = page.wrap(_PARAGRAPH, width_in, size, bold=bold)
     limit = width_in * 72.0
@@ -198,7 +199,7 @@ def test_wrapped_lines_fit_their_width_measured_by_the_font_file(width_in, bold)
 def test_helvetica_widths_are_the_standard_font_metrics():
     # Adobe's Helvetica AFM (one of the PDF standard 14 fonts; widths per 1000 em,
     # from memory): space 278, digits 556, "W" 944, "i" 222, "m" 833.
-    from notchkit.report.pdf import _width_pt
+    from notchkit.report.pdfpage import _width_pt
 
     for text, units in ((" ", 278), ("0123456789", 5560), ("W", 944), ("i", 222), ("m", 833)):
         assert _width_pt(text, "Helvetica", 10.0) == pytest.approx(units / 100.0)

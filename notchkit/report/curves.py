@@ -17,7 +17,7 @@ import os
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any, Protocol
 
 import numpy as np
 from numpy.typing import NDArray
@@ -25,6 +25,10 @@ from numpy.typing import NDArray
 from notchkit.filters import Filter, evaluate
 from notchkit.lines import db20
 from notchkit.report.files import write_bytes_atomic, write_text_atomic
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
 
 LOG_AXIS_RATIO = 3.0
 """Use a logarithmic frequency axis when the highest band edge exceeds this many
@@ -61,14 +65,40 @@ class CurveData:
         return list(zip(self.freq_mhz.tolist(), self.s21_db.tolist(), self.s11_db.tolist(), strict=True))
 
 
-def _spans(items: Iterable[Any] | None, limit_attr: str | None) -> list[Span]:
+class BandLike(Protocol):
+    """Anything with a band's edges in MHz (a site band, a notch spec, a :class:`Span`)."""
+
+    @property
+    def lo_mhz(self) -> float: ...
+
+    @property
+    def hi_mhz(self) -> float: ...
+
+
+BandInput = BandLike | Sequence[float | None]
+"""A band as an object with ``lo_mhz``/``hi_mhz`` or as ``(lo, hi[, limit])`` in MHz."""
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class FilterPart:
+    """What a filter's page draws besides its text: the filter, its curve and its bands."""
+
+    filt: Filter
+    curve: CurveData
+    passes: Sequence[Span]
+    """The pass bands with their insertion-loss limit."""
+    notches: Sequence[Span]
+    """The notch bands with their required attenuation."""
+
+
+def _spans(items: Iterable[BandInput] | None, limit_attr: str | None) -> list[Span]:
     out = []
     for it in items or ():
         if isinstance(it, Span):
             out.append(it)
             continue
-        if isinstance(it, tuple | list):
-            lo, hi = float(it[0]), float(it[1])
+        if isinstance(it, Sequence):
+            lo, hi = float(it[0] or 0.0), float(it[1] or 0.0)
             lim = float(it[2]) if len(it) > 2 and it[2] is not None else None
         else:
             lo, hi = float(it.lo_mhz), float(it.hi_mhz)
@@ -78,13 +108,13 @@ def _spans(items: Iterable[Any] | None, limit_attr: str | None) -> list[Span]:
     return out
 
 
-def pass_spans(pass_bands: Iterable[Any], max_il_db: float | None = None) -> list[Span]:
+def pass_spans(pass_bands: Iterable[BandInput], max_il_db: float | None = None) -> list[Span]:
     """Pass bands (objects with ``lo_mhz``/``hi_mhz`` or ``(lo, hi)`` pairs) with one IL limit."""
     return [Span(lo_mhz=s.lo_mhz, hi_mhz=s.hi_mhz, limit_db=max_il_db if s.limit_db is None else s.limit_db)
             for s in _spans(pass_bands, None)]
 
 
-def notch_spans(notches: Iterable[Any]) -> list[Span]:
+def notch_spans(notches: Iterable[BandInput]) -> list[Span]:
     """Notch bands (objects with ``lo_mhz``, ``hi_mhz``, ``required_db``, or tuples)."""
     return _spans(notches, "required_db")
 
@@ -166,7 +196,7 @@ class LineStyle:
     width: float
     dash: tuple[float, ...] | None = None
 
-    def mpl(self) -> Any:
+    def mpl(self) -> str | tuple[float, tuple[float, ...]]:
         """matplotlib's ``linestyle`` for it (matplotlib scales dashes by the line width)."""
         return "-" if self.dash is None else (0, tuple(d / self.width for d in self.dash))
 
@@ -278,7 +308,7 @@ def plot_layout(curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[
                       passes=passes, notches=notch, legend=tuple(legend))
 
 
-def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[Span],
+def draw_curve(ax: Axes, curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[Span],
                *, title: str | None = None, fontsize: float = 8.0, show_s11: bool = True) -> None:
     """Draw the S21 (and S11) curve with hatched bands and requirement lines on matplotlib ``ax``."""
     from matplotlib.lines import Line2D
@@ -287,8 +317,8 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
     lay = plot_layout(curve, pass_bands, notches, show_s11=show_s11)
     f = curve.freq_mhz
     ax.plot(f, curve.s21_db, color="black", linewidth=S21_STYLE.width, label=LEGEND["s21"])
-    s11_kw = {"color": "black", "linewidth": S11_STYLE.width, "linestyle": S11_STYLE.mpl()}
-    il_kw = {"color": "black", "linewidth": IL_STYLE.width, "linestyle": IL_STYLE.mpl()}
+    s11_kw: dict[str, Any] = {"color": "black", "linewidth": S11_STYLE.width, "linestyle": S11_STYLE.mpl()}
+    il_kw: dict[str, Any] = {"color": "black", "linewidth": IL_STYLE.width, "linestyle": IL_STYLE.mpl()}
 
     def band_kw(st: BandStyle) -> dict[str, Any]:
         return {"facecolor": "none" if st.fill is None else str(st.fill), "edgecolor": str(st.edge),
@@ -334,8 +364,8 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
     for k, h in zip(lay.legend, handles, strict=True):
         h.set_label(LEGEND[k])
     # Below the x label: tick labels and the label take about 3.3 font sizes.
-    fig = ax.get_figure()
-    height_in = ax.get_position().height * fig.get_figheight()
+    fig = ax.get_figure(root=True)
+    height_in = ax.get_position().height * (fig.get_figheight() if fig is not None else 1.0)
     below = 3.4 * fontsize / 72.0 / max(height_in, 1e-6)
     ax.legend(handles=handles, fontsize=fontsize - 1.5, loc="upper center", bbox_to_anchor=(0.5, -below),
               framealpha=1.0, edgecolor="black", ncol=3)
@@ -343,7 +373,7 @@ def draw_curve(ax: Any, curve: CurveData, pass_bands: Sequence[Span], notches: S
 
 def curve_figure(curve: CurveData, pass_bands: Sequence[Span], notches: Sequence[Span], *,
                  title: str | None = None, width_in: float = 7.0, height_in: float = 3.2,
-                 fontsize: float = 8.0, show_s11: bool = True):
+                 fontsize: float = 8.0, show_s11: bool = True) -> Figure:
     """A new matplotlib Figure (no pyplot) with :func:`draw_curve` on it."""
     from matplotlib.figure import Figure
 
@@ -355,7 +385,7 @@ def curve_figure(curve: CurveData, pass_bands: Sequence[Span], notches: Sequence
     return fig
 
 
-def figure_bytes(fig: Any, fmt: str = "png", dpi: int = 150) -> bytes:
+def figure_bytes(fig: Figure, fmt: str = "png", dpi: int = 150) -> bytes:
     """Render a Figure to bytes (PNG or SVG) without pyplot."""
     import matplotlib
 
@@ -365,6 +395,6 @@ def figure_bytes(fig: Any, fmt: str = "png", dpi: int = 150) -> bytes:
     return buf.getvalue()
 
 
-def write_figure_png(fig: Any, path: str | os.PathLike, dpi: int = 150) -> Path:
+def write_figure_png(fig: Figure, path: str | os.PathLike, dpi: int = 150) -> Path:
     """Write a Figure as PNG atomically."""
     return write_bytes_atomic(path, figure_bytes(fig, "png", dpi))

@@ -13,10 +13,13 @@ import html as _h
 import os
 from collections.abc import Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 from notchkit.report.files import write_text_atomic
 from notchkit.report.text import MET, NOT_MET, FilterText, PlanText, Table
+
+if TYPE_CHECKING:
+    from notchkit.report.curves import FilterPart
 
 CSS = """
 body { font-family: "DejaVu Sans", Arial, Helvetica, sans-serif; color: #000; background: #fff;
@@ -47,7 +50,7 @@ footer { font-size: 8pt; border-top: 1px solid #000; margin-top: 2em; }
 """
 
 
-def _e(s: Any) -> str:
+def _e(s: object) -> str:
     from notchkit.textsafe import clean
 
     return _h.escape(clean(s), quote=True)  # control and bidi characters shown as escapes
@@ -79,7 +82,7 @@ def _img(data: bytes, alt: str, mime: str = "image/png") -> str:
     return f'<img class="fig" alt="{_e(alt)}" src="data:{mime};base64,{b64}">'
 
 
-def filter_images(filt: Any, curve: Any, spans: Any, ft: FilterText, dpi: int = 110) -> tuple[bytes, bytes]:
+def filter_images(part: FilterPart, ft: FilterText, dpi: int = 110) -> tuple[bytes, bytes]:
     """PNG bytes of a filter's arrangement drawing and of its curve, drawn with the page's labels."""
     import matplotlib
 
@@ -87,10 +90,10 @@ def filter_images(filt: Any, curve: Any, spans: Any, ft: FilterText, dpi: int = 
     from notchkit.report.drawing import arrangement_figure
 
     with matplotlib.rc_context(MPL_RC):  # type: ignore[arg-type]
-        draw = arrangement_figure(filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
+        draw = arrangement_figure(part.filt, stub_labels=ft.stub_labels, line_labels=ft.line_labels,
                                   radio_label=ft.radio_label, antenna_label=ft.antenna_label,
                                   cable_label=ft.cable_label)
-        crv = curve_figure(curve, spans[0], spans[1],
+        crv = curve_figure(part.curve, part.passes, part.notches,
                            title=f"{ft.filter_id}: attenuation (S21) and reflection (S11)")
         return figure_bytes(draw, "png", dpi), figure_bytes(crv, "png", dpi)
 
