@@ -5,10 +5,16 @@ from __future__ import annotations
 import math
 import re
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
 from notchkit.jsonvalues import dumps
+from notchkit.report.rows import DASH
 from notchkit.report.summary import state_word
+
+if TYPE_CHECKING:
+    from notchkit.solver import Shortfall
+    from notchkit.synthesis import Design, DesignReport
 
 CAUTION = (
     "Safety: open stub ends carry the highest voltage of the filter (kilovolts at high power); "
@@ -223,61 +229,34 @@ def _progress(args):
 # ---------------------------------------------------------------- formatting
 
 
-def _ok(flag: bool) -> str:
-    return state_word(flag, loud=True)
-
-
-def format_design(d) -> str:
-    """The human text of one designed filter."""
+def format_design(d: Design) -> str:
+    """The human text of one designed filter: its verdict and requirement rows as the plan prints
+    them (:mod:`notchkit.report.filterrows`), then the cut list, tolerance, power and advice."""
     from notchkit.buildyield import format_tolerance
+    from notchkit.calibration import calibration_lines
     from notchkit.cutlist import format_cut_list
     from notchkit.power import format_power
+    from notchkit.report.filterrows import requirement_table, verdict_text
+    from notchkit.report.terminal import table_lines
     from notchkit.solver import describe
 
     s = d.solution
     cab = d.cable
-    y = d.build_yield
-    yield_text = "" if y is None else f", build yield {100 * y:.1f} % (target {100 * d.yield_target:g} %)"
-    if d.meets:
-        status = "meets every requirement" + yield_text
-    elif s.meets and d.build_problems:
-        status = "meets as designed but a part cannot be built" + yield_text
-    elif s.meets:
-        status = "meets as designed but too few builds would: NOT MET" + yield_text
-    else:
-        status = "DOES NOT MEET its requirements (best design shown)"
-    lines = [
-        f"{d.id}: {d.where} on {getattr(cab, 'name', '?')} ({cab.z0_ohm:g} ohm, VF {cab.velocity_factor:g})"
-        f" - {status}",
-    ]
-    from notchkit.calibration import calibration_lines
-
+    lines = [f"{d.id}: {d.where} on {getattr(cab, 'name', '?')} ({cab.z0_ohm:g} ohm, "
+             f"VF {cab.velocity_factor:g}) - {verdict_text(d)}"]
     lines += [f"  {x}" for x in calibration_lines([cab])]
-    for why in d.requirement.reasons:
-        lines.append(f"  why: {why}")
+    lines += [f"  why: {why}" for why in d.requirement.reasons]
     lines.append(f"  arrangement: {describe(d.filter)}")
     lines.append(f"  {len(d.filter.stubs)} stub(s), {s.total_cable_m:.2f} m of cable in all "
                  f"(cap {s.max_total_cable_m:.1f} m)")
-    lines.append("  verified on a dense sweep of every band, edge to edge:")
-    for p in s.passes:
-        lines.append(f"    pass  {p.lo_mhz:g}-{p.hi_mhz:g} MHz: insertion loss "
-                     f"{p.worst_insertion_loss_db:.2f} dB "
-                     f"(max {p.max_insertion_loss_db:g}), SWR {p.worst_swr:.2f} (max {p.max_swr:g})  "
-                     f"{_ok(p.meets)}")
-    for n in s.notches:
-        tail = (state_word(True) if n.meets
-                else f"{state_word(False, loud=True)}: {-n.margin_db:.1f} dB missing")
-        lines.append(f"    notch {n.lo_mhz:g}-{n.hi_mhz:g} MHz: {n.worst_attenuation_db:.1f} dB worst "
-                     f"(at {n.worst_mhz:g} MHz; need {n.required_db:.1f}, margin {n.margin_db:+.1f})  {tail}")
-    model = getattr(d, "model", None)
-    if model is not None:
-        lines += ["  " + x for x in model.lines]
+    lines += table_lines(requirement_table(d), "  ")
+    if d.model is not None:
+        lines += ["  " + x for x in d.model.lines]
     if d.cuts:
         lines.append("  cut list:")
         text = format_cut_list(d.cuts, lines=d.lines, hardware=d.hardware)
         lines += ["    " + x for x in text.splitlines()]
-    for problem in d.build_problems:
-        lines.append(f"  cannot be built: {problem}")
+    lines += [f"  cannot be built: {problem}" for problem in d.build_problems]
     if d.tolerance is not None:
         lines += ["  " + x for x in format_tolerance(d.tolerance).splitlines()]
     if d.power is not None:
@@ -285,36 +264,33 @@ def format_design(d) -> str:
     if s.alternatives:
         lines.append("  alternatives (stubs, cable, smallest notch margin, build yield):")
         for a in s.alternatives:
-            ay = "-" if a.build_yield is None else f"{100 * a.build_yield:.0f} %"
-            tag = "" if a.meets else ", does not meet"
+            ay = DASH if a.build_yield is None else f"{100 * a.build_yield:.0f} %"
+            tag = "" if a.meets else f", {state_word(False)}"
             lines.append(f"    {a.n_stubs} stub(s), {a.total_cable_m:.2f} m, {a.margin_db:+.1f} dB, "
-                         f"{ay}{tag}: "
-                         f"{a.arrangement}")
-    if not d.meets and s.meets:
-        for a in d.advice:
-            lines.append(f"  advice: {a}")
+                         f"{ay}{tag}: {a.arrangement}")
     if not s.meets:
         lines.append("  what is missing:")
-        for x in s.shortfall:
-            if x.quantity == "attenuation":
-                lines.append(f"    notch {x.lo_mhz:g}-{x.hi_mhz:g} MHz: best {x.achieved:.1f} dB of "
-                             f"{x.required:.1f} dB, {x.missing_db:.1f} dB short")
-            elif x.quantity == "insertion_loss":
-                lines.append(f"    pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: insertion loss {x.achieved:.2f} dB, "
-                             f"{x.missing_db:.2f} dB over {x.required:g} dB")
-            else:
-                lines.append(f"    pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: SWR {x.achieved:.2f} over "
-                             f"{x.required:g} "
-                             f"({x.missing_db:.1f} dB of return loss short)")
-        for a in d.advice:
-            lines.append(f"  advice: {a}")
-    note = getattr(d, "cable_note", None)
-    if note:
-        lines.append(f"  warning: {note}")
+        lines += ["    " + _shortfall(x) for x in s.shortfall]
+    if not d.meets:
+        lines += [f"  advice: {a}" for a in d.advice]
+    if d.cable_note:
+        lines.append(f"  warning: {d.cable_note}")
     return "\n".join(lines)
 
 
-def format_report(report) -> str:
+def _shortfall(x: Shortfall) -> str:
+    """One band's shortfall: what it reaches, what it needs, how far off."""
+    if x.quantity == "attenuation":
+        return (f"notch {x.lo_mhz:g}-{x.hi_mhz:g} MHz: best {x.achieved:.1f} dB of "
+                f"{x.required:.1f} dB, {x.missing_db:.1f} dB short")
+    if x.quantity == "insertion_loss":
+        return (f"pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: insertion loss {x.achieved:.2f} dB, "
+                f"{x.missing_db:.2f} dB over {x.required:g} dB")
+    return (f"pass {x.lo_mhz:g}-{x.hi_mhz:g} MHz: SWR {x.achieved:.2f} over {x.required:g} "
+            f"({x.missing_db:.1f} dB of return loss short)")
+
+
+def format_report(report: DesignReport) -> str:
     """The human text of a whole design report."""
     head = (f"Design for {report.site_name}: {len(report.designs)} filter(s)" if report.site_name
             else "Design: 1 ad-hoc filter")

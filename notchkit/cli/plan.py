@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from notchkit.defaults import PAGE_SIZES, UNITS
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
-from notchkit.report.summary import state_word
 
 DESCRIPTION = """\
 Survey the site, design every filter it needs and write the notch plan: a PDF with
@@ -62,6 +61,7 @@ def _analyser(text: str) -> tuple[float, float]:
 def run(args) -> int:
     from notchkit.cli.progress import terminal_progress
     from notchkit.defaults import load_defaults, with_analyser
+    from notchkit.report.terminal import table_lines
     from notchkit.siteplan import plan
 
     mine = load_defaults()
@@ -82,8 +82,8 @@ def run(args) -> int:
             progress.done()
     for line in result.text.summary:
         print(line)
-    for f in result.text.filters:
-        print(f"  {f.title}: {state_word(f.meets, loud=True)} (build yield {f.build_yield})")
+    for line in table_lines(result.text.filters_table, "  ", title=False):  # the cover's table
+        print(line)
     print(f"wrote {result.pdf} ({result.pages} pages)")
     if result.html is not None:
         print(f"wrote {result.html}")

@@ -2,11 +2,17 @@
 
 from __future__ import annotations
 
-from collections.abc import Set
+from typing import TYPE_CHECKING
 
 from notchkit.errors import EXIT_OK
 from notchkit.jsonvalues import dumps
-from notchkit.report.text import on_band, order_text
+from notchkit.report.text import band_text, on_band
+
+if TYPE_CHECKING:
+    from notchkit.threats import SurveyResult
+
+JSON = "The output of `notchkit survey --json`"
+"""Where the tables' notes send a reader for every threat and the full matrix."""
 
 CAUTION = (
     "Estimates only: measure antenna coupling on site where you can. Tower work, RF exposure "
@@ -74,77 +80,37 @@ def run(args) -> int:
     return EXIT_OK
 
 
-def _table(head: list[str], rows: list[list[str]], right: Set[int] = frozenset()) -> list[str]:
-    widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
+def format_result(result: SurveyResult) -> str:
+    """The human-readable survey: the plan's threat table and matrix (the same rows and words as
+    the PDF and HTML), then the filter requirements, remedies and notes."""
+    from notchkit.report.terminal import table_lines
+    from notchkit.report.text import matrix_table, threat_table
 
-    def fmt(row: list[str]) -> str:
-        pairs = enumerate(zip(row, widths, strict=True))
-        cells = [c.rjust(w) if i in right else c.ljust(w) for i, (c, w) in pairs]
-        return "  ".join(cells).rstrip()
-
-    return [fmt(head), "  ".join("-" * w for w in widths), *(fmt(r) for r in rows)]
-
-
-def _where(t) -> str:
-    if t.filters:
-        return ", ".join(f"{side} {radio}" for radio, side in t.filters)
-    if t.excess_db > 0:
-        cls = getattr(t, "remedy_class", "")
-        return f"no stub: {cls} (see remedies)" if cls else "no stub (see remedies)"
-    return "-"
-
-
-def format_result(result) -> str:
-    """The human-readable survey: threats, matrix, filter requirements, remedies, notes."""
     need = [t for t in result.threats if t.excess_db > 0]
     lines = [
-        f"Survey of {result.site}: {len(result.threats)} threats, {len(need)} above threshold, "
+        f"Survey of {result.site}: {len(result.threats)} threats, {len(need)} over the limit, "
         f"{len(result.filters)} filter locations (harmonics up to {result.max_harmonic}, "
         f"rejection margin {result.rejection_margin_db:g} dB)",
         "",
-        "Threats, worst first (excess = level - threshold):",
     ]
-    rows = [
-        [
-            on_band(", ".join(t.sources), t).replace(", ", " + "),
-            on_band(t.victim, t),
-            t.mechanism,
-            order_text(t),
-            f"{t.f_mhz:.4f}",
-            f"{t.level_dbm:.1f}",
-            f"{t.threshold_dbm:.1f}",
-            f"{t.excess_db:+.1f}",
-            _where(t),
-        ]
-        for t in result.threats
-    ]
-    head = ["source", "victim", "mechanism", "order", "MHz", "level dBm", "limit dBm", "excess dB",
-            "where a stub helps"]  # fmt: skip
-    lines += _table(head, rows, right={3, 4, 5, 6, 7}) if rows else ["  (none)"]
-    lines += ["", "Worst excess in dB, transmitter (rows) x receiver (columns); '-' = no threat:"]
-    m = result.matrix()
-    if m.transmitters and m.receivers:
-        keys = [f"R{j + 1}" for j in range(len(m.receivers))]
-        mrows = [
-            [tx] + ["-" if v is None else f"{v:+.1f}" for v in row]
-            for tx, row in zip(m.transmitters, m.excess_db, strict=True)
-        ]
-        lines += _table(["tx \\ rx", *keys], mrows, right=set(range(1, len(keys) + 1)))
-        lines.append("  " + ", ".join(f"{k} = {name}" for k, name in zip(keys, m.receivers, strict=True)))
+    lines += table_lines(threat_table(result, json=JSON))
+    lines.append("")
+    if result.matrix().transmitters and result.matrix().receivers:
+        lines += table_lines(matrix_table(result, json=JSON))
     else:
         lines.append("  (no transmitter or no receiver)")
     lines += ["", "Filter requirements:"]
     if not result.filters:
-        lines.append("  none: no threat above threshold that a stub can remove")
+        lines.append("  none: no threat over the limit that a stub can remove")
     for req in result.filters:
         power = "" if req.power_w is None else f", carries {req.power_w:g} W at {req.power_mhz:g} MHz"
         lines.append(f"  {req.radio} {req.side} side (stub cable {req.cable}{power})")
         lines.append(
-            "    pass:  " + ", ".join(f"{b.lo_mhz:.4f}-{b.hi_mhz:.4f} MHz" for b in req.pass_bands)
+            "    pass:  " + ", ".join(band_text(b.lo_mhz, b.hi_mhz) for b in req.pass_bands)
         )
         for n, reason in zip(req.notches, req.reasons, strict=False):
             lines.append(
-                f"    notch: {n.lo_mhz:.4f}-{n.hi_mhz:.4f} MHz, >= {n.required_db:.1f} dB  ({reason})"
+                f"    notch: {band_text(n.lo_mhz, n.hi_mhz)}, >= {n.required_db:.1f} dB  ({reason})"
             )
     remedies: dict[str, None] = {}
     for t in need:

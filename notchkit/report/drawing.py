@@ -15,12 +15,15 @@ global style.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING
 
 from notchkit.cutlist import format_length as length_text
 from notchkit.elements import element_ids
 from notchkit.filters import Filter, Line, Stub
-from notchkit.report.sketch import Box, Dot, Label, Lines, Point, Sketch, to_matplotlib
+from notchkit.report.sketch import Box, Dot, HAlign, Label, Lines, Point, Sketch, VAlign, to_matplotlib
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 # Layout in drawing units (the x axis is scaled to the figure's width).
 _BOX_W = 1.6  # radio / antenna block width
@@ -85,42 +88,25 @@ def arrangement_sketch(
     fontsize : float
         Label size in points.
     """
-    xlim, ylim = drawing_limits(filt)
-    sk = Sketch(xlim=xlim, ylim=ylim)
-    wires: list[tuple[Point, ...]] = []  # every black line, drawn as one item
-    coax: list[tuple[Point, ...]] = []
-    dots: list[Dot] = []  # drawn over the lines
-
-    def wire(xs: Sequence[float], ys: Sequence[float]) -> None:
-        wires.append(tuple(zip(xs, ys, strict=True)))
-
-    def text(x: float, y: float, s: str, **kw: Any) -> None:
-        sk.items.append(Label(x, y, s, fontsize, **kw))
-
-    stubs = filt.stubs
-    n_lines = sum(isinstance(e, Line) for e in filt.elements)
     stub_labels = list(stub_labels) if stub_labels is not None else default_stub_labels(filt, units)
     line_labels = list(line_labels) if line_labels is not None else default_line_labels(filt, units)
-    if len(stub_labels) != len(stubs) or len(line_labels) != n_lines:
+    n_lines = sum(isinstance(e, Line) for e in filt.elements)
+    if len(stub_labels) != len(filt.stubs) or len(line_labels) != n_lines:
         raise ValueError("one label per stub and per line section is needed")
-
-    # Radio block.
-    x = 0.0
-    sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
-    text(x + _BOX_W / 2, 0.0, radio_label, bold=True)
-    x += _BOX_W
-    wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
+    xlim, ylim = drawing_limits(filt)
+    pen = _Pen(Sketch(xlim=xlim, ylim=ylim), fontsize)
+    x = pen.end_block(0.0, radio_label)
+    pen.wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
-
     stub_i = line_i = 0
     elements = list(filt.elements)
     k = 0
     while k < len(elements):
         e = elements[k]
         if isinstance(e, Line):
-            wire([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE])
-            text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}", va="bottom",
-                 linespacing=1.1)
+            pen.wire([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE])
+            pen.text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}", va="bottom",
+                     linespacing=1.1)
             line_i += 1
             x += _LINE_GAP
             k += 1
@@ -129,44 +115,71 @@ def arrangement_sketch(
         while k < len(elements) and isinstance(stub := elements[k], Stub):
             group.append(stub)
             k += 1
-        # One tee: a dot on the through line, a bus when several stubs share it.
-        width = _STUB_PITCH * (len(group) - 1)
-        x0 = x + _STUB_PITCH / 2 if len(group) > 1 else x + 0.6
-        tee_x = x0 + width / 2
-        span_end = x0 + width + (_STUB_PITCH / 2 if len(group) > 1 else 0.6)
-        wire([x, span_end], [_Y_LINE, _Y_LINE])
-        dots.append(Dot(tee_x, _Y_LINE, 0.07, fill=0.0))
-        text(tee_x, _Y_LINE + 0.12, "tee", va="bottom")
-        bus_y = _Y_LINE - 0.3
-        wire([tee_x, tee_x], [_Y_LINE, bus_y])
-        if len(group) > 1:
-            wire([x0, x0 + width], [bus_y, bus_y])
-        for j, stub in enumerate(group):
-            sx = x0 + j * _STUB_PITCH
-            end_y = _Y_LINE - _STUB_DROP
-            # The stub cable drawn as a doubled line (coax), then its end.
-            coax.append(((sx, bus_y), (sx, end_y)))
-            label_y = stub.kind.draw_end(wire, dots, sx, end_y)  # the kind draws its own end
-            text(sx, label_y, stub_labels[stub_i], va="top", linespacing=1.15)
-            stub_i += 1
-        x = span_end
-
-    wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
+        x = _tee(pen, x, group, stub_labels[stub_i:stub_i + len(group)])
+        stub_i += len(group)
+    pen.wire([x, x + _LEAD], [_Y_LINE, _Y_LINE])
     x += _LEAD
-    # Antenna block: a box with a small mast symbol above it.
-    sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
-    text(x + _BOX_W / 2, 0.0, antenna_label, bold=True)
-    mx = x + _BOX_W / 2
-    wire([mx, mx], [0.45, 0.9])
-    wire([mx - 0.25, mx, mx + 0.25], [1.15, 0.9, 1.15])
+    pen.end_block(x, antenna_label)
+    mx = x + _BOX_W / 2  # a small mast symbol above the antenna block
+    pen.wire([mx, mx], [0.45, 0.9])
+    pen.wire([mx - 0.25, mx, mx + 0.25], [1.15, 0.9, 1.15])
+    return pen.finish(cable_label)
 
-    sk.items.append(Lines(tuple(wires), width=1.4))
-    sk.items.append(Lines(tuple(coax), width=3.2))
-    sk.items.append(Lines(tuple(coax), width=1.4, grey=1.0))
-    sk.items.extend(dots)
-    if cable_label:
-        text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top")
-    return sk
+
+class _Pen:
+    """The sketch being drawn: its black lines, coax and dots gathered, drawn in that order."""
+
+    def __init__(self, sk: Sketch, fontsize: float) -> None:
+        self.sk, self.fontsize = sk, fontsize
+        self.wires: list[tuple[Point, ...]] = []  # every black line, drawn as one item
+        self.coax: list[tuple[Point, ...]] = []
+        self.dots: list[Dot] = []  # drawn over the lines
+
+    def wire(self, xs: Sequence[float], ys: Sequence[float]) -> None:
+        self.wires.append(tuple(zip(xs, ys, strict=True)))
+
+    def text(self, x: float, y: float, s: str, *, ha: HAlign = "center", va: VAlign = "center",
+             bold: bool = False, linespacing: float = 1.2) -> None:
+        self.sk.items.append(Label(x, y, s, self.fontsize, ha=ha, va=va, bold=bold, linespacing=linespacing))
+
+    def end_block(self, x: float, label: str) -> float:
+        """The radio's or the antenna's box at ``x``; returns its right edge."""
+        self.sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
+        self.text(x + _BOX_W / 2, 0.0, label, bold=True)
+        return x + _BOX_W
+
+    def finish(self, cable_label: str | None) -> Sketch:
+        sk = self.sk
+        sk.items.append(Lines(tuple(self.wires), width=1.4))
+        sk.items.append(Lines(tuple(self.coax), width=3.2))
+        sk.items.append(Lines(tuple(self.coax), width=1.4, grey=1.0))
+        sk.items.extend(self.dots)
+        if cable_label:
+            self.text(0.0, -_STUB_DROP - 1.25, cable_label, ha="left", va="top")
+        return sk
+
+
+def _tee(pen: _Pen, x: float, group: Sequence[Stub], labels: Sequence[str]) -> float:
+    """One tee at ``x``: a dot on the through line, a bus when several stubs share it, each stub
+    hanging from it with its end and label; returns where the through line goes on."""
+    width = _STUB_PITCH * (len(group) - 1)
+    x0 = x + _STUB_PITCH / 2 if len(group) > 1 else x + 0.6
+    tee_x = x0 + width / 2
+    span_end = x0 + width + (_STUB_PITCH / 2 if len(group) > 1 else 0.6)
+    pen.wire([x, span_end], [_Y_LINE, _Y_LINE])
+    pen.dots.append(Dot(tee_x, _Y_LINE, 0.07, fill=0.0))
+    pen.text(tee_x, _Y_LINE + 0.12, "tee", va="bottom")
+    bus_y = _Y_LINE - 0.3
+    pen.wire([tee_x, tee_x], [_Y_LINE, bus_y])
+    if len(group) > 1:
+        pen.wire([x0, x0 + width], [bus_y, bus_y])
+    for j, (stub, label) in enumerate(zip(group, labels, strict=True)):
+        sx = x0 + j * _STUB_PITCH
+        end_y = _Y_LINE - _STUB_DROP
+        pen.coax.append(((sx, bus_y), (sx, end_y)))  # the stub cable drawn doubled (coax), then its end
+        label_y = stub.kind.draw_end(pen.wire, pen.dots, sx, end_y)  # the kind draws its own end
+        pen.text(sx, label_y, label, va="top", linespacing=1.15)
+    return span_end
 
 
 def arrangement_width(filt: Filter) -> float:
@@ -183,18 +196,28 @@ def arrangement_figure(
     *,
     width_in: float = 7.0,
     height_in: float = 2.4,
-    **kwargs: Any,
-):
+    stub_labels: Sequence[str] | None = None,
+    line_labels: Sequence[str] | None = None,
+    radio_label: str = "RADIO",
+    antenna_label: str = "ANTENNA",
+    cable_label: str | None = None,
+    units: str = "both",
+    fontsize: float | None = None,
+) -> Figure:
     """A new matplotlib Figure with :func:`arrangement_sketch` drawn on it.
 
     The figure is built without pyplot (no global state); save it with
-    ``fig.savefig(...)``. Keyword arguments go to :func:`arrangement_sketch`;
-    the font shrinks when many elements share the width.
+    ``fig.savefig(...)``. The labels are :func:`arrangement_sketch`'s; without
+    ``fontsize`` the font shrinks when many elements share the width.
     """
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=(width_in, height_in))
     units_per_in = arrangement_width(filt) / width_in
-    kwargs.setdefault("fontsize", max(5.0, min(8.0, 8.0 * 2.4 / max(units_per_in, 1e-9))))
-    to_matplotlib(arrangement_sketch(filt, **kwargs), fig, (0.01, 0.01, 0.98, 0.98))
+    if fontsize is None:
+        fontsize = max(5.0, min(8.0, 8.0 * 2.4 / max(units_per_in, 1e-9)))
+    sketch = arrangement_sketch(filt, stub_labels=stub_labels, line_labels=line_labels,
+                                radio_label=radio_label, antenna_label=antenna_label, cable_label=cable_label,
+                                units=units, fontsize=fontsize)
+    to_matplotlib(sketch, fig, (0.01, 0.01, 0.98, 0.98))
     return fig

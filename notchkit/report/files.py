@@ -25,7 +25,6 @@ from __future__ import annotations
 import os
 from collections.abc import Iterable, Sequence
 from pathlib import Path
-from typing import Any
 
 from notchkit.bounded import file_kind
 from notchkit.errors import InputError
@@ -152,8 +151,11 @@ def _identity(p: Path) -> tuple[int, int] | None:
     return (st.st_dev, st.st_ino)
 
 
-def plan_outputs(outputs: Sequence[tuple[str | os.PathLike[str], str]], *,
-                 inputs: Iterable[str | os.PathLike[str] | tuple[Any, str] | None] = (),
+_Path = str | os.PathLike[str]
+
+
+def plan_outputs(outputs: Sequence[tuple[_Path, str]], *,
+                 inputs: Iterable[_Path | tuple[_Path | None, str] | None] = (),
                  dirs: Sequence[tuple[str | os.PathLike[str], str]] = ()) -> list[Path]:
     """Check every output of a command together, before any work; see the module docstring.
 

@@ -349,7 +349,7 @@ def filter_text(d: Design, units: str = "both", plan_json: str = "PLAN.json") ->
     is_tx = getattr(req, "side", None) == "tx"
     return FilterText(
         filter_id=design_id(d), title=design_title(d), meets=meets,
-        verdict=(_met_verdict(d) if meets else _unmet_verdict(d)),
+        verdict=verdict_text(d),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
         tolerance=tolerance_lines(d, units), power=power_table(d), power_lines=power_lines(d),
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
@@ -363,6 +363,11 @@ def build_yield_text(d: Design) -> str:
     """``"98.5 %"`` (the build yield), or ``-`` when there is none."""
     t = getattr(d, "tolerance", None)
     return DASH if t is None else pct(t.probability_all)
+
+
+def verdict_text(d: Design) -> str:
+    """The filter's verdict as its page and the terminal print it."""
+    return _met_verdict(d) if design_meets(d) else _unmet_verdict(d)
 
 
 def _met_verdict(d: Design) -> str:

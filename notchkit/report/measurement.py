@@ -5,7 +5,7 @@ from __future__ import annotations
 import io
 import os
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -13,8 +13,13 @@ from notchkit.errors import InputError
 from notchkit.fileio import write_bytes_atomic
 from notchkit.resonance import named
 
+if TYPE_CHECKING:
+    from skrf import Network
 
-def plot_measurement(network: Any, result: Any, path: str | os.PathLike[str]) -> Path:
+    from notchkit.trimming import TrimResult
+
+
+def plot_measurement(network: Network, result: TrimResult, path: str | os.PathLike[str]) -> Path:
     """Plot the measurement with the measured resonance and the target marked.
 
     ``|Z|`` in ohms (log scale) for a one-port, ``S21`` in dB for a two-port,
@@ -40,7 +45,7 @@ def plot_measurement(network: Any, result: Any, path: str | os.PathLike[str]) ->
     return out
 
 
-def measurement_png(network: Any, result: Any) -> bytes:
+def measurement_png(network: Network, result: TrimResult) -> bytes:
     """The PNG bytes of :func:`plot_measurement`'s plot (for a caller that writes it together
     with other outputs, :func:`notchkit.fileio.write_all`)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg

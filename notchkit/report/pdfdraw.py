@@ -11,9 +11,10 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from notchkit.report.curves import (
     IL_STYLE,
@@ -26,10 +27,14 @@ from notchkit.report.curves import (
     BandStyle,
     CurveData,
     LineStyle,
+    PlotLayout,
     Span,
     plot_layout,
 )
 from notchkit.report.sketch import Box, Dot, Label, Lines, Sketch
+
+if TYPE_CHECKING:
+    from reportlab.pdfgen.canvas import Canvas
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -45,7 +50,7 @@ class Face:
         return self.bold if bold else self.regular
 
 
-def text_lines(c: Any, face: Face, x: float, top: float, lines: Sequence[str], size: float, pitch: float,
+def text_lines(c: Canvas, face: Face, x: float, top: float, lines: Sequence[str], size: float, pitch: float,
                *, ha: str = "left", bold: bool = False, lead: float | None = None) -> None:
     """Lines ``pitch`` points apart, the first line's box top at ``top``; blank lines skipped.
 
@@ -62,7 +67,7 @@ def text_lines(c: Any, face: Face, x: float, top: float, lines: Sequence[str], s
             draw(x, base - k * pitch, line)
 
 
-def draw_sketch(c: Any, face: Face, sketch: Sketch, rect: Sequence[float]) -> None:
+def draw_sketch(c: Canvas, face: Face, sketch: Sketch, rect: Sequence[float]) -> None:
     """Draw ``sketch`` with its limits mapped onto ``rect`` = (x, y, width, height) in points."""
     x, y, w, h = rect
     (x0, x1), (y0, y1) = sketch.xlim, sketch.ylim
@@ -78,7 +83,7 @@ def draw_sketch(c: Any, face: Face, sketch: Sketch, rect: Sequence[float]) -> No
     c.setLineCap(0)  # butt ends
     c.setStrokeGray(0.0)
     # Shapes in order, then the labels over them (as matplotlib stacks text above lines).
-    items: list[Any] = [it for it in sketch.items if not isinstance(it, Label)]
+    items: list[Lines | Box | Dot | Label] = [it for it in sketch.items if not isinstance(it, Label)]
     items += [it for it in sketch.items if isinstance(it, Label)]
     for it in items:
         if isinstance(it, Lines):
@@ -105,7 +110,7 @@ def draw_sketch(c: Any, face: Face, sketch: Sketch, rect: Sequence[float]) -> No
     c.restoreState()
 
 
-def _label(c: Any, face: Face, x: float, y: float, it: Label) -> None:
+def _label(c: Canvas, face: Face, x: float, y: float, it: Label) -> None:
     lines = it.text.split("\n")
     box = (face.ascent_em + face.descent_em) * it.size
     pitch = it.linespacing * box
@@ -118,7 +123,8 @@ def _label(c: Any, face: Face, x: float, y: float, it: Label) -> None:
 # ----------------------------------------------------------------- the curve
 
 
-def _hatch(c: Any, xa: float, xb: float, ya: float, yb: float, spacing: float, slopes: Sequence[int]) -> None:
+def _hatch(c: Canvas, xa: float, xb: float, ya: float, yb: float, spacing: float,
+           slopes: Sequence[int]) -> None:
     """Diagonal lines (slope +1 and/or -1) every ``spacing`` points across a rectangle,
     on a page-wide lattice so neighbouring bands line up."""
     p = c.beginPath()
@@ -135,14 +141,14 @@ def _hatch(c: Any, xa: float, xb: float, ya: float, yb: float, spacing: float, s
     c.restoreState()
 
 
-def _segments(c: Any, seg: np.ndarray) -> None:
+def _segments(c: Canvas, seg: np.ndarray) -> None:
     """Stroke straight segments, rows of (x0, y0, x1, y1) in points, written as PDF path
     operators in one string (see :func:`_polyline`)."""
     if seg.size:
         c.addLiteral(("%.2f %.2f m %.2f %.2f l\n" * seg.shape[0]) % tuple(seg.ravel().tolist()) + "S")  # noqa: UP031
 
 
-def _polyline(c: Any, xs: np.ndarray, ys: np.ndarray) -> None:
+def _polyline(c: Canvas, xs: np.ndarray, ys: np.ndarray) -> None:
     """Stroke the polyline through (xs, ys): the path written as PDF operators (``m``,
     ``l``, ``S``; ISO 32000-1 sec. 8.5.2) in one string, to 0.01 pt, instead of one
     ReportLab call and number formatting per point (a curve has about a thousand)."""
@@ -151,7 +157,7 @@ def _polyline(c: Any, xs: np.ndarray, ys: np.ndarray) -> None:
     c.addLiteral(head + ("%.2f %.2f l\n" * (len(pts) // 2 - 1)) % tuple(pts[2:]) + "S")  # noqa: UP031
 
 
-def _band(c: Any, st: BandStyle, xa: float, xb: float, ya: float, yb: float, spacing: float) -> None:
+def _band(c: Canvas, st: BandStyle, xa: float, xb: float, ya: float, yb: float, spacing: float) -> None:
     """A band of style ``st`` over the rectangle: its fill, then its hatching."""
     if st.fill is not None:
         c.setFillGray(st.fill)
@@ -161,7 +167,7 @@ def _band(c: Any, st: BandStyle, xa: float, xb: float, ya: float, yb: float, spa
     _hatch(c, xa, xb, ya, yb, spacing, (1, -1) if "x" in st.hatch else (1,))
 
 
-def _line_style(c: Any, st: LineStyle) -> None:
+def _line_style(c: Canvas, st: LineStyle) -> None:
     c.setLineWidth(st.width)
     c.setDash(list(st.dash) if st.dash else [])
 
@@ -169,7 +175,7 @@ def _line_style(c: Any, st: LineStyle) -> None:
 _LEGEND_LINES = {"s21": S21_STYLE, "s11": S11_STYLE, "il": IL_STYLE, "req": REQ_STYLE}
 
 
-def _sample(c: Any, kind: str, x: float, y: float, w: float, size: float) -> None:
+def _sample(c: Canvas, kind: str, x: float, y: float, w: float, size: float) -> None:
     """The legend's picture of ``kind`` (a :data:`LEGEND` key), ``w`` wide, centred on y."""
     c.saveState()
     c.setStrokeGray(0.0)
@@ -184,7 +190,7 @@ def _sample(c: Any, kind: str, x: float, y: float, w: float, size: float) -> Non
     c.restoreState()
 
 
-def _triangle(c: Any, x: float, y: float, r: float) -> None:
+def _triangle(c: Canvas, x: float, y: float, r: float) -> None:
     """A filled downward triangle (the requirement marker) centred on (x, y)."""
     c.setDash([])
     c.setFillGray(0.0)
@@ -196,63 +202,88 @@ def _triangle(c: Any, x: float, y: float, r: float) -> None:
     c.drawPath(p, stroke=0, fill=1)
 
 
-def draw_plot(c: Any, face: Face, rect: Sequence[float], curve: CurveData, pass_bands: Sequence[Span],
+def draw_plot(c: Canvas, face: Face, rect: Sequence[float], curve: CurveData, pass_bands: Sequence[Span],
               notches: Sequence[Span], *, title: str | None = None, fontsize: float = 8.0,
               show_s11: bool = True) -> None:
     """The attenuation plot in ``rect`` = (x, y, width, height) in points (the axes' box;
     tick labels, axis labels and the legend go outside it, the title above)."""
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
     lay = plot_layout(curve, pass_bands, notches, show_s11=show_s11)
-    x0, y0, w, h = (float(v) for v in rect)
-    (xlo, xhi), (ylo, yhi) = lay.xlim, lay.ylim
-    if lay.log_axis:
-        lxlo, span = math.log(xlo), math.log(xhi / xlo)
+    ax = _Axes(lay, *(float(v) for v in rect))
+    _plot_inside(c, ax, lay, curve, show_s11)
+    _plot_frame(c, face, ax, lay, fontsize)
+    x0, y0, w, h = ax.x0, ax.y0, ax.w, ax.h
+    if title:
+        c.setFont(face.regular, fontsize + 1)
+        c.drawCentredString(x0 + w / 2, y0 + h + 6.0 + face.descent_em * (fontsize + 1), title)
+    _legend(c, face, lay.legend, x0 + w / 2, y0 - 3.9 * fontsize, fontsize - 1.5)
 
-        def X(f):  # noqa: N802 - the axis mapping, named as in the formula
-            return x0 + w * (np.log(f) - lxlo) / span
-    else:
-        def X(f):  # noqa: N802
-            return x0 + w * (np.asarray(f, float) - xlo) / (xhi - xlo)
 
-    def Y(v):  # noqa: N802
-        return y0 + h * (np.asarray(v, float) - ylo) / (yhi - ylo)
+class _Axes:
+    """The plot's box in points and its mapping of MHz and dB onto it (log or linear in x)."""
 
+    def __init__(self, lay: PlotLayout, x0: float, y0: float, w: float, h: float) -> None:
+        self.x0, self.y0, self.w, self.h = x0, y0, w, h
+        (self.xlo, self.xhi), (self.ylo, self.yhi) = lay.xlim, lay.ylim
+        self.log = lay.log_axis
+
+    def X(self, f: ArrayLike) -> NDArray[np.float64]:  # noqa: N802 - the axis mapping, named as in the formula
+        if self.log:
+            return self.x0 + self.w * (np.log(f) - math.log(self.xlo)) / math.log(self.xhi / self.xlo)
+        return self.x0 + self.w * (np.asarray(f, float) - self.xlo) / (self.xhi - self.xlo)
+
+    def Y(self, v: ArrayLike) -> NDArray[np.float64]:  # noqa: N802
+        return self.y0 + self.h * (np.asarray(v, float) - self.ylo) / (self.yhi - self.ylo)
+
+    def x(self, f: float) -> float:
+        return float(self.X(f))
+
+    def y(self, v: float) -> float:
+        return float(self.Y(v))
+
+
+def _plot_inside(c: Canvas, ax: _Axes, lay: PlotLayout, curve: CurveData, show_s11: bool) -> None:
+    """Bands, grid, requirement lines and the curves, clipped to the box."""
+    x0, y0, w, h = ax.x0, ax.y0, ax.w, ax.h
     c.saveState()
     clip = c.beginPath()
     clip.rect(x0, y0, w, h)
     c.clipPath(clip, stroke=0, fill=0)
     c.setLineCap(0)
     for a, b, _lim in lay.passes:
-        _band(c, PASS_STYLE, float(X(a)), float(X(b)), y0, y0 + h, 6.0)
+        _band(c, PASS_STYLE, ax.x(a), ax.x(b), y0, y0 + h, 6.0)
     for a, b, _lim in lay.notches:
-        _band(c, NOTCH_STYLE, float(X(a)), float(X(b)), y0, y0 + h, 6.0)
+        _band(c, NOTCH_STYLE, ax.x(a), ax.x(b), y0, y0 + h, 6.0)
     c.setStrokeGray(0.8)
     c.setLineWidth(0.5)
     for v, _ in lay.xticks:
-        c.line(float(X(v)), y0, float(X(v)), y0 + h)
+        c.line(ax.x(v), y0, ax.x(v), y0 + h)
     for v, _ in lay.yticks:
-        c.line(x0, float(Y(v)), x0 + w, float(Y(v)))
+        c.line(x0, ax.y(v), x0 + w, ax.y(v))
     c.setStrokeGray(0.0)
     for a, b, lim in lay.passes:
         if lim is not None:
             _line_style(c, IL_STYLE)
-            c.line(float(X(a)), float(Y(-lim)), float(X(b)), float(Y(-lim)))
+            c.line(ax.x(a), ax.y(-lim), ax.x(b), ax.y(-lim))
     for a, b, lim in lay.notches:
         if lim is not None:
             _line_style(c, REQ_STYLE)
-            c.line(float(X(a)), float(Y(-lim)), float(X(b)), float(Y(-lim)))
-            _triangle(c, float(X(0.5 * (a + b))), float(Y(-lim)), 2.0)
+            c.line(ax.x(a), ax.y(-lim), ax.x(b), ax.y(-lim))
+            _triangle(c, ax.x(0.5 * (a + b)), ax.y(-lim), 2.0)
     c.setLineJoin(1)
-    xs = X(curve.freq_mhz)
+    xs = ax.X(curve.freq_mhz)
     _line_style(c, S21_STYLE)
-    _polyline(c, xs, Y(curve.s21_db))
+    _polyline(c, xs, ax.Y(curve.s21_db))
     if show_s11:
         _line_style(c, S11_STYLE)
-        _polyline(c, xs, Y(curve.s11_db))
+        _polyline(c, xs, ax.Y(curve.s11_db))
     c.restoreState()
 
-    # Frame, ticks and their labels.
+
+def _plot_frame(c: Canvas, face: Face, ax: _Axes, lay: PlotLayout, fontsize: float) -> None:
+    """The frame, the ticks with their labels and the two axis labels."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    x0, y0, w, h = ax.x0, ax.y0, ax.w, ax.h
     c.setStrokeGray(0.0)
     c.setFillGray(0.0)
     c.setLineWidth(0.8)
@@ -260,12 +291,12 @@ def draw_plot(c: Any, face: Face, rect: Sequence[float], curve: CurveData, pass_
     tick, pad, tsize = 3.5, 3.5, fontsize - 1
     c.setFont(face.regular, tsize)
     for v, label in lay.xticks:
-        xv = float(X(v))
+        xv = ax.x(v)
         c.line(xv, y0, xv, y0 - tick)
         c.drawCentredString(xv, y0 - tick - pad - face.ascent_em * tsize, label)
     widest = 0.0
     for v, label in lay.yticks:
-        yv = float(Y(v))
+        yv = ax.y(v)
         c.line(x0, yv, x0 - tick, yv)
         c.drawRightString(x0 - tick - pad, yv - 0.35 * tsize, label)
         widest = max(widest, stringWidth(label, face.regular, tsize))
@@ -278,13 +309,9 @@ def draw_plot(c: Any, face: Face, rect: Sequence[float], curve: CurveData, pass_
     c.rotate(90)
     c.drawCentredString(0, 0, "S21, S11 (dB)")
     c.restoreState()
-    if title:
-        c.setFont(face.regular, fontsize + 1)
-        c.drawCentredString(x0 + w / 2, y0 + h + 6.0 + face.descent_em * (fontsize + 1), title)
-    _legend(c, face, lay.legend, x0 + w / 2, y0 - 3.9 * fontsize, fontsize - 1.5)
 
 
-def _legend(c: Any, face: Face, kinds: Sequence[str], cx: float, top: float, size: float,
+def _legend(c: Canvas, face: Face, kinds: Sequence[str], cx: float, top: float, size: float,
             ncol: int = 3) -> None:
     """A framed legend, ``ncol`` entries a row, centred on ``cx`` with its top at ``top``."""
     from reportlab.pdfbase.pdfmetrics import stringWidth

@@ -14,9 +14,14 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, cast
+from typing import TYPE_CHECKING, Literal
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 Point = tuple[float, float]
+HAlign = Literal["left", "center", "right"]
+VAlign = Literal["top", "center", "bottom"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -60,8 +65,8 @@ class Label:
     y: float
     text: str
     size: float
-    ha: str = "center"
-    va: str = "center"
+    ha: HAlign = "center"
+    va: VAlign = "center"
     bold: bool = False
     linespacing: float = 1.2
 
@@ -78,7 +83,7 @@ class Sketch:
         return [it.text for it in self.items if isinstance(it, Label)]
 
 
-def to_matplotlib(sketch: Sketch, fig: Any, rect: Sequence[float]) -> None:
+def to_matplotlib(sketch: Sketch, fig: Figure, rect: Sequence[float]) -> None:
     """Draw ``sketch`` onto matplotlib Figure ``fig`` in ``rect`` (left, bottom, width,
     height; figure fractions) as plain artists: no Axes, one affine transform."""
     from matplotlib.collections import LineCollection
@@ -106,6 +111,6 @@ def to_matplotlib(sketch: Sketch, fig: Any, rect: Sequence[float]) -> None:
             fig.add_artist(dot)
         else:
             fig.add_artist(Text(it.x, it.y, it.text, transform=tr, fontsize=it.size, ha=it.ha, va=it.va,
-                                multialignment=cast(Any, it.ha), color="black", linespacing=it.linespacing,
+                                multialignment=it.ha, color="black", linespacing=it.linespacing,
                                 fontweight="bold" if it.bold else "normal",
                                 usetex=False, parse_math=False))  # names as written, '$' too

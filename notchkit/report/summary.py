@@ -26,7 +26,16 @@ from __future__ import annotations
 import html
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:  # for the type check only: at run time this module imports nothing of notchkit
+    from notchkit.asbuilt import RecheckResult
+    from notchkit.site.checked import SiteCheck
+    from notchkit.siteplan import PlanResult
+    from notchkit.synthesis import Design, DesignReport
+    from notchkit.threats import SurveyResult
+    from notchkit.trimming import TrimResult
+    from notchkit.verification import VerifyResult
 
 MAX_ROWS = 12
 """Table rows shown before "... N more"."""
@@ -81,7 +90,7 @@ def _length(m: float | None) -> str:
 # ---------------------------------------------------------------- builders
 
 
-def _survey(s: Any) -> Summary:
+def _survey(s: SurveyResult) -> Summary:
     threats = tuple(s.threats)
     over = sum(1 for t in threats if t.excess_db > 0)
     rows = tuple(
@@ -100,7 +109,7 @@ def _survey(s: Any) -> Summary:
     )
 
 
-def _design_row(d: Any) -> tuple[str, ...]:
+def _design_row(d: Design) -> tuple[str, ...]:
     filt = d.solution.filter
     return (d.id, d.where, str(len(d.cuts)), _length(getattr(filt, "total_cable_m", None)),
             f"{d.solution.margin_db:+.1f}", state_word(d.meets))
@@ -109,7 +118,7 @@ def _design_row(d: Any) -> tuple[str, ...]:
 _DESIGN_HEADER = ("filter", "where", "stubs", "cable used", "margin dB", "state")
 
 
-def _design_report(r: Any) -> Summary:
+def _design_report(r: DesignReport) -> Summary:
     return Summary(
         title="DesignReport",
         facts=(("site", r.site_name or "-"), ("filters", str(len(r.designs))),
@@ -119,7 +128,7 @@ def _design_report(r: Any) -> Summary:
     )
 
 
-def _design(d: Any) -> Summary:
+def _design(d: Design) -> Summary:
     cable = getattr(d.cable, "name", str(d.cable))
     return Summary(
         title="Design",
@@ -131,7 +140,7 @@ def _design(d: Any) -> Summary:
     )
 
 
-def _plan(p: Any) -> Summary:
+def _plan(p: PlanResult) -> Summary:
     facts = [("site", p.site_name), ("date", p.date), ("state", state_word(p.meets)),
              ("pdf", f"{p.pdf} ({p.pages} pages)")]
     if p.html is not None:
@@ -143,7 +152,7 @@ def _plan(p: Any) -> Summary:
                    rows=tuple(_design_row(d) for d in designs))
 
 
-def _trim(t: Any) -> Summary:
+def _trim(t: TrimResult) -> Summary:
     return Summary(
         title="TrimResult",
         facts=(("measurement", t.measurement), ("cable", t.cable), ("end", str(t.termination)),
@@ -157,7 +166,7 @@ def _trim(t: Any) -> Summary:
     )
 
 
-def _verify(v: Any) -> Summary:
+def _verify(v: VerifyResult) -> Summary:
     return Summary(
         title="VerifyResult",
         facts=(("measurement", v.measurement), ("plan", v.plan), ("filter", f"{v.filter_id} ({v.where})"),
@@ -168,7 +177,7 @@ def _verify(v: Any) -> Summary:
     )
 
 
-def _recheck(r: Any) -> Summary:
+def _recheck(r: RecheckResult) -> Summary:
     return Summary(
         title="RecheckResult",
         facts=(("plan", r.plan), ("measured", ", ".join(f"{k}: {v}" for k, v in r.measured.items()) or "-"),
@@ -179,7 +188,7 @@ def _recheck(r: Any) -> Summary:
     )
 
 
-def _site_check(c: Any) -> Summary:
+def _site_check(c: SiteCheck) -> Summary:
     return Summary(
         title="SiteCheck",
         facts=(("site", c.name), ("file", c.path), ("default cable", c.cable),
@@ -189,7 +198,7 @@ def _site_check(c: Any) -> Summary:
     )
 
 
-_BUILDERS: dict[str, Callable[[Any], Summary]] = {
+_BUILDERS: dict[str, Callable[[Any], Summary]] = {  # each takes its own type: Any is their union
     "SurveyResult": _survey,
     "DesignReport": _design_report,
     "Design": _design,
@@ -201,7 +210,7 @@ _BUILDERS: dict[str, Callable[[Any], Summary]] = {
 }
 
 
-def summary(obj: Any) -> Summary:
+def summary(obj: object) -> Summary:
     """The :class:`Summary` of one of the main results (``TypeError`` for anything else)."""
     build = _BUILDERS.get(type(obj).__name__)
     if build is None:
@@ -219,7 +228,7 @@ def _text_table(header: tuple[str, ...], rows: Iterable[tuple[str, ...]]) -> lis
             for r in [header, *rows]]
 
 
-def summary_repr(obj: Any) -> str:
+def summary_repr(obj: object) -> str:
     """A few lines: ``<Type: fact, fact ...>`` and a small table."""
     s = summary(obj)
     head = f"<{s.title} " + ", ".join(f"{k}: {v}" for k, v in s.facts) + ">"
@@ -232,7 +241,7 @@ def summary_repr(obj: Any) -> str:
     return "\n".join(lines)
 
 
-def summary_html(obj: Any) -> str:
+def summary_html(obj: object) -> str:
     """The same summary as an HTML fragment (facts, then the table)."""
     s = summary(obj)
     e = html.escape

@@ -23,8 +23,11 @@ MATRIX_MAX_RECEIVERS = 14
 more columns does not fit a page); the JSON keeps the full matrix."""
 
 
-def matrix_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS) -> Table:
+def matrix_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS, *,
+                 json: str = "The plan's JSON") -> Table:
     """Transmitter (rows) x receiver (columns): worst excess in dB; ``-`` where nothing reaches.
+
+    ``json`` names where the full matrix is (the plan's JSON, or ``survey --json``).
 
     On a site with more than :data:`MATRIX_MAX_RECEIVERS` receivers: the transmitter-receiver
     pairs over the limit, worst first (at most ``max_rows``).
@@ -43,7 +46,7 @@ def matrix_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS) -> Table:
             align=("left", "left", "right"), widths=(2.0, 2.0, 1.4),
             note=f"{len(m.transmitters)} transmitters x {n} receivers: too many for a grid; "
                  f"{len(pairs)} pairs over the limit" + (f", {more} not shown" if more > 0 else "")
-                 + ". The plan's JSON has the full matrix (survey.matrix).",
+                 + f". {json} has the full matrix (survey.matrix).",
         )
     rows = []
     for tx, row in zip(m.transmitters, m.excess_db, strict=True):
@@ -91,7 +94,8 @@ def threat_groups(threats: Sequence[Threat]) -> list[tuple[Threat, int]]:
     return [(t, n) for t, n in groups.values()]
 
 
-def threat_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS) -> Table:
+def threat_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS, *,
+                 json: str = "The plan's JSON") -> Table:
     """The worst threat per (sources, victim) pair; how many more each pair has; a row cap."""
     rows = []
     groups = threat_groups(sv.threats)
@@ -118,8 +122,9 @@ def threat_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS) -> Table:
         widths=(0.35, 1.6, 1.05, 0.95, 0.55, 0.85, 0.75, 0.75, 0.75, 0.45, 2.45),
         note="Level at the victim's receiver input; limit is its threshold; excess = level - limit. "
              "For intermodulation the source is the product that lands in the receiver. 'More': "
-             "further threats of the same sources and victim, less severe; every threat is in the "
-             "plan's JSON (survey.threats)." + (" " + "; ".join(more) + "." if more else "")
+             "further threats of the same sources and victim, less severe; every threat is in "
+             f"{json[:1].lower()}{json[1:]} (survey.threats)."
+             + (" " + "; ".join(more) + "." if more else "")
              + "".join(" " + n[:1].upper() + n[1:] + "." for n in _operating_notes(sv)),
     )
 
