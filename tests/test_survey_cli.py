@@ -58,7 +58,7 @@ def test_json_output(site_file, capsys):
 def test_table_output(site_file, capsys):
     assert main(["survey", str(site_file)]) == 0
     out = capsys.readouterr().out
-    assert "Threats, worst first" in out and "harmonic" in out and "vhf-tx tx" in out
+    assert "Threats, worst first" in out and "harmonic" in out and "vhf-tx (transmitter output)" in out
     assert "Filter requirements:" in out and "local codes" in out
 
 

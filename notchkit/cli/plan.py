@@ -16,7 +16,7 @@ filter's curve (PNG, CSV), its Touchstone .s2p and the plan JSON that
 
 EPILOG = """\
 exit codes: 0 every filter meets its requirements; 1 a filter does not (the plan is
-written all the same, marked NOT MET); 2 bad input or an unwritable output (nothing
+written all the same, marked DOES NOT MEET); 2 bad input or an unwritable output (nothing
 is written).
 
 Work on RF equipment can hurt: open stub ends carry high voltage at high power,

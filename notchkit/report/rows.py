@@ -145,15 +145,29 @@ def design_cable_name(d: Design) -> str:
     return str(getattr(cab, "name", cab) or getattr(d.requirement, "cable", ""))
 
 
+def _side_text(req: FilterRequirement) -> str:
+    """The port a filter sits at: ``receiver input``, ``transmitter output`` or ``radio port``
+    (a transceiver's one feedline, whichever side it guards)."""
+    if req.side == "tx" and getattr(req, "protects", None) in ("receiver", "both"):
+        return "radio port"
+    return {"rx": "receiver input", "tx": "transmitter output"}.get(str(req.side), str(req.side))
+
+
 def location_text(req: FilterRequirement) -> str:
-    """Where a filter goes: ``wx-alert (receiver input)``, ``ad-hoc design`` without a radio."""
+    """Where a filter goes: ``wx-alert (receiver input)``, ``net-2m (radio port, in its receive
+    path)``; ``ad-hoc design`` without a radio."""
     if getattr(req, "radio", None):
-        side = {"rx": "receiver input", "tx": "transmitter output"}.get(str(req.side), str(req.side))
-        if req.side == "tx" and getattr(req, "protects", None) in ("receiver", "both"):
-            side = "radio port, " + ("in its receive path" if req.protects == "receiver"
-                                     else "in its receive and transmit paths")
+        side = _side_text(req)
+        if side == "radio port":
+            side += ", " + ("in its receive path" if req.protects == "receiver"
+                            else "in its receive and transmit paths")
         return f"{req.radio} ({side})"
     return "ad-hoc design"
+
+
+def short_location(req: FilterRequirement) -> str:
+    """:func:`location_text` without the detail: ``net-2m (radio port)``."""
+    return f"{req.radio} ({_side_text(req)})" if getattr(req, "radio", None) else "ad-hoc design"
 
 
 def design_title(d: Design) -> str:

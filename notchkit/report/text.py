@@ -52,6 +52,7 @@ from notchkit.report.rows import (  # noqa: F401 - the words and numbers, re-exp
     order_text,
     pct,
     rate_text,
+    short_location,
     shown_path,
     volts,
 )
@@ -133,7 +134,7 @@ def tags(designs: Sequence[Design], units: str = "both") -> tuple[Tag, ...]:
     for d in designs:
         cable = design_cable_name(d)
         req = d.requirement
-        where = f"{req.side} {req.radio}" if getattr(req, "radio", None) else ""
+        where = f"at {req.radio}" if getattr(req, "radio", None) else ""
         for c in d.cuts:
             if getattr(c, "trimmable", True):
                 trim = (f"then trim to {mhz(round(c.resonance_mhz, 4))} MHz (the notch)",

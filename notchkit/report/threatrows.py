@@ -6,10 +6,10 @@ tables (:class:`notchkit.report.rows.Table`).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING
 
-from notchkit.report.rows import DASH, Table, db, mhz4, order_text
+from notchkit.report.rows import DASH, Table, db, mhz4, order_text, short_location
 
 if TYPE_CHECKING:
     from notchkit.threats import SurveyResult, Threat
@@ -60,9 +60,11 @@ def matrix_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS, *,
     )
 
 
-def threat_where(t: Threat) -> str:
-    """Where a stub helps: the filter locations the threat feeds, or the remedy when none."""
-    locs = [f"{r} {s}" for r, s in t.filters]
+def threat_where(t: Threat, places: Mapping[tuple[str, str], str] | None = None) -> str:
+    """Where a stub helps: the filter locations the threat feeds (``places``: their names by
+    radio and side, as the filters table prints them), or the remedy when none."""
+    places = places or {}
+    locs = [places.get((r, s), f"{r} {s}") for r, s in t.filters]
     scen = tuple(getattr(t, "scenario", ()) or ())
     tail = "" if scen in ((), ("all at once",)) else " [scenario: " + ", ".join(scen) + "]"
     if locs:
@@ -98,13 +100,14 @@ def threat_table(sv: SurveyResult, max_rows: int = MAX_THREAT_ROWS, *,
                  json: str = "The plan's JSON") -> Table:
     """The worst threat per (sources, victim) pair; how many more each pair has; a row cap."""
     rows = []
+    places = {(req.radio, str(req.side)): short_location(req) for req in sv.filters if req.radio}
     groups = threat_groups(sv.threats)
     for i, (t, n) in enumerate(groups[:max_rows], start=1):
         source = t.product if t.mechanism in ("intermod", "blocking") else on_band(", ".join(t.sources), t)
         rows.append((
             str(i), source, on_band(t.victim, t), t.mechanism, order_text(t), mhz4(t.f_mhz),
             db(t.level_dbm), db(t.threshold_dbm), db(t.excess_db), str(n - 1) if n > 1 else DASH,
-            threat_where(t),
+            threat_where(t, places),
         ))
     left = sum(o + u for _, o, u in getattr(sv, "left_out", ()))
     more = []
