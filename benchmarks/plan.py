@@ -68,26 +68,21 @@ def phases(site: Path) -> None:
     plan_mod = importlib.import_module("notchkit.siteplan")
     import reportlab.pdfgen.canvas  # noqa: F401  (imported outside the timings)
 
-    from notchkit.report.curves import curve_data
     from notchkit.report.html import filter_images
     from notchkit.report.pdf import render_pdf
-    from notchkit.report.text import design_filter, plan_text
+    from notchkit.report.text import plan_text
 
     s = load_site(site)
     t0 = time.perf_counter()
     report = plan_mod._run_design(s)
     t1 = time.perf_counter()
     pt = plan_text(site=s, sv=report.survey, designs=report.designs, date="-", version="-")
-    parts = []
-    for d in report.designs:
-        f = design_filter(d)
-        sp = plan_mod._spans(d, s)
-        parts.append((f, curve_data(f, sp[0] + sp[1]), sp))
+    parts = [plan_mod._part(d, s) for d in report.designs]
     t2 = time.perf_counter()
     _, layout = render_pdf(pt, parts)
     t3 = time.perf_counter()
-    for ft, (f, c, sp) in zip(pt.filters, parts, strict=True):
-        filter_images(f, c, sp, ft)
+    for ft, part in zip(pt.filters, parts, strict=True):
+        filter_images(part, ft)
     t4 = time.perf_counter()
     print(f"  phases (wall s, in this process; the PDF is drawn once every filter is designed): "
           f"survey+design {t1 - t0:.2f}, rows+curves {t2 - t1:.2f}, "
@@ -115,7 +110,7 @@ else:
     from notchkit.report.text import plan_text
     pt = plan_text(site=site, sv=report.survey, designs=report.designs, date="-", version="-")
     parts = [plan._part(d, site) for d in report.designs]
-    jobs = [(*part, ft, None) for part, ft in zip(parts, pt.filters)]
+    jobs = [(part, ft, None) for part, ft in zip(parts, pt.filters)]
     t0 = time.perf_counter()
     fork_map(plan._filter_files, jobs, processes=n)
 print(time.perf_counter() - t0)

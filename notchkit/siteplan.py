@@ -23,6 +23,7 @@ from notchkit.report.summary import summary_html, summary_repr
 
 if TYPE_CHECKING:
     from notchkit.report.curves import FilterPart
+    from notchkit.report.html import FilterImages
 
 UNITS = ("metric", "imperial", "both")
 PAGE_SIZES = ("a4", "letter")
@@ -115,15 +116,15 @@ def _stem_of(d: Any) -> str:
     return touchstone_name(d).removesuffix(".s2p")
 
 
-def _filter_files(job: tuple) -> tuple[bytes, bytes, str | None]:
+def _filter_files(job: tuple) -> tuple[FilterImages, str | None]:
     """One filter's drawing and curve PNGs and, for ``outdir``, its Touchstone text."""
     from notchkit.filters import touchstone_text
     from notchkit.report.html import filter_images
 
     part, ft, touchstone = job
-    draw_png, curve_png = filter_images(part, ft)
+    images = filter_images(part, ft)
     s2p = touchstone_text(part.filt, *touchstone) if touchstone is not None else None
-    return draw_png, curve_png, s2p
+    return images, s2p
 
 
 def _designs(report: Any) -> list[Any]:
@@ -251,7 +252,7 @@ def plan(
     parts = [_part(d, site) for d in designs]
     pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer)
 
-    made: list[tuple[bytes, bytes, str | None]] = []
+    made: list[tuple[FilterImages, str | None]] = []
     if html is not None or outdir is not None:
         from notchkit.synthesis import touchstone_sweep_hz
 
@@ -268,7 +269,7 @@ def plan(
             jobs.append((part, ft, touchstone))
         # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
         made = [_filter_files(job) for job in jobs]
-    pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
+    pngs = [images for images, _s2p in made]
 
     # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
     writes: list[tuple[Any, bytes, str]] = [(out_pdf, pdf_bytes, "PDF")]
@@ -282,8 +283,8 @@ def plan(
         from notchkit.report.curves import curve_csv_text
 
         folder = Path(outdir)
-        for stem, part, (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
-            writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
+        for stem, part, (images, s2p) in zip(stems, parts, made, strict=True):
+            writes += [(folder / f"{stem}.png", images.curve_png, "--outdir curve"),
                        (folder / f"{stem}.csv", curve_csv_text(part.curve).encode("utf-8"), "--outdir CSV"),
                        (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
         from notchkit.jsonvalues import dumps

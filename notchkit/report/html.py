@@ -12,6 +12,7 @@ import base64
 import html as _h
 import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -82,7 +83,15 @@ def _img(data: bytes, alt: str, mime: str = "image/png") -> str:
     return f'<img class="fig" alt="{_e(alt)}" src="data:{mime};base64,{b64}">'
 
 
-def filter_images(part: FilterPart, ft: FilterText, dpi: int = 110) -> tuple[bytes, bytes]:
+@dataclass(frozen=True, slots=True, kw_only=True)
+class FilterImages:
+    """A filter's two pictures as PNG bytes: the arrangement drawing and the curve."""
+
+    drawing_png: bytes
+    curve_png: bytes
+
+
+def filter_images(part: FilterPart, ft: FilterText, dpi: int = 110) -> FilterImages:
     """PNG bytes of a filter's arrangement drawing and of its curve, drawn with the page's labels."""
     import matplotlib
 
@@ -95,14 +104,15 @@ def filter_images(part: FilterPart, ft: FilterText, dpi: int = 110) -> tuple[byt
                                   cable_label=ft.cable_label)
         crv = curve_figure(part.curve, part.passes, part.notches,
                            title=f"{ft.filter_id}: attenuation (S21) and reflection (S11)")
-        return figure_bytes(draw, "png", dpi), figure_bytes(crv, "png", dpi)
+        return FilterImages(drawing_png=figure_bytes(draw, "png", dpi),
+                            curve_png=figure_bytes(crv, "png", dpi))
 
 
-def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: str = "") -> str:
+def render_html(pt: PlanText, images: Sequence[FilterImages], *, footer: str = "") -> str:
     """The whole plan as one HTML document (a string).
 
-    ``images`` holds, per filter in the order of ``pt.filters``, the PNG bytes of
-    its drawing and of its curve (:func:`filter_images`), embedded as base64.
+    ``images`` holds, per filter in the order of ``pt.filters``, its drawing and
+    its curve (:func:`filter_images`), embedded as base64.
     """
     o = ['<!DOCTYPE html>', '<html lang="en"><head><meta charset="utf-8">',
          f"<title>{_e(pt.title)}</title>", f"<style>{CSS}</style></head><body>"]
@@ -124,15 +134,15 @@ def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: 
     o.append(table_html(pt.threats))
     o.append("</section>")
 
-    for ft, (draw_png, curve_png) in zip(pt.filters, images, strict=True):
+    for ft, pics in zip(pt.filters, images, strict=True):
         o.append(f'<section class="page" id="{_e(ft.filter_id)}"><h2>{_e(ft.title)}</h2>')
         if ft.meets:
             o.append(f'<p class="met">{_e(ft.verdict)}</p>')
         else:
             o.append(f'<div class="notmet">{_e(ft.verdict)}</div>')
         o.append("".join(f"<p>{_e(f)}</p>" for f in ft.facts))
-        o.append(_img(draw_png, f"{ft.filter_id} arrangement"))
-        o.append(_img(curve_png, f"{ft.filter_id} attenuation curve"))
+        o.append(_img(pics.drawing_png, f"{ft.filter_id} arrangement"))
+        o.append(_img(pics.curve_png, f"{ft.filter_id} attenuation curve"))
         o.append(table_html(ft.requirements))
         o.append(table_html(ft.cuts))
         o.append("<h3>Tolerance</h3>" + "".join(f"<p>{_e(s)}</p>" for s in ft.tolerance))
@@ -165,7 +175,7 @@ def render_html(pt: PlanText, images: Sequence[tuple[bytes, bytes]], *, footer: 
     return "\n".join(o) + "\n"
 
 
-def write_html(path: str | os.PathLike, pt: PlanText, images: Sequence[tuple[bytes, bytes]], *,
+def write_html(path: str | os.PathLike, pt: PlanText, images: Sequence[FilterImages], *,
                footer: str = "") -> Path:
     """Render with :func:`render_html` and write the file atomically."""
     return write_text_atomic(path, render_html(pt, images, footer=footer))
