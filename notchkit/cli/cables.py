@@ -3,13 +3,17 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from notchkit.cables import DEFAULT_AT_MHZ, VALID_FREQ_MHZ, cable_table, get_cable
 from notchkit.errors import EXIT_OK, UsageError
 from notchkit.jsonvalues import dumps
 
+if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
 
-def add_parser(sub) -> None:
+
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser(
         "cables",
         help="list the cable types with impedance, velocity factor, loss and sources",
@@ -155,7 +159,7 @@ def format_detail(row) -> str:
     return "\n".join(out)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     at = parse_at(args.at)
     if getattr(args, "type", None):
         c = get_cable(args.type)

@@ -8,14 +8,18 @@ code is 2; a clean file prints a summary and exits 0. Nothing is written.
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from notchkit.errors import EXIT_OK
 from notchkit.jsonvalues import dumps
 from notchkit.site.checked import check_site, site_check
 from notchkit.site.model import Site
 
+if TYPE_CHECKING:
+    from argparse import _SubParsersAction
 
-def add_parser(sub) -> None:
+
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser(
         "check",
         help="read a site file and report every problem in it",

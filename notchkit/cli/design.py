@@ -13,6 +13,11 @@ from notchkit.report.rows import DASH
 from notchkit.report.summary import state_word
 
 if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
+    from collections.abc import Sequence
+
+    from notchkit.cli.progress import TerminalProgress
+    from notchkit.site.model import Allowances, Limits
     from notchkit.solver import Shortfall
     from notchkit.synthesis import Design, DesignReport
 
@@ -30,7 +35,7 @@ _NUM = r"([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)"
 _BAND = re.compile(rf"^\s*{_NUM}\s*-\s*{_NUM}\s*$")
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser(
         "design",
         help="design the stub filters a site needs (or one filter from --pass/--notch)",
@@ -126,7 +131,7 @@ _AD_HOC = ("power_w", "power_mhz", "max_il_db", "max_swr", "yield_target_pct", "
            "trim_margin_pct", "cut_tolerance_mm")
 
 
-def _ranged(args, name: str, lo: float, hi: float, *, lo_open: bool = False) -> float | None:
+def _ranged(args: Namespace, name: str, lo: float, hi: float, *, lo_open: bool = False) -> float | None:
     text = getattr(args, name)
     if text is None:
         return None
@@ -138,7 +143,8 @@ def _ranged(args, name: str, lo: float, hi: float, *, lo_open: bool = False) -> 
     return value
 
 
-def ad_hoc_settings(args, passes):
+def ad_hoc_settings(args: Namespace, passes: Sequence[tuple[float, float]]
+                    ) -> tuple[Limits, Allowances, float | None, float | None]:
     """Limits, allowances and the power check's carrier from the ad-hoc options
     (the site file's ranges; the defaults where an option is not given)."""
     import dataclasses
@@ -171,7 +177,7 @@ def ad_hoc_settings(args, passes):
             power_mhz)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.synthesis import design, design_request, write_touchstones
 
     progress = _progress(args)
@@ -220,7 +226,7 @@ def run(args) -> int:
     return EXIT_OK if report.meets else EXIT_UNMET
 
 
-def _progress(args):
+def _progress(args: Namespace) -> TerminalProgress | None:
     from notchkit.cli.progress import terminal_progress
 
     return terminal_progress(enabled=not args.json)

@@ -2,8 +2,13 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from notchkit.defaults import PAGE_SIZES, UNITS
 from notchkit.errors import EXIT_OK, EXIT_UNMET, UsageError
+
+if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
 
 DESCRIPTION = """\
 Survey the site, design every filter it needs and write the notch plan: a PDF with
@@ -25,7 +30,7 @@ licensed practice.
 """
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser("plan", help="write the site notch plan (PDF, HTML, curves, Touchstone, JSON)",
                        description=DESCRIPTION, epilog=EPILOG)
     p.add_argument("site", metavar="SITE.yaml", help="site file (read only)")
@@ -58,7 +63,7 @@ def _analyser(text: str) -> tuple[float, float]:
     return band
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.cli.progress import terminal_progress
     from notchkit.defaults import load_defaults, with_analyser
     from notchkit.report.terminal import table_lines

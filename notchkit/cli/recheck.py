@@ -2,10 +2,17 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError, UsageError
 from notchkit.jsonvalues import dumps
 from notchkit.report.summary import state_word
+
+if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
+
+    from notchkit.asbuilt import RecheckResult
 
 FLAGS = {"measured": "FILTER=SWEEP.s2p"}
 
@@ -23,7 +30,7 @@ exit codes: 0 every threat a filter was designed against is held off; 1 one is n
 """
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     import argparse
 
     p = sub.add_parser("recheck", help="the site's threats again, with measured filters for designed ones",
@@ -47,7 +54,7 @@ def _pairs(items: list[str]) -> dict[str, list[str]]:
     return out
 
 
-def format_text(result) -> str:
+def format_text(result: RecheckResult) -> str:
     lines = [f"threats of {result.plan} with "
              + ", ".join(f"{k} as measured" for k in result.measured) + " (other filters as designed)"]
     for t in result.threats:
@@ -67,7 +74,7 @@ def format_text(result) -> str:
     return "\n".join(lines)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.asbuilt import recheck
 
     try:

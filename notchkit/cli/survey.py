@@ -9,6 +9,8 @@ from notchkit.jsonvalues import dumps
 from notchkit.report.text import band_text, on_band
 
 if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
+
     from notchkit.threats import SurveyResult
 
 JSON = "The output of `notchkit survey --json`"
@@ -35,7 +37,7 @@ def _harmonic(text: str) -> int:
     return value  # its range (1 to MAX_HARMONIC) is checked by survey() before any work
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser(
         "survey",
         help="list the threats between a site's transmitters and receivers and the filters needed",
@@ -68,7 +70,7 @@ def add_parser(sub) -> None:
     p.set_defaults(run=run)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.site import load_site
     from notchkit.threats import survey
 

@@ -3,11 +3,17 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, NotchkitError, UsageError
 from notchkit.jsonvalues import dumps
 from notchkit.trimming import SAFETY, inches_16ths, trim
+
+if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
+
+    from notchkit.trimming import TrimResult
 
 FLAGS = {
     "target_mhz": "--target-mhz", "length_m": "--length-m", "quarter_waves": "--quarter-waves",
@@ -54,7 +60,7 @@ def _positive_float(name: str, hi: float, unit: str = ""):
     return parse
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     p = sub.add_parser(
         "trim",
         help="how much to cut off a stub, from a measured .s1p/.s2p",
@@ -118,7 +124,7 @@ def _allowance(text: str | None) -> float | None:
     return value
 
 
-def format_text(result) -> str:
+def format_text(result: TrimResult) -> str:
     """The human report for a :class:`notchkit.trimming.TrimResult`."""
     r = result.resonance
     kind = "notch (S21)" if r.ports == 2 else f"{r.kind} resonance"
@@ -143,10 +149,10 @@ def format_text(result) -> str:
             + f"; effective VF {result.velocity_factor:.4f} "
             f"(nominal {result.nominal_velocity_factor:.3f})"
         )
-        cut = result.cut_m
+    cut, target = result.cut_m, result.target_length_m
+    if result.present_length_m is not None and cut is not None and target is not None:
         lines.append(
-            f"target len   {result.target_length_m:.4f} m "
-            f"({result.target_length_m / 0.0254:.2f} in); "
+            f"target len   {target:.4f} m ({target / 0.0254:.2f} in); "
             + (f"cut {cut * 1000:.1f} mm ({inches_16ths(cut)[1]})" if cut >= 0
                else f"{-cut * 1000:.1f} mm ({inches_16ths(-cut)[1]}) too short")
         )
@@ -157,7 +163,7 @@ def format_text(result) -> str:
     return "\n".join(lines)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.trimming import MAX_LENGTH_M
 
     target = (None if args.target_mhz is None

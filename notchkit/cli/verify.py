@@ -2,10 +2,17 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from notchkit.cli.flags import with_flags
 from notchkit.errors import EXIT_OK, EXIT_UNMET, NotchkitError
 from notchkit.jsonvalues import dumps
 from notchkit.report.summary import state_word
+
+if TYPE_CHECKING:
+    from argparse import Namespace, _SubParsersAction
+
+    from notchkit.verification import VerifyResult
 
 FLAGS = {"filter_id": "--filter", "plan_path": "--plan", "diagnose": "--diagnose",
          "measurement_path": "MEASUREMENT", "spool": "--spool", "calibration_path": "--calibration"}
@@ -29,7 +36,7 @@ licensed practice for tower work and grounding.
 """
 
 
-def add_parser(sub) -> None:
+def add_parser(sub: _SubParsersAction) -> None:
     import argparse
 
     p = sub.add_parser("verify", help="check a built filter's .s2p/.s1p against its requirements",
@@ -59,7 +66,7 @@ def _value(x: float | None, quantity: str) -> str:
     return f"{x:.2f}" if quantity == "SWR" else f"{x:.1f} dB"
 
 
-def format_text(result) -> str:
+def format_text(result: VerifyResult) -> str:
     """The human report for a :class:`notchkit.verification.VerifyResult`."""
     lines = [f"measurement  {result.measurement} ({result.ports}-port, "
              f"{result.sweep_mhz[0]:.4g}-{result.sweep_mhz[1]:.4g} MHz)",
@@ -86,7 +93,7 @@ def format_text(result) -> str:
     return "\n".join(lines)
 
 
-def run(args) -> int:
+def run(args: Namespace) -> int:
     from notchkit.errors import UsageError
     from notchkit.verification import verify
 
