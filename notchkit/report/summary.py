@@ -104,7 +104,7 @@ def _survey(s: SurveyResult) -> Summary:
                ("receivers", str(len(s.receivers))),
                ("threats", f"{len(threats)} ({over} above the receiver's threshold)"),
                ("filters needed", str(len(s.filters)))),
-        header=("from", "to", "mechanism", "MHz", "excess dB", "required dB"),
+        header=("source", "victim", "mechanism", "freq (MHz)", "excess (dB)", "required (dB)"),
         rows=rows,
     )
 
@@ -115,7 +115,7 @@ def _design_row(d: Design) -> tuple[str, ...]:
             f"{d.solution.margin_db:+.1f}", state_word(d.meets))
 
 
-_DESIGN_HEADER = ("filter", "where", "stubs", "cable used", "margin dB", "state")
+_DESIGN_HEADER = ("filter", "location", "stubs", "cable used", "margin (dB)", "result")
 
 
 def _design_report(r: DesignReport) -> Summary:
@@ -134,7 +134,7 @@ def _design(d: Design) -> Summary:
         title="Design",
         facts=(("filter", d.id), ("where", d.where), ("cable", cable),
                ("margin", _fmt(d.solution.margin_db, "+.1f", "dB")), ("state", state_word(d.meets))),
-        header=("stub", "end", "cut length", "first cut", "resonance MHz", "quarter waves"),
+        header=("stub", "end", "cut length", "first cut", "resonance (MHz)", "quarter waves"),
         rows=tuple((c.stub_id, str(c.termination), _length(c.cut_length_m), _length(c.first_cut_m),
                     f"{c.resonance_mhz:.3f}", str(c.quarter_waves)) for c in d.cuts),
     )
@@ -171,7 +171,7 @@ def _verify(v: VerifyResult) -> Summary:
         title="VerifyResult",
         facts=(("measurement", v.measurement), ("plan", v.plan), ("filter", f"{v.filter_id} ({v.where})"),
                ("state", state_word(v.meets))),
-        header=("band", "MHz", "quantity", "required", "measured", "state"),
+        header=("band", "range (MHz)", "quantity", "required", "measured", "result"),
         rows=tuple((c.kind, f"{c.lo_mhz:g}-{c.hi_mhz:g}", c.quantity, f"{c.required:g}",
                     _fmt(c.measured, ".2f"), state_word(c.meets)) for c in v.checks),
     )
@@ -182,7 +182,8 @@ def _recheck(r: RecheckResult) -> Summary:
         title="RecheckResult",
         facts=(("plan", r.plan), ("measured", ", ".join(f"{k}: {v}" for k, v in r.measured.items()) or "-"),
                ("state", state_word(r.meets))),
-        header=("from", "to", "mechanism", "MHz", "required dB", "designed dB", "as built dB", "state"),
+        header=("source", "victim", "mechanism", "range (MHz)", "required (dB)", "designed (dB)",
+                "as built (dB)", "result"),
         rows=tuple((t.source, t.victim, t.mechanism, f"{t.lo_mhz:g}-{t.hi_mhz:g}", f"{t.required_db:.1f}",
                     _fmt(t.designed_db), _fmt(t.as_built_db), state_word(t.meets)) for t in r.threats),
     )
@@ -193,7 +194,7 @@ def _site_check(c: SiteCheck) -> Summary:
         title="SiteCheck",
         facts=(("site", c.name), ("file", c.path), ("default cable", c.cable),
                ("radios", str(len(c.radios))), ("couplings", str(len(c.couplings)))),
-        header=("name", "role", "MHz", "power W", "stubs"),
+        header=("name", "role", "freq (MHz)", "power (W)", "stubs"),
         rows=tuple((r.name, r.role, r.mhz, _fmt(r.power_w, "g"), r.stub_cable) for r in c.radios),
     )
 
