@@ -228,7 +228,8 @@ def test_cli_ad_hoc_meets_exit_0(capsys):
     assert "F1: ad-hoc filter on RG-213" in out
     assert "Meets every requirement" in out
     assert "Design gives" in out and "meets" in out  # the plan's requirement table and state word
-    assert "cut list:" in out and " in)" in out  # mm and inches
+    assert "Cut list (" in out and "Final (mm)" in out and "Final (in)" in out  # the plan's table
+    assert "cut notes:" in out and " in)" in out  # mm and inches
     assert err == ""
 
 

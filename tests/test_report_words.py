@@ -28,6 +28,8 @@ HEADINGS = {
     "matrix": ("TX \\ RX",),
     "filters": ("Filter", "Location", "Stubs", "Notches", "Pass bands", "Result", "Build yield"),
     "requirements": ("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
+    "cuts": ("Part", "Cable", "Kind", "First cut", "Final (mm)", "Final (in)", "Trim to (MHz)", "Trim (mm/MHz)",
+             "Tee"),
 }
 STATE_WORDS = ("meets", "DOES NOT MEET")
 # Words the outputs used to disagree on: none of them may come back.
@@ -97,7 +99,7 @@ def _rows_after(text: str, heading_start: str) -> list[str]:
 def test_every_output_has_the_same_headings(outputs):
     term = outputs["terminal"]
     where = {"threats": term["survey"], "matrix": term["survey"], "filters": term["plan"],
-             "requirements": term["design"]}
+             "requirements": term["design"], "cuts": term["design"]}
     for table, heads in HEADINGS.items():
         for out in (where[table], outputs["pdf"], outputs["html"]):
             flat = _flat(out)
@@ -112,10 +114,12 @@ def test_terminal_rows_read_the_same_in_the_pdf_and_the_html(outputs):
         "matrix": _rows_after(term["survey"], "TX \\ RX"),
         "threats": _rows_after(term["survey"], "#  Source"),
         "requirements": _rows_after(term["design"], "Band  "),
+        "cuts": _rows_after(term["design"], "Part  "),
     }
     # ridge-eoc: 5 filters, 4 transmitters, 20 source-victim pairs (sites/ridge-eoc.yaml)
     assert len(rows["filters"]) == 5 and len(rows["matrix"]) == 4 and len(rows["threats"]) >= 10
     assert len(rows["requirements"]) >= 5
+    assert len(rows["cuts"]) >= 11  # 11 stubs, and the line sections
     for table, found in rows.items():
         for row in found:
             assert row in outputs["pdf"], (table, row)

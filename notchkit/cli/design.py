@@ -242,7 +242,7 @@ def format_design(d: Design) -> str:
     from notchkit.calibration import calibration_lines
     from notchkit.cutlist import format_cut_list
     from notchkit.power import format_power
-    from notchkit.report.filterrows import requirement_table, verdict_text
+    from notchkit.report.filterrows import cut_table, requirement_table, verdict_text
     from notchkit.report.terminal import table_lines
     from notchkit.solver import describe
 
@@ -259,7 +259,8 @@ def format_design(d: Design) -> str:
     if d.model is not None:
         lines += ["  " + x for x in d.model.lines]
     if d.cuts:
-        lines.append("  cut list:")
+        lines += table_lines(cut_table(d), "  ")  # the plan's cut list, then each piece in full
+        lines.append("  cut notes:")
         text = format_cut_list(d.cuts, lines=d.lines, hardware=d.hardware)
         lines += ["    " + x for x in text.splitlines()]
     lines += [f"  cannot be built: {problem}" for problem in d.build_problems]
