@@ -32,6 +32,7 @@ _LINE_GAP = 2.8  # horizontal run drawn for a line section between tees
 _LEAD = 1.2  # run from the radio box to the first tee, and from the last tee on
 _STUB_DROP = 1.5  # drawn stub height below the through line
 _Y_LINE = 0.0
+_LINE_LABEL_Y = 0.4  # a line section's label above the tees' labels (it is wider than its run)
 
 
 def default_stub_labels(filt: Filter, units: str = "both", ids: Sequence[str] | None = None) -> list[str]:
@@ -105,7 +106,7 @@ def arrangement_sketch(
         e = elements[k]
         if isinstance(e, Line):
             pen.wire([x, x + _LINE_GAP], [_Y_LINE, _Y_LINE])
-            pen.text(x + _LINE_GAP / 2, _Y_LINE + 0.12, f"line\n{line_labels[line_i]}", va="bottom",
+            pen.text(x + _LINE_GAP / 2, _Y_LINE + _LINE_LABEL_Y, f"line\n{line_labels[line_i]}", va="bottom",
                      linespacing=1.1)
             line_i += 1
             x += _LINE_GAP
@@ -143,9 +144,10 @@ class _Pen:
         self.sk.items.append(Label(x, y, s, self.fontsize, ha=ha, va=va, bold=bold, linespacing=linespacing))
 
     def end_block(self, x: float, label: str) -> float:
-        """The radio's or the antenna's box at ``x``; returns its right edge."""
+        """The radio's or the antenna's box at ``x``, its label on two lines (``TX`` over the
+        radio's name: one line ran out of the box); returns its right edge."""
         self.sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
-        self.text(x + _BOX_W / 2, 0.0, label, bold=True)
+        self.text(x + _BOX_W / 2, 0.0, label.replace(" ", "\n", 1), bold=True, linespacing=1.1)
         return x + _BOX_W
 
     def finish(self, cable_label: str | None) -> Sketch:
