@@ -140,3 +140,13 @@ def test_state_words_are_the_same_everywhere(outputs):
     for name, text in everything.items():
         for old in OLD_WORDS:
             assert not old.search(text), (name, old.pattern)
+
+
+def test_the_pdf_and_the_html_share_their_sections_and_warnings(outputs):
+    words = ("Threats", "Tolerance", "Power check", "Trimming steps", "Cut labels", "Cautions",
+             "Read the cautions page before anyone cuts, climbs or transmits.",
+             "Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs or transmits.",
+             "Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable next to "
+             "the connector.")
+    for w in words:
+        assert w in outputs["pdf"] and w in outputs["html"], w

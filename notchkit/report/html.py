@@ -17,7 +17,24 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from notchkit.report.files import write_text_atomic
-from notchkit.report.text import MET, NOT_MET, FilterText, PlanText, Table
+from notchkit.report.text import (
+    CAUTIONS_HEADING,
+    CAUTIONS_WARNING,
+    CUT_LABELS,
+    LABELS_INTRO,
+    MET,
+    NOT_MET,
+    POWER_CHECK,
+    READ_CAUTIONS,
+    TAG_BOLD_LINES,
+    THREATS,
+    TOLERANCE,
+    TRIM_STEPS,
+    FilterText,
+    PlanText,
+    Table,
+    unmet_banner,
+)
 
 if TYPE_CHECKING:
     from notchkit.report.curves import FilterPart
@@ -122,14 +139,14 @@ def render_html(pt: PlanText, images: Sequence[FilterImages], *, footer: str = "
              + "</table>")
     if pt.unmet:
         o.append('<div class="notmet">'
-                 + f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:<br>"
+                 + _e(unmet_banner(len(pt.unmet))) + "<br>"
                  + "<br>".join(_e(u) for u in pt.unmet) + "</div>")
     else:
         o.append(f'<p class="met">{_e(pt.verdict)}</p>')
     o.append(table_html(pt.filters_table))
-    o.append("<p><b>Read the cautions before anyone cuts, climbs or transmits.</b></p></section>")
+    o.append(f"<p><b>{_e(READ_CAUTIONS)}</b></p></section>")
 
-    o.append('<section class="page" id="threats"><h2>Threats</h2>')
+    o.append(f'<section class="page" id="threats"><h2>{_e(THREATS)}</h2>')
     o.append(table_html(pt.matrix))
     o.append(table_html(pt.threats))
     o.append("</section>")
@@ -145,29 +162,25 @@ def render_html(pt: PlanText, images: Sequence[FilterImages], *, footer: str = "
         o.append(_img(pics.curve_png, f"{ft.filter_id} attenuation curve"))
         o.append(table_html(ft.requirements))
         o.append(table_html(ft.cuts))
-        o.append("<h3>Tolerance</h3>" + "".join(f"<p>{_e(s)}</p>" for s in ft.tolerance))
+        o.append(f"<h3>{_e(TOLERANCE)}</h3>" + "".join(f"<p>{_e(s)}</p>" for s in ft.tolerance))
         if ft.power is not None:
             o.append(table_html(ft.power))
         else:
-            o.append("<h3>Power check</h3>")
+            o.append(f"<h3>{_e(POWER_CHECK)}</h3>")
         o.append("".join(
             f"<p>{'<b>' if s.startswith(('WARNING', 'CAUTION')) else ''}{_e(s)}"
             f"{'</b>' if s.startswith(('WARNING', 'CAUTION')) else ''}</p>" for s in ft.power_lines))
-        o.append("<h3>Trimming steps</h3><pre>" + _e("\n".join(ft.trim_steps)) + "</pre></section>")
+        o.append(f"<h3>{_e(TRIM_STEPS)}</h3><pre>" + _e("\n".join(ft.trim_steps)) + "</pre></section>")
 
-    o.append('<section class="page" id="labels"><h2>Cut labels</h2>'
-             "<p>Print at 100 % scale, cut along the dashed lines and tape each label to its stub's "
-             "cable.</p>"
+    o.append(f'<section class="page" id="labels"><h2>{_e(CUT_LABELS)}</h2><p>{_e(LABELS_INTRO)}</p>'
              '<div class="tags">')
-    for tag in pt.tags:
-        first, *rest = tag.lines
-        o.append('<div class="tag"><b>' + _e(first) + "</b><br>" + "<br>".join(
-            f"<b>{_e(s)}</b>" if s.startswith("CUT") else _e(s) for s in rest) + "</div>")
+    for tag in pt.tags:  # the stub and the first cut in bold, as on the printed labels
+        o.append('<div class="tag">' + "<br>".join(
+            f"<b>{_e(s)}</b>" if i in TAG_BOLD_LINES else _e(s) for i, s in enumerate(tag.lines)) + "</div>")
     o.append("</div></section>")
 
-    o.append('<section class="page" id="cautions"><h2>Cautions</h2>'
-             '<div class="notmet">Work on RF equipment can hurt or kill. Read this before anyone cuts, '
-             "climbs or transmits.</div>")
+    o.append(f'<section class="page" id="cautions"><h2>{_e(CAUTIONS_HEADING)}</h2>'
+             f'<div class="notmet">{_e(CAUTIONS_WARNING)}</div>')
     for head, text in pt.cautions:
         o.append(f"<h3>{_e(head)}</h3><p>{_e(text)}</p>")
     o.append("</section>")

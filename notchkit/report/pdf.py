@@ -43,7 +43,24 @@ from notchkit.report.pdfpage import (  # noqa: F401 - the page's names, re-expor
     register_font,
     strings_of,
 )
-from notchkit.report.text import FilterText, PlanText, Table, Tag
+from notchkit.report.text import (
+    CAUTIONS_HEADING,
+    CAUTIONS_WARNING,
+    CONTINUED,
+    CUT_LABELS,
+    LABELS_INTRO,
+    POWER_CHECK,
+    READ_CAUTIONS,
+    TAG_BOLD_LINES,
+    THREATS,
+    TOLERANCE,
+    TRIM_STEPS,
+    FilterText,
+    PlanText,
+    Table,
+    Tag,
+    unmet_banner,
+)
 
 _TAG_W_IN, _TAG_H_IN = 3.35, 1.3
 
@@ -73,7 +90,7 @@ def _cover(page: Page, pt: PlanText, body: float = 9.0) -> None:
         page.y += len(lines) * page.pitch(body) + 0.02
     page.y += 0.15
     if pt.unmet:
-        page.boxed([f"{len(pt.unmet)} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:",
+        page.boxed([unmet_banner(len(pt.unmet)),
                     *pt.unmet], 10.5)
     else:
         page.boxed([pt.verdict], 10.0)
@@ -82,13 +99,13 @@ def _cover(page: Page, pt: PlanText, body: float = 9.0) -> None:
     page.para("Contents: threats (matrix and table); one page per filter (arrangement, attenuation "
               "curve, requirements, cut list, tolerance, power check, trimming steps); cut labels; "
               "cautions.", 8.0)
-    page.para("Read the cautions page before anyone cuts, climbs or transmits.", 8.0, bold=True)
+    page.para(READ_CAUTIONS, 8.0, bold=True)
 
 
 def _threat_pages(new_page: Callable[[], Page], matrix: Table, t: Table, size: float = 7.0) -> list[Page]:
     pages = [new_page()]
     p = pages[0]
-    p.heading("Threats", 13.0)
+    p.heading(THREATS, 13.0)
     msize = 8.0
     while msize > 5.0 and p.table_height(matrix, msize) > 0.45 * (p.bottom - p.y):
         msize -= 0.5
@@ -98,7 +115,7 @@ def _threat_pages(new_page: Callable[[], Page], matrix: Table, t: Table, size: f
     i = 0
     first = True
     while True:
-        title = t.title if first else f"{t.title} (continued)"
+        title = t.title if first else t.title + CONTINUED
         avail = p.bottom - p.y - p.para_height(title, size + 0.5, gap=0.02, bold=True) - h0 - 0.1
         if t.note:
             avail -= 0.03 + p.para_height(t.note, size - 0.5)
@@ -118,7 +135,7 @@ def _threat_pages(new_page: Callable[[], Page], matrix: Table, t: Table, size: f
             break
         p = new_page()
         pages.append(p)
-        p.heading("Threats (continued)", 11.0)
+        p.heading(THREATS + CONTINUED, 11.0)
     return pages
 
 
@@ -128,7 +145,7 @@ def _filter_page(page: Page, ft: FilterText, part: FilterPart, body: float, draw
     from notchkit.report.drawing import arrangement_sketch
 
     if which == "rest":
-        page.heading(f"{ft.title} (continued)", 13.0)
+        page.heading(ft.title + CONTINUED, 13.0)
         _filter_rest(page, ft, body)
         return
     page.heading(ft.title, 13.0)
@@ -159,18 +176,18 @@ def _filter_page(page: Page, ft: FilterText, part: FilterPart, body: float, draw
 
 
 def _filter_rest(page: Page, ft: FilterText, body: float) -> None:
-    page.para("Tolerance", body + 0.5, bold=True, gap=0.0)
+    page.para(TOLERANCE, body + 0.5, bold=True, gap=0.0)
     for s in ft.tolerance:
         page.para(s, body - 0.5, gap=0.0)
     page.y += 0.06
     if ft.power is not None:
         page.table(ft.power, body - 0.5)
     else:
-        page.para("Power check", body + 0.5, bold=True, gap=0.0)
+        page.para(POWER_CHECK, body + 0.5, bold=True, gap=0.0)
     for s in ft.power_lines:
         page.para(s, body - 0.5, gap=0.0, bold=s.startswith(("WARNING", "CAUTION")))
     page.y += 0.06
-    page.para("Trimming steps", body + 0.5, bold=True, gap=0.0)
+    page.para(TRIM_STEPS, body + 0.5, bold=True, gap=0.0)
     for s in ft.trim_steps:
         page.para(s, body - 0.5, gap=0.0)
 
@@ -185,9 +202,8 @@ def _tag_pages(new_page: Callable[[], Page], tags: Sequence[Tag], per_page: int)
     for start in range(0, max(len(tags), 1), per_page):
         p = new_page()
         pages.append(p)
-        p.heading("Cut labels" + (" (continued)" if start else ""), 13.0)
-        p.para("Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable "
-               "next to the connector.", 8.0)
+        p.heading(CUT_LABELS + (CONTINUED if start else ""), 13.0)
+        p.para(LABELS_INTRO, 8.0)
         p.y += 0.05
         chunk = tags[start:start + per_page]
         if not chunk:
@@ -199,16 +215,16 @@ def _tag_pages(new_page: Callable[[], Page], tags: Sequence[Tag], per_page: int)
             p.rect(x, y, _TAG_W_IN, _TAG_H_IN, lw=0.8, dash=(4.0, 2.4))
             yy = y + 0.1
             for i, line in enumerate(tag.lines):
-                size = 11.0 if i in (0, 2) else 8.5
-                p.put(x + 0.12, yy, line, size, bold=i in (0, 2))
+                big = i in TAG_BOLD_LINES
+                size = 11.0 if big else 8.5
+                p.put(x + 0.12, yy, line, size, bold=big)
                 yy += pt_in(size) * 1.35
     return pages
 
 
 def _cautions(page: Page, cautions: Sequence[tuple[str, str]]) -> None:
-    page.heading("Cautions", 14.0)
-    page.boxed(["Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs "
-                "or transmits."], 10.0)
+    page.heading(CAUTIONS_HEADING, 14.0)
+    page.boxed([CAUTIONS_WARNING], 10.0)
     for head, text in cautions:
         page.para(head, 10.0, bold=True, gap=0.0)
         page.para(text, 9.0, gap=0.12)

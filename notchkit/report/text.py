@@ -72,6 +72,10 @@ if TYPE_CHECKING:
     from notchkit.threats import SurveyResult
 
 
+TAG_BOLD_LINES = (0, 2)
+"""A cut label's lines printed large and bold: the stub with its filter, and the cut."""
+
+
 @dataclass(frozen=True, slots=True, kw_only=True)
 class Tag:
     """One cut label: a few lines to print on a tag taped to the stub's cable."""
@@ -98,6 +102,28 @@ class PlanText:
     meets: bool
     verdict: str = ""
     """The cover's line when every filter meets (or none is needed)."""
+
+
+# ---------------------------------------------------------------- words every output prints
+
+THREATS = "Threats"
+TOLERANCE = "Tolerance"
+POWER_CHECK = "Power check"
+TRIM_STEPS = "Trimming steps"
+CUT_LABELS = "Cut labels"
+CAUTIONS_HEADING = "Cautions"
+CONTINUED = " (continued)"
+"""Section headings of the plan (PDF and HTML)."""
+READ_CAUTIONS = "Read the cautions page before anyone cuts, climbs or transmits."
+CAUTIONS_WARNING = ("Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs "
+                    "or transmits.")
+LABELS_INTRO = ("Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable "
+                "next to the connector.")
+
+
+def unmet_banner(n: int) -> str:
+    """The cover's warning when ``n`` filters do not meet their requirements."""
+    return f"{n} FILTER(S) DO NOT MEET THEIR REQUIREMENTS - read before building:"
 
 
 CAUTIONS = (
