@@ -28,8 +28,8 @@ HEADINGS = {
     "matrix": ("TX \\ RX",),
     "filters": ("Filter", "Location", "Stubs", "Notches", "Pass bands", "Result", "Build yield"),
     "requirements": ("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
-    "cuts": ("Part", "Cable", "Kind", "First cut", "Final (mm)", "Final (in)", "Trim to (MHz)", "Trim (mm/MHz)",
-             "Tee"),
+    "cuts": ("Part", "Cable", "Kind", "First cut", "Final (mm)", "Final (in)", "Trim to (MHz)",
+             "Trim (mm/MHz)", "Tee"),
 }
 STATE_WORDS = ("meets", "DOES NOT MEET")
 # Words the outputs used to disagree on: none of them may come back.
@@ -146,7 +146,7 @@ def test_the_pdf_and_the_html_share_their_sections_and_warnings(outputs):
     words = ("Threats", "Tolerance", "Power check", "Trimming steps", "Cut labels", "Cautions",
              "Read the cautions page before anyone cuts, climbs or transmits.",
              "Work on RF equipment can hurt or kill. Read this page before anyone cuts, climbs or transmits.",
-             "Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable next to "
-             "the connector.")
+             "Print at 100 % scale, cut along the dashed lines and tape each label to its stub's cable "
+             "next to the connector.")
     for w in words:
         assert w in outputs["pdf"] and w in outputs["html"], w

@@ -409,10 +409,19 @@ def render_pdf(pt: PlanText, filter_parts: Sequence[FilterPart], *, page_size: s
     -------
     bytes, PdfLayout
     """
+    from notchkit.interrupts import interrupted
+
     page_size_in(page_size)
     pdf = PlanPdf(title=pt.title, font=choose_font(strings_of(pt) + [footer]), page_size=page_size,
                   footer=footer)
-    return pdf.finish(pt, filter_parts)
+    try:
+        return pdf.finish(pt, filter_parts)
+    except RuntimeError:
+        # Ctrl-C inside ReportLab's C accelerator comes out as its RuntimeError ("... failed
+        # (KeyboardInterrupt: )"): it is the interrupt, not a fault of the plan.
+        if interrupted():
+            raise KeyboardInterrupt from None
+        raise
 
 
 def write_pdf(path: str | os.PathLike, pt: PlanText, filter_parts: Sequence[FilterPart], *,
