@@ -150,3 +150,17 @@ def test_the_pdf_and_the_html_share_their_sections_and_warnings(outputs):
              "next to the connector.")
     for w in words:
         assert w in outputs["pdf"] and w in outputs["html"], w
+
+
+def test_a_terminal_table_keeps_alignment_no_value_marks_and_its_note():
+    from notchkit.report.rows import Table
+    from notchkit.report.terminal import table_lines
+
+    t = Table(title="Power", header=("Stub", "Max V (pk)"), rows=(("F1-S1", "85"), ("F1-S22", "-")),
+              align=("left", "right"), widths=(1.0, 1.0), note="word " * 30)
+    lines = table_lines(t, "  ")
+    assert lines[:5] == ["  Power:", "  Stub    Max V (pk)", "  ------  ----------", "  F1-S1           85",
+                         "  F1-S22           -"]
+    assert all(len(x) <= 102 for x in lines[5:]) and " ".join(" ".join(lines[5:]).split()) == ("word " * 30).strip()
+    empty = table_lines(Table(title="", header=("A",), rows=(), align=("left",), widths=(1.0,)))
+    assert empty == ["A", "-", "(none)"]

@@ -42,11 +42,13 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> list[str]:
-    widths = [max(len(row[i]) for row in [header, *rows]) for i in range(len(header))]
-    out = []
-    for row in [header, *rows]:
-        out.append("  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip())
-    return out
+    """Rows laid out as every terminal table is (:func:`notchkit.report.terminal.table_lines`)."""
+    from notchkit.report.rows import Table
+    from notchkit.report.terminal import table_lines
+
+    n = len(header)
+    t = Table(title="", header=header, rows=tuple(rows), align=("left",) * n, widths=(1.0,) * n)
+    return table_lines(t, "  ")
 
 
 def format_site(site: Site) -> str:
@@ -61,14 +63,15 @@ def format_site(site: Site) -> str:
                      f"{x:.1f}, {y:.1f}, {h:.1f}", f"{r.gain_dbi:g}", feed, r.stub_cable))
     lines.append(f"Radios ({len(site.radios)}):")
     lines += _table(
-        ("name", "role", "MHz", "power W", "antenna x, y, height m", "gain dBi", "feedline", "stubs"),
+        ("Name", "Role", "Freq (MHz)", "Power (W)", "Antenna x, y, height (m)", "Gain (dBi)", "Feedline",
+         "Stub cable"),
         rows,
     )
     lines.append("")
     if site.couplings:
         lines.append(f"Measured couplings ({len(site.couplings)}):")
         lines += _table(
-            ("between", "isolation dB", "at MHz"),
+            ("Between", "Isolation (dB)", "At (MHz)"),
             [
                 (
                     f"{c.a} - {c.b}",
@@ -84,7 +87,7 @@ def format_site(site: Site) -> str:
         lines.append("")
         lines.append(f"Cables defined in the file ({len(site.cables)}):")
         lines += _table(
-            ("name", "Z0 ohm", "VF", "loss points"),
+            ("Name", "Z0 (ohm)", "VF", "Loss points"),
             [
                 (c.name, f"{c.z0_ohm:g}", f"{c.velocity_factor:g}", str(len(c.loss_table)))
                 for c in site.cables
