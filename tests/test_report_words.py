@@ -161,6 +161,7 @@ def test_a_terminal_table_keeps_alignment_no_value_marks_and_its_note():
     lines = table_lines(t, "  ")
     assert lines[:5] == ["  Power:", "  Stub    Max V (pk)", "  ------  ----------", "  F1-S1           85",
                          "  F1-S22           -"]
-    assert all(len(x) <= 102 for x in lines[5:]) and " ".join(" ".join(lines[5:]).split()) == ("word " * 30).strip()
+    assert all(len(x) <= 102 for x in lines[5:])
+    assert " ".join(" ".join(lines[5:]).split()) == ("word " * 30).strip()
     empty = table_lines(Table(title="", header=("A",), rows=(), align=("left",), widths=(1.0,)))
     assert empty == ["A", "-", "(none)"]
