@@ -187,6 +187,18 @@ def solve(
         The request cannot be satisfied by any filter (see :func:`check_requirement`),
         or the limits are unusable.
     """
+    _check_arguments(req, limits, tee_allowance_m, allowances)
+    p = _Problem(req, cable, limits, tee_allowance_m, z_system, allowances)
+    sweep, slices = verify_sweep_hz(req)
+    say = progress or (lambda _msg: None)
+    found, stubs_tried = _search(p, sweep, slices, say)
+    best = _polished(p, found, sweep, slices, say)
+    return _solution(p, best, found, stubs_tried)
+
+
+def _check_arguments(req: FilterRequirement, limits: Limits, tee_allowance_m: float,
+                     allowances: Allowances | None) -> None:
+    """Refuse a request or limits no search could use (:class:`DesignError`)."""
     check_requirement(req)
     if not (isinstance(limits.max_stubs, int) and limits.max_stubs >= 1):
         raise DesignError(f"max_stubs {limits.max_stubs!r} must be an integer >= 1")
@@ -198,40 +210,24 @@ def solve(
         raise DesignError(f"limits: max_swr {limits.max_swr!r} must be > 1 and max_insertion_loss_db "
                           f"{limits.max_insertion_loss_db!r} must be > 0 dB")
     _check_build_settings(limits, allowances)
-    p = _Problem(req, cable, limits, tee_allowance_m, z_system, allowances)
-    sweep, slices = verify_sweep_hz(req)
-    say = progress or (lambda _msg: None)
-    target = p.yield_target
 
+
+def _search(p: _Problem, sweep: np.ndarray, slices: list[slice],
+            say: Callable[[str], None]) -> tuple[list[_Verified], int]:
+    """Every verified design, one stub more at each level until one is robust (or
+    ``limits.max_stubs``); also the most stubs tried."""
+    target = p.yield_target
     say("1 stub: scanning lengths")
     level, pool, best_single = _scan_one_stub(p)
     found: list[_Verified] = []
     stubs_tried = 1
-    for n_stubs in range(1, limits.max_stubs + 1):
+    for n_stubs in range(1, p.limits.max_stubs + 1):
         if n_stubs > 1:
             say(f"{n_stubs} stubs: extending the best {n_stubs - 1}-stub designs")
-            parents = _distinct(sorted(level, key=lambda c: c.j), p, _BEAM)
-            if n_stubs == 2:
-                # single stubs that each notch one band well are parents too
-                singles = [_Cand((k,), np.array([x]), 0.0, 0.0, 0.0) for k, x in best_single]
-                parents = _distinct(parents + singles, p, _BEAM + len(singles))
-            level = _children(p, parents, pool)
+            level = _next_level(p, level, pool, best_single, n_stubs)
             stubs_tried = n_stubs
-        # Refine the candidates within reach of the best (their penalty within
-        # _REFINE_WINDOW dB); the others cannot win.
-        j_best = min((c.j for c in level), default=0.0)
-        level = [c for c in level if c.j <= j_best + _REFINE_WINDOW]
-        say(f"{n_stubs} stub(s): refining {len(level)} candidates")
-        refined = _refine_all(p, level)
-        if n_stubs > 1:
-            # escape the local minima the children's fixed parent lengths lead into
-            starts = _rescan(p, _distinct(sorted(refined, key=lambda c: c.j), p, _RESCAN_FROM))
-            j_top = min(c.j for c in refined)
-            starts = _distinct(sorted((c for c in starts if c.j <= j_top + _REFINE_WINDOW),
-                                      key=lambda c: c.j), p, _RESCAN_KEEP)
-            refined = _same_removed(sorted(refined + _refine_all(p, starts), key=lambda c: c.j))
-        level = refined
-        verified = [_verify(p, c, sweep, slices) for c in refined]
+        level = _refined_level(p, level, n_stubs, say)
+        verified = [_verify(p, c, sweep, slices) for c in level]
         _add_yields(p, verified)
         found += verified
         if any(_robust(v, target) for v in verified):
@@ -246,6 +242,45 @@ def solve(
             found += robust
             if any(_robust(v, target) for v in robust):
                 break
+    return found, stubs_tried
+
+
+def _next_level(p: _Problem, level: list[_Cand], pool: dict[str, list[float]],
+                best_single: list[tuple[str, float]], n_stubs: int) -> list[_Cand]:
+    """The candidates with ``n_stubs`` stubs: the best designs with one fewer, extended."""
+    parents = _distinct(sorted(level, key=lambda c: c.j), p, _BEAM)
+    if n_stubs == 2:
+        # single stubs that each notch one band well are parents too
+        singles = [_Cand((k,), np.array([x]), 0.0, 0.0, 0.0) for k, x in best_single]
+        parents = _distinct(parents + singles, p, _BEAM + len(singles))
+    return _children(p, parents, pool)
+
+
+def _refined_level(p: _Problem, level: list[_Cand], n_stubs: int,
+                   say: Callable[[str], None]) -> list[_Cand]:
+    """The level's candidates within reach of the best, refined (and, from two stubs on,
+    re-scanned and refined again), without repeats."""
+    # Refine the candidates within reach of the best (their penalty within
+    # _REFINE_WINDOW dB); the others cannot win.
+    j_best = min((c.j for c in level), default=0.0)
+    level = [c for c in level if c.j <= j_best + _REFINE_WINDOW]
+    say(f"{n_stubs} stub(s): refining {len(level)} candidates")
+    refined = _refine_all(p, level)
+    if n_stubs > 1:
+        # escape the local minima the children's fixed parent lengths lead into
+        starts = _rescan(p, _distinct(sorted(refined, key=lambda c: c.j), p, _RESCAN_FROM))
+        j_top = min(c.j for c in refined)
+        starts = _distinct(sorted((c for c in starts if c.j <= j_top + _REFINE_WINDOW),
+                                  key=lambda c: c.j), p, _RESCAN_KEEP)
+        refined = _same_removed(sorted(refined + _refine_all(p, starts), key=lambda c: c.j))
+    return refined
+
+
+def _polished(p: _Problem, found: list[_Verified], sweep: np.ndarray, slices: list[slice],
+              say: Callable[[str], None]) -> _Verified:
+    """The best design found, polished when that ranks better (the polished design then
+    joins ``found``)."""
+    target = p.yield_target
     best = _best(found, target, p.margin_goal)
     if best.meets or len(best.cand.kinds) <= 3:
         say("polishing the chosen design")
@@ -254,7 +289,12 @@ def solve(
         if _best([best, polished], target, p.margin_goal) is polished:
             best = polished
             found.append(polished)
-    alternatives = _alternatives(found, best, target, p.margin_goal)
+    return best
+
+
+def _solution(p: _Problem, best: _Verified, found: list[_Verified], stubs_tried: int) -> Solution:
+    """The chosen design as the solver's answer, with what it misses and the alternatives."""
+    alternatives = _alternatives(found, best, p.yield_target, p.margin_goal)
     return Solution(
         filter=best.filt,
         meets=best.meets,
@@ -270,7 +310,7 @@ def solve(
         max_total_cable_m=p.cable_cap,
         candidates_evaluated=p.evaluated,
         build_yield=best.build_yield,
-        yield_target=target,
+        yield_target=p.yield_target,
         alternatives=alternatives,
     )
 
