@@ -188,9 +188,25 @@ class _State:
     def __init__(self, ctx, tx: np.ndarray, rx: np.ndarray):
         self.ctx = ctx
         sa = self.sa = ctx.sa
-        radios = sa.site.radios
         n = self.n = len(sa.names)
         self.rx = rx
+        self._carrier_levels(tx, rx)
+        self._clashes(tx, rx)
+        self._path_grid(tx, rx)
+        self._mixing_figures(tx, rx)
+        self._receiver_groups(rx)
+        self._coverage(rx)
+        self.notch_tx: tuple[np.ndarray, np.ndarray, dict] = (
+            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
+        self.notch_rx: tuple[np.ndarray, np.ndarray, dict] = (
+            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
+        self.labels: dict[tuple, str] = {}
+        self.texts: dict[tuple, str] = {}
+        self.remedies: dict[tuple, tuple] = {}
+
+    def _carrier_levels(self, tx: np.ndarray, rx: np.ndarray) -> None:
+        """Carrier levels at each mixer's output port (``inc``) and each victim's input (``arr``)."""
+        sa, n = self.sa, self.n
         # Carrier o at mixer m's output port: inc[o, m]; at victim v's input: arr[o, v] (dBm).
         oo, mm = (a.ravel() for a in np.meshgrid(tx, tx, indexing="ij"))
         total, iso, meth = sa.path_db(oo, mm, sa.tx_lo[oo], into="tx")
@@ -210,6 +226,10 @@ class _State:
         self.arr_iso[oo, vv], self.arr_meth[oo, vv] = iso, meth
         both = np.intersect1d(tx, rx)
         self.arr[both, both] = -np.inf  # a transceiver's own carrier: the duplexer's job
+
+    def _clashes(self, tx: np.ndarray, rx: np.ndarray) -> None:
+        """Where a notch for a carrier would clash with the pass bands (``clash_tx``, ``clash_rx``)."""
+        ctx, sa, n = self.ctx, self.sa, self.n
         # Is a notch for o's band too close to the pass bands at m's output / v's input?
         self.clash_tx = np.zeros((n, n), dtype=bool)
         self.clash_rx = np.zeros((n, n), dtype=bool)
@@ -221,6 +241,10 @@ class _State:
             for o in tx.tolist():
                 if v != o:
                     self.clash_rx[v, o] = ctx.clash(v, float(sa.tx_lo[o]), float(sa.tx_hi[o])) is not None
+
+    def _path_grid(self, tx: np.ndarray, rx: np.ndarray) -> None:
+        """Path loss mixer -> victim on a log-spaced grid across each receiver's band."""
+        sa, n = self.sa, self.n
         # Path mixer -> victim on a log-spaced grid across each receiver's band: products
         # interpolate it (linear in log f, where the isolation formulas are linear).
         self.rx_lo_f = np.where(np.isnan(sa.rx_lo), 1.0, sa.rx_lo)
@@ -232,6 +256,11 @@ class _State:
         total, _, _ = sa.path_db(mm, vv, fg)
         self.path_grid = np.full(n * n * GRID, np.inf)
         self.path_grid[(mm * n + vv) * GRID + gg] = total
+
+    def _mixing_figures(self, tx: np.ndarray, rx: np.ndarray) -> None:
+        """Each mixer's conversion figures and each victim's intercept points, with their sources."""
+        sa, n = self.sa, self.n
+        radios = sa.site.radios
         # Conversion figures and intercept points.
         self.l3 = np.full(n, np.nan)
         self.step = np.full(n, np.nan)
@@ -254,6 +283,10 @@ class _State:
             i2, i3, src = levels.receiver_intercepts(radios[v].rx)
             self.iip[2, v], self.iip[3, v] = i2, i3
             self.iip_src[v] = src
+
+    def _receiver_groups(self, rx: np.ndarray) -> None:
+        """Receivers sorted by low edge, in groups of similar width."""
+        sa = self.sa
         # Receivers sorted by low edge, in groups of similar width (binary search per group).
         width = sa.rx_hi[rx] - sa.rx_lo[rx]
         cls = np.floor(np.log2(np.maximum(width, 0.05) / 0.05)).astype(int)
@@ -264,6 +297,10 @@ class _State:
             members = members[o]
             w = float((sa.rx_hi[members] - sa.rx_lo[members]).max())
             self.groups.append((members, sa.rx_lo[members], sa.rx_hi[members], w))
+
+    def _coverage(self, rx: np.ndarray) -> None:
+        """Which bins of the frequency axis some receiver's band touches (a prefix count)."""
+        sa = self.sa
         # Coverage map: bins of the frequency axis that some receiver's band touches, as a
         # prefix count, so a product that lands nowhere is dropped in O(1).
         top = float(sa.rx_hi[rx].max()) * (1.0 + 1e-9) + 1e-9
@@ -277,13 +314,6 @@ class _State:
         self.cover = np.concatenate([[0], np.cumsum(covered)]).astype(np.int32)
         with np.errstate(invalid="ignore"):
             self.simplex = (sa.tx_lo <= sa.rx_hi) & (sa.rx_lo <= sa.tx_hi)
-        self.notch_tx: tuple[np.ndarray, np.ndarray, dict] = (
-            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
-        self.notch_rx: tuple[np.ndarray, np.ndarray, dict] = (
-            np.full((n, n), -np.inf), np.zeros((n, n), dtype=np.int64), {})
-        self.labels: dict[tuple, str] = {}
-        self.texts: dict[tuple, str] = {}
-        self.remedies: dict[tuple, tuple] = {}
 
     def default_notes(self) -> list[str]:
         names, radios = self.ctx.names, self.sa.site.radios
