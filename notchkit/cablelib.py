@@ -1,6 +1,6 @@
 """The cable library files (the shipped one, the user's, a site's), lookup by name, and
 the ``notchkit cables`` table. The types are :mod:`notchkit.cables`'s, which re-exports
-every name here.
+the public names here (and imports this module at its end).
 """
 
 from __future__ import annotations

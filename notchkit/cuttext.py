@@ -2,7 +2,7 @@
 
 References
 ----------
-.. [2] NIST SP 811 (2008), appendix B.8: 1 in = 25.4 mm exactly.
+.. [1] NIST SP 811 (2008), appendix B.8: 1 in = 25.4 mm exactly.
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ def inches_16ths(m: float) -> tuple[int, int]:
 
     Returns ``(whole, sixteenths)`` with ``0 <= sixteenths < 16`` (halves round
     up, away from zero for negative lengths; the sign is carried on ``whole``,
-    or on ``sixteenths`` when ``whole`` is 0). 1 in = 25.4 mm exactly [2]_.
+    or on ``sixteenths`` when ``whole`` is 0). 1 in = 25.4 mm exactly [1]_.
     """
     if not math.isfinite(m):
         raise DesignError(f"length {m!r} m must be finite")

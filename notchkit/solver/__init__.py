@@ -59,6 +59,17 @@ yield. When none meets, the one with the least violation is returned with
 remedy when stubs cannot close the gap). The best few others are
 ``Solution.alternatives``.
 
+Where it lives
+--------------
+This package's modules, by concern: ``problem`` (the tuning constants, the grids,
+the penalty and the bounds of one requirement: ``_Problem``; the candidates),
+``search`` (seeds, the one-stub scan, the children), ``refine`` (the pattern
+search, the re-scan, the robust refinement, the polish), ``ranking``
+(verification, build yield, ranking, alternatives, ``describe``), ``advice``
+(what is refused and what is advised) and ``results`` (the result types);
+:func:`solve` here runs them in that order. Every name ``notchkit.solver``
+had before the split is still importable from it.
+
 Limits
 ------
 ``limits.max_stubs`` caps the number of stubs. ``limits.max_total_cable_m``

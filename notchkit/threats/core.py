@@ -2,7 +2,9 @@
 
 See docs/survey.md for the model. Every mechanism is evaluated with numpy over
 index arrays (transmitter x receiver x harmonic / product), and Python only
-builds the result objects.
+builds the result objects. The mechanisms are run here; the direct ones
+(fundamental, harmonics, noise) are in :mod:`notchkit.threats.direct`, the
+context they share (notch feeds, clashes) in :mod:`notchkit.threats.context`.
 """
 
 from __future__ import annotations

@@ -70,7 +70,7 @@ def intermod_threats(
 
     Parameters
     ----------
-    ctx : notchkit.threats.core._Ctx
+    ctx : notchkit.threats.context._Ctx
         The survey run (site arrays, margin, notch collection).
     tx, rx : ndarray of int
         Radio indices of the transmitters and receivers.
