@@ -519,6 +519,24 @@ def test_twin_line_copper_loss_against_n7ws():
     assert float(c.conductor_loss_db_per_100m(30.0)) * FT == pytest.approx(0.264, rel=0.20)
 
 
+def test_examples_feed_with_hardline_and_ladder_line():
+    # issue 19, done when: the contest and EOC examples use hardline and ladder line from
+    # the library. The window-line feedline's 45 m loss at 7.1 MHz is the preset's
+    # (N7WS-checked: 0.0075 dB/m at 3.6 MHz, above) times the length: 0.3-0.4 dB.
+    from pathlib import Path
+
+    from notchkit import load_site
+
+    sites = Path(__file__).resolve().parent.parent / "sites"
+    contest = {r.name: r for r in load_site(sites / "contest-two-position.yaml").radios}
+    run = contest["run"].feedline
+    assert run.cable == "window-line-450" and get_cable(run.cable).kind == "balanced"
+    feed_db = float(get_cable(run.cable).loss_db_per_100m(7.1)) * run.length_m / 100
+    assert 0.3 < feed_db < 0.4
+    eoc = {r.feedline.cable for r in load_site(sites / "ridge-eoc.yaml").radios}
+    assert {"hardline-1/2", "hardline-7/8"} <= eoc
+
+
 def test_balanced_dielectric_loss_is_pozar_3_199():
     # alpha_d = k0 er (er_eff - 1) tan(delta) / (2 sqrt(er_eff) (er - 1)) (Pozar eq. 3.199).
     vf, er, tand = 0.8, 2.25, 3e-4
