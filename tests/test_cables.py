@@ -106,7 +106,7 @@ def test_every_figure_names_a_source_and_every_source_key_is_defined():
 # 20 % above the model fitted to the five other tables).
 TABLE_TOLERANCE_PCT = {
     "RG-58": 13, "RG-213": 20, "RG-8-foam": 5, "RG-8X": 15, "RG-174": 19, "RG-223": 5,
-    "RG-142": 9, "RG-178": 5, "RG-316": 17, "RG-303": 5, "RG-393": 4, "foam-240": 5,
+    "RG-142": 9, "RG-178": 5, "RG-316": 17, "RG-400": 3, "RG-303": 5, "RG-393": 4, "foam-240": 5,
     "foam-400": 10, "foam-600": 8, "hardline-1/2": 5, "hardline-7/8": 8, "RG-59": 10, "RG-6": 18, "RG-11": 3,
     "twin-lead-300": 5, "window-line-450": 5, "open-wire-600": 5,
 }
@@ -128,25 +128,49 @@ def test_model_against_every_published_table(cable, source):
     assert errors[source.source] <= tol
 
 
-def test_hf_points_clear_the_extrapolation_flag_for_rg58_and_rg213():
-    # W4RP table (via Kibabalu/free42): published 1 MHz figures, RG-58 1.3123 and RG-213
-    # 0.65617 dB/100 m, so the 160-40 m bands are no longer extrapolated for these two.
-    for name, db_100m_1mhz, rel in (("RG-58", 1.3123, 0.05), ("RG-213", 0.65617, 0.10)):
-        c = get_cable(name)
-        assert c.table_range_mhz[0] == 1.0
-        assert not c.extrapolated([1.8, 3.5, 7.0]).any()
-        assert float(c.loss_db_per_100m(1.0)) == pytest.approx(db_100m_1mhz, rel=rel)
+@pytest.mark.parametrize(
+    "name, db_per_100ft_1mhz, rel",
+    [
+        # W4RP table (via Kibabalu/free42): RG-58 1.3123 and RG-213 0.65617 dB/100 m at 1 MHz.
+        ("RG-58", 1.3123 * FT, 0.05),
+        ("RG-213", 0.65617 * FT, 0.10),
+        # Makers' catalogue tables as transcribed in stevefalco/tline (2019), dB/100 ft at
+        # 1 MHz: Belden 9258 RG-8X 0.3,
+        # Belden 8216 RG-174/U 1.9, DX Engineering RG-400 0.4.
+        ("RG-8X", 0.3, 0.05),
+        ("RG-174", 1.9, 0.15),
+        ("RG-400", 0.4, 0.05),
+    ],
+)
+def test_hf_points_clear_the_extrapolation_flag(name, db_per_100ft_1mhz, rel):
+    # published figures from 1 MHz: the 160-40 m bands are no longer extrapolated
+    c = get_cable(name)
+    assert c.table_range_mhz[0] == 1.0
+    assert not c.extrapolated([1.8, 3.5, 7.0]).any()
+    assert float(c.loss_db_per_100ft(1.0)) == pytest.approx(db_per_100ft_1mhz, rel=rel)
 
 
 def test_the_types_without_a_published_table_say_so():
-    # RG-214 and RG-400: no published loss table was found; the library says the loss is
-    # from memory and flags every frequency.
-    for name in ("RG-214", "RG-400"):
-        c = get_cable(name)
-        assert not _published(c)
-        assert MEMORY in c.sources or any("from memory" in s for s in c.sources)
-        assert c.table_range_mhz is None
-        assert c.extrapolated([1.8, 146.0]).all()
+    # RG-214: no published loss table was found; the library says the loss is from
+    # memory and flags every frequency.
+    c = get_cable("RG-214")
+    assert not _published(c)
+    assert MEMORY in c.sources or any("from memory" in s for s in c.sources)
+    assert c.table_range_mhz is None
+    assert c.extrapolated([1.8, 146.0]).all()
+    # RG-400 has one maker's table now (tline, 2019): 1-450 MHz, nothing from memory
+    r = get_cable("RG-400")
+    assert r.table_range_mhz == (1.0, 450.0) and "loss" not in r.from_memory
+
+
+def test_rg400_table_five_mhz_figure_is_the_outlier():
+    # DX Engineering RG-400 as transcribed in tline (2019), dB/100 ft: 1 MHz 0.4, 5 MHz 1.9,
+    # 30 MHz 2.2. The square-root law through its own 1 and 30 MHz figures gives
+    # 0.4 sqrt(5) = 0.89 and 2.2 sqrt(5/30) = 0.90 at 5 MHz (hand arithmetic), not 1.9: the
+    # 5 MHz figure is kept compared-only (cables.yaml). The fit follows the rest within 10 %.
+    c = get_cable("RG-400")
+    assert float(c.loss_db_per_100ft(5.0)) == pytest.approx(0.9, rel=0.10)
+    assert float(c.loss_db_per_100ft(5.0)) < 1.9 / 2
 
 
 @pytest.mark.parametrize(
@@ -171,6 +195,51 @@ def test_ptfe_cables_against_an_installation_manual_ceiling(name, ceiling_db_per
     model = float(c.loss_db_per_100ft(1090.0))
     assert 0.80 * ceiling_db_per_100ft <= model <= ceiling_db_per_100ft, (name, model)
     assert c.extrapolated([1090.0]).all()
+
+
+@pytest.mark.parametrize(
+    "name, k1, k2, rel",
+    [
+        # stevefalco/tline cableTypes.cpp (commit b37cf64): makers' loss coefficients,
+        # matched loss dB/100 ft = k0 + k1 sqrt(f) + k2 f (f in MHz). At 450 and 1000 MHz the
+        # d.c. term k0 (added in quadrature by that program) is negligible, so the check
+        # value is k1 sqrt(f) + k2 f. A second maker for each type; stated tolerance per row.
+        ("RG-214", 0.163915, 0.002752, 0.10),   # Belden 8268 (RG-214/U); the model is from memory
+        ("RG-142", 0.353181, 0.001996, 0.10),   # Belden 83242 (RG-142B/U); Satec fitted
+        ("RG-178", 1.448062, 0.0, 0.05),        # Belden 83265 (RG-178B/U); Satec fitted
+        ("RG-316", 0.800401, 0.003536, 0.12),   # Belden 84316 (RG-316/U); Satec fitted
+        ("RG-400", 0.402633, 0.001282, 0.05),   # DX Engineering RG-400 (its table: fitted)
+        ("foam-600", 0.072828, 0.000353, 0.15),  # a maker's 600-size foam row; SCC fitted
+        ("hardline-1/2", 0.064142, 0.000193, 0.05),  # a maker's 1/2-inch row; Codan fitted
+        ("hardline-7/8", 0.034825, 0.000153, 0.05),  # a maker's 7/8-inch row
+        ("foam-240", 0.239481, 0.000447, 0.05),  # a maker's 240-size foam row
+        ("foam-400", 0.124805, 0.000187, 0.08),  # a maker's 400-size foam row
+    ],
+)
+def test_uhf_loss_against_a_list_of_makers_coefficients(name, k1, k2, rel):
+    c = get_cable(name)
+    for f in (450.0, 1000.0):
+        published = k1 * math.sqrt(f) + k2 * f
+        assert float(c.loss_db_per_100ft(f)) == pytest.approx(published, rel=rel), (name, f)
+
+
+@pytest.mark.parametrize(
+    "name, volts",
+    [
+        ("RG-58", 1400), ("RG-213", 3700),  # MIL-C-17G engineering working voltage (J. Lux)
+        # stevefalco/tline cableTypes.cpp (commit b37cf64), maximum voltage per maker row;
+        # where makers differ the library keeps the lowest (named in cables.yaml)
+        ("RG-8X", 300), ("RG-174", 1100), ("RG-59", 1700), ("RG-142", 1400), ("RG-178", 750),
+        ("RG-316", 900), ("RG-303", 1400), ("RG-214", 3700), ("RG-400", 1900), ("RG-11", 300),
+        ("RG-6", 300), ("RG-8-foam", 600), ("foam-240", 1500), ("foam-400", 2500),
+        ("foam-600", 4000), ("hardline-1/2", 4000), ("hardline-7/8", 6000),
+        ("open-wire-600", 12000),
+    ],
+)
+def test_published_voltage_ratings(name, volts):
+    c = get_cable(name)
+    assert c.max_voltage_v == volts
+    assert "max_voltage_v" not in c.from_memory
 
 
 def test_rg213_against_codan_appendix_h():
@@ -263,6 +332,20 @@ def test_rg58_against_codan_appendix_h():
                          (400, 15.748)], 0.13),
         # W8JI on TowerTalk: a maker's 300-ohm twin-lead, 22 AWG, 1.4 dB/100 ft at 100 MHz.
         ("twin-lead-300", "ft", [(100, 1.4)], 0.10),
+        # Makers' catalogue tables as transcribed in stevefalco/tline (2019), dB/100 ft,
+        # compared only: Belden 8259 RG-58A/U (the model is 10-13 % below it from 10 MHz up);
+        # DX Engineering RG-8X (the lowest of the five RG-8X sources: the model is up to
+        # 25 % above it); DX Engineering RG-11/U from 5 MHz (its 1 MHz figure, 0.2, is
+        # given to one digit and the model is 37 % below it: left out here, docs/cables.md).
+        ("RG-58", "ft", [(1, 0.4), (10, 1.5), (50, 3.7), (100, 5.4), (200, 8.1), (400, 12.4),
+                         (700, 17.7), (900, 21.1), (1000, 22.8)], 0.13),
+        # Belden 8237 RG-8/U (the RG-213 construction) and DX Engineering RG-213/U, compared
+        # only (fitted, they would pull the model 14 % below W4RP's 50 MHz figure).
+        ("RG-213", "ft", [(1, 0.2), (10, 0.6), (50, 1.3), (100, 1.9), (200, 2.8), (400, 4.2),
+                          (700, 5.9), (900, 6.9), (1000, 7.4)], 0.12),
+        ("RG-213", "ft", [(5, 0.4), (10, 0.6), (30, 1.0), (50, 1.3), (150, 2.4)], 0.09),
+        ("RG-8X", "ft", [(5, 0.6), (10, 0.9), (30, 1.4), (50, 2.0), (150, 3.8)], 0.25),
+        ("RG-11", "ft", [(5, 0.3), (10, 0.4), (30, 0.7), (50, 1.0), (150, 1.8), (450, 3.3)], 0.15),
     ],
 )
 def test_cross_check_against_published_tables(name, unit, points, rel):
@@ -864,7 +947,7 @@ def test_cli_table_shows_sources_and_extrapolation(capsys):
 
 
 def test_cli_one_type_in_detail(capsys):
-    assert main(["cables", "RG-174", "--at", "1,146"]) == 0
+    assert main(["cables", "RG-174", "--at", "0.5,146"]) == 0
     out = capsys.readouterr().out
     assert "copper-clad-steel conductor, cladding" in out
     assert "table from: ARRL General Class License Manual" in out
