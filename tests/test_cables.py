@@ -345,7 +345,7 @@ def test_rg58_against_codan_appendix_h():
                           (700, 5.9), (900, 6.9), (1000, 7.4)], 0.12),
         ("RG-213", "ft", [(5, 0.4), (10, 0.6), (30, 1.0), (50, 1.3), (150, 2.4)], 0.09),
         # "Coax basics" page (iw5edi.com / ok1uhu), dB/100 ft on 27 MHz, compared only: its
-        # RG-8 (VF .66) 1.15 and RG-59 2.0 rows (13 and 11 % above the fits). Its 1/2-inch
+        # RG-8 (VF .66) 1.15 and RG-59 2.0 rows (the fits are 13 and 11 % below them). Its 1/2-inch
         # hardline (0.35) and foam RG-8 (0.85) rows are fitted (every-table test above).
         ("RG-213", "ft", [(27, 1.15)], 0.15),
         ("RG-59", "ft", [(27, 2.0)], 0.12),
