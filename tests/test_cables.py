@@ -959,6 +959,17 @@ def test_cli_one_type_in_detail(capsys):
     assert "* extrapolated" in out
 
 
+def test_cli_a_recalled_table_is_not_called_published(capsys):
+    # RG-214's only loss table is marked "from memory" in the library: the detail
+    # view must not present its points as published, nor a "published table" range.
+    assert main(["cables", "RG-214", "--at", "14"]) == 0
+    out = capsys.readouterr().out
+    assert "no published table: every frequency is extrapolated" in out
+    assert "recalled" in out and "MHz  published" not in out
+    assert main(["cables", "RG-213", "--at", "14"]) == 0
+    assert "MHz  published" in capsys.readouterr().out
+
+
 @pytest.mark.parametrize("bad", ["abc", "10,,20", "0.05", "7000", "nan"])
 def test_cli_bad_at(capsys, bad):
     assert main(["cables", "--at", bad]) == 2
