@@ -244,6 +244,7 @@ def format_design(d: Design) -> str:
     from notchkit.power import format_power
     from notchkit.report.filterrows import cut_table, requirement_table, verdict_text
     from notchkit.report.terminal import table_lines
+    from notchkit.report.text import TOLERANCE
     from notchkit.solver import describe
 
     s = d.solution
@@ -264,8 +265,9 @@ def format_design(d: Design) -> str:
         text = format_cut_list(d.cuts, lines=d.lines, hardware=d.hardware)
         lines += ["    " + x for x in text.splitlines()]
     lines += [f"  cannot be built: {problem}" for problem in d.build_problems]
-    if d.tolerance is not None:
-        lines += ["  " + x for x in format_tolerance(d.tolerance).splitlines()]
+    if d.tolerance is not None:  # the plan's section of that name (the verdict points to it)
+        lines.append(f"  {TOLERANCE}:")
+        lines += ["    " + x for x in format_tolerance(d.tolerance).splitlines()]
     if d.power is not None:
         lines += ["  " + x for x in format_power(d.power).splitlines()]
     if s.alternatives:
