@@ -501,8 +501,8 @@ class ConstantZ:
 
 
 def hardware_of(settings: Any) -> Hardware | None:
-    """:class:`Hardware` from a site's ``hardware:`` settings (None: no block)."""
-    if settings is None:
+    """:class:`Hardware` from a site's ``hardware:`` settings (None or ``family: ideal``: ideal junctions)."""
+    if settings is None or str(getattr(settings, "family", "")).lower() == "ideal":
         return None
     over = {k: getattr(settings, k) for k in ("z_pair_ohm", "plug_mm", "tee_through_mm", "tee_side_mm")}
     if over["z_pair_ohm"] is not None:

@@ -208,7 +208,7 @@ SECTIONS: dict[str, dict[str, Field]] = {
         ),
         "hardware": SectionField(section="hardware",
                           doc="Connectors, tees and the short of the filters (docs/hardware.md); "
-                          "default: ideal tees with the tee allowance."),
+                          "default (no block): UHF tees and plugs, the classic line."),
         "depth_ceiling_db": NumberField(num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
             doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
             "the survey asks no deeper notch of stubs (more is not a stub job); default: 60 dB.",
@@ -437,7 +437,9 @@ SECTIONS: dict[str, dict[str, Field]] = {
         ),
     },
     "hardware": {
-        "family": TextField(default="uhf", doc="Connector family: uhf, n or bnc."),
+        "family": TextField(default=m.DEFAULT_HARDWARE_FAMILY,
+                            doc="Connector family: uhf, n or bnc; ideal: ideal junctions with the "
+                            "tee allowance (the classic model, for comparison)."),
         "z_pair_ohm": NumberField(num=Num(lo=10.0, hi=150.0, unit="ohm"), default=None,
                             doc="Impedance of a mated connector pair and the tee body; "
                             "default: the family's."),
