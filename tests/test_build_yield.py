@@ -131,8 +131,8 @@ def independent_yield(d, samples: int, seed: int = 7, allowances: Allowances | N
             if i in trimmed:
                 # with hardware the plug (fixed) is inside the length; the trim sets the cable's part
                 plug = stub_plug_m(cable)
-                electrical = ((length - plug) * (1 + rng.uniform(-1, 1) * allowances.trim_freq_error_pct / 100)
-                              + rng.uniform(0, allowances.trim_step_mm * 1e-3))
+                err = rng.uniform(-1, 1) * allowances.trim_freq_error_pct / 100
+                electrical = (length - plug) * (1 + err) + rng.uniform(0, allowances.trim_step_mm * 1e-3)
                 built.append(plug + electrical * vf / vf0)  # the physical length with that electrical length
             else:
                 built.append(length + rng.uniform(-1, 1) * allowances.cut_tolerance_mm * 1e-3)
@@ -206,7 +206,7 @@ def test_the_quoted_cases_get_designs_at_least_as_robust(issue_cases):
     # in power, its UHF tee and plug and the short's inductance) by scikit-rf (tests/hw_bench.py),
     # and the chosen design must do at least as well.
     cable = ridge_f1.filter.cable
-    assert _skrf_builds(cable) and cable.hardware.family.name == "uhf"  # ridge-eoc: UHF hardware, classic line
+    assert _skrf_builds(cable) and cable.hardware.family.name == "uhf"  # ridge-eoc: UHF, classic line
     ceiling = getattr(cable, "depth_ceiling_db", None)
     floor2 = 0.0 if ceiling is None else 10 ** (-ceiling / 10)
     quoted = []

@@ -3,8 +3,8 @@
 The plan is written by the library's own :func:`notchkit.siteplan.plan` for the
 example site ``sites/ridge-eoc.yaml`` (it has shorted stubs many quarter
 waves long; UHF connection hardware), and for the tee-allowance route on a copy
-with ``hardware: {family: ideal}`` (the classic model). Each stub's trim command is taken from the plan's printed
-trimming steps, run through the command line's ``main`` on a measurement of
+with ``hardware: {family: ideal}`` (the classic model). Each stub's trim command
+is taken from the plan's printed trimming steps, run through the command line's ``main`` on a measurement of
 that stub synthesised with scikit-rf's own line model
 (``skrf.media.DefinedGammaZ0``, ``gamma = alpha + j 2 pi f / (c VF)``,
 ``alpha`` from the cable library's published loss figures, seeded noise 1e-3)
