@@ -290,6 +290,8 @@ class HardwareSettings:
     tee_side_mm: float | None = None
     short_nh: float | None = None
     barrels_per_port: int = 0
+    connector_peak_v: float | None = None
+    """Working voltage of the connectors, V peak; ``None``: the family's (notchkit.power)."""
     line_model: str = "classic"
     """``classic`` (lossless-VF line with the cable's loss) or ``rlgc`` (notchkit.rlgc)."""
 

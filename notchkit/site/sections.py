@@ -453,6 +453,9 @@ SECTIONS: dict[str, dict[str, Field]] = {
                           doc="Inductance of a stub's short, nH; default: 3 nH."),
         "barrels_per_port": NumberField(num=Num(lo=0, hi=4, integer=True), default=0,
                                   doc="Barrels at each filter port."),
+        "connector_peak_v": NumberField(num=Num(lo=10.0, hi=100_000.0, unit="V"), default=None,
+                                  doc="Working voltage of the connectors, tees and barrels, V peak (the "
+                                  "power check); default: the family's (uhf 500, n 1000, bnc 500)."),
         "line_model": TextField(default="classic",
                             doc="classic (lossless-VF line) or rlgc (internal inductance, complex Z0)."),
     },
