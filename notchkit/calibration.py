@@ -106,8 +106,9 @@ class SpoolCalibration:
 
         On the RLGC line ``beta ~ omega / (c VF_hf) + alpha_c(f)`` (docs/hardware.md), so the
         slowing term ``1 / VF_phase - 1 / VF_hf = c alpha_c / omega`` depends on the cable's
-        loss, not its VF: taken from the published cable at the sample's frequency,
-        ``1 / VF_hf = 1 / VF_measured - (1 / VF_rlgc(f) - 1 / VF_published)``. Samples without a
+        loss, hardly its VF: taken from the published cable at the sample's frequency,
+        ``1 / VF_hf = 1 / VF_measured - (1 / VF_rlgc(f) - 1 / VF_published)``, then refined until
+        the RLGC line with that VF has the measured phase velocity there. Samples without a
         frequency are taken as they are.
         """
         from notchkit.rlgc import phase_velocity_factor
@@ -121,7 +122,12 @@ class SpoolCalibration:
                 continue
             vp = float(np.asarray(phase_velocity_factor(cable, [s.freq_mhz * 1e6])).ravel()[0])
             slow = 1.0 / vp - 1.0 / float(cable.velocity_factor)
-            out.append(1.0 / (1.0 / s.velocity_factor - slow))
+            vf = 1.0 / (1.0 / s.velocity_factor - slow)
+            for _ in range(4):  # refine: the slowing term depends a little on the VF itself
+                trial = dataclasses.replace(cable, velocity_factor=vf)
+                got = float(np.asarray(phase_velocity_factor(trial, [s.freq_mhz * 1e6])).ravel()[0])
+                vf *= s.velocity_factor / got
+            out.append(vf)
         return statistics.fmean(out) if out else None
 
     @property
@@ -277,13 +283,14 @@ def calibrated_cable(cable: Any, cal: SpoolCalibration, line_model: str = "class
     so every output of a design made with it can say so.
     """
     changes: dict[str, Any] = {}
-    vf = cal.high_frequency_vf(cable) if line_model == "rlgc" else cal.velocity_factor
-    if vf is not None:
-        changes["velocity_factor"] = vf
     scale = cal.loss_scale
     if scale is not None:
         changes.update(k_sqrt=cable.k_sqrt * scale, k_lin=cable.k_lin * scale,
                        loss_table=tuple((f, db * scale) for f, db in cable.loss_table))
+    lossy = dataclasses.replace(cable, **changes)  # the slowing on the RLGC line follows the loss
+    vf = cal.high_frequency_vf(lossy) if line_model == "rlgc" else cal.velocity_factor
+    if vf is not None:
+        changes["velocity_factor"] = vf
     note = {**cal.note(), "published_velocity_factor": cable.velocity_factor, "line_model": line_model}
     if line_model == "rlgc" and vf is not None:
         note["velocity_factor"] = vf  # what the RLGC model is given (the high-frequency VF)
