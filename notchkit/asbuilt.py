@@ -102,7 +102,8 @@ def _designed_db(record: Any, lo: float, hi: float) -> float:
     from notchkit.diagnose import plan_hardware
     from notchkit.filters import Filter, Line, Stub, evaluate
 
-    cable = dataclasses.replace(get_cable(record.cable.type), velocity_factor=record.cable.velocity_factor)
+    cable: Any = dataclasses.replace(get_cable(record.cable.type),
+                                     velocity_factor=record.cable.velocity_factor)
     elements = tuple(Line(length_m=e.length_m) if e.kind == "line"
                      else Stub(termination=e.termination, length_m=e.length_m) for e in record.elements)
     f = np.linspace(lo, hi, BAND_POINTS) * 1e6

@@ -390,7 +390,7 @@ def _check_inputs(power_w: float, freq_mhz: float, z_system: float, power_is: st
 
 def _line_at(filt: Filter, f_hz: float, freq_mhz: float, filter_id: str) -> tuple[complex, float, float]:
     """``(gamma, Z0, wavelength)`` of the cable at the carrier; refuses a filter too lossy to model."""
-    cable = filt.cable
+    cable: Any = filt.cable
     alpha = float(np.asarray(cable.alpha_np_per_m(f_hz)))
     total_m = sum(max(float(e.length_m), MIN_MODEL_LENGTH_M) for e in filt.elements)
     if not (math.isfinite(total_m) and alpha * total_m <= MAX_MODEL_LOSS_NP):
@@ -440,7 +440,8 @@ def _walk_hardware(filt: Filter, g: complex, z0: float, f_hz: float, z_system: f
                    ids: tuple[str, ...]) -> _Walk:
     """The connection hardware model (notchkit.hardware.Model): barrels, tee arms, plugs and
     the short's inductance as in :meth:`Model.abcd`, each connector section's voltage kept."""
-    fam, hw = filt.cable.hardware.family, filt.cable.hardware
+    hw: Any = getattr(filt.cable, "hardware", None)
+    fam = hw.family
     mm, w2 = 1e-3, 2.0 * math.pi * f_hz
 
     def lossless(vf: float) -> complex:  # the hardware sections are lossless lines (docs/hardware.md)
