@@ -257,7 +257,7 @@ def power_lines(d: Design) -> tuple[str, ...]:
                    + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V" for c in pw.connectors) + ".")
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
-    out += [n[:1].upper() + n[1:] for n in pw.notes]
+    out += [n[:1].upper() + n[1:] + ("" if n.endswith(".") else ".") for n in pw.notes]
     return tuple(out)
 
 
@@ -330,8 +330,9 @@ def filter_text(d: Design, units: str = "both", plan_json: str = "PLAN.json") ->
     vf = getattr(cable, "velocity_factor", None)
     cable_label = f"All stubs and line sections: {design_cable_name(d)}" + (f", VF {vf:g}" if vf else "")
     tee_units = "imperial" if units == "imperial" else "metric"
-    cable_label += (f"; tee allowance {format_length(filt.tee_allowance_m, tee_units)} per stub "
-                    "(drawing not to scale)")
+    if filt.tee_allowance_m > 0:  # none with connection hardware: the tee's arms are modelled
+        cable_label += f"; tee allowance {format_length(filt.tee_allowance_m, tee_units)} per stub"
+    cable_label += " (drawing not to scale)"
     if getattr(cable, "balanced", False):
         cable_label += ("; balanced line: each stub joins its tee through a 1:1 current balun, "
                         "its far end strapped (short) or insulated (open)")
