@@ -41,6 +41,8 @@ from notchkit.lines import C0
 
 _CHUNK_POINTS = 1 << 14
 """Candidate-chunk size in points (as :mod:`notchkit.filters`): scratch stays in cache."""
+_DISTINCT_POINTS = 1024
+"""Smallest chunk (candidates x frequencies) worth looking for shared stub lengths."""
 _CACHE_MAX = 32
 """Grids (and models) whose frequency-only parts are kept, least recently used dropped first."""
 _PARTS: dict[tuple, tuple[Any, _Parts]] = {}
@@ -281,12 +283,12 @@ class _Program:
 class _Work:
     """Scratch for one chunk of candidates, allocated once per call: every step writes into these."""
 
-    __slots__ = ("v", "i", "c1", "c2", "c3", "c4", "r1", "r2", "r3", "col")
+    __slots__ = ("v", "i", "c1", "c2", "c3", "c4", "c5", "r1", "r2", "r3", "col")
 
     def __init__(self, rows: int, n_f: int) -> None:
         shape = (rows, n_f)
-        self.v, self.i, self.c1, self.c2, self.c3, self.c4 = (np.empty(shape, dtype=complex)
-                                                              for _ in range(6))
+        self.v, self.i, self.c1, self.c2, self.c3, self.c4, self.c5 = (np.empty(shape, dtype=complex)
+                                                                       for _ in range(7))
         self.r1, self.r2, self.r3 = (np.empty(shape) for _ in range(3))
         self.col = np.empty((rows, 1))
 
@@ -376,6 +378,34 @@ def _pair(a: Any, v: Any, b: Any, i: Any, out: NDArray, tmp: NDArray) -> NDArray
 
 
 def _stub_y(line: _Line, x: NDArray, coef: Abcd, w: _Work) -> NDArray[np.complex128]:
+    """A stub's admittance at its junction for cable lengths ``x`` (column), each distinct length once.
+
+    The solver's candidates share most of their lengths (a pattern search moves
+    one element at a time, a scan moves one and keeps the rest): where at most
+    half a large chunk's lengths are distinct, the admittance is computed for
+    those and copied to every row that has it (one row broadcast where all are
+    equal); the same arithmetic on the same numbers, so the same result.
+    """
+    rows = x.shape[0]
+    if rows >= 4 and rows * w.c3.shape[1] >= _DISTINCT_POINTS:
+        col = x[:, 0]
+        order = np.argsort(col, kind="stable")
+        ranked = col[order]
+        new = np.empty(rows, dtype=bool)
+        new[0] = True
+        np.not_equal(ranked[1:], ranked[:-1], out=new[1:])
+        n_distinct = int(np.count_nonzero(new))
+        if 2 * n_distinct <= rows:
+            y = _stub_y_rows(line, ranked[new][:, None], coef, w.rows(n_distinct))
+            if n_distinct == 1:
+                return y  # one row, broadcast
+            where = np.empty(rows, dtype=np.intp)
+            where[order] = np.cumsum(new) - 1  # each row's index among the distinct lengths
+            return np.take(y, where, axis=0, out=w.c5)
+    return _stub_y_rows(line, x, coef, w)
+
+
+def _stub_y_rows(line: _Line, x: NDArray, coef: Abcd, w: _Work) -> NDArray[np.complex128]:
     """A stub's admittance at its junction for cable lengths ``x`` (column), into ``w.c3``.
 
     ``Y = (al t + be) / (ga t + de)`` with ``t = tanh(gamma x) = u / v``: on the
