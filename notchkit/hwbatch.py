@@ -37,6 +37,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
+from notchkit.errors import DesignError
 from notchkit.lines import C0
 
 _CHUNK_POINTS = 1 << 14
@@ -46,6 +47,7 @@ _DISTINCT_POINTS = 1024
 _CACHE_MAX = 32
 """Grids (and models) whose frequency-only parts are kept, least recently used dropped first."""
 _PARTS: dict[tuple, tuple[Any, _Parts]] = {}
+_PREPARED: dict[tuple, tuple[Any, Prepared]] = {}
 _LINES: dict[tuple, tuple[Any, _Line]] = {}
 _FRAMES: dict[tuple, tuple[Any, _Frame]] = {}
 
@@ -137,18 +139,24 @@ def _frozen(obj: Any) -> bool:
 
 
 def prepared(model: Any, f: NDArray[np.float64], z_system: float) -> Prepared:
-    """The :class:`Prepared` grid of ``model``.
+    """The :class:`Prepared` grid of ``model`` (``f`` is checked the first time).
 
-    Its two halves are kept for the next call when the model is made of frozen
-    parts on a library cable: the solver evaluates thousands of batches on a few
-    grids, and a build-yield run evaluates one batch on each of many velocity
-    factors (the line changes; on the classic line, with its constant Z0, the
-    frame does not).
+    The model's own grids are kept when it is made of frozen parts on a library
+    cable (the solver evaluates thousands of batches on a few grids), and so are
+    the two halves apart: a build-yield run evaluates one batch on each of many
+    velocity factors, where the line changes and (on the classic line, with its
+    constant Z0) the frame does not.
     """
+    key = (id(model), f.tobytes(), float(z_system))
+    hit = _PREPARED.get(key)
+    if hit is not None and hit[0][0] is model:
+        return hit[1]
+    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f <= 0):
+        raise DesignError("frequencies must be finite and > 0 Hz")
     from notchkit.cables import Cable
     from notchkit.hwmodel import _OtherVf
 
-    cable, f_key = model.cable, f.tobytes()
+    cable, f_key = model.cable, key[1]
     base = cable.base if type(cable) is _OtherVf else cable
     if type(base) is not Cable or not (_frozen(model.load) and _frozen(model.source)):
         line = _Line(model, f)
@@ -157,9 +165,12 @@ def prepared(model: Any, f: NDArray[np.float64], z_system: float) -> Prepared:
     line = _lru(_LINES, (id(base), vf, model.rlgc, f_key), (base,), lambda: _Line(model, f))
     z_key = (id(base), vf) if model.rlgc else complex(base.z0_ohm)
     owners = (model.hardware, model.load, model.source, base)
-    key = (id(model.hardware), id(model.load), id(model.source), z_key, f_key, float(z_system))
-    frame = _lru(_FRAMES, key, owners, lambda: _Frame(model, line, f, z_system))
-    return Prepared(line, frame)
+    frame_key = (id(model.hardware), id(model.load), id(model.source), z_key, f_key, float(z_system))
+    frame = _lru(_FRAMES, frame_key, owners, lambda: _Frame(model, line, f, z_system))
+    pre = Prepared(line, frame)
+    if type(cable) is Cable:  # a tolerance run's variants are used once: not kept whole
+        _lru(_PREPARED, key, (model,), lambda: pre)
+    return pre
 
 
 class _Line:

@@ -247,11 +247,9 @@ class Model:
             return s21, s11
         lengths = np.atleast_2d(np.asarray(lengths_m, dtype=float))
         f = np.asarray(freq_hz, dtype=float).ravel()
-        if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f <= 0):
-            raise DesignError("frequencies must be finite and > 0 Hz")
+        pre = prepared(self, f, z_system)  # checks f
         if lengths.shape[1] != len(kinds):
             raise DesignError(f"lengths have {lengths.shape[1]} columns for {len(kinds)} elements")
-        pre = prepared(self, f, z_system)
         return evaluate_prepared(pre, tuple(kind_of(k) for k in kinds), lengths, self.depth_ceiling_db)
 
     def with_(self, **changes: Any) -> Model:
