@@ -79,14 +79,14 @@ def chain(*mats: Abcd | None) -> Abcd | None:
     return out
 
 
-def _lru(cache: dict, key: Any, owner: tuple, make: Any) -> Any:
+def _lru(cache: dict, key: Any, owner: tuple, make: Any, size: int = _CACHE_MAX) -> Any:
     """``cache[key]``'s value if it was made for ``owner`` (the same objects), else ``make()`` kept."""
     hit = cache.pop(key, None)
     if hit is not None and all(a is b for a, b in zip(hit[0], owner, strict=True)):
         cache[key] = hit  # most recently used last
         return hit[1]
     value = make()
-    if len(cache) >= _CACHE_MAX:
+    if len(cache) >= size:
         cache.pop(next(iter(cache)))
     cache[key] = (owner, value)  # holding the owner keeps its id from being reused
     return value
@@ -162,7 +162,8 @@ def prepared(model: Any, f: NDArray[np.float64], z_system: float) -> Prepared:
         line = _Line(model, f)
         return Prepared(line, _Frame(model, line, f, z_system))
     vf = float(cable.velocity_factor)
-    line = _lru(_LINES, (id(base), vf, model.rlgc, f_key), (base,), lambda: _Line(model, f))
+    line = _lru(_LINES, (id(base), vf, model.rlgc, f_key), (base,), lambda: _Line(model, f),
+                size=4 * _CACHE_MAX)  # a build-yield run's velocity factors, on each of its grids
     z_key = (id(base), vf) if model.rlgc else complex(base.z0_ohm)
     owners = (model.hardware, model.load, model.source, base)
     frame_key = (id(model.hardware), id(model.load), id(model.source), z_key, f_key, float(z_system))
@@ -241,7 +242,7 @@ class _Program:
     """One topology on one prepared grid: the candidate elements from the antenna end, each with
     the fixed block to its right folded into its coefficients, and the two end sums."""
 
-    __slots__ = ("v0", "i0", "steps", "den", "num", "den11")
+    __slots__ = ("v0", "i0", "steps", "den", "num", "den11", "waves0")
 
     def __init__(self, kinds: tuple, pre: _Frame) -> None:
         parts = pre.parts
@@ -277,6 +278,12 @@ class _Program:
         z = pre.z_system
         self.num = (f0[0] - z * f0[2], f0[1] - z * f0[3])
         self.den11 = None if pre.zs_is_system else (f0[0] + z * f0[2], f0[1] + z * f0[3])
+        # A line at the antenna end meets (V, I) over f only: its two waves are too.
+        first = self.steps[0]
+        self.waves0 = None
+        if not first[1]:
+            pa, pb, qa, qb = first[4]
+            self.waves0 = (pa * self.v0 + pb * self.i0, qa * self.v0 + qb * self.i0)
 
     @staticmethod
     def _step(j: int, kind: Any, right: Abcd | None, pre: _Frame) -> tuple:
@@ -354,14 +361,18 @@ def _chunk(line: _Line, frame: _Frame, prog: _Program, lengths, w: _Work, s21, s
             np.multiply(y, w.v, out=w.c2)  # I' += Y V'
             w.i += w.c2
         else:
-            pa, pb, qa, qb = coef
             p, q, e = w.c1, w.c2, w.c3
-            _pair(pa, v, pb, i, p, e)
-            _pair(qa, v, qb, i, q, e)
             np.multiply(x, line.g, out=e)
             np.exp(e, out=e)  # e^{gl}
-            p *= e
-            q /= e
+            if v is prog.v0:  # the waves over f only
+                np.multiply(e, prog.waves0[0], out=p)
+                np.divide(prog.waves0[1], e, out=q)
+            else:
+                pa, pb, qa, qb = coef
+                _pair(pa, v, pb, i, p, q)
+                p *= e
+                _pair(qa, v, qb, i, q, w.c4)
+                q /= e
             np.add(p, q, out=w.v)
             np.subtract(p, q, out=w.i)
             w.i *= line.yc
