@@ -243,6 +243,13 @@ class _Program:
     the fixed block to its right folded into its coefficients, and the two end sums."""
 
     __slots__ = ("v0", "i0", "steps", "den", "num", "den11", "waves0")
+    v0: Any
+    i0: Any
+    steps: list[tuple[Any, ...]]
+    den: tuple[Any, Any]
+    num: tuple[Any, Any]
+    den11: tuple[Any, Any] | None
+    waves0: tuple[Any, Any] | None
 
     def __init__(self, kinds: tuple, pre: _Frame) -> None:
         parts = pre.parts
@@ -279,10 +286,10 @@ class _Program:
         self.num = (f0[0] - z * f0[2], f0[1] - z * f0[3])
         self.den11 = None if pre.zs_is_system else (f0[0] + z * f0[2], f0[1] + z * f0[3])
         # A line at the antenna end meets (V, I) over f only: its two waves are too.
-        first = self.steps[0]
+        end_step = self.steps[0]
         self.waves0 = None
-        if not first[1]:
-            pa, pb, qa, qb = first[4]
+        if not end_step[1]:
+            pa, pb, qa, qb = end_step[4]
             self.waves0 = (pa * self.v0 + pb * self.i0, qa * self.v0 + qb * self.i0)
 
     @staticmethod
@@ -325,8 +332,10 @@ def evaluate(pre: Prepared, kinds: tuple, lengths: NDArray[np.float64], ceiling_
     n_rows, n_f = lengths.shape[0], pre.frame.f.size
     s21 = np.empty((n_rows, n_f), dtype=complex)
     s11 = np.empty_like(s21)
+    if not n_rows:
+        return s21, s11
     step = max(1, _CHUNK_POINTS // n_f)
-    work = _Work(min(step, n_rows), n_f) if n_rows else None
+    work = _Work(min(step, n_rows), n_f)
     floor2 = None if ceiling_db is None else 10.0 ** (-float(ceiling_db) / 10.0)
     for lo in range(0, n_rows, step):
         hi = min(n_rows, lo + step)
@@ -364,7 +373,7 @@ def _chunk(line: _Line, frame: _Frame, prog: _Program, lengths, w: _Work, s21, s
             p, q, e = w.c1, w.c2, w.c3
             np.multiply(x, line.g, out=e)
             np.exp(e, out=e)  # e^{gl}
-            if v is prog.v0:  # the waves over f only
+            if v is prog.v0 and prog.waves0 is not None:  # the waves over f only
                 np.multiply(e, prog.waves0[0], out=p)
                 np.divide(prog.waves0[1], e, out=q)
             else:
