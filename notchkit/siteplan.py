@@ -207,13 +207,54 @@ def plan(
         A site file with problems.
     """
     import notchkit
+    from notchkit.fileio import write_all
     from notchkit.report.pdf import page_size_in, render_pdf
-    from notchkit.report.text import design_id, plan_text
+    from notchkit.report.text import plan_text
 
     if units not in UNITS:
         raise UsageError(f"units {units!r} must be one of {', '.join(UNITS)}")
     page_size_in(page_size)
     say = progress or (lambda _m: None)
+    site, site_path = _loaded(site, out_pdf, html, outdir, calibration)
+    date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
+    version = notchkit.__version__
+    json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
+    json_name = str(json_path) if json_path is not None else "OUTDIR/plan.json"
+    footer = f"{site.name} - notch plan {date} - notchkit {version}"
+    report = _run_design(site, progress=progress)  # finished designs: the PDF is drawn from them below
+    sv = _survey_of(report, site)
+    designs = _designs(report)
+    stems = [_stem_of(d) for d in designs]
+    _check_outputs(out_pdf, html, outdir, site_path, stems)
+    say("writing the PDF")
+    pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
+                   plan_json=json_name)
+    parts = [_part(d, site) for d in designs]
+    pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer)
+    made: list[tuple[bytes, bytes, str | None]] = []
+    if html is not None or outdir is not None:
+        say("drawing the images")
+        made = _images(site, designs, pt, parts, outdir=outdir, version=version)
+    doc = plan_json(site, sv, report, date=date, version=version, units=units)
+    # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
+    writes = _writes(out_pdf, pdf_bytes, html=html, pt=pt, made=made, footer=footer)
+    n_before = len(writes)
+    if outdir is not None:
+        writes += _outdir_writes(Path(outdir), stems, parts, made, json_path, doc)
+    written = write_all(writes, make_dir=outdir)
+    pdf_path = written[0]
+    html_path = written[1] if html is not None else None
+    files = written[n_before:]
+
+    return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
+                      pages=layout.total, layout=layout, html=html_path,
+                      outdir=Path(outdir) if outdir is not None else None, files=tuple(files),
+                      plan_json=doc)
+
+
+def _loaded(site: Any, out_pdf: Any, html: Any, outdir: Any, calibration: Any) -> tuple[Any, str]:
+    """The site (loaded if a path, with the calibration applied) and its file's path; the
+    outputs are checked before the site file is read."""
     if isinstance(site, str | os.PathLike):
         site_path = str(site)
         _check_outputs(out_pdf, html, outdir, site_path)
@@ -228,73 +269,61 @@ def plan(
         from notchkit.calibration import apply
 
         site = apply(site, calibration)
-    date = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d")
-    version = notchkit.__version__
-    json_path = Path(outdir) / PLAN_JSON if outdir is not None else None
-    json_name = str(json_path) if json_path is not None else "OUTDIR/plan.json"
-    footer = f"{site.name} - notch plan {date} - notchkit {version}"
-    report = _run_design(site, progress=progress)  # finished designs: the PDF is drawn from them below
+    return site, site_path
+
+
+def _survey_of(report: Any, site: Any) -> Any:
+    """The design report's survey (surveyed here if the report carries none)."""
     sv = getattr(report, "survey", None)
     if sv is None:
         from notchkit.threats import survey
 
         sv = survey(site)
-    designs = _designs(report)
-    stems = [_stem_of(d) for d in designs]
-    _check_outputs(out_pdf, html, outdir, site_path, stems)
-    say("writing the PDF")
-    pt = plan_text(site=site, sv=sv, designs=designs, date=date, version=version, units=units,
-                   plan_json=json_name)
-    parts = [_part(d, site) for d in designs]
-    pdf_bytes, layout = render_pdf(pt, parts, page_size=page_size, footer=footer)
+    return sv
 
-    made: list[tuple[bytes, bytes, str | None]] = []
-    if html is not None or outdir is not None:
-        from notchkit.synthesis import touchstone_sweep_hz
 
-        say("drawing the images")
+def _images(site: Any, designs: list[Any], pt: Any, parts: list[Any], *, outdir: Any,
+            version: str) -> list[tuple[bytes, bytes, str | None]]:
+    """Each filter's drawing and curve PNGs and, for ``outdir``, its Touchstone text."""
+    from notchkit.report.text import design_id
+    from notchkit.synthesis import touchstone_sweep_hz
 
-        jobs = []
-        for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
-            touchstone = None
-            if outdir is not None:
-                z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
-                touchstone = (touchstone_sweep_hz(d.requirement), z_system,
-                              f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
-                              _stem_of(d))
-            jobs.append((filt, curve, spans, ft, touchstone))
-        # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
-        made = [_filter_files(job) for job in jobs]
-    pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
+    jobs = []
+    for d, ft, (filt, curve, spans) in zip(designs, pt.filters, parts, strict=True):
+        touchstone = None
+        if outdir is not None:
+            z_system = getattr(getattr(d, "solution", None), "z_system", 50.0)
+            touchstone = (touchstone_sweep_hz(d.requirement), z_system,
+                          f"notchkit plan {design_id(d)}: {site.name}, notchkit {version}",
+                          _stem_of(d))
+        jobs.append((filt, curve, spans, ft, touchstone))
+    # In this process: worker processes gave no wall-time gain (benchmarks/plan.py).
+    return [_filter_files(job) for job in jobs]
 
-    # Everything is in memory now: write it all, or nothing (notchkit.fileio.write_all).
+
+def _writes(out_pdf: Any, pdf_bytes: bytes, *, html: Any, pt: Any,
+            made: list[tuple[bytes, bytes, str | None]], footer: str) -> list[tuple[Any, bytes, str]]:
+    """The PDF and, if asked for, the HTML page: (path, bytes, what) for ``write_all``."""
     writes: list[tuple[Any, bytes, str]] = [(out_pdf, pdf_bytes, "PDF")]
     if html is not None:
         from notchkit.report.html import render_html
 
+        pngs = [(draw_png, curve_png) for draw_png, curve_png, _s2p in made]
         writes.append((html, render_html(pt, pngs, footer=footer).encode("utf-8"), "HTML"))
-    doc = plan_json(site, sv, report, date=date, version=version, units=units)
-    n_before = len(writes)
-    if outdir is not None:
-        from notchkit.report.curves import curve_csv_text
+    return writes
 
-        folder = Path(outdir)
-        for stem, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
-            writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
-                       (folder / f"{stem}.csv", curve_csv_text(curve).encode("utf-8"), "--outdir CSV"),
-                       (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
-        from notchkit.jsonvalues import dumps
 
-        writes.append((json_path, (dumps(doc, indent=2) + "\n").encode("utf-8"),
-                       "plan JSON"))
-    from notchkit.fileio import write_all
+def _outdir_writes(folder: Path, stems: list[str], parts: list[Any],
+                   made: list[tuple[bytes, bytes, str | None]], json_path: Any,
+                   doc: dict[str, Any]) -> list[tuple[Any, bytes, str]]:
+    """Each filter's curve (PNG, CSV) and Touchstone file in ``folder``, then the plan JSON."""
+    from notchkit.jsonvalues import dumps
+    from notchkit.report.curves import curve_csv_text
 
-    written = write_all(writes, make_dir=outdir)
-    pdf_path = written[0]
-    html_path = written[1] if html is not None else None
-    files = written[n_before:]
-
-    return PlanResult(site_name=site.name, date=date, survey=sv, design=report, text=pt, pdf=pdf_path,
-                      pages=layout.total, layout=layout, html=html_path,
-                      outdir=Path(outdir) if outdir is not None else None, files=tuple(files),
-                      plan_json=doc)
+    writes: list[tuple[Any, bytes, str]] = []
+    for stem, (_filt, curve, _sp), (_draw, curve_png, s2p) in zip(stems, parts, made, strict=True):
+        writes += [(folder / f"{stem}.png", curve_png, "--outdir curve"),
+                   (folder / f"{stem}.csv", curve_csv_text(curve).encode("utf-8"), "--outdir CSV"),
+                   (folder / f"{stem}.s2p", (s2p or "").encode("utf-8"), "Touchstone file")]
+    writes.append((json_path, (dumps(doc, indent=2) + "\n").encode("utf-8"), "plan JSON"))
+    return writes

@@ -106,7 +106,7 @@ def test_every_figure_names_a_source_and_every_source_key_is_defined():
 # 20 % above the model fitted to the five other tables).
 TABLE_TOLERANCE_PCT = {
     "RG-58": 13, "RG-213": 20, "RG-8-foam": 5, "RG-8X": 15, "RG-174": 19, "RG-223": 5,
-    "RG-142": 9, "RG-178": 5, "RG-316": 17, "RG-303": 5, "RG-393": 4, "foam-240": 5,
+    "RG-142": 9, "RG-178": 5, "RG-316": 17, "RG-400": 3, "RG-303": 5, "RG-393": 4, "foam-240": 5,
     "foam-400": 10, "foam-600": 8, "hardline-1/2": 5, "hardline-7/8": 8, "RG-59": 10, "RG-6": 18, "RG-11": 3,
     "twin-lead-300": 5, "window-line-450": 5, "open-wire-600": 5,
 }
@@ -128,25 +128,118 @@ def test_model_against_every_published_table(cable, source):
     assert errors[source.source] <= tol
 
 
-def test_hf_points_clear_the_extrapolation_flag_for_rg58_and_rg213():
-    # W4RP table (via Kibabalu/free42): published 1 MHz figures, RG-58 1.3123 and RG-213
-    # 0.65617 dB/100 m, so the 160-40 m bands are no longer extrapolated for these two.
-    for name, db_100m_1mhz, rel in (("RG-58", 1.3123, 0.05), ("RG-213", 0.65617, 0.10)):
-        c = get_cable(name)
-        assert c.table_range_mhz[0] == 1.0
-        assert not c.extrapolated([1.8, 3.5, 7.0]).any()
-        assert float(c.loss_db_per_100m(1.0)) == pytest.approx(db_100m_1mhz, rel=rel)
+@pytest.mark.parametrize(
+    "name, db_per_100ft_1mhz, rel",
+    [
+        # W4RP table (via Kibabalu/free42): RG-58 1.3123 and RG-213 0.65617 dB/100 m at 1 MHz.
+        ("RG-58", 1.3123 * FT, 0.05),
+        ("RG-213", 0.65617 * FT, 0.10),
+        # Makers' catalogue tables as transcribed in stevefalco/tline (2019), dB/100 ft at
+        # 1 MHz: Belden 9258 RG-8X 0.3,
+        # Belden 8216 RG-174/U 1.9, DX Engineering RG-400 0.4.
+        ("RG-8X", 0.3, 0.05),
+        ("RG-174", 1.9, 0.15),
+        ("RG-400", 0.4, 0.05),
+    ],
+)
+def test_hf_points_clear_the_extrapolation_flag(name, db_per_100ft_1mhz, rel):
+    # published figures from 1 MHz: the 160-40 m bands are no longer extrapolated
+    c = get_cable(name)
+    assert c.table_range_mhz[0] == 1.0
+    assert not c.extrapolated([1.8, 3.5, 7.0]).any()
+    assert float(c.loss_db_per_100ft(1.0)) == pytest.approx(db_per_100ft_1mhz, rel=rel)
 
 
 def test_the_types_without_a_published_table_say_so():
-    # RG-214 and RG-400: no published loss table was found; the library says the loss is
-    # from memory and flags every frequency.
-    for name in ("RG-214", "RG-400"):
-        c = get_cable(name)
-        assert not _published(c)
-        assert MEMORY in c.sources or any("from memory" in s for s in c.sources)
-        assert c.table_range_mhz is None
-        assert c.extrapolated([1.8, 146.0]).all()
+    # RG-214: no published loss table was found; the library says the loss is from
+    # memory and flags every frequency.
+    c = get_cable("RG-214")
+    assert not _published(c)
+    assert MEMORY in c.sources or any("from memory" in s for s in c.sources)
+    assert c.table_range_mhz is None
+    assert c.extrapolated([1.8, 146.0]).all()
+    # RG-400 has one maker's table now (tline, 2019): 1-450 MHz, nothing from memory
+    r = get_cable("RG-400")
+    assert r.table_range_mhz == (1.0, 450.0) and "loss" not in r.from_memory
+
+
+def test_rg400_table_five_mhz_figure_is_the_outlier():
+    # DX Engineering RG-400 as transcribed in tline (2019), dB/100 ft: 1 MHz 0.4, 5 MHz 1.9,
+    # 30 MHz 2.2. The square-root law through its own 1 and 30 MHz figures gives
+    # 0.4 sqrt(5) = 0.89 and 2.2 sqrt(5/30) = 0.90 at 5 MHz (hand arithmetic), not 1.9: the
+    # 5 MHz figure is kept compared-only (cables.yaml). The fit follows the rest within 10 %.
+    c = get_cable("RG-400")
+    assert float(c.loss_db_per_100ft(5.0)) == pytest.approx(0.9, rel=0.10)
+    assert float(c.loss_db_per_100ft(5.0)) < 1.9 / 2
+
+
+@pytest.mark.parametrize(
+    "name, ceiling_db_per_100ft",
+    [
+        # Garmin GTX 327 Installation Manual, Table 2-1: at most 1.5 dB of cable at 1090 MHz,
+        # maximum lengths 8.8 ft of M17/128 (RG-400) and 17.0 ft of M17/127 (RG-393):
+        # 1.5 / 8.8 ft = 17.05 and 1.5 / 17.0 ft = 8.82 dB/100 ft.
+        ("RG-400", 1.5 / 8.8 * 100),
+        ("RG-393", 1.5 / 17.0 * 100),
+    ],
+)
+def test_ptfe_cables_against_an_installation_manual_ceiling(name, ceiling_db_per_100ft):
+    # The manual's lengths are a ceiling (the attenuation may not exceed 1.5 dB), so the
+    # model must lie below it; stated tolerance: no more than 20 % below (a typical figure
+    # sits under a specification's maximum, not far under it). RG-400's model rests on
+    # figures from memory; this is its only published check. RG-393's rests on the Codan
+    # table (50-850 MHz); 1090 MHz lies just outside it.
+    c = get_cable(name)
+    table = [s for s in c.loss_sources if "Garmin" in s.source]
+    assert not table  # compared, not fitted (cables.yaml: compare_only)
+    model = float(c.loss_db_per_100ft(1090.0))
+    assert 0.80 * ceiling_db_per_100ft <= model <= ceiling_db_per_100ft, (name, model)
+    assert c.extrapolated([1090.0]).all()
+
+
+@pytest.mark.parametrize(
+    "name, k1, k2, rel",
+    [
+        # stevefalco/tline cableTypes.cpp (commit b37cf64): makers' loss coefficients,
+        # matched loss dB/100 ft = k0 + k1 sqrt(f) + k2 f (f in MHz). At 450 and 1000 MHz the
+        # d.c. term k0 (added in quadrature by that program) is negligible, so the check
+        # value is k1 sqrt(f) + k2 f. A second maker for each type; stated tolerance per row.
+        ("RG-214", 0.163915, 0.002752, 0.10),   # Belden 8268 (RG-214/U); the model is from memory
+        ("RG-142", 0.353181, 0.001996, 0.10),   # Belden 83242 (RG-142B/U); Satec fitted
+        ("RG-178", 1.448062, 0.0, 0.05),        # Belden 83265 (RG-178B/U); Satec fitted
+        ("RG-316", 0.800401, 0.003536, 0.12),   # Belden 84316 (RG-316/U); Satec fitted
+        ("RG-400", 0.402633, 0.001282, 0.05),   # DX Engineering RG-400 (its table: fitted)
+        ("foam-600", 0.072828, 0.000353, 0.15),  # a maker's 600-size foam row; SCC fitted
+        ("hardline-1/2", 0.064142, 0.000193, 0.05),  # a maker's 1/2-inch row; Codan fitted
+        ("hardline-7/8", 0.034825, 0.000153, 0.05),  # a maker's 7/8-inch row
+        ("foam-240", 0.239481, 0.000447, 0.05),  # a maker's 240-size foam row
+        ("foam-400", 0.124805, 0.000187, 0.08),  # a maker's 400-size foam row
+    ],
+)
+def test_uhf_loss_against_a_list_of_makers_coefficients(name, k1, k2, rel):
+    c = get_cable(name)
+    for f in (450.0, 1000.0):
+        published = k1 * math.sqrt(f) + k2 * f
+        assert float(c.loss_db_per_100ft(f)) == pytest.approx(published, rel=rel), (name, f)
+
+
+@pytest.mark.parametrize(
+    "name, volts",
+    [
+        ("RG-58", 1400), ("RG-213", 3700),  # MIL-C-17G engineering working voltage (J. Lux)
+        # stevefalco/tline cableTypes.cpp (commit b37cf64), maximum voltage per maker row;
+        # where makers differ the library keeps the lowest (named in cables.yaml)
+        ("RG-8X", 300), ("RG-174", 1100), ("RG-59", 1700), ("RG-142", 1400), ("RG-178", 750),
+        ("RG-316", 900), ("RG-303", 1400), ("RG-214", 3700), ("RG-400", 1900), ("RG-11", 300),
+        ("RG-6", 300), ("RG-8-foam", 600), ("foam-240", 1500), ("foam-400", 2500),
+        ("foam-600", 4000), ("hardline-1/2", 4000), ("hardline-7/8", 6000),
+        ("open-wire-600", 12000),
+    ],
+)
+def test_published_voltage_ratings(name, volts):
+    c = get_cable(name)
+    assert c.max_voltage_v == volts
+    assert "max_voltage_v" not in c.from_memory
 
 
 def test_rg213_against_codan_appendix_h():
@@ -239,6 +332,25 @@ def test_rg58_against_codan_appendix_h():
                          (400, 15.748)], 0.13),
         # W8JI on TowerTalk: a maker's 300-ohm twin-lead, 22 AWG, 1.4 dB/100 ft at 100 MHz.
         ("twin-lead-300", "ft", [(100, 1.4)], 0.10),
+        # Makers' catalogue tables as transcribed in stevefalco/tline (2019), dB/100 ft,
+        # compared only: Belden 8259 RG-58A/U (the model is 10-13 % below it from 10 MHz up);
+        # DX Engineering RG-8X (the lowest of the five RG-8X sources: the model is up to
+        # 25 % above it); DX Engineering RG-11/U from 5 MHz (its 1 MHz figure, 0.2, is
+        # given to one digit and the model is 37 % below it: left out here, docs/cables.md).
+        ("RG-58", "ft", [(1, 0.4), (10, 1.5), (50, 3.7), (100, 5.4), (200, 8.1), (400, 12.4),
+                         (700, 17.7), (900, 21.1), (1000, 22.8)], 0.13),
+        # Belden 8237 RG-8/U (the RG-213 construction) and DX Engineering RG-213/U, compared
+        # only (fitted, they would pull the model 14 % below W4RP's 50 MHz figure).
+        ("RG-213", "ft", [(1, 0.2), (10, 0.6), (50, 1.3), (100, 1.9), (200, 2.8), (400, 4.2),
+                          (700, 5.9), (900, 6.9), (1000, 7.4)], 0.12),
+        ("RG-213", "ft", [(5, 0.4), (10, 0.6), (30, 1.0), (50, 1.3), (150, 2.4)], 0.09),
+        # "Coax basics" page (iw5edi.com / ok1uhu), dB/100 ft on 27 MHz, compared only: its
+        # RG-8 (VF .66) 1.15 and RG-59 2.0 rows (the fits are 13 and 11 % below them). Its 1/2-inch
+        # hardline (0.35) and foam RG-8 (0.85) rows are fitted (every-table test above).
+        ("RG-213", "ft", [(27, 1.15)], 0.15),
+        ("RG-59", "ft", [(27, 2.0)], 0.12),
+        ("RG-8X", "ft", [(5, 0.6), (10, 0.9), (30, 1.4), (50, 2.0), (150, 3.8)], 0.25),
+        ("RG-11", "ft", [(5, 0.3), (10, 0.4), (30, 0.7), (50, 1.0), (150, 1.8), (450, 3.3)], 0.15),
     ],
 )
 def test_cross_check_against_published_tables(name, unit, points, rel):
@@ -445,6 +557,34 @@ def test_two_wire_lines_against_n7ws_measurements(wire_mm, spacing_mm, vf, ccs_u
     assert float(c.loss_db_per_100m(50.0)) / 100 == pytest.approx(measured_db_per_m, rel=rel)
 
 
+def test_two_wire_line_against_a_published_hf_calculation():
+    # O. Duffy, "Estimating parameters of two wire transmission lines" (owenduffy.net):
+    # 2 mm copper wires at 50 mm centres, Z0 469.40 ohm with VF 1 (120 acosh(D/d)) and
+    # 453.78 ohm with the spacers' measured VF; matched loss 0.156 dB/100 m at 3.7 MHz.
+    # Stated tolerance: Z0 to 0.1 ohm, loss within 5 % (Duffy includes the spacers'
+    # dielectric loss, the model here only the conductor's: PE-like spacers add < 1 %).
+    bare = Cable.from_geometry(name="duffy", conductor_diameter_mm=2.0, spacing_mm=50.0,
+                               velocity_factor=1.0)
+    assert bare.z0_ohm == pytest.approx(469.40, abs=0.1)
+    vf = 453.78 / bare.z0_ohm
+    c = Cable.from_geometry(name="duffy", conductor_diameter_mm=2.0, spacing_mm=50.0,
+                            velocity_factor=vf)
+    assert c.z0_ohm == pytest.approx(453.78, abs=0.1)
+    assert float(c.loss_db_per_100m(3.7)) == pytest.approx(0.156, rel=0.05)
+
+
+def test_open_wire_preset_spacing_is_published():
+    # O. Duffy ("... does it matter #2", 2015): "nominal 600 ohm 2mm copper conductors
+    # spaced 150mm"; the preset uses that spacing with 12 AWG (2.053 mm, ASTM B258) wire.
+    c = get_cable("open-wire-600")
+    assert c.spacing_mm == 150.0 and c.conductor_diameter_mm == pytest.approx(2.053)
+    assert "spacing_mm" not in c.from_memory
+    # the same spacing with Duffy's 2 mm wire in air: 120 acosh(75) = 601 ohm, "nominal 600"
+    duffy = Cable.from_geometry(name="duffy600", conductor_diameter_mm=2.0, spacing_mm=150.0,
+                                velocity_factor=1.0)
+    assert duffy.z0_ohm == pytest.approx(600, rel=0.01)
+
+
 def test_window_line_preset_is_built_from_published_figures_only():
     # AC6LA's Z0 (395 ohm) and VF (0.902) for 18 AWG stranded CCS windowed line, Duffy's
     # strand cladding (15.3 um): the model then meets N7WS's measurements at 3.6 MHz
@@ -465,6 +605,24 @@ def test_twin_line_copper_loss_against_n7ws():
                             velocity_factor=0.8)
     assert c.z0_ohm == pytest.approx(300, rel=1e-9)
     assert float(c.conductor_loss_db_per_100m(30.0)) * FT == pytest.approx(0.264, rel=0.20)
+
+
+def test_examples_feed_with_hardline_and_ladder_line():
+    # issue 19, done when: the contest and EOC examples use hardline and ladder line from
+    # the library. The window-line feedline's 45 m loss at 7.1 MHz is the preset's
+    # (N7WS-checked: 0.0075 dB/m at 3.6 MHz, above) times the length: 0.3-0.4 dB.
+    from pathlib import Path
+
+    from notchkit import load_site
+
+    sites = Path(__file__).resolve().parent.parent / "sites"
+    contest = {r.name: r for r in load_site(sites / "contest-two-position.yaml").radios}
+    run = contest["run"].feedline
+    assert run.cable == "window-line-450" and get_cable(run.cable).kind == "balanced"
+    feed_db = float(get_cable(run.cable).loss_db_per_100m(7.1)) * run.length_m / 100
+    assert 0.3 < feed_db < 0.4
+    eoc = {r.feedline.cable for r in load_site(sites / "ridge-eoc.yaml").radios}
+    assert {"hardline-1/2", "hardline-7/8"} <= eoc
 
 
 def test_balanced_dielectric_loss_is_pozar_3_199():
@@ -794,11 +952,22 @@ def test_cli_table_shows_sources_and_extrapolation(capsys):
 
 
 def test_cli_one_type_in_detail(capsys):
-    assert main(["cables", "RG-174", "--at", "1,146"]) == 0
+    assert main(["cables", "RG-174", "--at", "0.5,146"]) == 0
     out = capsys.readouterr().out
     assert "copper-clad-steel conductor, cladding" in out
     assert "table from: ARRL General Class License Manual" in out
     assert "* extrapolated" in out
+
+
+def test_cli_a_recalled_table_is_not_called_published(capsys):
+    # RG-214's only loss table is marked "from memory" in the library: the detail
+    # view must not present its points as published, nor a "published table" range.
+    assert main(["cables", "RG-214", "--at", "14"]) == 0
+    out = capsys.readouterr().out
+    assert "no published table: every frequency is extrapolated" in out
+    assert "recalled" in out and "MHz  published" not in out
+    assert main(["cables", "RG-213", "--at", "14"]) == 0
+    assert "MHz  published" in capsys.readouterr().out
 
 
 @pytest.mark.parametrize("bad", ["abc", "10,,20", "0.05", "7000", "nan"])

@@ -137,16 +137,19 @@ def format_detail(row) -> str:
             else f"{c.cladding_um:.0f} um"
         out.append(f"  copper-clad-steel conductor, cladding {t}")
     out.append(f"  model: {c.k_sqrt:.4g} sqrt(f){' g(f)' if c.cladding_um else ''} + "
-               f"{c.k_lin:.4g} f dB/100 m (f in MHz); published table {_range(c)} MHz")
+               f"{c.k_lin:.4g} f dB/100 m (f in MHz); " + (
+                   "no published table: every frequency is extrapolated"
+                   if c.table_range_mhz is None else f"published table {_range(c)} MHz"))
     for f, m, ft, e in zip(row.at_mhz, row.loss_db_per_100m, row.loss_db_per_100ft,
                            row.extrapolated, strict=True):
         out.append(f"  {f:g} MHz: {m:.3f} dB/100 m ({ft:.3f} dB/100 ft)"
                    f"{'  * extrapolated' if e else ''}")
     for src in c.loss_sources:
         out.append(f"  table from: {src.source}")
+        word = "recalled" if src.source.lower().startswith("from memory") else "published"
         for f, loss in src.points:
             model = float(c.loss_db_per_100m(f))
-            out.append(f"    {f:g} MHz  published {loss:.3f}  model {model:.3f} dB/100 m  "
+            out.append(f"    {f:g} MHz  {word} {loss:.3f}  model {model:.3f} dB/100 m  "
                        f"({(model / loss - 1) * 100:+.1f} %)")
     out.append("  sources:")
     out += [f"    {s}" for s in c.sources]

@@ -68,7 +68,7 @@ class Threat:
     ``mixer``'s output stage) or ``"receiver"`` (in the victim's front end)."""
     level_model: str | None = None
     """For ``intermod`` and ``blocking``: the level model that gave ``level_dbm``."""
-    # -- how the site operates (survey/operating.py, set by survey/core.py) --
+    # -- how the site operates (threats/operating.py, set by threats/core.py) --
     scenario: tuple[str, ...] = ()
     """Scenarios in which the sources and the victim can be active together."""
     operating: tuple[str, ...] = ()
