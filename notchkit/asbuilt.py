@@ -99,12 +99,19 @@ def _designed_db(record: Any, lo: float, hi: float) -> float:
     import dataclasses
 
     from notchkit.cables import get_cable
+    from notchkit.diagnose import plan_hardware
     from notchkit.filters import Filter, Line, Stub, evaluate
 
-    cable = dataclasses.replace(get_cable(record.cable.type), velocity_factor=record.cable.velocity_factor)
+    cable: Any = dataclasses.replace(get_cable(record.cable.type),
+                                     velocity_factor=record.cable.velocity_factor)
     elements = tuple(Line(length_m=e.length_m) if e.kind == "line"
                      else Stub(termination=e.termination, length_m=e.length_m) for e in record.elements)
     f = np.linspace(lo, hi, BAND_POINTS) * 1e6
+    hw = plan_hardware(record)
+    if hw is not None:  # the plan's tees, plugs and short, as designed (notchkit.hardware)
+        from notchkit.hardware import Model
+
+        cable = Model(cable=cable, hardware=hw, depth_ceiling_db=None)
     s = evaluate(Filter(elements=elements, cable=cable), f)
     return float(np.min(-20.0 * np.log10(np.maximum(np.abs(s[:, 1, 0]), 1e-15))))
 

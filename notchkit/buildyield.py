@@ -332,6 +332,65 @@ def tolerance(
     ``vf_spread=0`` every sample is the nominal filter, so each probability is
     exactly 0 or 1.
     """
+    run = _settings(filt, notches, pass_bands, samples=samples, cut_tolerance_mm=cut_tolerance_mm,
+                    vf_spread=vf_spread, band_points=band_points, phase_step_rad=phase_step_rad,
+                    z_system=z_system, trim_step_mm=trim_step_mm, trim_freq_error_pct=trim_freq_error_pct,
+                    drift_pct=drift_pct, max_insertion_loss_db=max_insertion_loss_db, max_swr=max_swr)
+    sizes = band_sizes(run.bands, filt, run.npts, run.step_rad)
+    freq_hz = np.concatenate([np.linspace(b.lo_mhz, b.hi_mhz, n)
+                              for b, n in zip(run.bands, sizes, strict=True)]) * 1e6
+    starts = np.concatenate(([0], np.cumsum(sizes)[:-1]))
+    builds = _draw(filt, run, trimmed, seed)
+    probes, step_mm = _probes(filt.lengths_m, sensitivity)
+    worst = _evaluate(filt, run, builds, probes, freq_hz, starts)
+    ids = element_ids(filt, filter_id)
+    ok_all = np.ones(run.n_samples, dtype=bool)
+    notch_results = _notch_results(run, worst, step_mm, ids, sensitivity, ok_all)
+    pass_results = _pass_results(run, worst, ok_all)
+    trim_mask = builds.trim_mask
+    return Tolerance(
+        samples=run.n_samples, seed=int(seed), cut_tolerance_mm=run.tol_mm, cut_distribution="uniform",
+        vf_nominal=run.vf0, vf_spread=run.spread, vf_distribution="uniform, one draw per sample",
+        notches=tuple(notch_results), passes=tuple(pass_results),
+        probability_all=float(ok_all.mean()), trimmed=tuple(bool(t) for t in trim_mask),
+        trim_step_mm=run.step_trim if trim_mask.any() else 0.0,
+        trim_freq_error_pct=run.f_err if trim_mask.any() else 0.0, drift_pct=run.drift,
+    )
+
+
+# ---------------------------------------------------------------- the stages of tolerance
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class _Run:
+    """The checked settings of one tolerance run."""
+
+    n_samples: int
+    tol_mm: float
+    vf0: float
+    spread: float
+    npts: int
+    step_rad: float | None
+    zs: float
+    step_trim: float
+    f_err: float
+    drift: float
+    notches: tuple[NotchSpec, ...]
+    pass_bands: tuple[Band, ...]
+    max_insertion_loss_db: float
+    max_swr: float
+
+    @property
+    def bands(self) -> tuple[NotchSpec | Band, ...]:
+        return (*self.notches, *self.pass_bands)
+
+
+def _settings(filt: Filter, notches: Sequence[NotchSpec], pass_bands: Sequence[Band], *, samples: int,
+              cut_tolerance_mm: float, vf_spread: float | None, band_points: int,
+              phase_step_rad: float | None, z_system: float, trim_step_mm: float,
+              trim_freq_error_pct: float, drift_pct: float, max_insertion_loss_db: float,
+              max_swr: float) -> _Run:
+    """Every argument checked (DesignError naming it), the cable's VF spread filled in."""
     n_samples = int(_check(samples, "samples", 1, 1_000_000))
     tol_mm = _check(cut_tolerance_mm, "cut_tolerance_mm", 0.0, 1000.0)
     vf0 = float(filt.cable.velocity_factor)
@@ -353,21 +412,32 @@ def tolerance(
     for k, band in enumerate(every):
         if not (0 < band.lo_mhz <= band.hi_mhz and math.isfinite(band.hi_mhz)):
             raise DesignError(f"band {k + 1}: {band.lo_mhz!r}-{band.hi_mhz!r} MHz must have 0 < lo <= hi")
+    return _Run(n_samples=n_samples, tol_mm=tol_mm, vf0=vf0, spread=spread, npts=npts, step_rad=step_rad,
+                zs=zs, step_trim=step_trim, f_err=f_err, drift=drift, notches=notches, pass_bands=pass_bands,
+                max_insertion_loss_db=float(max_insertion_loss_db), max_swr=float(max_swr))
 
-    bands = every
-    sizes = band_sizes(bands, filt, npts, step_rad)
-    freq_hz = np.concatenate([np.linspace(b.lo_mhz, b.hi_mhz, n) for b, n in zip(bands, sizes, strict=True)])
-    freq_hz = freq_hz * 1e6
-    starts = np.concatenate(([0], np.cumsum(sizes)[:-1]))
 
-    kinds = filt.kinds
+@dataclass(frozen=True, slots=True, kw_only=True)
+class _Builds:
+    """The simulated builds: each sample's lengths on its VF bin's cable."""
+
+    drawn: np.ndarray
+    bin_of: np.ndarray
+    vf_bin: np.ndarray
+    n_bins: int
+    trim_mask: np.ndarray
+
+
+def _draw(filt: Filter, run: _Run, trimmed: Sequence[bool] | None, seed: int) -> _Builds:
+    """The random draws, in a fixed order (cut errors, VF, trim readings, drift)."""
     nominal = filt.lengths_m
     n_el = nominal.size
+    n_samples, spread, vf0 = run.n_samples, run.spread, run.vf0
     trim_mask = np.zeros(n_el, dtype=bool) if trimmed is None else np.array([bool(t) for t in trimmed])
     if trim_mask.shape != (n_el,):
         raise DesignError(f"trimmed: {len(trim_mask)} flags for a filter of {n_el} elements")
     rng = np.random.default_rng(seed)
-    cut_err = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (tol_mm * 1e-3)
+    cut_err = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (run.tol_mm * 1e-3)
     u = rng.uniform(-1.0, 1.0, size=n_samples)
     vf = vf0 + u * spread
     n_bins = VF_BINS if spread > 0 else 1
@@ -378,14 +448,19 @@ def tolerance(
     if trim_mask.any():
         # trimmed: the electrical length the analyser says is right (nominal at vf0, read
         # within +-f_err %), plus the last step left on; on the bin's cable
-        read = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (f_err / 100.0)
-        left = rng.uniform(0.0, 1.0, size=(n_samples, n_el)) * (step_trim * 1e-3)
+        read = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (run.f_err / 100.0)
+        left = rng.uniform(0.0, 1.0, size=(n_samples, n_el)) * (run.step_trim * 1e-3)
         electrical = nominal[None, :] * (1.0 + read) + left
         drawn = np.where(trim_mask[None, :], electrical * (vf_bin / vf0)[:, None], drawn)
-    if drift > 0:
-        drawn *= 1.0 + rng.uniform(-1.0, 1.0, size=(n_samples, 1)) * (drift / 100.0)
+    if run.drift > 0:
+        drawn *= 1.0 + rng.uniform(-1.0, 1.0, size=(n_samples, 1)) * (run.drift / 100.0)
+    return _Builds(drawn=drawn, bin_of=bin_of, vf_bin=vf_bin, n_bins=n_bins, trim_mask=trim_mask)
 
-    # Sensitivity probes: nominal +- h on one element at a time, and the nominal itself.
+
+def _probes(nominal: np.ndarray, sensitivity: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Sensitivity probes: nominal +- h on one element at a time, then the nominal itself;
+    and each probe pair's length step, mm."""
+    n_el = nominal.size
     h = SENSITIVITY_STEP_MM * 1e-3
     probes = np.repeat(nominal[None, :], 2 * n_el + 1 if sensitivity else 1, axis=0)
     for j in range(n_el if sensitivity else 0):
@@ -393,7 +468,16 @@ def tolerance(
         probes[2 * j + 1, j] = max(probes[2 * j + 1, j] - h, 0.0)
     step_mm = (np.array([probes[2 * j, j] - probes[2 * j + 1, j] for j in range(n_el)]) * 1e3
                if sensitivity else np.ones(n_el))
-    nb, npass = len(notches), len(pass_bands)
+    return probes, step_mm
+
+
+def _evaluate(filt: Filter, run: _Run, builds: _Builds, probes: np.ndarray, freq_hz: np.ndarray,
+              starts: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``(notch_worst, pass_il, pass_swr)`` per row (the builds, then the probes) and band:
+    each VF bin's builds on its own cable, in batches."""
+    kinds = filt.kinds
+    nb, npass = len(run.notches), len(run.pass_bands)
+    n_samples = run.n_samples
     n_rows = n_samples + probes.shape[0]
     notch_worst = np.empty((n_rows, nb))  # worst (least) attenuation over each notch band, dB
     pass_il = np.empty((n_rows, npass))  # worst (most) insertion loss over each pass band, dB
@@ -402,7 +486,7 @@ def tolerance(
     pass_from = int(starts[nb]) if npass else freq_hz.size
 
     def reduce(rows, lengths, medium):
-        s21, s11 = evaluate_batch(kinds, lengths, medium, freq_hz, zs)
+        s21, s11 = evaluate_batch(kinds, lengths, medium, freq_hz, run.zs)
         m2 = s21.real**2 + s21.imag**2
         if nb:
             top = np.maximum.reduceat(m2[:, :pass_from], notch_starts, axis=1)
@@ -413,21 +497,26 @@ def tolerance(
             r = np.maximum.reduceat(np.abs(s11[:, pass_from:]), pass_starts - pass_from, axis=1)
             pass_swr[rows] = swr_from_s11(r)
 
-    for b in range(n_bins):
-        rows = np.flatnonzero(bin_of == b)
+    for b in range(builds.n_bins):
+        rows = np.flatnonzero(builds.bin_of == b)
         if rows.size:
-            v = float(vf_bin[rows[0]])
+            v = float(builds.vf_bin[rows[0]])
             vary = getattr(filt.cable, "with_velocity_factor", None)  # a hardware.Model keeps its parts
-            medium = (vary(v) if vary else _Medium(filt.cable, v)) if spread > 0 else filt.cable
-            reduce(rows, drawn[rows], medium)
+            medium = (vary(v) if vary else _Medium(filt.cable, v)) if run.spread > 0 else filt.cable
+            reduce(rows, builds.drawn[rows], medium)
     reduce(slice(n_samples, n_rows), probes, filt.cable)
+    return notch_worst, pass_il, pass_swr
 
-    ids = element_ids(filt, filter_id)
-    ok_all = np.ones(n_samples, dtype=bool)
-    notch_results = []
-    for k, spec in enumerate(notches):
-        worst = notch_worst[:, k]
-        ws, wp = worst[:n_samples], worst[n_samples:]
+
+def _notch_results(run: _Run, worst: tuple, step_mm: np.ndarray, ids: Sequence[str], sensitivity: bool,
+                   ok_all: np.ndarray) -> list[NotchTolerance]:
+    """Each notch band's yield, percentiles and dB-per-mm sensitivities (``ok_all`` and-ed in place)."""
+    notch_worst = worst[0]
+    n_samples, n_el = run.n_samples, step_mm.size
+    out = []
+    for k, spec in enumerate(run.notches):
+        col = notch_worst[:, k]
+        ws, wp = col[:n_samples], col[n_samples:]
         ok = ws >= spec.required_db
         ok_all &= ok
         sens = tuple(
@@ -437,7 +526,7 @@ def tolerance(
             )
             for j in range(n_el)
         )
-        notch_results.append(
+        out.append(
             NotchTolerance(
                 lo_mhz=spec.lo_mhz, hi_mhz=spec.hi_mhz, required_db=spec.required_db,
                 nominal_worst_db=float(wp[-1]), probability=float(ok.mean()),
@@ -445,26 +534,26 @@ def tolerance(
                 sensitivity=sens,
             )
         )
-    pass_results = []
-    for k, band in enumerate(pass_bands):
+    return out
+
+
+def _pass_results(run: _Run, worst: tuple, ok_all: np.ndarray) -> list[PassTolerance]:
+    """Each pass band's yield and nominal worst figures (``ok_all`` and-ed in place)."""
+    _, pass_il, pass_swr = worst
+    n_samples = run.n_samples
+    out = []
+    for k, band in enumerate(run.pass_bands):
         il, swr = pass_il[:, k], pass_swr[:, k]
-        ok = (il[:n_samples] <= max_insertion_loss_db) & (swr[:n_samples] <= max_swr)
+        ok = (il[:n_samples] <= run.max_insertion_loss_db) & (swr[:n_samples] <= run.max_swr)
         ok_all &= ok
-        pass_results.append(
+        out.append(
             PassTolerance(
-                lo_mhz=band.lo_mhz, hi_mhz=band.hi_mhz, max_insertion_loss_db=float(max_insertion_loss_db),
-                max_swr=float(max_swr), nominal_worst_insertion_loss_db=float(il[-1]),
+                lo_mhz=band.lo_mhz, hi_mhz=band.hi_mhz, max_insertion_loss_db=run.max_insertion_loss_db,
+                max_swr=run.max_swr, nominal_worst_insertion_loss_db=float(il[-1]),
                 nominal_worst_swr=float(swr[-1]), probability=float(ok.mean()),
             )
         )
-    return Tolerance(
-        samples=n_samples, seed=int(seed), cut_tolerance_mm=tol_mm, cut_distribution="uniform",
-        vf_nominal=vf0, vf_spread=spread, vf_distribution="uniform, one draw per sample",
-        notches=tuple(notch_results), passes=tuple(pass_results),
-        probability_all=float(ok_all.mean()), trimmed=tuple(bool(t) for t in trim_mask),
-        trim_step_mm=step_trim if trim_mask.any() else 0.0,
-        trim_freq_error_pct=f_err if trim_mask.any() else 0.0, drift_pct=drift,
-    )
+    return out
 
 
 def model_text(t: Tolerance) -> str:

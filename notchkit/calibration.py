@@ -33,6 +33,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from notchkit.errors import UsageError
 from notchkit.jsonread import JsonFileError, Reader, parse_json, read_text_bounded
 
@@ -58,13 +60,16 @@ class Sample:
     piece: str
     """The stub id (``F1-S2``), filter id or measurement file it came from."""
     velocity_factor: float | None
+    """The effective VF: the phase velocity over c at ``freq_mhz`` (trim), or the fit's (verify)."""
     loss_scale: float | None = None
     """Measured loss over the cable's published loss (from Q, or from the verify fit)."""
     measurement: str = ""
+    freq_mhz: float | None = None
+    """Where the VF was measured (a trim's resonance); ``None``: not known (taken at any frequency)."""
 
     def to_json(self) -> dict[str, Any]:
         return {"source": self.source, "piece": self.piece, "velocity_factor": self.velocity_factor,
-                "loss_scale": self.loss_scale, "measurement": self.measurement}
+                "loss_scale": self.loss_scale, "measurement": self.measurement, "freq_mhz": self.freq_mhz}
 
     @classmethod
     def from_json(cls, r: Reader, node: Any, where: str) -> Sample:
@@ -73,7 +78,8 @@ class Sample:
                    piece=r.text(obj, "piece", where),
                    velocity_factor=r.num(obj, "velocity_factor", where, optional=True, lo=0.3, hi=1.0),
                    loss_scale=r.num(obj, "loss_scale", where, optional=True, hi=100.0),
-                   measurement=str(obj.get("measurement") or ""))
+                   measurement=str(obj.get("measurement") or ""),
+                   freq_mhz=r.num(obj, "freq_mhz", where, optional=True, lo=0.1, hi=6000.0))
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -93,6 +99,36 @@ class SpoolCalibration:
         """Mean effective VF of the samples (``None`` without one)."""
         v = self.vf_samples
         return statistics.fmean(v) if v else None
+
+    def high_frequency_vf(self, cable: Any) -> float | None:
+        """The mean VF for the RLGC line (notchkit.rlgc): each sample's phase VF at its frequency
+        turned into the high-frequency VF the RLGC model is given.
+
+        On the RLGC line ``beta ~ omega / (c VF_hf) + alpha_c(f)`` (docs/hardware.md), so the
+        slowing term ``1 / VF_phase - 1 / VF_hf = c alpha_c / omega`` depends on the cable's
+        loss, hardly its VF: taken from the published cable at the sample's frequency,
+        ``1 / VF_hf = 1 / VF_measured - (1 / VF_rlgc(f) - 1 / VF_published)``, then refined until
+        the RLGC line with that VF has the measured phase velocity there. Samples without a
+        frequency are taken as they are.
+        """
+        from notchkit.rlgc import phase_velocity_factor
+
+        out = []
+        for s in self.samples:
+            if s.velocity_factor is None:
+                continue
+            if s.freq_mhz is None:
+                out.append(s.velocity_factor)
+                continue
+            vp = float(np.asarray(phase_velocity_factor(cable, [s.freq_mhz * 1e6])).ravel()[0])
+            slow = 1.0 / vp - 1.0 / float(cable.velocity_factor)
+            vf = 1.0 / (1.0 / s.velocity_factor - slow)
+            for _ in range(4):  # refine: the slowing term depends a little on the VF itself
+                trial = dataclasses.replace(cable, velocity_factor=vf)
+                got = float(np.asarray(phase_velocity_factor(trial, [s.freq_mhz * 1e6])).ravel()[0])
+                vf *= s.velocity_factor / got
+            out.append(vf)
+        return statistics.fmean(out) if out else None
 
     @property
     def vf_spread(self) -> float | None:
@@ -165,7 +201,8 @@ def sample_from_trim(result: Any, piece: str | None = None) -> Sample:
     loss = qe / q if (q and qe and not result.resonance.q_noise_limited) else None
     return Sample(source="trim", piece=piece or Path(result.measurement).name,
                   velocity_factor=float(result.velocity_factor), loss_scale=loss,
-                  measurement=str(result.measurement))
+                  measurement=str(result.measurement),
+                  freq_mhz=getattr(result, "velocity_factor_at_mhz", None))
 
 
 def sample_from_verify(result: Any) -> Sample:
@@ -234,20 +271,29 @@ def _key(name: str) -> str:
     return _normalise(name)
 
 
-def calibrated_cable(cable: Any, cal: SpoolCalibration) -> Any:
+def calibrated_cable(cable: Any, cal: SpoolCalibration, line_model: str = "classic") -> Any:
     """``cable`` with the spool's mean VF and loss (a :class:`notchkit.cables.Cable`).
 
+    Each trim sample's VF is the phase velocity at its resonance. On the classic line
+    (one VF at every frequency) that VF is used as it is; on the RLGC line
+    (``line_model="rlgc"``) the model is given the high-frequency VF that reproduces the
+    measured phase velocity at each sample's frequency
+    (:meth:`SpoolCalibration.high_frequency_vf`), so the slower HF wave is not counted twice.
     The calibration travels in the cable's ``notes`` (:func:`note_of` reads it back),
     so every output of a design made with it can say so.
     """
     changes: dict[str, Any] = {}
-    if cal.velocity_factor is not None:
-        changes["velocity_factor"] = cal.velocity_factor
     scale = cal.loss_scale
     if scale is not None:
         changes.update(k_sqrt=cable.k_sqrt * scale, k_lin=cable.k_lin * scale,
                        loss_table=tuple((f, db * scale) for f, db in cable.loss_table))
-    note = {**cal.note(), "published_velocity_factor": cable.velocity_factor}
+    lossy = dataclasses.replace(cable, **changes)  # the slowing on the RLGC line follows the loss
+    vf = cal.high_frequency_vf(lossy) if line_model == "rlgc" else cal.velocity_factor
+    if vf is not None:
+        changes["velocity_factor"] = vf
+    note = {**cal.note(), "published_velocity_factor": cable.velocity_factor, "line_model": line_model}
+    if line_model == "rlgc" and vf is not None:
+        note["velocity_factor"] = vf  # what the RLGC model is given (the high-frequency VF)
     changes["notes"] = NOTE_PREFIX + json.dumps(note, sort_keys=True)
     return dataclasses.replace(cable, **changes)
 
@@ -286,7 +332,8 @@ def apply(site: Any, calibrations: Iterable[SpoolCalibration | str | os.PathLike
             raise named(UsageError(f"calibration: spools {seen[k]!r} and {cal.spool!r} are both {cal.cable} "
                                    "(give one spool per cable type)"), "calibration")
         seen[k] = cal.spool
-        extra.append(calibrated_cable(get_cable(cal.cable, site.cables), cal))
+        extra.append(calibrated_cable(get_cable(cal.cable, site.cables), cal,
+                                      getattr(getattr(site, "hardware", None), "line_model", "classic")))
     if not extra:
         return site
     return dataclasses.replace(site, cables=(*site.cables, *extra))

@@ -137,8 +137,9 @@ class _Problem:
     """The measured magnitudes and the model for one topology."""
 
     def __init__(self, kinds: tuple[str, ...], planned: np.ndarray, cable: Any, f: np.ndarray,
-                 s21: np.ndarray | None, s11: np.ndarray, z_system: float) -> None:
+                 s21: np.ndarray | None, s11: np.ndarray, z_system: float, hardware: Any = None) -> None:
         self.kinds, self.planned, self.cable, self.f = kinds, planned, cable, f
+        self.hardware = hardware
         self.m21 = None if s21 is None else np.abs(s21)
         self.m11 = np.abs(s11)
         self.z = z_system
@@ -148,7 +149,12 @@ class _Problem:
         from notchkit.filters import evaluate_batch
 
         k = np.atleast_2d(k)
-        s21, s11 = evaluate_batch(self.kinds, k * self.planned, _Medium(self.cable, loss), self.f, self.z)
+        medium: Any = _Medium(self.cable, loss)
+        if self.hardware is not None:  # the plan's tees, plugs and short (notchkit.hardware.Model)
+            from notchkit.hardware import Model
+
+            medium = Model(cable=medium, hardware=self.hardware, depth_ceiling_db=None)
+        s21, s11 = evaluate_batch(self.kinds, k * self.planned, medium, self.f, self.z)
         r = [np.abs(s11) - self.m11]
         if self.m21 is not None:
             r.insert(0, np.abs(s21) - self.m21)
@@ -233,13 +239,14 @@ def diagnose(record: Any, network: Any, *, cable: Any = None, z_system: float = 
     s11 = s[:, 0, 0]
     kinds = tuple(e.termination if e.kind == "stub" else "line" for e in record.elements)
     planned = np.array([e.length_m for e in record.elements], dtype=float)
-    base = _Problem(kinds, planned, cab, f, s21, s11, z_system)
+    hw = plan_hardware(record)
+    base = _Problem(kinds, planned, cab, f, s21, s11, z_system, hw)
     best: tuple[Any, ...] = (*_fit(base), None, base)
     stubs = [i for i, kd in enumerate(kinds) if kd != "line"]
     for i in stubs:
         swapped = list(kinds)
         swapped[i] = "short" if kinds[i] == "open" else "open"
-        p = _Problem(tuple(swapped), planned, cab, f, s21, s11, z_system)
+        p = _Problem(tuple(swapped), planned, cab, f, s21, s11, z_system, hw)
         k, loss, cost, cov = _fit(p)
         if cost * SWAP_GAIN < best[2]:
             best = (k, loss, cost, cov, i, p)
@@ -247,6 +254,21 @@ def diagnose(record: Any, network: Any, *, cable: Any = None, z_system: float = 
     rows = prob.model(k, loss).size
     rms = math.sqrt(cost / rows)
     return _interpret(record, prob.kinds, k, loss, cov, rms, swap_i, float(cab.velocity_factor), f.size)
+
+
+def plan_hardware(record: Any) -> Any:
+    """The plan filter's connection hardware (``model.hardware``) as a
+    :class:`notchkit.hardware.Hardware`, or None (the classic model)."""
+    hw = (getattr(record, "extra", None) or {}).get("model") or {}
+    hw = hw.get("hardware") if isinstance(hw, dict) else None
+    if not isinstance(hw, dict):
+        return None
+    from notchkit.hardware import Hardware
+
+    figures = {k: float(hw[k]) for k in ("z_pair_ohm", "plug_mm", "tee_z_ohm", "tee_through_mm",
+                                         "tee_side_mm", "barrel_z_ohm", "barrel_mm") if k in hw}
+    return Hardware.of(str(hw.get("family", "uhf")), short_nh=float(hw.get("short_nh", 3.0)),
+                       barrels_per_port=int(hw.get("barrels_per_port", 0)), **figures)
 
 
 def _interpret(record: Any, kinds: tuple[str, ...], k: np.ndarray, loss: float, cov: np.ndarray, rms: float,

@@ -81,6 +81,8 @@ class ConnectorFamily:
     barrel_vf: float
     sources: tuple[tuple[str, str], ...] = ()
     """(figure, source) pairs."""
+    max_voltage_peak_v: float | None = None
+    """Working voltage of the connectors, V peak; None: the family's (notchkit.power.CONNECTOR_RATINGS)."""
 
 
 _PTFE_VF = 1.0 / math.sqrt(2.1)  # PTFE relative permittivity 2.1 (common handbook value) -> VF 0.69
@@ -158,7 +160,8 @@ class Hardware:
         return {"family": f.name, "z_pair_ohm": f.z_pair_ohm, "plug_mm": f.plug_mm,
                 "tee_z_ohm": f.tee_z_ohm, "tee_through_mm": f.tee_through_mm, "tee_side_mm": f.tee_side_mm,
                 "barrel_z_ohm": f.barrel_z_ohm, "barrel_mm": f.barrel_mm,
-                "short_nh": self.short_nh, "barrels_per_port": self.barrels_per_port}
+                "short_nh": self.short_nh, "barrels_per_port": self.barrels_per_port,
+                **({"connector_peak_v": f.max_voltage_peak_v} if f.max_voltage_peak_v is not None else {})}
 
     def reference_planes(self) -> str:
         f = self.family
@@ -183,10 +186,11 @@ class ConstantZ:
 
 
 def hardware_of(settings: Any) -> Hardware | None:
-    """:class:`Hardware` from a site's ``hardware:`` settings (None: no block)."""
-    if settings is None:
+    """:class:`Hardware` from a site's ``hardware:`` settings (None or ``family: ideal``: ideal junctions)."""
+    if settings is None or str(getattr(settings, "family", "")).lower() == "ideal":
         return None
-    over = {k: getattr(settings, k) for k in ("z_pair_ohm", "plug_mm", "tee_through_mm", "tee_side_mm")}
+    over = {k: getattr(settings, k, None) for k in ("z_pair_ohm", "plug_mm", "tee_through_mm", "tee_side_mm")}
+    over["max_voltage_peak_v"] = getattr(settings, "connector_peak_v", None)
     if over["z_pair_ohm"] is not None:
         over["tee_z_ohm"] = over["z_pair_ohm"]
     short = settings.short_nh if settings.short_nh is not None else DEFAULT_SHORT_NH

@@ -44,7 +44,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -140,6 +140,41 @@ class LinePower:
                 "max_voltage_peak_v": _f(self.max_voltage_peak_v), "dissipated_w": _f(self.dissipated_w)}
 
 
+CONNECTOR_RATINGS: dict[str, tuple[float, str]] = {
+    "uhf": (500.0, "from memory: UHF (PL-259/SO-239) maker data sheets give a working voltage of "
+                   "500 V peak"),
+    "n": (1000.0, "from memory: type N maker data sheets give a working voltage of 1000 V peak"),
+    "bnc": (500.0, "from memory: BNC maker data sheets give a working voltage of 500 V peak"),
+}
+"""Working voltage of a family's connectors, tees and barrels, V peak, with its source
+(settable in the site file: ``hardware: {connector_peak_v: ...}``; docs/hardware.md)."""
+
+
+def connector_rating_peak_v(hw: Any) -> float | None:
+    """The connectors' working voltage, V peak: the site's figure, else the family's."""
+    own = getattr(hw.family, "max_voltage_peak_v", None)
+    if own is not None:
+        return float(own)
+    known = CONNECTOR_RATINGS.get(hw.family.name)
+    return known[0] if known else None
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class ConnectorVoltage:
+    """The largest peak voltage on one connector section (a tee body, a plug, a barrel)."""
+
+    where: str
+    voltage_peak_v: float
+    rating_peak_v: float | None
+    margin: float | None
+    """``rating_peak_v / voltage_peak_v``; ``None`` when unrated."""
+
+    def to_json(self) -> dict[str, Any]:
+        return {"where": self.where, "voltage_peak_v": _f(self.voltage_peak_v),
+                "rating_peak_v": None if self.rating_peak_v is None else _f(self.rating_peak_v),
+                "margin": None if self.margin is None else _f(self.margin)}
+
+
 @dataclass(frozen=True, slots=True, kw_only=True)
 class PowerCheck:
     """Result of :func:`power_check`."""
@@ -161,6 +196,11 @@ class PowerCheck:
     warnings: tuple[str, ...]
     cautions: tuple[str, ...]
     notes: tuple[str, ...]
+    connector_family: str | None = None
+    """The connection hardware's family; ``None``: ideal junctions (no connector checked)."""
+    connector_rating_peak_v: float | None = None
+    connectors: tuple[ConnectorVoltage, ...] = ()
+    """Every tee body, plug and barrel with connection hardware, radio side first."""
 
     @property
     def ok(self) -> bool:
@@ -177,6 +217,10 @@ class PowerCheck:
             "stubs": [s.to_json() for s in self.stubs], "lines": [x.to_json() for x in self.lines],
             "nodes": [n.to_json() for n in self.nodes], "warnings": list(self.warnings),
             "cautions": list(self.cautions), "notes": list(self.notes), "ok": self.ok,
+            "connector_family": self.connector_family,
+            "connector_rating_peak_v": (None if self.connector_rating_peak_v is None
+                                        else _f(self.connector_rating_peak_v)),
+            "connectors": [c.to_json() for c in self.connectors],
         }
 
 
@@ -232,6 +276,10 @@ def power_check(
     Parameters
     ----------
     filt : Filter
+        With a :class:`notchkit.hardware.Model` carrying connection hardware as its
+        cable, the walk includes the tee arms, plugs, barrels and the short's
+        inductance, and the voltage at every connector is checked against the
+        family's rating (:data:`CONNECTOR_RATINGS`).
     power_w : float
         The transmitter's rated power, W.
     freq_mhz : float
@@ -255,6 +303,81 @@ def power_check(
     -------
     PowerCheck
     """
+    _check_inputs(power_w, freq_mhz, z_system, power_is)
+    cable = filt.cable
+    f_hz = freq_mhz * 1e6
+    g, z0, wavelength = _line_at(filt, f_hz, freq_mhz, filter_id)
+    hw = getattr(cable, "hardware", None)
+    ids = element_ids(filt, filter_id)
+    walk = (_walk_hardware(filt, g, z0, f_hz, z_system, ids) if hw is not None
+            else _walk(filt, g, z0, z_system))
+    k, delivered, output = _scale(walk, z_system, power_w, power_is, freq_mhz)
+    rating = getattr(cable, "max_voltage_v", None)
+    rating_peak = math.sqrt(2.0) * float(rating) if rating else None
+    heat_limit = (default_heat_limit_w_per_m(cable) if heat_limit_w_per_m is None
+                  else float(heat_limit_w_per_m))
+    if not (math.isfinite(heat_limit) and heat_limit > 0):
+        raise DesignError(f"heat_limit_w_per_m {heat_limit_w_per_m!r} must be > 0 W/m")
+    a_c, a_d = _loss_split(cable, f_hz)
+    rate = _Rating(rating_rms=rating, rating_peak=rating_peak, heat_limit=heat_limit,
+                   r_per_m=2.0 * a_c * z0, g_per_m=2.0 * a_d / z0)
+    warnings_: list[str] = []
+    cautions: list[str] = []
+    stubs, lines_ = [], []
+    for idx, e in enumerate(filt.elements):
+        if isinstance(e, Stub):
+            stubs.append(_stub_power(ids[idx], idx, e, walk, k, g, z0, wavelength, rate, warnings_, cautions))
+        else:
+            lines_.append(_line_power(ids[idx], idx, e, walk, k, g, z0, wavelength, rate, warnings_))
+    v_matched = math.sqrt(2.0 * power_w * z_system)
+    nodes = _nodes(filt, walk, k, v_matched, rate, warnings_)
+    connectors, conn_peak = _connectors(hw, walk, k, warnings_)
+    notes = _notes(cable, rating, hw, conn_peak, vswr_note, z_system)
+    total = sum(x.dissipated_w for x in stubs) + sum(x.dissipated_w for x in lines_)
+    return PowerCheck(
+        power_w=float(power_w), freq_mhz=float(freq_mhz), z_system=float(z_system),
+        cable=str(getattr(cable, "name", type(cable).__name__)), delivered_w=float(delivered),
+        output_w=float(output), total_dissipated_w=float(total), rating_peak_v=rating_peak,
+        heat_limit_w_per_m=heat_limit, stubs=tuple(stubs), lines=tuple(lines_), nodes=tuple(nodes),
+        warnings=tuple(warnings_), cautions=tuple(cautions), notes=tuple(notes),
+        connector_family=None if hw is None else hw.family.name, connector_rating_peak_v=conn_peak,
+        connectors=tuple(connectors),
+    )
+
+
+# ---------------------------------------------------------------- the stages of power_check
+
+
+@dataclass(frozen=True, slots=True, kw_only=True)
+class _Rating:
+    """The limits every figure is checked against."""
+
+    rating_rms: float | None
+    rating_peak: float | None
+    heat_limit: float
+    r_per_m: float
+    g_per_m: float
+
+
+@dataclass(slots=True, kw_only=True)
+class _Walk:
+    """Node states for a 1 V load voltage, from the load back to the radio port.
+
+    ``stub_end[idx]``: ``(V_end, I_end, cable_m, offset_m)``: the end's phasors of the
+    stub's cable, its length, and how far its cable starts from the tee's side port
+    (the plug). ``sections``: ``(where, largest |V| along a connector section)``.
+    """
+
+    v1: complex = 0j
+    i1: complex = 0j
+    stub_state: dict = field(default_factory=dict)
+    stub_end: dict = field(default_factory=dict)
+    line_state: dict = field(default_factory=dict)
+    tee_v: dict = field(default_factory=dict)
+    sections: list = field(default_factory=list)
+
+
+def _check_inputs(power_w: float, freq_mhz: float, z_system: float, power_is: str) -> None:
     if not (math.isfinite(power_w) and power_w > 0):
         raise DesignError(f"power_w {power_w!r} must be a finite power > 0 W")
     if not (math.isfinite(freq_mhz) and freq_mhz > 0):
@@ -263,8 +386,11 @@ def power_check(
         raise DesignError(f"z_system {z_system!r} must be > 0 ohm")
     if power_is not in ("available", "delivered"):
         raise DesignError(f"power_is {power_is!r} must be 'available' or 'delivered'")
-    cable = filt.cable
-    f_hz = freq_mhz * 1e6
+
+
+def _line_at(filt: Filter, f_hz: float, freq_mhz: float, filter_id: str) -> tuple[complex, float, float]:
+    """``(gamma, Z0, wavelength)`` of the cable at the carrier; refuses a filter too lossy to model."""
+    cable: Any = filt.cable
     alpha = float(np.asarray(cable.alpha_np_per_m(f_hz)))
     total_m = sum(max(float(e.length_m), MIN_MODEL_LENGTH_M) for e in filt.elements)
     if not (math.isfinite(total_m) and alpha * total_m <= MAX_MODEL_LOSS_NP):
@@ -274,119 +400,234 @@ def power_check(
             f"voltages (allowed: at most {MAX_MODEL_LOSS_NP * 8.685889638:.0f} dB of cable in one "
             "filter; a stub is a fraction of a wavelength to a few wavelengths long)")
     g = complex(gamma(f_hz, alpha, cable.velocity_factor))
-    z0 = float(cable.z0_ohm)
-    wavelength = C0 * cable.velocity_factor / f_hz
+    if getattr(cable, "rlgc", False) and getattr(cable, "hardware", None) is not None:
+        g = complex(np.asarray(cable.line_constants(np.array([f_hz]))[1]).ravel()[0])
+    return g, float(cable.z0_ohm), C0 * cable.velocity_factor / f_hz
 
-    # Back from the load: state (V, I) at each node for a 1 V load voltage.
+
+def _walk(filt: Filter, g: complex, z0: float, z_system: float) -> _Walk:
+    """The classic model: ideal junctions, the stubs' and line sections' cable only."""
+    w = _Walk()
     v, i = 1.0 + 0j, 1.0 / z_system + 0j
-    stub_state: dict[int, tuple[complex, complex]] = {}  # element -> (V_tee, I into stub)
-    line_state: dict[int, tuple[complex, complex, complex, complex]] = {}  # (V_out, I_out, V_in, I_in)
-    tee_v: dict[int, complex] = {}
     for idx in range(len(filt.elements) - 1, -1, -1):
         e = filt.elements[idx]
         if isinstance(e, Stub):
             y = complex(e.kind.admittance(z0, g, e.length_m))
-            stub_state[idx] = (v, y * v)
+            w.stub_state[idx] = (v, y * v)
             i = i + y * v
-            tee_v[idx] = v
+            w.tee_v[idx] = v
         else:
             gl = g * e.length_m
             v_in = np.cosh(gl) * v + z0 * np.sinh(gl) * i
             i_in = np.sinh(gl) / z0 * v + np.cosh(gl) * i
-            line_state[idx] = (v, i, complex(v_in), complex(i_in))
+            w.line_state[idx] = (v, i, complex(v_in), complex(i_in))
             v, i = complex(v_in), complex(i_in)
-    v1, i1 = v, i
-    emf = v1 + z_system * i1
-    p_in_unit = 0.5 * (v1 * np.conj(i1)).real
+    w.v1, w.i1 = v, i
+    return w
+
+
+def _through(z: complex, g: complex, length_m: float, v: complex,
+             i: complex) -> tuple[complex, complex, float]:
+    """``(V_in, I_in, largest |V|)`` of a line section ``z``, ``gamma``, ``length_m`` whose far end
+    carries ``(v, i)`` (Pozar sec. 2.3: ``V(d) = V cosh(gamma d) + Z I sinh(gamma d)``)."""
+    d = np.linspace(0.0, max(length_m, 0.0), 33)
+    vd = np.cosh(g * d) * v + z * np.sinh(g * d) * i
+    gl = g * length_m
+    return complex(vd[-1]), complex(np.sinh(gl) / z * v + np.cosh(gl) * i), float(np.abs(vd).max())
+
+
+def _walk_hardware(filt: Filter, g: complex, z0: float, f_hz: float, z_system: float,
+                   ids: tuple[str, ...]) -> _Walk:
+    """The connection hardware model (notchkit.hardware.Model): barrels, tee arms, plugs and
+    the short's inductance as in :meth:`Model.abcd`, each connector section's voltage kept."""
+    hw: Any = getattr(filt.cable, "hardware", None)
+    fam = hw.family
+    mm, w2 = 1e-3, 2.0 * math.pi * f_hz
+
+    def lossless(vf: float) -> complex:  # the hardware sections are lossless lines (docs/hardware.md)
+        return 1j * w2 / (C0 * vf)
+
+    plug = (fam.z_pair_ohm, lossless(fam.pair_vf), fam.plug_mm * mm)
+    arm = (fam.tee_z_ohm, lossless(fam.tee_vf), fam.tee_through_mm * mm)
+    side = (fam.tee_z_ohm, lossless(fam.tee_vf), fam.tee_side_mm * mm)
+    barrel = (fam.barrel_z_ohm, lossless(fam.barrel_vf), fam.barrel_mm * mm)
+    w = _Walk()
+    v, i = 1.0 + 0j, 1.0 / z_system + 0j
+
+    def section(where: str, sec: tuple, v: complex, i: complex) -> tuple[complex, complex]:
+        v_in, i_in, top = _through(sec[0], sec[1], sec[2], v, i)
+        w.sections.append((where, max(top, abs(v), abs(v_in))))
+        return v_in, i_in
+
+    for _ in range(hw.barrels_per_port):
+        v, i = section("antenna port barrel", barrel, v, i)
+    els = filt.elements
+    tee_of = {j: t for t, group in enumerate(filt.tees(), start=1) for j in group}
+    for idx in range(len(els) - 1, -1, -1):
+        e = els[idx]
+        if isinstance(e, Stub):
+            t = tee_of[idx]
+            if idx == len(els) - 1 or not isinstance(els[idx + 1], Stub):
+                v, i = section(f"tee {t}", arm, v, i)
+            y, end = _hw_branch(e, g, z0, plug, side, hw.short_nh * 1e-9, w2)
+            w.stub_state[idx] = (v, y * v)
+            w.stub_end[idx] = (end[0] * v, end[1] * v, end[2], plug[2])
+            w.sections.append((f"tee {t}", max(end[3] * abs(v), abs(v))))
+            w.sections.append((f"{ids[idx]} plug", end[4] * abs(v)))
+            i = i + y * v
+            w.tee_v[idx] = v
+            if idx == 0 or not isinstance(els[idx - 1], Stub):
+                v, i = section(f"tee {t}", arm, v, i)
+        else:
+            v, i = section(f"{ids[idx]} plugs", plug, v, i)
+            v_out, i_out = v, i
+            v, i, _ = _through(z0, g, max(e.length_m - 2 * plug[2], 0.0), v, i)
+            w.line_state[idx] = (v_out, i_out, v, i)
+            v, i = section(f"{ids[idx]} plugs", plug, v, i)
+    for _ in range(hw.barrels_per_port):
+        v, i = section("radio port barrel", barrel, v, i)
+    w.v1, w.i1 = v, i
+    return w
+
+
+def _hw_branch(e: Stub, g: complex, z0: float, plug: tuple, side: tuple, short_h: float,
+               w2: float) -> tuple[complex, tuple]:
+    """A stub branch at its junction: admittance and, per 1 V at the junction, its cable end's
+    ``(V, I)``, the cable's length, and the largest |V| on the side arm and on the plug."""
+    cable_m = max(e.length_m - plug[2], MIN_MODEL_LENGTH_M)
+    if e.termination == "open":
+        v, i = 1.0 + 0j, 0j
+    else:
+        v, i = 1j * w2 * short_h + 0j, 1.0 + 0j  # the short's inductance (0: an ideal short)
+    v_end, i_end = v, i
+    v, i, _ = _through(z0, g, cable_m, v, i)
+    v, i, top_plug = _through(plug[0], plug[1], plug[2], v, i)
+    v_plug_in = v
+    v, i, top_side = _through(side[0], side[1], side[2], v, i)
+    s = 1.0 / v  # scale to 1 V at the junction
+    top_plug = max(top_plug, abs(v_plug_in))
+    return i / v, (v_end * s, i_end * s, cable_m, top_side * abs(s), top_plug * abs(s))
+
+
+def _scale(w: _Walk, z_system: float, power_w: float, power_is: str,
+           freq_mhz: float) -> tuple[float, float, float]:
+    """``(k, delivered, output)``: the factor from the unit walk to the carrier's power."""
+    emf = w.v1 + z_system * w.i1
+    p_in_unit = 0.5 * (w.v1 * np.conj(w.i1)).real
     if power_is == "available":
         k = math.sqrt(8.0 * z_system * power_w) / abs(emf)
     else:
         if p_in_unit <= 0:
             raise DesignError(f"the filter takes no power at {freq_mhz:g} MHz; use power_is='available'")
         k = math.sqrt(power_w / p_in_unit)
-    delivered = k * k * p_in_unit
-    output = k * k * 0.5 / z_system  # |V2|^2 / (2 Z) with V2 = k
-    v_matched = math.sqrt(2.0 * power_w * z_system)
+    return k, float(k * k * p_in_unit), k * k * 0.5 / z_system  # |V2|^2 / (2 Z) with V2 = k
 
-    rating = getattr(cable, "max_voltage_v", None)
-    rating_peak = math.sqrt(2.0) * float(rating) if rating else None
-    heat_limit = (default_heat_limit_w_per_m(cable) if heat_limit_w_per_m is None
-                  else float(heat_limit_w_per_m))
-    if not (math.isfinite(heat_limit) and heat_limit > 0):
-        raise DesignError(f"heat_limit_w_per_m {heat_limit_w_per_m!r} must be > 0 W/m")
-    a_c, a_d = _loss_split(cable, f_hz)
-    r_per_m, g_per_m = 2.0 * a_c * z0, 2.0 * a_d / z0
 
-    warnings_: list[str] = []
-    cautions: list[str] = []
-    stubs, lines_ = [], []
-    ids = element_ids(filt, filter_id)
-    for idx, e in enumerate(filt.elements):
-        if isinstance(e, Stub):
-            sid = ids[idx]
-            vt, it = (k * x for x in stub_state[idx])
-            length = max(e.length_m, MIN_MODEL_LENGTH_M)
-            d = _grid(length, wavelength)  # distance from the end
-            vz, iz, end_v, end_i = e.kind.standing_wave(vt, z0, g, length, d)
-            av, ai = np.abs(vz), np.abs(iz)
-            j = int(np.argmax(av))
-            diss = 0.5 * (vt * np.conj(it)).real
-            heat = 0.5 * (ai**2 * r_per_m + av**2 * g_per_m)
-            peak_heat = float(heat.max())
-            vmax = float(av[j])
-            vmargin = rating_peak / vmax if (rating_peak and vmax > 0) else None
-            hmargin = heat_limit / peak_heat if peak_heat > 0 else 1e12
-            stubs.append(StubPower(
-                stub_id=sid, element_index=idx, termination=e.termination, length_m=float(e.length_m),
-                tee_voltage_peak_v=abs(vt), max_voltage_peak_v=vmax,
-                max_voltage_at_m=float(length - d[j]), end_voltage_peak_v=float(end_v),
-                end_current_peak_a=float(end_i), max_current_peak_a=float(ai.max()),
-                dissipated_w=float(diss), heat_w_per_m=float(diss / length),
-                peak_heat_w_per_m=peak_heat, voltage_margin=vmargin, heat_margin=float(min(hmargin, 1e12)),
-            ))
-            where = f"{sid} ({e.termination} stub), {length - d[j]:.3f} m from the tee"
-            _margin_warnings(warnings_, vmargin, vmax, rating, where)
-            if hmargin < THIN_MARGIN:
-                warnings_.append(
-                    f"{sid}: local heat {peak_heat:.2f} W/m is within {THIN_MARGIN:g}x of the "
-                    f"{heat_limit:g} W/m rule of thumb (margin {hmargin:.2f}x); "
-                    "check the cable's power rating"
-                )
-            if vmax >= KILOVOLT_V:
-                cautions.append(KV_CAUTION.format(v=vmax, what=where))
-        else:
-            lid = ids[idx]
-            vo, io, vi, ii = (k * x for x in line_state[idx])
-            d = _grid(max(e.length_m, MIN_MODEL_LENGTH_M), wavelength)  # from the antenna-side end
-            vz = np.cosh(g * d) * vo + z0 * np.sinh(g * d) * io
-            vmax = float(np.abs(vz).max())
-            diss = 0.5 * ((vi * np.conj(ii)).real - (vo * np.conj(io)).real)
-            lines_.append(LinePower(line_id=lid, element_index=idx, max_voltage_peak_v=vmax,
-                                    dissipated_w=float(diss)))
-            vmargin = rating_peak / vmax if (rating_peak and vmax > 0) else None
-            _margin_warnings(warnings_, vmargin, vmax, rating, f"{lid} (line section)")
-    nodes = [NodeVoltage(where="radio port", voltage_peak_v=abs(k * v1),
-                         ratio_to_matched=abs(k * v1) / v_matched)]
+def _stub_power(sid: str, idx: int, e: Stub, w: _Walk, k: float, g: complex, z0: float, wavelength: float,
+                rate: _Rating, warnings_: list[str], cautions: list[str]) -> StubPower:
+    """One stub: its standing wave, heat, and the margins (warnings and cautions appended)."""
+    vt, it = (k * x for x in w.stub_state[idx])
+    if idx in w.stub_end:  # connection hardware: the cable beyond the plug, its end as walked
+        v_end, i_end, length, offset = w.stub_end[idx]
+        v_end, i_end = k * v_end, k * i_end
+        d = _grid(length, wavelength)
+        vz = np.cosh(g * d) * v_end + z0 * np.sinh(g * d) * i_end
+        iz = np.sinh(g * d) / z0 * v_end + np.cosh(g * d) * i_end
+        end_v, end_i = float(abs(v_end)), float(abs(i_end))
+    else:
+        length, offset = max(e.length_m, MIN_MODEL_LENGTH_M), 0.0
+        d = _grid(length, wavelength)  # distance from the end
+        vz, iz, end_v, end_i = e.kind.standing_wave(vt, z0, g, length, d)
+    av, ai = np.abs(vz), np.abs(iz)
+    j = int(np.argmax(av))
+    diss = 0.5 * (vt * np.conj(it)).real
+    heat = 0.5 * (ai**2 * rate.r_per_m + av**2 * rate.g_per_m)
+    peak_heat = float(heat.max())
+    vmax = float(av[j])
+    at = float(offset + length - d[j])
+    vmargin = rate.rating_peak / vmax if (rate.rating_peak and vmax > 0) else None
+    hmargin = rate.heat_limit / peak_heat if peak_heat > 0 else 1e12
+    where = f"{sid} ({e.termination} stub), {at:.3f} m from the tee"
+    _margin_warnings(warnings_, vmargin, vmax, rate.rating_rms, where)
+    if hmargin < THIN_MARGIN:
+        warnings_.append(
+            f"{sid}: local heat {peak_heat:.2f} W/m is within {THIN_MARGIN:g}x of the "
+            f"{rate.heat_limit:g} W/m rule of thumb (margin {hmargin:.2f}x); "
+            "check the cable's power rating"
+        )
+    if vmax >= KILOVOLT_V:
+        cautions.append(KV_CAUTION.format(v=vmax, what=where))
+    return StubPower(
+        stub_id=sid, element_index=idx, termination=e.termination, length_m=float(e.length_m),
+        tee_voltage_peak_v=abs(vt), max_voltage_peak_v=vmax, max_voltage_at_m=at,
+        end_voltage_peak_v=end_v, end_current_peak_a=end_i, max_current_peak_a=float(ai.max()),
+        dissipated_w=float(diss), heat_w_per_m=float(diss / max(e.length_m, MIN_MODEL_LENGTH_M)),
+        peak_heat_w_per_m=peak_heat, voltage_margin=vmargin, heat_margin=float(min(hmargin, 1e12)),
+    )
+
+
+def _line_power(lid: str, idx: int, e: Any, w: _Walk, k: float, g: complex, z0: float, wavelength: float,
+                rate: _Rating, warnings_: list[str]) -> LinePower:
+    """One line section: the largest voltage along its cable and its heat."""
+    vo, io, vi, ii = (k * x for x in w.line_state[idx])
+    d = _grid(max(e.length_m, MIN_MODEL_LENGTH_M), wavelength)  # from the antenna-side end
+    vz = np.cosh(g * d) * vo + z0 * np.sinh(g * d) * io
+    vmax = float(np.abs(vz).max())
+    diss = 0.5 * ((vi * np.conj(ii)).real - (vo * np.conj(io)).real)
+    vmargin = rate.rating_peak / vmax if (rate.rating_peak and vmax > 0) else None
+    _margin_warnings(warnings_, vmargin, vmax, rate.rating_rms, f"{lid} (line section)")
+    return LinePower(line_id=lid, element_index=idx, max_voltage_peak_v=vmax, dissipated_w=float(diss))
+
+
+def _nodes(filt: Filter, w: _Walk, k: float, v_matched: float, rate: _Rating,
+           warnings_: list[str]) -> list[NodeVoltage]:
+    """The radio port, every tee's junction and the antenna port."""
+    nodes = [NodeVoltage(where="radio port", voltage_peak_v=abs(k * w.v1),
+                         ratio_to_matched=abs(k * w.v1) / v_matched)]
     for t, group in enumerate(filt.tees(), start=1):
-        vt = abs(k * tee_v[group[0]])
+        vt = abs(k * w.tee_v[group[0]])
         nodes.append(NodeVoltage(where=f"tee {t}", voltage_peak_v=vt, ratio_to_matched=vt / v_matched))
-        _margin_warnings(warnings_, rating_peak / vt if (rating_peak and vt > 0) else None, vt, rating,
-                         f"tee {t} (through line)")
+        _margin_warnings(warnings_, rate.rating_peak / vt if (rate.rating_peak and vt > 0) else None, vt,
+                         rate.rating_rms, f"tee {t} (through line)")
     nodes.append(NodeVoltage(where="antenna port", voltage_peak_v=k, ratio_to_matched=k / v_matched))
+    return nodes
+
+
+def _connectors(hw: Any, w: _Walk, k: float,
+                warnings_: list[str]) -> tuple[list[ConnectorVoltage], float | None]:
+    """The largest voltage on every connector section (tee bodies, plugs, barrels), against the
+    family's rating (``hardware.family.max_voltage_peak_v``, else :data:`CONNECTOR_RATINGS`)."""
+    if hw is None:
+        return [], None
+    rating = connector_rating_peak_v(hw)
+    worst: dict[str, float] = {}
+    for where, v in w.sections:
+        worst[where] = max(worst.get(where, 0.0), k * v)
+    out = []
+    for name, v in reversed(worst.items()):  # radio side first
+        margin = rating / v if (rating and v > 0) else None
+        out.append(ConnectorVoltage(where=name, voltage_peak_v=v, rating_peak_v=rating, margin=margin))
+        if margin is not None and margin < THIN_MARGIN:
+            word = "EXCEEDS" if margin < 1.0 else "is within 2x of"
+            warnings_.append(f"{name}: {v:.0f} V peak {word} the {hw.family.name.upper()} connectors' "
+                             f"rating {rating:.0f} V peak (margin {margin:.2f}x)")
+    return out, rating
+
+
+def _notes(cable: Any, rating: float | None, hw: Any, conn_peak: float | None, vswr_note: bool,
+           z_system: float) -> list[str]:
     notes = []
     if rating is None:
         notes.append(f"cable {getattr(cable, 'name', '?')} has no published voltage rating: "
                      "voltages not checked")
+    if hw is not None:
+        src = CONNECTOR_RATINGS.get(hw.family.name, (None, "the site's figure"))[1]
+        notes.append(f"connectors ({hw.family.name.upper()}) checked at every tee, plug and barrel "
+                     + (f"against {conn_peak:.0f} V peak ({src})" if conn_peak else
+                        "(no rating known: not checked)"))
     if vswr_note:
         notes.append(VSWR_NOTE.format(z=z_system))
-    total = sum(s.dissipated_w for s in stubs) + sum(x.dissipated_w for x in lines_)
-    return PowerCheck(
-        power_w=float(power_w), freq_mhz=float(freq_mhz), z_system=float(z_system),
-        cable=str(getattr(cable, "name", type(cable).__name__)), delivered_w=float(delivered),
-        output_w=float(output), total_dissipated_w=float(total), rating_peak_v=rating_peak,
-        heat_limit_w_per_m=heat_limit, stubs=tuple(stubs), lines=tuple(lines_), nodes=tuple(nodes),
-        warnings=tuple(warnings_), cautions=tuple(cautions), notes=tuple(notes),
-    )
+    return notes
 
 
 def _margin_warnings(out: list[str], margin: float | None, vmax: float, rating_rms: float | None,
@@ -412,6 +653,13 @@ def format_power(pc: PowerCheck) -> str:
                      f"{extra}, {s.dissipated_w:.2f} W ({s.peak_heat_w_per_m:.2f} W/m peak)")
     for n in pc.nodes:
         lines.append(f"  {n.where}: {n.voltage_peak_v:.0f} V peak ({n.ratio_to_matched:.2f}x matched)")
+    if pc.connectors:
+        rated = (f"rated {pc.connector_rating_peak_v:.0f} V peak" if pc.connector_rating_peak_v
+                 else "no rating known")
+        lines.append(f"  connectors ({(pc.connector_family or '').upper()}, {rated}): "
+                     + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V"
+                                 + (f" ({c.margin:.1f}x)" if c.margin is not None else "")
+                                 for c in pc.connectors))
     lines += [f"  warning: {w}" for w in pc.warnings]
     lines += [f"  {c}" for c in pc.cautions]
     lines += [f"  note: {n}" for n in pc.notes]

@@ -30,6 +30,7 @@ from notchkit.report.summary import summary_html, summary_repr
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site.model import (
     DEFAULT_CABLE,
+    DEFAULT_HARDWARE_FAMILY,
     MAX_FREQ_MHZ,
     MIN_FREQ_MHZ,
     Allowances,
@@ -404,6 +405,8 @@ def design_request(
     z_system: float = 50.0,
     progress: Progress | None = None,
     load: str | os.PathLike | None = None,
+    hardware: str | Any = DEFAULT_HARDWARE_FAMILY,
+    line_model: str = "classic",
 ) -> DesignReport:
     """Design one ad-hoc filter: pass these bands, notch those.
 
@@ -423,6 +426,13 @@ def design_request(
     load : path, optional
         The antenna's impedance (``.s1p`` or R+jX table, :mod:`notchkit.loads`): the
         filter is designed and verified into it.
+    hardware : str or HardwareSettings
+        Connection hardware: a connector family (``"uhf"``, the default as for a site
+        without ``hardware:``; ``"n"``, ``"bnc"``), ``"ideal"`` for ideal junctions with
+        the tee allowance (the classic model), or a site's
+        :class:`~notchkit.site.model.HardwareSettings` (docs/hardware.md).
+    line_model : str
+        ``"classic"`` or ``"rlgc"`` (when ``hardware`` is a family name).
 
     Returns
     -------
@@ -449,12 +459,38 @@ def design_request(
     from notchkit.site.model import RadioLoad
 
     if not isinstance(cab, Model):
-        cab = model_for(cab, load=RadioLoad(file=os.fspath(load)) if load is not None else None)
+        cab = model_for(cab, settings=hardware_settings(hardware, line_model),
+                        load=RadioLoad(file=os.fspath(load)) if load is not None else None)
+    if cab.hardware is not None:  # the tee's arms are modelled, not an allowance
+        allowances = dataclasses.replace(allowances, tee_allowance_m=0.0)
     req = FilterRequirement(radio=None, side=None, pass_bands=bands, notches=specs,
                             cable=getattr(cab, "name", str(cable)), power_w=power_w, power_mhz=power_mhz)
     d = design_filter(req, cable=cab, limits=limits, allowances=allowances, filter_id="F1", z_system=z_system,
                    progress=progress)
     return DesignReport(site_name=None, survey=None, designs=(d,))
+
+
+def hardware_settings(hardware: str | Any = DEFAULT_HARDWARE_FAMILY, line_model: str = "classic") -> Any:
+    """A :class:`~notchkit.site.model.HardwareSettings` from a family name (or one as given).
+
+    Raises
+    ------
+    DesignError
+        An unknown family or line model (the allowed ones are named).
+    """
+    from notchkit.hardware import FAMILIES
+    from notchkit.site.model import IDEAL_HARDWARE, HardwareSettings
+
+    if isinstance(hardware, HardwareSettings):
+        return hardware
+    allowed = (*FAMILIES, IDEAL_HARDWARE)
+    fam = str(hardware).lower()
+    if fam not in allowed:
+        raise DesignError(f"hardware {hardware!r} is not a known connector family "
+                          f"(allowed: {', '.join(allowed)})")
+    if line_model not in ("classic", "rlgc"):
+        raise DesignError(f"line_model {line_model!r} is not known (allowed: classic, rlgc)")
+    return HardwareSettings(family=fam, line_model=line_model)
 
 
 # ---------------------------------------------------------------- Touchstone

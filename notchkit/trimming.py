@@ -128,6 +128,16 @@ class TrimResult:
     q_expected: float | None
     advice: str
     warnings: tuple[str, ...] = field(default=())
+    velocity_factor_at_mhz: float | None = None
+    """Where :attr:`velocity_factor` holds: the measured resonance. The effective VF is the
+    cable's **phase velocity** over c at that frequency, ``omega / (beta c)`` (at HF below the
+    published VF, which is the high-frequency limit: the conductor's internal inductance slows
+    the wave, docs/hardware.md)."""
+    line_model: str = "classic"
+    """The plan's line model (``classic`` or ``rlgc``; ``classic`` without a plan)."""
+    expected_velocity_factor: float | None = None
+    """The phase velocity factor the plan's line model gives the cable at the measured
+    resonance: the nominal VF on the classic line, the RLGC line's (lower at HF) with ``rlgc``."""
 
     @property
     def ratio(self) -> float:
@@ -182,6 +192,10 @@ class TrimResult:
             "allowance_m": self.allowance_m,
             "nominal_velocity_factor": self.nominal_velocity_factor,
             "velocity_factor": self.velocity_factor,
+            "velocity_factor_at_mhz": self.velocity_factor_at_mhz,
+            "velocity_factor_is": "phase velocity over c at the measured resonance",
+            "expected_velocity_factor": self.expected_velocity_factor,
+            "line_model": self.line_model,
             "target_length_m": self.target_length_m,
             "cut_mm": self.cut_mm,
             "cut_in": None if cut_in is None else cut_in[0],
@@ -613,7 +627,11 @@ def trim(
             check_vf(vf, quarter_waves=n, electrical_length_m=tgt.present_length_m - hw.plug_m,
                      resonance_hz=res.freq_hz, nominal=float(cable_obj.velocity_factor))
             cut = tgt.present_length_m - target_len
-        notes += _vf_warnings(vf, cable_obj)
+    line_model = str(((filt.extra.get("model") or {}).get("line_model") if filt is not None else None)
+                     or "classic")
+    expected_vf = expected_phase_vf(cable_obj, res.freq_hz, line_model) if vf is not None else None
+    if vf is not None:
+        notes += _vf_warnings(vf, cable_obj, expected_vf)
     f = np.asarray(ntwk.f, dtype=float)
     result = TrimResult(
         measurement=label, cable=str(getattr(cable_obj, "name", cable_obj)), termination=tgt.termination,
@@ -624,7 +642,8 @@ def trim(
         velocity_factor=vf, target_length_m=target_len, cut_m=cut,
         q_expected=expected_q(cable_obj, res.freq_hz),
         advice=advice(tgt.termination, ratio, tgt.present_length_m, target_len, cut, vf),
-        warnings=tuple(notes),
+        warnings=tuple(notes), velocity_factor_at_mhz=None if vf is None else res.freq_mhz,
+        line_model=line_model, expected_velocity_factor=expected_vf,
     )
     if png_path is not None:
         plot_measurement(ntwk, result, png_path)
@@ -705,13 +724,30 @@ def _resonance_warnings(res: Resonance, ratio: float, n: int, q_expected: float 
     return out
 
 
-def _vf_warnings(vf: float, cable: Any) -> list[str]:
-    nominal = float(cable.velocity_factor)
+def expected_phase_vf(cable: Any, freq_hz: float, line_model: str = "classic") -> float:
+    """The phase velocity factor ``omega / (beta c)`` the line model gives ``cable`` at ``freq_hz``:
+    its published VF on the classic line; on the RLGC line (notchkit.rlgc) lower at HF, where the
+    conductor's internal inductance slows the wave."""
+    if line_model == "rlgc":
+        from notchkit.rlgc import phase_velocity_factor
+
+        try:
+            return float(np.asarray(phase_velocity_factor(cable, [freq_hz])).ravel()[0])
+        except (ValueError, ZeroDivisionError, FloatingPointError, AttributeError):
+            return float(cable.velocity_factor)  # a cable without a loss split
+    return float(cable.velocity_factor)
+
+
+def _vf_warnings(vf: float, cable: Any, expected: float | None = None) -> list[str]:
+    nominal = float(cable.velocity_factor) if expected is None else float(expected)
     tol = getattr(cable, "vf_tolerance", None)
     tol = VF_WARN if tol is None else max(float(tol), 0.005)
     if abs(vf - nominal) <= tol:
         return []
-    return [f"effective VF {vf:.3f} differs from {getattr(cable, 'name', 'the cable')}'s {nominal:.3f} by "
+    whose = (f"{getattr(cable, 'name', 'the cable')}'s {nominal:.3f}" if expected is None or
+             expected == float(cable.velocity_factor) else
+             f"the {nominal:.3f} the RLGC line gives {getattr(cable, 'name', 'the cable')} there")
+    return [f"effective VF {vf:.3f} differs from {whose} by "
             f"more than {tol:.3f}: check the length, quarter_waves, allowance_m and the cable type"]
 
 

@@ -95,3 +95,65 @@ def truth_length_m(*, termination: str, quarter_waves: int, resonance_hz: float,
         k = quarter_waves // 2
         bl = k * math.pi - phi - math.atan(x)
     return bl / b + lp
+
+
+def filter_network(fjson: dict[str, Any], freq_hz: Any, *, cable: Any = None) -> skrf.Network:
+    """A designed filter (its design/plan JSON: ``elements``, ``cable``, ``model.hardware``) built
+    from scikit-rf parts only, radio port first.
+
+    Without hardware (``model.hardware`` null: the ideal model): each stub is
+    ``shunt_delay_open`` / ``shunt_delay_short`` of its ``length_m`` (the tee allowance inside it),
+    each line section ``line``. With hardware: every run of stubs hangs at one junction between two
+    through arms, each stub behind the side arm, its plug (``length_m`` includes it), its cable and
+    its end (open, or the short's inductance then a short); a line section is plug, cable, plug;
+    ``barrels_per_port`` barrels sit at each port. Hardware sections are lossless PTFE lines
+    (docs/hardware.md). The cable is the JSON's type (``cable`` overrides it), on the classic line
+    ``gamma = alpha + j 2 pi f / (c VF)`` (Pozar sec. 2.7).
+    """
+    from notchkit.cables import get_cable
+
+    freq = skrf.Frequency.from_f(np.asarray(freq_hz, dtype=float), unit="hz")
+    cab = cable if cable is not None else get_cable(fjson["cable"]["type"])
+    model = fjson.get("model") or {}
+    assert model.get("line_model", "classic") == "classic"  # this helper builds the classic line only
+    line = _media(freq, fjson["cable"]["z0_ohm"], fjson["cable"]["velocity_factor"],
+                  cab.alpha_np_per_m(freq.f))
+    hw = model.get("hardware")
+    parts: list[skrf.Network] = []
+    if hw is None:
+        for e in fjson["elements"]:
+            if e["kind"] == "line":
+                parts.append(line.line(e["length_m"], unit="m"))
+            elif e["termination"] == "open":
+                parts.append(line.shunt_delay_open(e["length_m"], unit="m"))
+            else:
+                parts.append(line.shunt_delay_short(e["length_m"], unit="m"))
+    else:
+        mm = 1e-3
+        tee = _media(freq, hw["tee_z_ohm"], PTFE_VF)
+        plug = _media(freq, hw["z_pair_ohm"], PTFE_VF).line(hw["plug_mm"] * mm, "m")
+        arm = tee.line(hw["tee_through_mm"] * mm, "m")
+        barrels = [_media(freq, hw["barrel_z_ohm"], PTFE_VF).line(hw["barrel_mm"] * mm, "m")] * int(
+            hw["barrels_per_port"])
+        parts += barrels
+        prev_stub = False
+        for e in fjson["elements"]:
+            if e["kind"] == "stub":
+                if not prev_stub:
+                    parts.append(arm)
+                side = stub_network(freq, termination=e["termination"], length_m=e["length_m"],
+                                    vf=fjson["cable"]["velocity_factor"], cable=cab, hw=hw, ports=1)
+                parts.append(line.shunt(tee.line(hw["tee_side_mm"] * mm, "m") ** side))
+                prev_stub = True
+            else:
+                if prev_stub:
+                    parts.append(arm)
+                parts += [plug, line.line(e["length_m"] - 2 * hw["plug_mm"] * mm, unit="m"), plug]
+                prev_stub = False
+        if prev_stub:
+            parts.append(arm)
+        parts += barrels
+    net = parts[0]
+    for p in parts[1:]:
+        net = net ** p
+    return net

@@ -1,10 +1,13 @@
 """Design orchestration, its JSON and the `notchkit design` command.
 
 The reference for every reported figure is scikit-rf 2.x, built only from the
-JSON elements and the cable's published figures: ``skrf.media.DefinedGammaZ0``
-with ``gamma = alpha + j 2 pi f / (c VF)`` (Pozar, *Microwave Engineering*
-4th ed., sec. 2.7), the line's ``z0`` = the cable's Z0 and ``z0_port`` = 50 ohm,
-then ``shunt_delay_open`` / ``shunt_delay_short`` / ``line`` cascaded with ``**``.
+JSON elements, the JSON's connection hardware and the cable's published figures:
+``skrf.media.DefinedGammaZ0`` with ``gamma = alpha + j 2 pi f / (c VF)`` (Pozar,
+*Microwave Engineering* 4th ed., sec. 2.7), the line's ``z0`` = the cable's Z0 and
+``z0_port`` = 50 ohm; the tee arms, plugs and the short's inductance as scikit-rf
+lines and inductors (tests/hw_bench.py), cascaded with ``**``. Designs use the
+default hardware (UHF, as a site without ``hardware:``); one site sets
+``family: ideal`` to check the classic model's tee allowance.
 """
 
 from __future__ import annotations
@@ -17,8 +20,8 @@ import textwrap
 import numpy as np
 import pytest
 import skrf
+from hw_bench import filter_network
 
-from notchkit.cables import get_cable
 from notchkit.cli import main
 from notchkit.errors import CableError, DesignError
 from notchkit.site import load_site
@@ -74,23 +77,9 @@ def site_report(tmp_path_factory):
 
 
 def skrf_s21_db(fjson, freq_hz, with_ceiling=True):
-    """|S21| in dB of the JSON filter, built with scikit-rf media only."""
-    cable = get_cable(fjson["cable"]["type"])
-    freq = skrf.Frequency.from_f(freq_hz, unit="hz")
-    vf = fjson["cable"]["velocity_factor"]
-    gam = cable.alpha_np_per_m(freq_hz) + 1j * 2 * np.pi * freq_hz / (C * vf)
-    media = skrf.media.DefinedGammaZ0(frequency=freq, z0_port=50.0, z0=fjson["cable"]["z0_ohm"], gamma=gam)
-    parts = []
-    for e in fjson["elements"]:
-        if e["kind"] == "line":
-            parts.append(media.line(e["length_m"], unit="m"))
-        elif e["termination"] == "open":
-            parts.append(media.shunt_delay_open(e["length_m"], unit="m"))
-        else:
-            parts.append(media.shunt_delay_short(e["length_m"], unit="m"))
-    net = parts[0]
-    for p in parts[1:]:
-        net = net**p
+    """|S21| in dB of the JSON filter, built with scikit-rf media only (tests/hw_bench.py: the
+    connection hardware of the JSON's ``model.hardware`` included, or the ideal model's shunt stubs)."""
+    net = filter_network(fjson, freq_hz)
     s21 = np.abs(net.s[:, 1, 0])
     ceiling = (fjson.get("model") or {}).get("depth_ceiling_db")
     if ceiling is not None and with_ceiling:  # the stated leakage floor, added in power (docs/hardware.md)
@@ -130,13 +119,15 @@ def test_json_keys_of_an_ad_hoc_design(contest):
     assert "radio" not in fj
     assert fj["side"] is None
     assert fj["cable"] == {"type": "RG-213", "z0_ohm": 50.0, "velocity_factor": 0.66}
+    assert fj["model"]["hardware"]["family"] == "uhf"  # the default hardware (docs/hardware.md)
     assert fj["meets"] is True
     for e in fj["elements"]:
         assert e["kind"] in ("stub", "line")
         if e["kind"] == "stub":
             assert e["termination"] in ("open", "short")
-            # tee allowance (default 30 mm, site model) is inside length_m
-            assert e["cut_length_m"] == pytest.approx(e["length_m"] - 0.030)
+            # default UHF hardware: the cut runs from the plug's mating face, the plug included,
+            # so it is the whole length_m (no tee allowance: the tee's arms are modelled)
+            assert e["cut_length_m"] == pytest.approx(e["length_m"])
             assert e["first_cut_m"] > e["cut_length_m"]
             assert e["trim_rate_mm_per_mhz"] > 0
         else:
@@ -160,12 +151,31 @@ def test_site_design_ids_radio_side_and_power(site_report):
     assert site_report.meets == doc["meets"]
     for d in site_report.designs:
         assert [c.stub_id for c in d.cuts] == [f"{d.id}-S{i}" for i in range(1, len(d.filter.stubs) + 1)]
-    # the site's own tee allowance (35 mm) is what the cut lengths subtract
+    # no hardware: block: UHF hardware; the tee allowance is not used, the cut is all of length_m
     for f in doc["filters"]:
+        assert f["model"]["hardware"]["family"] == "uhf"
+        for e in f["elements"]:
+            if e["kind"] == "stub":
+                assert e["cut_length_m"] == pytest.approx(e["length_m"])
+                assert e["first_cut_m"] >= e["cut_length_m"] * 1.04 - 1e-9
+
+
+def test_ideal_hardware_keeps_the_site_tee_allowance(tmp_path):
+    # hardware: {family: ideal}: the classic model; the site's own tee allowance (35 mm) is what
+    # the cut lengths subtract, and the figures are those of ideal shunt stubs (scikit-rf).
+    path = tmp_path / "tiny.yaml"
+    path.write_text(TINY_SITE + "hardware: {family: ideal}\n")
+    doc = design(load_site(path)).to_json()
+    assert doc["filters"]
+    for f in doc["filters"]:
+        assert f["model"]["hardware"] is None
         for e in f["elements"]:
             if e["kind"] == "stub":
                 assert e["cut_length_m"] == pytest.approx(e["length_m"] - 0.035)
                 assert e["first_cut_m"] >= e["cut_length_m"] * 1.04 - 1e-9
+        for band in f["notch"]:
+            s21_db, _ = skrf_s21_db(f, np.linspace(band["lo_mhz"], band["hi_mhz"], 301) * 1e6)
+            assert float(-s21_db.max()) == pytest.approx(band["worst_attenuation_db"], abs=0.1)
 
 
 def test_progress_only_on_a_terminal(monkeypatch):

@@ -415,12 +415,15 @@ def test_hardware_design_reports_what_scikit_rf_computes(tmp_path):
 def test_report_shows_the_rlgc_line_beside_the_classic_one():
     # A 40 m notch on RG-58 designed on the classic line: the report gives the RLGC line's figure
     # at the notch centre, computed on that line (hand: the quarter wave is ~1.9 % short there).
+    # Designed with the default connection hardware (UHF), so the RLGC figure is of the same
+    # hardware model on the RLGC line.
     from notchkit.synthesis import design_request
 
     (d,) = design_request([(14.0, 14.35)], [(7.0, 7.3, 30.0)], cable="RG-58").designs
     other = d.to_json()["model"]["other_line_model"]
     assert other["model"] == "RLGC" and other["notch_mhz"] == [7.15]
-    m = Model(cable=get_cable("RG-58"), rlgc=True)
+    assert d.to_json()["model"]["hardware"]["family"] == "uhf"
+    m = Model(cable=get_cable("RG-58"), hardware=Hardware.of("uhf"), rlgc=True)
     s21 = evaluate_batch(d.filter.kinds, d.filter.lengths_m[None, :], m, [7.15e6])[0][0, 0]
     assert other["other_db"][0] == pytest.approx(-20 * math.log10(abs(s21)), abs=0.01)
     assert other["other_db"][0] < other["this_db"][0] - 1.0
@@ -437,7 +440,7 @@ def test_site_refuses_an_unknown_family_at_its_place(tmp_path):
     with pytest.raises(SiteError) as info:
         load_site(site)
     text = str(info.value)
-    assert "s.yaml:7:11: hardware.family: 'sma' is not known (allowed: uhf, n, bnc)" in text
+    assert "s.yaml:7:11: hardware.family: 'sma' is not known (allowed: uhf, n, bnc, ideal)" in text
     assert "s.yaml:8:15: hardware.line_model: 'exact' is not known (allowed: classic, rlgc)" in text
 
 

@@ -257,3 +257,109 @@ def test_energy_conservation_property(elements, f_mhz, cable):
     for st_ in pc.stubs:
         assert st_.max_voltage_peak_v >= st_.tee_voltage_peak_v * (1 - 1e-9)
         assert st_.dissipated_w >= -1e-9
+
+
+# ---------------------------------------------------------------- with connection hardware
+
+
+def _hw_parts(freq, cable, hw):
+    """scikit-rf parts of a UHF filter (tests/hw_bench.py: lossless PTFE hardware lines)."""
+    from hw_bench import PTFE_VF, _media
+
+    fam = hw.family
+    tee = _media(freq, fam.tee_z_ohm, PTFE_VF)
+    plug = _media(freq, fam.z_pair_ohm, PTFE_VF).line(fam.plug_mm * 1e-3, "m")
+    line = _media(freq, cable.z0_ohm, cable.velocity_factor, cable.alpha_np_per_m(freq.f))
+    arm = tee.line(fam.tee_through_mm * 1e-3, "m")
+    side = tee.line(fam.tee_side_mm * 1e-3, "m")
+
+    def branch(length_m, termination):  # side arm, plug, cable (two-port, junction first)
+        body = side ** plug ** line.line(length_m - fam.plug_mm * 1e-3, "m")
+        end = line.open() if termination == "open" else line.inductor(hw.short_nh * 1e-9) ** line.short()
+        return body, body ** end
+
+    return line, arm, plug, branch
+
+
+def test_hardware_voltages_at_tees_plugs_and_stub_ends_equal_scikit_rf():
+    # A UHF filter (two stubs sharing tee 1, a line section, a stub at tee 2) at 1 kW, 146 MHz.
+    # scikit-rf builds the two halves either side of each junction; with the source's EMF
+    # sqrt(8 Z P) behind Z = 50 ohm (available power P), V at the radio port is E Zin/(Zin + Z), and
+    # the junction's (V, I) is A^-1 (V1, I1) of the radio-side half (Pozar table 4.1, 4.2).
+    import skrf
+
+    from notchkit.hardware import Hardware, Model
+
+    hw = Hardware.of("uhf")
+    cable = get_cable("RG-213")
+    model = Model(cable=cable, hardware=hw, depth_ceiling_db=None)
+    els = (Stub(termination="open", length_m=0.40), Stub(termination="short", length_m=0.63),
+           Line(length_m=0.52), Stub(termination="open", length_m=0.31))
+    filt = Filter(elements=els, cable=model, tee_allowance_m=0.0)
+    p_w, f_mhz = 1000.0, 146.0
+    pc = power_check(filt, power_w=p_w, freq_mhz=f_mhz)
+    freq = skrf.Frequency.from_f([f_mhz * 1e6], unit="hz")
+    line, arm, plug, branch = _hw_parts(freq, cable, hw)
+    b1, s1 = branch(0.40, "open")
+    _, s2 = branch(0.63, "short")
+    b3, s3 = branch(0.31, "open")
+    match = line.match()
+    first = [arm]
+    second = [line.shunt(s1), line.shunt(s2), arm, plug, line.line(0.52 - 2 * hw.family.plug_mm * 1e-3, "m"),
+              plug, arm]
+    third = [line.shunt(s3), arm]
+
+    def cascade(parts):
+        net = parts[0]
+        for p in parts[1:]:
+            net = net ** p
+        return net
+
+    e = math.sqrt(8 * 50.0 * p_w)
+    zin = cascade(first + second + third + [match]).z[0, 0, 0]
+    v1 = e * zin / (zin + 50.0)
+    state = np.array([v1, v1 / zin])
+    v_j1 = np.linalg.solve(cascade(first).a[0], state)
+    v_j2 = np.linalg.solve(cascade(first + second).a[0], state)
+    nodes = {n.where: n.voltage_peak_v for n in pc.nodes}
+    assert nodes["radio port"] == pytest.approx(abs(v1), rel=1e-6)
+    assert nodes["tee 1"] == pytest.approx(abs(v_j1[0]), rel=1e-6)
+    assert nodes["tee 2"] == pytest.approx(abs(v_j2[0]), rel=1e-6)
+    # the open stubs' end voltages: V_junction = A11 V_end (I_end = 0) along side arm, plug and cable
+    ends = {s.stub_id: s.end_voltage_peak_v for s in pc.stubs}
+    assert ends["F1-S1"] == pytest.approx(abs(v_j1[0] / b1.a[0, 0, 0]), rel=1e-6)
+    assert ends["F1-S3"] == pytest.approx(abs(v_j2[0] / b3.a[0, 0, 0]), rel=1e-6)
+    # every connector section is listed with the UHF rating (500 V peak, from memory) and margin
+    conn = {c.where: c for c in pc.connectors}
+    assert set(conn) == {"tee 1", "F1-S1 plug", "F1-S2 plug", "F1-L1 plugs", "tee 2", "F1-S3 plug"}
+    assert pc.connector_family == "uhf" and pc.connector_rating_peak_v == 500.0
+    assert conn["tee 1"].voltage_peak_v >= abs(v_j1[0]) - 1e-9  # the junction is on the tee body
+    for c in pc.connectors:
+        assert c.margin == pytest.approx(500.0 / c.voltage_peak_v)
+        assert (f"{c.where}: " in " ".join(pc.warnings)) == (c.margin < 2.0)
+    doc = pc.to_json()
+    json.dumps(doc, allow_nan=False)
+    assert doc["connectors"][0]["rating_peak_v"] == 500.0
+    assert "connectors (UHF, rated 500 V peak)" in format_power(pc)
+
+
+def test_connector_rating_from_the_site_and_each_family_has_a_source(tmp_path):
+    from notchkit.hardware import FAMILIES
+    from notchkit.power import CONNECTOR_RATINGS
+    from notchkit.site import load_site
+    from notchkit.synthesis import design_request
+
+    for name in FAMILIES:
+        value, source = CONNECTOR_RATINGS[name]
+        assert value > 0 and ("from memory" in source or "common practice" in source)
+    site = tmp_path / "s.yaml"
+    site.write_text("site: Fictional Knoll\ncable: RG-213\ntransmitters:\n  - name: vhf\n"
+                    "    freq_mhz: 146.5\n    power_w: 50\nhardware: {family: uhf, connector_peak_v: 300}\n")
+    settings = load_site(site).hardware
+    assert settings.connector_peak_v == 300.0
+    (d,) = design_request([(144.0, 148.0)], [(430.0, 440.0)], power_w=1500.0, power_mhz=146.5,
+                          hardware=settings).designs
+    pc = d.power
+    assert pc.connector_rating_peak_v == 300.0
+    # 1500 W into 50 ohm is sqrt(2 P Z) = 387 V peak on a matched line: over a 300 V rating
+    assert any("EXCEEDS the UHF connectors' rating 300 V peak" in w for w in pc.warnings)

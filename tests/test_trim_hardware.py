@@ -1,8 +1,8 @@
 """The trim route on a plan made with UHF connection hardware.
 
-``sites/ridge-eoc.yaml`` with a ``hardware: {family: uhf}`` block added (a
-copy; the example itself keeps the classic model, docs/hardware.md says why)
-is planned by the library's own :func:`notchkit.siteplan.plan`. Each stub is then
+``sites/ridge-eoc.yaml`` (UHF connection hardware, ``hardware: {family: uhf}``,
+also the default without a block) is planned by the library's own
+:func:`notchkit.siteplan.plan`. Each stub is then
 "measured" with scikit-rf as built: its PL-259 plug (35 ohm, 15 mm, the plan
 JSON's figures), its RG-213 cable (``DefinedGammaZ0``, the library's loss
 figures) and its open end or its short with 3 nH (tests/hw_bench.py), cut to
@@ -24,7 +24,6 @@ from notchkit.cables import get_cable
 from notchkit.planfile import read_plan
 
 ROOT = Path(__file__).resolve().parents[1]
-UHF = "\nhardware:\n  family: uhf\n"
 
 
 @pytest.fixture(scope="module")
@@ -32,8 +31,8 @@ def uhf_plan(tmp_path_factory):
     from notchkit.siteplan import plan
 
     folder = tmp_path_factory.mktemp("ridge-uhf")
-    site = folder / "ridge-eoc-uhf.yaml"
-    site.write_text((ROOT / "sites" / "ridge-eoc.yaml").read_text() + UHF)
+    site = ROOT / "sites" / "ridge-eoc.yaml"
+    assert "\nhardware:\n  family: uhf\n" in site.read_text()
     return plan(site, folder / "plan.pdf", outdir=folder / "out")
 
 

@@ -2,8 +2,9 @@
 
 The plan is written by the library's own :func:`notchkit.siteplan.plan` for the
 example site ``sites/ridge-eoc.yaml`` (it has shorted stubs many quarter
-waves long). Each stub's trim command is taken from the plan's printed
-trimming steps, run through the command line's ``main`` on a measurement of
+waves long; UHF connection hardware), and for the tee-allowance route on a copy
+with ``hardware: {family: ideal}`` (the classic model). Each stub's trim command
+is taken from the plan's printed trimming steps, run through the command line's ``main`` on a measurement of
 that stub synthesised with scikit-rf's own line model
 (``skrf.media.DefinedGammaZ0``, ``gamma = alpha + j 2 pi f / (c VF)``,
 ``alpha`` from the cable library's published loss figures, seeded noise 1e-3)
@@ -47,6 +48,22 @@ def ridge(tmp_path_factory):
     folder = tmp_path_factory.mktemp("ridge")
     res = plan(ROOT / "sites" / "ridge-eoc.yaml", folder / "plan.pdf", outdir=folder / "out")
     return res
+
+
+@pytest.fixture(scope="module")
+def ridge_ideal(tmp_path_factory):
+    """The same site on the classic model, ``hardware: {family: ideal}`` with a 30 mm tee
+    allowance (the route a site takes that measured its tees instead of naming them)."""
+    from notchkit.siteplan import plan
+
+    folder = tmp_path_factory.mktemp("ridge-ideal")
+    text = (ROOT / "sites" / "ridge-eoc.yaml").read_text()
+    assert "\nhardware:\n  family: uhf\n" in text and "\nallowances:\n" in text
+    text = text.replace("\nhardware:\n  family: uhf\n", "\nhardware:\n  family: ideal\n")
+    text = text.replace("\nallowances:\n", "\nallowances:\n  tee_allowance_m: 0.030\n")
+    site = folder / "ridge-eoc-ideal.yaml"
+    site.write_text(text)
+    return plan(site, folder / "plan.pdf", outdir=folder / "out")
 
 
 def printed_commands(res):
@@ -94,7 +111,10 @@ def run(capsys, argv):
 
 @pytest.mark.parametrize("ports", [1, 2], ids=["s1p-alone", "s2p-tee"])
 @pytest.mark.parametrize("vf_true", [0.66, 0.645], ids=["vf-nominal", "vf-2pct-slow"])
-def test_printed_trim_commands_give_the_true_cut(ridge, tmp_path, capsys, monkeypatch, ports, vf_true):
+def test_printed_trim_commands_give_the_true_cut(ridge_ideal, tmp_path, capsys, monkeypatch, ports, vf_true):
+    # the classic model's route (the tee allowance); the example's own UHF hardware route is
+    # tests/test_trim_hardware.py
+    ridge = ridge_ideal
     doc = read_plan(ridge.outdir / "plan.json")
     cable = get_cable("RG-213")  # the site's cable; its loss figures make the measurement lossy
     commands = printed_commands(ridge)
@@ -181,10 +201,11 @@ def test_the_six_quarter_wave_stub_is_not_called_too_short(ridge, tmp_path, caps
     assert len(err.strip().splitlines()) == 1
 
 
-def test_plan_lengths_allowance_and_overrides(ridge, tmp_path, capsys, monkeypatch):
+def test_plan_lengths_allowance_and_overrides(ridge_ideal, tmp_path, capsys, monkeypatch):
     # A shorted stub several quarter waves long through the tee (the shortest such on the site's
     # designs): the electrical path is the cut cable plus the tee allowance, so scikit-rf's shunt
-    # stub is built with the bench length + allowance.
+    # stub is built with the bench length + allowance (the classic model: hardware: {family: ideal}).
+    ridge = ridge_ideal
     doc = read_plan(ridge.outdir / "plan.json")
     stub = min((s for f in doc.filters for s in f.stubs if s.termination == "short" and s.quarter_waves >= 2),
                key=lambda s: s.quarter_waves)

@@ -1,10 +1,11 @@
 """`notchkit verify` and the diagnosis on measurements of built filters made with scikit-rf.
 
 The plan is a real one, written by :func:`notchkit.siteplan.plan` for the example
-site ``sites/ridge-eoc.yaml``. Each "measurement" is that plan's filter built
-with scikit-rf's own line model (``skrf.media.DefinedGammaZ0``: ``line``,
-``shunt_delay_open``, ``shunt_delay_short``; ``gamma = alpha + j 2 pi f /
-(c VF)`` with ``alpha`` from the cable library's published loss figures), with
+site ``sites/ridge-eoc.yaml`` (UHF connection hardware). Each "measurement" is that
+plan's filter built, with its tee arms, plugs and shorts' inductance as scikit-rf
+lines and inductors (tests/hw_bench.py), on scikit-rf's own line model
+(``skrf.media.DefinedGammaZ0``: ``line``, ``shunt_delay_open``, ``shunt_delay_short``;
+``gamma = alpha + j 2 pi f / (c VF)`` with ``alpha`` from the cable library's published loss figures), with
 a known fault put in (one stub 1 % long, a cable of another velocity factor, a
 stub's end swapped, three times the loss) and seeded complex noise of 1e-3 on
 S (a calibrated hobby analyser), written as Touchstone and read back.
@@ -28,6 +29,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 import skrf
+from hw_bench import filter_network
 from skrf.media import DefinedGammaZ0
 
 from notchkit.cables import get_cable
@@ -59,12 +61,25 @@ def sweep_hz(rec, points=801):
 
 def build(rec, *, scale=None, vf=None, swap=None, loss=1.0, extra_open_m=None, ports=2, seed=0,
           noise=1e-3):
-    """The plan's filter built with scikit-rf media, with the asked fault, plus noise."""
+    """The plan's filter built with scikit-rf media, with the asked fault, plus noise; with the
+    plan's connection hardware (its tee arms, plugs and the short's inductance, tests/hw_bench.py)
+    when the plan names one."""
     cable = get_cable(rec.cable.type)
     vf = vf or rec.cable.velocity_factor
     freq = skrf.Frequency.from_f(sweep_hz(rec), unit="hz")
     gamma = loss * cable.alpha_np_per_m(freq.f) + 1j * 2 * np.pi * freq.f / (C * vf)
     media = DefinedGammaZ0(frequency=freq, z0=cable.z0_ohm, z0_port=50.0, gamma=gamma)
+    fj = rec.to_json()
+    if (fj.get("model") or {}).get("hardware") is not None:
+        fj["cable"]["velocity_factor"] = vf
+        for e in fj["elements"]:
+            e["length_m"] *= (scale or {}).get(e["id"], 1.0)
+            if e["id"] == swap:
+                e["termination"] = "short" if e["termination"] == "open" else "open"
+        if extra_open_m:
+            fj["elements"].append({"kind": "stub", "termination": "open", "length_m": extra_open_m})
+        net = filter_network(fj, freq.f, cable=_Lossier(cable, loss))
+        return _noisy(net, media, noise, seed, ports)
     parts = []
     for e in rec.elements:
         length = e.length_m * (scale or {}).get(e.id, 1.0)
@@ -79,6 +94,21 @@ def build(rec, *, scale=None, vf=None, swap=None, loss=1.0, extra_open_m=None, p
     net = parts[0]
     for p in parts[1:]:
         net = net ** p
+    return _noisy(net, media, noise, seed, ports)
+
+
+class _Lossier:
+    """A cable with its published loss times ``scale``."""
+
+    def __init__(self, cable, scale):
+        self.cable, self.scale = cable, scale
+        self.z0_ohm, self.velocity_factor = cable.z0_ohm, cable.velocity_factor
+
+    def alpha_np_per_m(self, f):
+        return self.scale * self.cable.alpha_np_per_m(f)
+
+
+def _noisy(net, media, noise, seed, ports):
     rng = np.random.default_rng(seed)
     shape = net.s.shape
     net.s = net.s + noise * (rng.standard_normal(shape) + 1j * rng.standard_normal(shape)) / math.sqrt(2)

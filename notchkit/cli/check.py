@@ -113,7 +113,7 @@ def _hardware_lines(site) -> list[str]:
     ceiling = getattr(site, "depth_ceiling_db", None) or DEFAULT_DEPTH_CEILING_DB
     out = []
     if hw is None:
-        out.append("Hardware: ideal tees with the tee allowance (no hardware: block)")
+        out.append("Hardware: ideal tees with the tee allowance (hardware: {family: ideal})")
     else:
         f = hw.family
         line = getattr(site.hardware, "line_model", "classic")

@@ -59,7 +59,8 @@ def add_parser(sub) -> None:
     g.add_argument("--yield-target-pct", metavar="PCT", type=str, default=None,
                    help="share of simulated builds that must meet, percent (default 90)")
     g.add_argument("--tee-allowance-mm", metavar="MM", type=str, default=None,
-                   help="electrical length of each tee and its connectors, mm of stub cable (default 30)")
+                   help="with --hardware ideal: electrical length of each tee and its connectors, mm of "
+                        "stub cable (default 30)")
     g.add_argument("--trim-margin-pct", metavar="PCT", type=str, default=None,
                    help="first cut this much long, percent (default 3)")
     g.add_argument("--cut-tolerance-mm", metavar="MM", type=str, default=None,
@@ -67,6 +68,12 @@ def add_parser(sub) -> None:
     p.add_argument("--load", metavar="FILE", default=None,
                    help="the antenna's impedance, a .s1p or an R+jX table (freq_mhz r_ohm x_ohm); "
                         "without a site file")
+    p.add_argument("--hardware", metavar="FAMILY", choices=("uhf", "n", "bnc", "ideal"), default=None,
+                   help="connection hardware for --pass/--notch designs: uhf (default, as for a site "
+                        "without hardware:), n, bnc, or ideal (ideal tees with --tee-allowance-mm); "
+                        "docs/hardware.md")
+    p.add_argument("--line-model", choices=("classic", "rlgc"), default=None,
+                   help="line model for --pass/--notch designs (default classic; rlgc: internal inductance)")
     p.add_argument("--calibration", metavar="SPOOL.json", action="append", default=[],
                    help="a cable spool measured by `notchkit trim --spool` (repeatable, one per cable "
                         "type; with a site file): lengths use its VF and loss")
@@ -175,9 +182,12 @@ def run(args) -> int:
         check_dir_writable(args.touchstone, "--touchstone")
     if args.site is not None:
         given = [n for n in _AD_HOC if getattr(args, n, None) is not None]
-        if args.pass_bands or args.notches or args.cable or args.max_stubs is not None or given or args.load:
-            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load and the "
-                             "ad-hoc limits, not both (a site file sets its limits and allowances itself)")
+        adhoc = (args.pass_bands or args.notches or args.cable or args.max_stubs is not None or given
+                 or args.load or args.hardware or args.line_model)
+        if adhoc:
+            raise UsageError("give either SITE.yaml or --pass/--notch/--cable/--max-stubs/--load/--hardware "
+                             "and the ad-hoc limits, not both (a site file sets its limits, allowances "
+                             "and hardware itself)")
         from notchkit.site import load_site
 
         report = design(load_site(args.site), progress=progress, calibration=args.calibration)
@@ -198,8 +208,12 @@ def run(args) -> int:
 
         cable = get_cable(args.cable or DEFAULT_CABLE)
         limits, allowances, power_w, power_mhz = ad_hoc_settings(args, passes)
+        if args.tee_allowance_mm is not None and args.hardware != "ideal":
+            raise UsageError("--tee-allowance-mm: give it with --hardware ideal (with connector hardware "
+                             "the tee's arms and plugs are modelled, docs/hardware.md)")
         report = design_request(passes, notches, cable=cable, limits=limits, allowances=allowances,
-                                power_w=power_w, power_mhz=power_mhz, progress=progress, load=args.load)
+                                power_w=power_w, power_mhz=power_mhz, progress=progress, load=args.load,
+                                hardware=args.hardware or "uhf", line_model=args.line_model or "classic")
     if progress is not None:
         progress.done()
     written: tuple[Path, ...] = ()

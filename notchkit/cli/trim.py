@@ -141,7 +141,10 @@ def format_text(result) -> str:
             f"({FLAGS.get(result.length_source or '', result.length_source)})"
             + (f" + {result.allowance_m:.4f} m allowance" if result.allowance_m else "")
             + f"; effective VF {result.velocity_factor:.4f} "
-            f"(nominal {result.nominal_velocity_factor:.3f})"
+            f"(phase velocity at the measured {result.velocity_factor_at_mhz:.4f} MHz; nominal "
+            f"{result.nominal_velocity_factor:.3f}"
+            + (f", RLGC line {result.expected_velocity_factor:.4f} there)" if result.line_model == "rlgc"
+               and result.expected_velocity_factor is not None else ")")
         )
         cut = result.cut_m
         lines.append(

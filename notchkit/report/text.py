@@ -548,6 +548,13 @@ def power_lines(d: Any) -> tuple[str, ...]:
                 f"({_location(req)}); stub voltages stay at receive levels.",)
     out = [f"Delivered {pw.delivered_w:.1f} W, to the antenna side {pw.output_w:.1f} W, "
            f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
+    if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel
+        top = max(pw.connectors, key=lambda c: c.voltage_peak_v)
+        rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak, margin {top.margin:.1f}x"
+                 if top.margin is not None else "no rating known")
+        out.append(f"Connectors ({(pw.connector_family or '').upper()}): highest {top.voltage_peak_v:.0f} V "
+                   f"peak at {top.where} ({rated}); "
+                   + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V" for c in pw.connectors) + ".")
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
     out += [n[:1].upper() + n[1:] for n in pw.notes]

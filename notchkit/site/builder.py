@@ -413,7 +413,8 @@ class Builder(CrossRefs):
 
             d = top["hardware"][0]
             opts = _opt(d, tuple(SECTIONS["hardware"]))
-            for key, allowed in (("family", tuple(FAMILIES)), ("line_model", ("classic", "rlgc"))):
+            families = (*FAMILIES, m.IDEAL_HARDWARE)
+            for key, allowed in (("family", families), ("line_model", ("classic", "rlgc"))):
                 if key in opts:
                     opts[key] = str(opts[key]).lower()
                     if opts[key] not in allowed:

@@ -68,6 +68,13 @@ DEFAULT_MAX_STUB_REJECTION_DB = 40.0
 """Notch depth one coax stub plausibly gives at a site, dB (common practice: 30-45 dB,
 less with lossy cable or a wide notch band)."""
 DEFAULT_CABLE = "RG-213"
+DEFAULT_HARDWARE_FAMILY = "uhf"
+"""Connection hardware of a site's filters when the file has no ``hardware:`` block: UHF
+(PL-259 plugs, SO-239 tees and barrels), the connector of most amateur HF-VHF radios,
+amplifiers, tuners and coax switches (common practice); docs/hardware.md."""
+IDEAL_HARDWARE = "ideal"
+"""``hardware: {family: ideal}``: ideal junctions with the tee allowance (the classic model,
+kept for comparison and for checks against textbook line formulas)."""
 """Stub cable when a site file names none: a common 50-ohm solid-PE cable."""
 
 DEFAULT_NEAR_FIELD_ISOLATION_DB = 0.0
@@ -268,15 +275,23 @@ class RadioLoad:
 
 @dataclass(frozen=True, slots=True, kw_only=True)
 class HardwareSettings:
-    """The connection hardware of the site's filters (notchkit.hardware; docs/hardware.md)."""
+    """The connection hardware of the site's filters (notchkit.hardware; docs/hardware.md).
 
-    family: str = "uhf"
+    A site without ``hardware:`` gets these defaults: UHF tees and plugs
+    (:data:`DEFAULT_HARDWARE_FAMILY`). ``family: ideal`` (:data:`IDEAL_HARDWARE`) keeps the
+    classic model for comparison: ideal junctions with the tee allowance.
+    """
+
+    family: str = DEFAULT_HARDWARE_FAMILY
+    """``uhf``, ``n``, ``bnc`` (notchkit.hardware.FAMILIES) or ``ideal``."""
     z_pair_ohm: float | None = None
     plug_mm: float | None = None
     tee_through_mm: float | None = None
     tee_side_mm: float | None = None
     short_nh: float | None = None
     barrels_per_port: int = 0
+    connector_peak_v: float | None = None
+    """Working voltage of the connectors, V peak; ``None``: the family's (notchkit.power)."""
     line_model: str = "classic"
     """``classic`` (lossless-VF line with the cable's loss) or ``rlgc`` (notchkit.rlgc)."""
 
@@ -362,8 +377,9 @@ class Site:
     scenarios: tuple[Scenario, ...] = ()
     """Which radios can be active at once; empty: all of them at once."""
     near_field_isolation_db: float = DEFAULT_NEAR_FIELD_ISOLATION_DB
-    hardware: HardwareSettings | None = None
-    """``None``: ideal tees with the tee allowance (the classic model)."""
+    hardware: HardwareSettings | None = field(default_factory=lambda: HardwareSettings())
+    """Default: UHF hardware (``HardwareSettings()``); ``family: ideal`` or ``None``: ideal tees with
+    the tee allowance (the classic model)."""
     depth_ceiling_db: float | None = None
     """Cap on claimed notch depth, dB; ``None``: notchkit.hardware.DEFAULT_DEPTH_CEILING_DB."""
 

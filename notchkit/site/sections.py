@@ -208,7 +208,7 @@ SECTIONS: dict[str, dict[str, Field]] = {
         ),
         "hardware": SectionField(section="hardware",
                           doc="Connectors, tees and the short of the filters (docs/hardware.md); "
-                          "default: ideal tees with the tee allowance."),
+                          "default (no block): UHF tees and plugs, the classic line."),
         "depth_ceiling_db": NumberField(num=Num(lo=20.0, hi=150.0, unit="dB"), default=None,
             doc="Deepest notch the design may claim, dB (leakage, analyser range; docs/hardware.md); "
             "the survey asks no deeper notch of stubs (more is not a stub job); default: 60 dB.",
@@ -437,7 +437,9 @@ SECTIONS: dict[str, dict[str, Field]] = {
         ),
     },
     "hardware": {
-        "family": TextField(default="uhf", doc="Connector family: uhf, n or bnc."),
+        "family": TextField(default=m.DEFAULT_HARDWARE_FAMILY,
+                            doc="Connector family: uhf, n or bnc; ideal: ideal junctions with the "
+                            "tee allowance (the classic model, for comparison)."),
         "z_pair_ohm": NumberField(num=Num(lo=10.0, hi=150.0, unit="ohm"), default=None,
                             doc="Impedance of a mated connector pair and the tee body; "
                             "default: the family's."),
@@ -451,6 +453,9 @@ SECTIONS: dict[str, dict[str, Field]] = {
                           doc="Inductance of a stub's short, nH; default: 3 nH."),
         "barrels_per_port": NumberField(num=Num(lo=0, hi=4, integer=True), default=0,
                                   doc="Barrels at each filter port."),
+        "connector_peak_v": NumberField(num=Num(lo=10.0, hi=100_000.0, unit="V"), default=None,
+                                  doc="Working voltage of the connectors, tees and barrels, V peak (the "
+                                  "power check); default: the family's (uhf 500, n 1000, bnc 500)."),
         "line_model": TextField(default="classic",
                             doc="classic (lossless-VF line) or rlgc (internal inductance, complex Z0)."),
     },
