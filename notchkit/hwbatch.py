@@ -42,8 +42,9 @@ from notchkit.lines import C0
 
 _CHUNK_POINTS = 1 << 14
 """Candidate-chunk size in points (as :mod:`notchkit.filters`): scratch stays in cache."""
-_DISTINCT_POINTS = 1024
-"""Smallest chunk (candidates x frequencies) worth looking for shared stub lengths."""
+_DISTINCT_POINTS = 2048
+"""Smallest chunk (candidates x frequencies) worth looking for shared stub lengths: on
+hilltop-repeaters' design 4 % less CPU than never looking, 512-4096 within noise of each other."""
 _CACHE_MAX = 32
 """Grids (and models) whose frequency-only parts are kept, least recently used dropped first."""
 _PARTS: dict[tuple, tuple[Any, _Parts]] = {}
