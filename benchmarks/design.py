@@ -5,6 +5,16 @@ design (solver, cut list, tolerance run, power check), wall-clock and CPU time o
 of the wall-clock time to the 1 s target. On a shared machine the wall clock
 includes time other processes took; the CPU column is this process's own.
 Not a timed test: run ``python benchmarks/design.py [SITE.yaml ...]``.
+
+``python benchmarks/design.py --hardware-ratio [--repeat N] [SITE.yaml ...]``
+instead designs every filter of each site twice, taking turns, ``N`` times
+(default 3): on the classic model (the bare cable and the depth ceiling: the
+fast core) and on the connection-hardware model (the site's ``hardware:``
+block, line model and loads; a site without a block gets the default
+hardware, UHF), and prints per site the sum over its filters of each
+filter's least CPU time (the machine is shared: turns filter by filter, and
+the least of ``N``, keep other jobs' bursts out) and the ratio, hardware /
+classic, measured in this one run.
 """
 
 from __future__ import annotations
@@ -15,7 +25,7 @@ import time
 from pathlib import Path
 
 from notchkit.cables import get_cable
-from notchkit.hardware import model_for
+from notchkit.hardware import DEFAULT_FAMILY, Hardware, model_for
 from notchkit.requirements import FilterRequirement, NotchSpec
 from notchkit.site import load_site
 from notchkit.site.model import Allowances, Band, Limits
@@ -54,8 +64,66 @@ def _row(label, req, cable, limits, allowances, fid):
     return wall_d
 
 
+def _models(site, req):
+    """The classic model and the hardware model of one filter (the cable as notchkit.design gives it)."""
+    radio = next((r for r in site.radios if r.name == req.radio), None)
+    hw = getattr(site, "hardware", None)
+    model = model_for(get_cable(req.cable, site.cables), settings=hw, load=getattr(radio, "load", None),
+                      depth_ceiling_db=getattr(site, "depth_ceiling_db", None))
+    classic = dataclasses.replace(model, hardware=None, load=None, source=None, rlgc=False)
+    if model.hardware is None and not getattr(model.cable, "balanced", False):
+        model = dataclasses.replace(model, hardware=Hardware.of(DEFAULT_FAMILY))
+    return classic, model
+
+
+def hardware_ratio(sites: list[Path], repeat: int) -> None:
+    """Per site: the filters' design CPU time on the classic and the hardware model, and the ratio."""
+    print(f"design CPU time, classic model vs connection hardware: each filter designed on both in turn "
+          f"{repeat} times, the least of each, summed over the site")
+    print(f"{'site':32s} {'filters':>7s} {'hardware':>16s} {'classic s':>10s} {'hardware s':>11s} "
+          f"{'hw/classic':>10s}")
+    total = [0.0, 0.0]
+    for path in sites:
+        site = load_site(path)
+        sv = survey(site)
+        jobs = []
+        for i, req in enumerate(sv.filters, start=1):
+            classic, model = _models(site, req)
+            hw_allow = dataclasses.replace(site.allowances, tee_allowance_m=0.0)
+            jobs.append((req, f"F{i}", (classic, site.allowances), (model, hw_allow)))
+        best = [0.0, 0.0]
+        for req, fid, *variants in jobs:  # each filter on both models in turn, the least of each
+            least = [float("inf"), float("inf")]
+            for _ in range(repeat):
+                for k in (0, 1):
+                    cable, allowances = variants[k]
+                    t0 = time.process_time()
+                    design_filter(req, cable=cable, limits=site.limits, allowances=allowances, filter_id=fid)
+                    least[k] = min(least[k], time.process_time() - t0)
+            best[0] += least[0]
+            best[1] += least[1]
+        kind = jobs[0][3][0] if jobs else None
+        label = "-" if kind is None or kind.hardware is None else (
+            kind.hardware.family.name.upper() + (", RLGC" if kind.rlgc else ""))
+        print(f"{path.name:32s} {len(jobs):7d} {label:>16s} {best[0]:10.3f} {best[1]:11.3f} "
+              f"{best[1] / max(best[0], 1e-9):10.2f}")
+        total[0] += best[0]
+        total[1] += best[1]
+    print(f"{'all':32s} {'':7s} {'':>16s} {total[0]:10.3f} {total[1]:11.3f} "
+          f"{total[1] / max(total[0], 1e-9):10.2f}")
+    print("target: hardware / classic within about 1.2")
+
+
 def main(argv: list[str]) -> None:
     import scipy.optimize  # noqa: F401  (import once, outside the timings)
+
+    if argv and argv[0] == "--hardware-ratio":
+        argv = argv[1:]
+        repeat = 3
+        if len(argv) >= 2 and argv[0] == "--repeat":
+            repeat, argv = int(argv[1]), argv[2:]
+        hardware_ratio([Path(a) for a in argv] or sorted((ROOT / "sites").glob("*.yaml")), repeat)
+        return
 
     sites = [Path(a) for a in argv] or sorted((ROOT / "sites").glob("*.yaml"))
     print("nominal: meets as designed; yield: build yield; meets: both, at the yield target")

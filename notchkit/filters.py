@@ -1,9 +1,11 @@
-"""A stub filter as ordered elements, and its fast batched evaluation.
+"""A stub filter's fast batched evaluation; the filter types and its S-parameters re-exported.
 
-A filter runs from the radio side (port 1) to the antenna side (port 2). Its
-elements are shunt stubs (open or shorted, at a tee) and series line sections.
-Consecutive stubs with no line between them share one tee: their admittances
-add at one node, which is exactly what cascading their shunt ABCD matrices does.
+The filter itself (:class:`Stub`, :class:`Line`, :class:`Filter`, the
+:class:`Medium` protocol) is defined in :mod:`notchkit.filterdef`; its
+reference S-matrix, scikit-rf Network and Touchstone file
+(:func:`evaluate`, :func:`to_network`, :func:`touchstone_text`,
+:func:`write_touchstone`) in :mod:`notchkit.sparams`. All are re-exported here,
+where the rest of the program imports them.
 
 The medium is anything with ``z0_ohm``, ``velocity_factor`` and
 ``alpha_np_per_m(freq_hz)`` (a :class:`notchkit.cables.Cable`, or a user's
@@ -19,26 +21,28 @@ from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass
-from pathlib import Path
-from typing import Any, Literal, Protocol
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from notchkit.cables import Cable
-from notchkit.elements import LINE, Kind, kind_of
 from notchkit.elements import MIN_MODEL_LENGTH_M as MIN_MODEL_LENGTH_M  # re-exported
+from notchkit.elements import Kind, kind_of
 from notchkit.errors import DesignError
-from notchkit.fileio import write_text_atomic
-from notchkit.lines import (
-    C0,
-    abcd_to_s,
-    cascade,
-    gamma,
-)
+from notchkit.filterdef import Element as Element
+from notchkit.filterdef import Filter as Filter
+from notchkit.filterdef import Line as Line
+from notchkit.filterdef import Medium as Medium
+from notchkit.filterdef import Stub as Stub
+from notchkit.filterdef import Termination as Termination
+from notchkit.filterdef import check_freq
+from notchkit.lines import C0, gamma
+from notchkit.sparams import evaluate as evaluate
+from notchkit.sparams import to_network as to_network
+from notchkit.sparams import touchstone_text as touchstone_text
+from notchkit.sparams import write_touchstone as write_touchstone
 
-Termination = Literal["open", "short"]
 KINDS = ("open", "short", "line")
 """The kind names (:data:`notchkit.elements.KINDS` holds the kind objects)."""
 _CHUNK_POINTS = 1 << 14  # candidate-chunk size in points: scratch stays in cache, few Python steps
@@ -85,117 +89,6 @@ def _thread_pool():
 
         _pool = ThreadPoolExecutor(max_workers=_threads, thread_name_prefix="notchkit-eval")
     return _pool
-
-
-class Medium(Protocol):
-    """What the filter model needs to know about a cable."""
-
-    @property
-    def z0_ohm(self) -> float: ...
-
-    @property
-    def velocity_factor(self) -> float: ...
-
-    def alpha_np_per_m(self, freq_hz: ArrayLike) -> NDArray[np.float64]: ...
-
-
-@dataclass(frozen=True, slots=True, kw_only=True)
-class Stub:
-    """A shunt stub at a tee.
-
-    ``length_m`` is the full electrical path in metres of the stub's cable,
-    from the tee's reference plane to the stub's end, tee allowance included.
-    """
-
-    termination: Termination
-    length_m: float
-
-    def __post_init__(self) -> None:
-        if self.termination not in ("open", "short"):
-            raise DesignError(f"stub termination {self.termination!r} must be 'open' or 'short'")
-        _check_length(self.length_m, "stub")
-
-    @property
-    def kind(self) -> Kind:
-        return kind_of(self.termination)
-
-
-@dataclass(frozen=True, slots=True, kw_only=True)
-class Line:
-    """A series line section of the filter's cable between two tees."""
-
-    length_m: float
-
-    def __post_init__(self) -> None:
-        _check_length(self.length_m, "line section")
-
-    @property
-    def kind(self) -> Kind:
-        return LINE
-
-
-Element = Stub | Line
-
-
-def _check_freq(f: NDArray[np.float64]) -> None:
-    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f <= 0):
-        raise DesignError("frequencies must be finite and > 0 Hz")
-
-
-def _check_length(length_m: float, what: str) -> None:
-    if not np.isfinite(length_m) or length_m < 0:
-        raise DesignError(f"{what} length {length_m!r} m must be finite and >= 0")
-
-
-@dataclass(frozen=True, slots=True, kw_only=True)
-class Filter:
-    """A stub filter: elements from the radio side to the antenna side on one cable."""
-
-    elements: tuple[Element, ...]
-    cable: Medium
-    tee_allowance_m: float = 0.0
-
-    def __post_init__(self) -> None:
-        if not self.elements:
-            raise DesignError("a filter needs at least one element")
-        if not any(isinstance(e, Stub) for e in self.elements):
-            raise DesignError("a filter needs at least one stub")
-
-    @property
-    def kinds(self) -> tuple[Kind, ...]:
-        return tuple(e.kind for e in self.elements)
-
-    @property
-    def lengths_m(self) -> NDArray[np.float64]:
-        return np.array([e.length_m for e in self.elements], dtype=float)
-
-    @property
-    def stubs(self) -> tuple[Stub, ...]:
-        return tuple(e for e in self.elements if isinstance(e, Stub))
-
-    @property
-    def total_cable_m(self) -> float:
-        """All cable the filter uses: stubs (as cut) and line sections."""
-        return float(sum(self.cut_length_m(e) if isinstance(e, Stub) else e.length_m
-                         for e in self.elements))
-
-    def cut_length_m(self, stub: Stub) -> float:
-        """Length of cable to cut for ``stub``: its path less the tee allowance."""
-        return stub.length_m - self.tee_allowance_m
-
-    def tees(self) -> list[list[int]]:
-        """Indices of the stubs at each tee, radio side first."""
-        groups: list[list[int]] = []
-        open_group = False
-        for i, e in enumerate(self.elements):
-            if isinstance(e, Stub):
-                if not open_group:
-                    groups.append([])
-                    open_group = True
-                groups[-1].append(i)
-            else:
-                open_group = False
-        return groups
 
 
 def evaluate_batch(
@@ -289,7 +182,7 @@ def _sweep_for(f: NDArray[np.float64], cable: Medium) -> _Sweep:
         hit = _SWEEPS.get(key)
         if hit is not None and hit[0] is cable:
             return hit[1]
-    _check_freq(f)
+    check_freq(f)
     sweep = _Sweep(f, cable)
     if key is not None:
         if len(_SWEEPS) >= _SWEEPS_MAX:
@@ -620,80 +513,3 @@ def _combine(x, k, y, out):
     np.multiply(x, k, out=out)
     out += y
     return out
-
-
-def evaluate(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0) -> NDArray[np.complex128]:
-    """Full 2x2 S-matrix of one filter, shape ``(n_freq, 2, 2)``.
-
-    Built from explicit ABCD matrices (:mod:`notchkit.lines`), independent of
-    the batched path; the tests check that both agree.
-
-    Notes
-    -----
-    A line section's ABCD matrix is written as ``(e^{gl} / 2) M'`` with
-    ``M' = [[1 + q, Z0 (1 - q)], [(1 - q) / Z0, 1 + q]]`` and ``q = e^{-2 gl}``
-    (``|q| <= 1`` on a passive line), so the cascade stays finite for any
-    length; the collected scalar ``e^{gl} / 2`` only scales the transmission
-    terms. Every element is reciprocal (det = 1), so ``S12 = S21``.
-    """
-    f = np.asarray(freq_hz, dtype=float).ravel()
-    _check_freq(f)
-    if hasattr(filt.cable, "abcd") and not getattr(filt.cable, "is_plain", True):  # a hardware.Model
-        # The filter with its hardware between z_system ports (no load, no ceiling: a Touchstone
-        # file describes the filter itself).
-        a, b, c, d = filt.cable.abcd(filt.kinds, filt.lengths_m[None, :], f)
-        return abcd_to_s(np.stack([np.stack([a[0], b[0]], -1), np.stack([c[0], d[0]], -1)], -2),
-                         z_system, z_system)
-    g = gamma(f, filt.cable.alpha_np_per_m(f), filt.cable.velocity_factor)
-    z0 = float(filt.cable.z0_ohm)
-    mats = []
-    log_scale = np.zeros(f.size, dtype=complex)
-    for e in filt.elements:
-        mat, scale = e.kind.abcd(z0, g, e.length_m)
-        mats.append(mat)
-        log_scale = log_scale + scale
-    s = abcd_to_s(cascade(*mats), z_system, z_system)
-    shrink = np.exp(-np.minimum(log_scale.real, 700.0) - 1j * log_scale.imag)
-    s21 = s[:, 1, 0] * shrink
-    s[:, 1, 0] = s21
-    s[:, 0, 1] = s21
-    return s
-
-
-def to_network(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0, name: str = "filter"):
-    """The filter as a scikit-rf :class:`skrf.Network` over ``freq_hz``."""
-    import skrf
-
-    f = np.asarray(freq_hz, dtype=float).ravel()
-    freq = skrf.Frequency.from_f(f, unit="hz")
-    return skrf.Network(frequency=freq, s=evaluate(filt, f, z_system), z0=z_system, name=name)
-
-
-def touchstone_text(filt: Filter, freq_hz: ArrayLike, z_system: float = 50.0, comment: str = "",
-                    name: str = "filter") -> str:
-    """The filter's S-parameters as Touchstone ``.s2p`` text (dB / angle), by scikit-rf."""
-    net = to_network(filt, freq_hz, z_system, name=name)
-    text = net.write_touchstone(return_string=True, skrf_comment=False, write_z0=False, form="db")
-    if comment:
-        text = "".join(f"! {line}\n" for line in comment.splitlines()) + text
-    return text
-
-
-def write_touchstone(
-    filt: Filter,
-    freq_hz: ArrayLike,
-    path: str | os.PathLike,
-    z_system: float = 50.0,
-    comment: str = "",
-) -> Path:
-    """Write the filter's S-parameters as a Touchstone ``.s2p`` file, atomically.
-
-    The file is written to a temporary name in the same folder and renamed into
-    place, so a reader sees the old file or the new one, never a partial one.
-    """
-    path = Path(path)
-    if path.suffix.lower() != ".s2p":
-        path = path.with_suffix(".s2p")
-    text = touchstone_text(filt, freq_hz, z_system, comment, name=path.stem)
-    write_text_atomic(path, text, what="Touchstone file")
-    return path

@@ -569,64 +569,19 @@ def trim(
     stub = filt = None
     if plan_path is not None:
         filt, stub = read_plan(plan_path).stub(str(stub_id))
-    if hardware is None and filt is not None:
-        hardware = (filt.extra.get("model") or {}).get("hardware")
-    hw = None
-    if hardware is not None:
-        try:
-            hw = HardwareStub.from_json(hardware, _z0(filt, cable_obj))
-        except (KeyError, TypeError, ValueError, AttributeError) as exc:
-            raise named(UsageError(f"hardware: {hardware!r} is not a connection hardware model ({exc}; "
-                                   "allowed: a notchkit.hardware.Hardware or a plan's model.hardware)"),
-                        "hardware") from None
-    if hw is not None and allowance_m:
-        raise named(UsageError(f"allowance_m: {allowance_m!r} is not used with connection hardware (the "
-                               "tee's side arm is modelled); leave it out"), "allowance_m")
+    hw = _hardware_stub(hardware, filt, cable_obj, allowance_m)
     if stub is None and termination not in ("open", "short"):
         raise named(UsageError(f"termination: {termination!r} must be 'open' or 'short'"), "termination")
     ntwk = read_measurement(measurement_path)
     label = str(measurement_path)
-    ports = int(ntwk.nports)
-    tgt = plan_target(stub, ports=ports, termination=termination, target_mhz=target_mhz,
+    tgt = plan_target(stub, ports=int(ntwk.nports), termination=termination, target_mhz=target_mhz,
                       quarter_waves=quarter_waves, length_m=length_m, plan_length=plan_length,
                       allowance_m=allowance_m)
-    n0 = tgt.quarter_waves or _default_quarter_waves(ports, tgt.termination)
-    if hw is not None and ports == 2 and target_mhz is None and stub is not None and filt is not None:
-        # the plan's trim resonance is the stub's alone at its plug: move it to the tee's junction
-        vf_plan = float(filt.cable.velocity_factor)
-        f_tee = hw.resonance_hz(stub.cut_length_m - hw.plug_m, vf_plan, tgt.termination, n0, 2,
-                                tgt.target_mhz * 1e6)
-        tgt = replace(tgt, target_mhz=f_tee / 1e6,
-                      target_source=f"plan {stub.id} resonance alone, moved to the tee's junction "
-                                    f"({hw.tee_side_m * 1000:g} mm side arm)")
-    res = _measure(ntwk, tgt, label)
-    if hw is not None and ports == 2:
-        # the frequency from the stub branch at the junction (the arms taken off); depth and Q
-        # stay those of the notch
-        at_junction = _measure(hw.junction_impedance(ntwk), replace(tgt, quarter_waves=n0), label)
-        res = replace(res, freq_hz=at_junction.freq_hz)
+    tgt, res = _resonance_step(ntwk, tgt, hw, stub, filt, label, plan_target_given=target_mhz is not None)
     n = tgt.quarter_waves or _default_quarter_waves(res.ports, tgt.termination)
     ratio = res.freq_mhz / tgt.target_mhz
     notes = _resonance_warnings(res, ratio, n, expected_q(cable_obj, res.freq_hz), cable_obj)
-    vf = target_len = cut = None
-    if tgt.present_length_m is not None and not tgt.present_length_m + tgt.allowance_m <= MAX_LENGTH_M:
-        raise named(UsageError(f"{tgt.length_source}: {tgt.present_length_m:g} m (+ {tgt.allowance_m:g} m "
-                               f"allowance) is longer than any stub (allowed: at most {MAX_LENGTH_M:g} m)"),
-                    "length_m")
-    if tgt.present_length_m is not None:
-        if hw is None:
-            le = tgt.present_length_m + tgt.allowance_m
-            vf = effective_vf(le, res.freq_hz, n)
-            check_vf(vf, quarter_waves=n, electrical_length_m=le, resonance_hz=res.freq_hz,
-                     nominal=float(cable_obj.velocity_factor))
-            target_len, cut = cut_for_target(tgt.present_length_m, tgt.allowance_m, res.freq_mhz,
-                                             tgt.target_mhz)
-        else:  # the cable's own VF and length, the plug, the short and the tee's side arm modelled
-            vf, target_len = hardware_inversion(hw, tgt.present_length_m, res.freq_hz, tgt.target_mhz * 1e6,
-                                                tgt.termination, n, ports)
-            check_vf(vf, quarter_waves=n, electrical_length_m=tgt.present_length_m - hw.plug_m,
-                     resonance_hz=res.freq_hz, nominal=float(cable_obj.velocity_factor))
-            cut = tgt.present_length_m - target_len
+    vf, target_len, cut = _length_step(tgt, res, hw, n, cable_obj)
     line_model = str(((filt.extra.get("model") or {}).get("line_model") if filt is not None else None)
                      or "classic")
     expected_vf = expected_phase_vf(cable_obj, res.freq_hz, line_model) if vf is not None else None
@@ -648,6 +603,72 @@ def trim(
     if png_path is not None:
         plot_measurement(ntwk, result, png_path)
     return result
+
+
+def _hardware_stub(hardware: Any, filt: Any, cable_obj: Any,
+                   allowance_m: float | None) -> HardwareStub | None:
+    """The stub's connection hardware: given, else the plan filter's ``model.hardware``, else none."""
+    if hardware is None and filt is not None:
+        hardware = (filt.extra.get("model") or {}).get("hardware")
+    if hardware is None:
+        return None
+    try:
+        hw = HardwareStub.from_json(hardware, _z0(filt, cable_obj))
+    except (KeyError, TypeError, ValueError, AttributeError) as exc:
+        raise named(UsageError(f"hardware: {hardware!r} is not a connection hardware model ({exc}; "
+                               "allowed: a notchkit.hardware.Hardware or a plan's model.hardware)"),
+                    "hardware") from None
+    if hw is not None and allowance_m:
+        raise named(UsageError(f"allowance_m: {allowance_m!r} is not used with connection hardware (the "
+                               "tee's side arm is modelled); leave it out"), "allowance_m")
+    return hw
+
+
+def _resonance_step(ntwk: Any, tgt: TrimTarget, hw: HardwareStub | None, stub: Any, filt: Any, label: str,
+                    *, plan_target_given: bool) -> tuple[TrimTarget, Resonance]:
+    """The measured resonance nearest the target (and the target itself, moved to the tee's
+    junction when the plan's stub-alone figure is compared with a through-tee sweep)."""
+    ports = int(ntwk.nports)
+    n0 = tgt.quarter_waves or _default_quarter_waves(ports, tgt.termination)
+    if hw is not None and ports == 2 and not plan_target_given and stub is not None and filt is not None:
+        # the plan's trim resonance is the stub's alone at its plug: move it to the tee's junction
+        vf_plan = float(filt.cable.velocity_factor)
+        f_tee = hw.resonance_hz(stub.cut_length_m - hw.plug_m, vf_plan, tgt.termination, n0, 2,
+                                tgt.target_mhz * 1e6)
+        tgt = replace(tgt, target_mhz=f_tee / 1e6,
+                      target_source=f"plan {stub.id} resonance alone, moved to the tee's junction "
+                                    f"({hw.tee_side_m * 1000:g} mm side arm)")
+    res = _measure(ntwk, tgt, label)
+    if hw is not None and ports == 2:
+        # the frequency from the stub branch at the junction (the arms taken off); depth and Q
+        # stay those of the notch
+        at_junction = _measure(hw.junction_impedance(ntwk), replace(tgt, quarter_waves=n0), label)
+        res = replace(res, freq_hz=at_junction.freq_hz)
+    return tgt, res
+
+
+def _length_step(tgt: TrimTarget, res: Resonance, hw: HardwareStub | None, n: int,
+                 cable_obj: Any) -> tuple[float | None, float | None, float | None]:
+    """``(velocity_factor, target_length_m, cut_m)``; all ``None`` without a present length."""
+    if tgt.present_length_m is None:
+        return None, None, None
+    if not tgt.present_length_m + tgt.allowance_m <= MAX_LENGTH_M:
+        raise named(UsageError(f"{tgt.length_source}: {tgt.present_length_m:g} m (+ {tgt.allowance_m:g} m "
+                               f"allowance) is longer than any stub (allowed: at most {MAX_LENGTH_M:g} m)"),
+                    "length_m")
+    if hw is None:
+        le = tgt.present_length_m + tgt.allowance_m
+        vf = effective_vf(le, res.freq_hz, n)
+        check_vf(vf, quarter_waves=n, electrical_length_m=le, resonance_hz=res.freq_hz,
+                 nominal=float(cable_obj.velocity_factor))
+        target_len, cut = cut_for_target(tgt.present_length_m, tgt.allowance_m, res.freq_mhz, tgt.target_mhz)
+        return vf, target_len, cut
+    # the cable's own VF and length, the plug, the short and the tee's side arm modelled
+    vf, target_len = hardware_inversion(hw, tgt.present_length_m, res.freq_hz, tgt.target_mhz * 1e6,
+                                        tgt.termination, n, res.ports)
+    check_vf(vf, quarter_waves=n, electrical_length_m=tgt.present_length_m - hw.plug_m,
+             resonance_hz=res.freq_hz, nominal=float(cable_obj.velocity_factor))
+    return vf, target_len, tgt.present_length_m - target_len
 
 
 def _z0(filt: Any, cable: Any) -> float:
