@@ -36,7 +36,10 @@ Velocity factor
     One draw per sample, uniform within ``+-vf_spread`` (the same reel of
     cable for every piece of one filter). ``vf_spread=None`` takes the cable's
     published ``vf_tolerance``, else 0.01. It moves the untrimmed pieces only
-    (a trimmed stub is trimmed on the cable it is made of).
+    (a trimmed stub is trimmed on the cable it is made of), and of each piece
+    only its cable: the connector plugs a hardware model's lengths include
+    (:func:`notchkit.modelreport.element_plugs_m`) keep their own electrical
+    length (the same holds for drift).
     The draws are sorted into ``VF_BINS`` equal bins across the spread; each
     bin is evaluated on the cable with the bin's centre velocity factor (same
     impedance and loss per metre), and the small rest of each draw
@@ -82,6 +85,7 @@ from notchkit.errors import DesignError
 from notchkit.filters import Filter, evaluate_batch
 from notchkit.jsonvalues import finite
 from notchkit.lines import C0, swr_from_s11
+from notchkit.modelreport import element_plugs_m
 from notchkit.requirements import NotchSpec
 from notchkit.site.model import DEFAULT_MAX_INSERTION_LOSS_DB, DEFAULT_MAX_SWR, Band
 
@@ -443,17 +447,23 @@ def _draw(filt: Filter, run: _Run, trimmed: Sequence[bool] | None, seed: int) ->
     n_bins = VF_BINS if spread > 0 else 1
     bin_of = np.minimum(((u + 1.0) * 0.5 * n_bins).astype(int), n_bins - 1)
     vf_bin = vf0 + ((bin_of + 0.5) * 2.0 / n_bins - 1.0) * spread if spread > 0 else np.full(n_samples, vf0)
+    # Only the cable part of a piece scales with the cable's VF: the plugs a hardware model's
+    # lengths include are hardware with their own VF (modelreport.element_plugs_m).
+    plugs = element_plugs_m(filt.cable, filt.kinds)[None, :]
     # untrimmed: the piece as cut, on this sample's cable (VF vf), expressed on the bin's cable
-    drawn = np.maximum(nominal[None, :] + cut_err, 0.0) * (vf_bin / vf)[:, None]
+    cut = np.maximum(nominal[None, :] + cut_err, 0.0)
+    drawn = np.minimum(cut, plugs) + np.maximum(cut - plugs, 0.0) * (vf_bin / vf)[:, None]
     if trim_mask.any():
         # trimmed: the electrical length the analyser says is right (nominal at vf0, read
-        # within +-f_err %), plus the last step left on; on the bin's cable
+        # within +-f_err %), plus the last step left on; its cable part on the bin's cable
         read = rng.uniform(-1.0, 1.0, size=(n_samples, n_el)) * (run.f_err / 100.0)
         left = rng.uniform(0.0, 1.0, size=(n_samples, n_el)) * (run.step_trim * 1e-3)
         electrical = nominal[None, :] * (1.0 + read) + left
-        drawn = np.where(trim_mask[None, :], electrical * (vf_bin / vf0)[:, None], drawn)
-    if run.drift > 0:
-        drawn *= 1.0 + rng.uniform(-1.0, 1.0, size=(n_samples, 1)) * (run.drift / 100.0)
+        on_bin = plugs + np.maximum(electrical - plugs, 0.0) * (vf_bin / vf0)[:, None]
+        drawn = np.where(trim_mask[None, :], on_bin, drawn)
+    if run.drift > 0:  # the cable's dielectric drifts, not the plugs'
+        scale = 1.0 + rng.uniform(-1.0, 1.0, size=(n_samples, 1)) * (run.drift / 100.0)
+        drawn = np.minimum(drawn, plugs) + np.maximum(drawn - plugs, 0.0) * scale
     return _Builds(drawn=drawn, bin_of=bin_of, vf_bin=vf_bin, n_bins=n_bins, trim_mask=trim_mask)
 
 

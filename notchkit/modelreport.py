@@ -34,6 +34,16 @@ def stub_plug_m(cable: Any) -> float:
     return hw.family.plug_mm * 1e-3 if hw is not None else 0.0
 
 
+def element_plugs_m(cable: Any, kinds: Any) -> np.ndarray:
+    """Length of connector plug each element's ``length_m`` includes under ``cable``'s hardware,
+    metres: a stub's one plug, a line section's two (0 on a plain cable). The plugs are hardware
+    with their own velocity factor: a cable VF that is not the plan's moves only the rest."""
+    from notchkit.elements import kind_of
+
+    plug = stub_plug_m(cable)
+    return np.array([plug if kind_of(k).shunt else 2.0 * plug for k in kinds], dtype=float)
+
+
 def reference_plane(filt: Any) -> str:
     """Where every cut length of ``filt`` is measured from (stated in the cut list)."""
     hw = getattr(filt.cable, "hardware", None) if isinstance(filt.cable, Model) else None

@@ -283,3 +283,44 @@ def test_drift_lowers_the_yield_of_a_narrow_margin():
     calm = tolerance(filt, notch, samples=4000, trimmed=[True])
     warm = tolerance(filt, notch, samples=4000, trimmed=[True], drift_pct=1.0)
     assert warm.probability_all < calm.probability_all and warm.drift_pct == 1.0
+
+
+def test_a_trimmed_stub_keeps_its_plug_whatever_the_reels_velocity_factor():
+    """With connector hardware a stub's length includes its plug, which is hardware with its own
+    velocity factor: a stub trimmed exactly to its resonance (no reading error, no step left on)
+    on a reel of any VF is electrically the same stub, so every build gives the nominal notch
+    (its loss aside). The check builds the stub with scikit-rf (tests/hw_bench.py: PTFE plug,
+    tee arms, cable on ``DefinedGammaZ0``) on the two extreme reels, its cable cut to the same
+    electrical length ``l_c VF / VF_0`` (electrical length goes as l / VF, Pozar sec. 2.3):
+    the simulated builds must lie between those two."""
+    from hw_bench import filter_network
+
+    from notchkit.hardware import Hardware, Model
+
+    cable = get_cable("RG-213")
+    hw = Hardware.of("uhf")
+    model = Model(cable=cable, hardware=hw, depth_ceiling_db=None)
+    plug = hw.family.plug_mm * 1e-3
+    vf0, spread = cable.velocity_factor, 0.02
+    length = plug + C * vf0 / (4 * 440e6)  # a quarter wave of cable at 440 MHz behind the plug
+
+    def skrf_s21(vf, f_hz):
+        fj = {"elements": [{"kind": "stub", "termination": "open",
+                            "length_m": plug + (length - plug) * vf / vf0}],
+              "cable": {"type": cable.name, "z0_ohm": cable.z0_ohm, "velocity_factor": vf},
+              "model": {"hardware": hw.to_json(), "line_model": "classic"}}
+        return np.abs(filter_network(fj, f_hz, cable=cable).s[:, 1, 0])
+
+    sweep = np.linspace(300e6, 500e6, 4001)
+    f_notch = float(sweep[np.argmin(skrf_s21(vf0, sweep))])  # the tee arms and plug pull it down
+    band = np.array([f_notch - 1e6, f_notch + 1e6])  # the band's worst is at an edge (monotone skirts)
+    ends = [float(np.min(-20 * np.log10(skrf_s21(vf0 + d, band)))) for d in (-spread, spread)]
+    filt = Filter(elements=(Stub(termination="open", length_m=length),), cable=model, tee_allowance_m=0.0)
+    t = tolerance(filt, [NotchSpec(lo_mhz=band[0] / 1e6, hi_mhz=band[1] / 1e6, required_db=3.0)],
+                  cut_tolerance_mm=5.0, vf_spread=spread, samples=400, seed=5, trimmed=[True],
+                  trim_step_mm=0.0, trim_freq_error_pct=0.0)
+    n = t.notches[0]
+    assert 30.0 < min(ends) and max(ends) - min(ends) < 0.2  # a deep notch, the same on every reel
+    # scaling the 15 mm plug with the reel (about 0.2 mm at the extremes) put p05 near 35 dB
+    for got in (n.p05_worst_db, n.median_worst_db):
+        assert min(ends) - 0.02 <= got <= max(ends) + 0.02
