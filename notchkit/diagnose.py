@@ -15,7 +15,11 @@ Method
    the model (:func:`notchkit.filters.evaluate_batch`, the design's own
    model), at up to :data:`MAX_FIT_POINTS` of the sweep's own frequencies.
    Magnitudes do not depend on where the analyser's reference planes are.
-2. Every element's electrical length is ``k_i`` times the plan's. A coarse scan
+2. Every element's cable is ``k_i`` times the plan's electrically. With
+   connection hardware a piece's length includes its plugs (one for a stub,
+   two for a line section), which are hardware with their own velocity
+   factor: they stay as planned and ``k_i`` scales only the cable behind
+   them (:func:`notchkit.modelreport.element_plugs_m`). A coarse scan
    of one common ``k`` (all pieces long or short together: a velocity factor
    that is not the plan's) and then of each ``k_i`` alone finds the basin; the
    least-squares fit of all ``k_i`` and a loss scale (times the cable's
@@ -25,7 +29,8 @@ Method
    with a lower velocity factor look the same. With two or more pieces, the
    median ``k`` is taken as the cable's (``VF = VF_plan / k``) when it is
    clear of 1, and each piece's error in millimetres is what is left,
-   ``(k_i / k - 1) L_i``. With one piece both readings are given.
+   ``(k_i / k - 1) L_i`` (``L_i`` its cable, plugs excluded). With one piece
+   both readings are given.
 4. The standard errors come from the fit's Jacobian (``(J^T J)^-1 s^2``); a
    piece is named when its error exceeds both :data:`REPORT_MM` and three
    standard errors.
@@ -69,7 +74,7 @@ class ElementFit:
     planned_m: float
     """The plan's electrical path (a stub's includes the tee allowance), m."""
     factor: float
-    """Fitted over planned electrical length."""
+    """Fitted over planned electrical length of the element's cable (its plugs held as planned)."""
     error_mm: float
     """Physical length error once the cable's VF is accounted for, mm (+: long)."""
     error_sd_mm: float
@@ -140,6 +145,7 @@ class _Problem:
                  s21: np.ndarray | None, s11: np.ndarray, z_system: float, hardware: Any = None) -> None:
         self.kinds, self.planned, self.cable, self.f = kinds, planned, cable, f
         self.hardware = hardware
+        self.plugs = _plugs(cable, hardware, kinds)  # fixed: hardware with its own VF
         self.m21 = None if s21 is None else np.abs(s21)
         self.m11 = np.abs(s11)
         self.z = z_system
@@ -154,7 +160,8 @@ class _Problem:
             from notchkit.hardware import Model
 
             medium = Model(cable=medium, hardware=self.hardware, depth_ceiling_db=None)
-        s21, s11 = evaluate_batch(self.kinds, k * self.planned, medium, self.f, self.z)
+        lengths = self.plugs + k * np.maximum(self.planned - self.plugs, 0.0)
+        s21, s11 = evaluate_batch(self.kinds, lengths, medium, self.f, self.z)
         r = [np.abs(s11) - self.m11]
         if self.m21 is not None:
             r.insert(0, np.abs(s21) - self.m21)
@@ -162,6 +169,16 @@ class _Problem:
 
     def cost(self, k: np.ndarray, loss: float = 1.0) -> np.ndarray:
         return np.sum(self.model(k, loss) ** 2, axis=1)
+
+
+def _plugs(cable: Any, hardware: Any, kinds: tuple[str, ...]) -> np.ndarray:
+    """The plug length each element's planned length includes, m (0 without hardware)."""
+    if hardware is None:
+        return np.zeros(len(kinds))
+    from notchkit.hardware import Model
+    from notchkit.modelreport import element_plugs_m
+
+    return element_plugs_m(Model(cable=cable, hardware=hardware, depth_ceiling_db=None), kinds)
 
 
 def _scan(p: _Problem) -> np.ndarray:
@@ -253,7 +270,8 @@ def diagnose(record: Any, network: Any, *, cable: Any = None, z_system: float = 
     k, loss, cost, cov, swap_i, prob = best
     rows = prob.model(k, loss).size
     rms = math.sqrt(cost / rows)
-    return _interpret(record, prob.kinds, k, loss, cov, rms, swap_i, float(cab.velocity_factor), f.size)
+    return _interpret(record, prob.kinds, k, loss, cov, rms, swap_i, float(cab.velocity_factor), f.size,
+                      prob.plugs)
 
 
 def plan_hardware(record: Any) -> Any:
@@ -272,23 +290,24 @@ def plan_hardware(record: Any) -> Any:
 
 
 def _interpret(record: Any, kinds: tuple[str, ...], k: np.ndarray, loss: float, cov: np.ndarray, rms: float,
-               swap_i: int | None, vf0: float, points: int) -> Diagnosis:
+               swap_i: int | None, vf0: float, points: int, plugs: np.ndarray) -> Diagnosis:
     n = k.size
     sd_k = np.sqrt(np.clip(np.diag(cov)[:n], 0.0, None))
     loss_sd = loss * math.sqrt(max(float(cov[n, n]), 0.0))
     ids = [e.id for e in record.elements]
     planned = np.array([e.length_m for e in record.elements], dtype=float)
+    cable_m = np.maximum(planned - plugs, 0.0)  # what k scales: each piece's cable, plugs held
     common, vf = 1.0, None
     if n >= 2:
         med = float(np.median(k))
         # pieces that agree with the median within what the fit can tell (or REPORT_MM)
-        agree = np.abs(k - med) * planned * 1000.0 <= np.maximum(REPORT_MM, 3.0 * sd_k * planned * 1000.0)
+        agree = np.abs(k - med) * cable_m * 1000.0 <= np.maximum(REPORT_MM, 3.0 * sd_k * cable_m * 1000.0)
         if abs(med - 1.0) > VF_CLEAR and int(agree.sum()) > n / 2:
             common, vf = med, vf0 / med
     elements = tuple(
         ElementFit(id=ids[i], kind=kinds[i], planned_m=float(planned[i]), factor=float(k[i]),
-                   error_mm=float((k[i] / common - 1.0) * planned[i] * 1000.0),
-                   error_sd_mm=float(sd_k[i] * planned[i] * 1000.0))
+                   error_mm=float((k[i] / common - 1.0) * cable_m[i] * 1000.0),
+                   error_sd_mm=float(sd_k[i] * cable_m[i] * 1000.0))
         for i in range(n))
     if rms > MAX_RMS:
         return Diagnosis(rms_residual=rms, elements=elements, velocity_factor=None, plan_velocity_factor=vf0,

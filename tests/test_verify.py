@@ -249,6 +249,18 @@ def test_wrong_velocity_factor_is_the_cable_not_a_piece(ridge, tmp_path, fid):
     assert any("velocity factor" in x for x in d.findings)
 
 
+@pytest.mark.parametrize(("fid", "vf"), [("F2", 0.645), ("F5", 0.627)])
+def test_a_spool_of_another_vf_moves_the_cable_not_the_plugs(ridge, tmp_path, fid, vf):
+    # The build (tests/hw_bench.py) keeps each PTFE plug (VF 1/sqrt(2.1), handbook permittivity)
+    # whatever the cable's VF; RG-213's published 0.66 (cable library), spools 2.3 % and 5 % slower.
+    # Fitting the plugs with the cable read F2's 2.5 m stub as 5.8 mm too long at VF 0.645.
+    rec = ridge.filter(fid)
+    net = build(rec, vf=vf, seed=11)
+    d = verify(write(net, tmp_path, fid), plan_path=plan_path(ridge), filter_id=fid, diagnose=True).diagnosis
+    assert d.refused is None and d.faulty == () and d.velocity_factor == pytest.approx(vf, abs=0.0005)
+    assert all(abs(e.error_mm) <= 0.5 for e in d.elements), [(e.id, e.error_mm) for e in d.elements]
+
+
 @pytest.mark.parametrize(("fid", "stub"), [("F3", "F3-S1"), ("F2", "F2-S2")])
 def test_swapped_open_short_is_named(ridge, tmp_path, capsys, fid, stub):
     rec = ridge.filter(fid)
