@@ -17,6 +17,9 @@ At distance ``d`` from a stub's end, with ``gamma`` the propagation constant
     shorted end:  V(d) = I_end Z0 sinh(gamma d),     I(d) = I_end cosh(gamma d)
                   I_end = V_tee / (Z0 sinh(gamma l))
 
+On the RLGC line (``line_model: rlgc``) ``gamma`` and ``Z0`` are the line's own at the
+carrier, ``Z0`` complex (:func:`notchkit.rlgc.line_constants`).
+
 The largest ``|V|`` over the stub is taken on a fine grid (at least 720
 points per wavelength, both ends included). The power a stub dissipates is
 ``Re(V_tee conj(I_in)) / 2`` at its input (peak phasors). All voltages and
@@ -319,8 +322,9 @@ def power_check(
     if not (math.isfinite(heat_limit) and heat_limit > 0):
         raise DesignError(f"heat_limit_w_per_m {heat_limit_w_per_m!r} must be > 0 W/m")
     a_c, a_d = _loss_split(cable, f_hz)
+    z_hf = float(cable.z0_ohm)  # R and G of the loss split (the RLGC line's own, notchkit.rlgc)
     rate = _Rating(rating_rms=rating, rating_peak=rating_peak, heat_limit=heat_limit,
-                   r_per_m=2.0 * a_c * z0, g_per_m=2.0 * a_d / z0)
+                   r_per_m=2.0 * a_c * z_hf, g_per_m=2.0 * a_d / z_hf)
     warnings_: list[str] = []
     cautions: list[str] = []
     stubs, lines_ = [], []
@@ -388,8 +392,12 @@ def _check_inputs(power_w: float, freq_mhz: float, z_system: float, power_is: st
         raise DesignError(f"power_is {power_is!r} must be 'available' or 'delivered'")
 
 
-def _line_at(filt: Filter, f_hz: float, freq_mhz: float, filter_id: str) -> tuple[complex, float, float]:
-    """``(gamma, Z0, wavelength)`` of the cable at the carrier; refuses a filter too lossy to model."""
+def _line_at(filt: Filter, f_hz: float, freq_mhz: float, filter_id: str) -> tuple[complex, complex, float]:
+    """``(gamma, Z0, wavelength)`` of the cable at the carrier; refuses a filter too lossy to model.
+
+    On the RLGC line (``line_model: rlgc``) both are the line's own at the carrier
+    (:func:`notchkit.rlgc.line_constants`): complex ``Z0`` and the slower ``gamma``, with or
+    without connection hardware, so the walk is the model the design was verified on."""
     cable: Any = filt.cable
     alpha = float(np.asarray(cable.alpha_np_per_m(f_hz)))
     total_m = sum(max(float(e.length_m), MIN_MODEL_LENGTH_M) for e in filt.elements)
@@ -400,12 +408,14 @@ def _line_at(filt: Filter, f_hz: float, freq_mhz: float, filter_id: str) -> tupl
             f"voltages (allowed: at most {MAX_MODEL_LOSS_NP * 8.685889638:.0f} dB of cable in one "
             "filter; a stub is a fraction of a wavelength to a few wavelengths long)")
     g = complex(gamma(f_hz, alpha, cable.velocity_factor))
-    if getattr(cable, "rlgc", False) and getattr(cable, "hardware", None) is not None:
-        g = complex(np.asarray(cable.line_constants(np.array([f_hz]))[1]).ravel()[0])
-    return g, float(cable.z0_ohm), C0 * cable.velocity_factor / f_hz
+    z0 = complex(float(cable.z0_ohm))
+    if getattr(cable, "rlgc", False):
+        zc, gc = cable.line_constants(np.array([f_hz]))
+        z0, g = complex(np.asarray(zc).ravel()[0]), complex(np.asarray(gc).ravel()[0])
+    return g, z0, C0 * cable.velocity_factor / f_hz
 
 
-def _walk(filt: Filter, g: complex, z0: float, z_system: float) -> _Walk:
+def _walk(filt: Filter, g: complex, z0: complex, z_system: float) -> _Walk:
     """The classic model: ideal junctions, the stubs' and line sections' cable only."""
     w = _Walk()
     v, i = 1.0 + 0j, 1.0 / z_system + 0j
@@ -436,7 +446,7 @@ def _through(z: complex, g: complex, length_m: float, v: complex,
     return complex(vd[-1]), complex(np.sinh(gl) / z * v + np.cosh(gl) * i), float(np.abs(vd).max())
 
 
-def _walk_hardware(filt: Filter, g: complex, z0: float, f_hz: float, z_system: float,
+def _walk_hardware(filt: Filter, g: complex, z0: complex, f_hz: float, z_system: float,
                    ids: tuple[str, ...]) -> _Walk:
     """The connection hardware model (notchkit.hardware.Model): barrels, tee arms, plugs and
     the short's inductance as in :meth:`Model.abcd`, each connector section's voltage kept."""
@@ -490,7 +500,7 @@ def _walk_hardware(filt: Filter, g: complex, z0: float, f_hz: float, z_system: f
     return w
 
 
-def _hw_branch(e: Stub, g: complex, z0: float, plug: tuple, side: tuple, short_h: float,
+def _hw_branch(e: Stub, g: complex, z0: complex, plug: tuple, side: tuple, short_h: float,
                w2: float) -> tuple[complex, tuple]:
     """A stub branch at its junction: admittance and, per 1 V at the junction, its cable end's
     ``(V, I)``, the cable's length, and the largest |V| on the side arm and on the plug."""
@@ -523,7 +533,7 @@ def _scale(w: _Walk, z_system: float, power_w: float, power_is: str,
     return k, float(k * k * p_in_unit), k * k * 0.5 / z_system  # |V2|^2 / (2 Z) with V2 = k
 
 
-def _stub_power(sid: str, idx: int, e: Stub, w: _Walk, k: float, g: complex, z0: float, wavelength: float,
+def _stub_power(sid: str, idx: int, e: Stub, w: _Walk, k: float, g: complex, z0: complex, wavelength: float,
                 rate: _Rating, warnings_: list[str], cautions: list[str]) -> StubPower:
     """One stub: its standing wave, heat, and the margins (warnings and cautions appended)."""
     vt, it = (k * x for x in w.stub_state[idx])
@@ -566,7 +576,7 @@ def _stub_power(sid: str, idx: int, e: Stub, w: _Walk, k: float, g: complex, z0:
     )
 
 
-def _line_power(lid: str, idx: int, e: Any, w: _Walk, k: float, g: complex, z0: float, wavelength: float,
+def _line_power(lid: str, idx: int, e: Any, w: _Walk, k: float, g: complex, z0: complex, wavelength: float,
                 rate: _Rating, warnings_: list[str]) -> LinePower:
     """One line section: the largest voltage along its cable and its heat."""
     vo, io, vi, ii = (k * x for x in w.line_state[idx])

@@ -363,3 +363,79 @@ def test_connector_rating_from_the_site_and_each_family_has_a_source(tmp_path):
     assert pc.connector_rating_peak_v == 300.0
     # 1500 W into 50 ohm is sqrt(2 P Z) = 387 V peak on a matched line: over a 300 V rating
     assert any("EXCEEDS the UHF connectors' rating 300 V peak" in w for w in pc.warnings)
+
+
+@pytest.mark.parametrize(("f_mhz", "hardware"), [(7.1, None), (14.2, None), (146.0, "uhf")])
+def test_rlgc_line_voltages_and_currents_use_its_complex_z0_against_scikit_rf(f_mhz, hardware):
+    # line_model: rlgc. scikit-rf's DistributedCircuit computes Z0 = sqrt((R + jwL)/(G + jwC)) and
+    # gamma = sqrt((R + jwL)(G + jwC)) (Pozar sec. 2.1) from the line's R, L, G, C per metre; the
+    # filter is then built on DefinedGammaZ0 with that complex Z0 (50-ohm ports) at 100 W available
+    # (source EMF sqrt(8 Z P)). Junction states are A^-1 (V1, I1) of the radio-side part; an open
+    # end's voltage is V_j / A11 and a short end's current V_j / A12 of the stub's own chain (Pozar
+    # table 4.1); a line section's voltage at its antenna end is that junction's.
+    import skrf
+    from skrf.media import DefinedGammaZ0, DistributedCircuit
+
+    from notchkit.hardware import Hardware, Model
+    from notchkit.rlgc import rlgc
+
+    cable = get_cable("RG-58")
+    hw = Hardware.of(hardware) if hardware else None
+    model = Model(cable=cable, hardware=hw, rlgc=True, depth_ceiling_db=None)
+    q = C * cable.velocity_factor / (4 * f_mhz * 1e6)
+    els = (Stub(termination="open", length_m=1.3 * q), Line(length_m=0.7 * q),
+           Stub(termination="short", length_m=2.0 * q))  # a shorted half wave passes
+    filt = Filter(elements=els, cable=model, tee_allowance_m=0.0)
+    p_w = 100.0
+    pc = power_check(filt, power_w=p_w, freq_mhz=f_mhz)
+    freq = skrf.Frequency.from_f([f_mhz * 1e6], unit="hz")
+    r, ell, g, c = rlgc(cable, freq.f)
+    dc = DistributedCircuit(frequency=freq, z0_port=50.0, R=r, L=ell, G=g, C=c)
+    z0c, gam = dc.z0_characteristic, dc.gamma
+    assert abs(z0c[0].imag) > 0.003 * abs(z0c[0]) or f_mhz > 100  # clearly complex at HF
+    line = DefinedGammaZ0(frequency=freq, z0_port=50.0, z0=z0c, gamma=gam)
+    plug_m = hw.family.plug_mm * 1e-3 if hw else 0.0
+    if hw:
+        from hw_bench import PTFE_VF, _media
+
+        _, arm, plug, _ = _hw_parts(freq, cable, hw)
+        side = _media(freq, hw.family.tee_z_ohm, PTFE_VF).line(hw.family.tee_side_mm * 1e-3, "m")
+    else:
+        arm = plug = side = line.thru()
+
+    def branch(length, term):  # junction -> side arm -> plug -> cable -> end
+        chain = side ** plug ** line.line(length - plug_m, "m")
+        if term == "short" and hw:
+            chain = chain ** line.inductor(hw.short_nh * 1e-9)
+        end = line.open() if term == "open" else line.short()
+        return chain, chain ** end
+
+    b1, s1 = branch(els[0].length_m, "open")
+    b3, s3 = branch(els[2].length_m, "short")
+    first = [arm]
+    second = [line.shunt(s1), arm, plug, line.line(els[1].length_m - 2 * plug_m, "m"), plug, arm]
+    third = [line.shunt(s3), arm, line.match()]
+
+    def cascade(parts):
+        net = parts[0]
+        for p in parts[1:]:
+            net = net ** p
+        return net
+
+    zin = cascade(first + second + third).z[0, 0, 0]
+    v1 = math.sqrt(8 * 50.0 * p_w) * zin / (zin + 50.0)
+    state = np.array([v1, v1 / zin])
+    v_j1 = np.linalg.solve(cascade(first).a[0], state)
+    v_j2 = np.linalg.solve(cascade(first + second).a[0], state)
+    stubs = {s.stub_id: s for s in pc.stubs}
+    assert {n.where: n.voltage_peak_v for n in pc.nodes}["tee 2"] == pytest.approx(abs(v_j2[0]), rel=1e-6)
+    assert stubs["F1-S1"].end_voltage_peak_v == pytest.approx(abs(v_j1[0] / b1.a[0, 0, 0]), rel=1e-6)
+    assert stubs["F1-S2"].end_current_peak_a == pytest.approx(abs(v_j2[0] / b3.a[0, 0, 1]), rel=1e-6)
+    # the largest voltage on the open stub: along its cable, V(x) = A11(x) V_end from the end
+    d = np.linspace(0.0, els[0].length_m - plug_m, 2001)
+    v_end = v_j1[0] / b1.a[0, 0, 0]
+    vmax = np.max(np.abs(v_end * np.cosh(gam[0] * d)))
+    assert stubs["F1-S1"].max_voltage_peak_v == pytest.approx(vmax, rel=1e-4)
+    # energy: the stubs and the line section take P (1 - |S11|^2 - |S21|^2)
+    s = cascade(first + second + [line.shunt(s3), arm]).s[0]
+    assert pc.total_dissipated_w == pytest.approx(p_w * (1 - abs(s[0, 0]) ** 2 - abs(s[1, 0]) ** 2), rel=1e-3)
