@@ -67,12 +67,12 @@ class Kind(str):
         """``(M, log_scale)``: the element's ABCD matrix is ``e^{log_scale} M``, shape (n, 2, 2)."""
         raise NotImplementedError
 
-    def admittance(self, z0: float, g: Any, length_m: float) -> Any:
+    def admittance(self, z0: complex, g: Any, length_m: float) -> Any:
         """Input admittance of a shunt element, siemens (reference physics)."""
         raise NotImplementedError
 
     # -- power hook (power.power_check) -----------------------------------------------------------
-    def standing_wave(self, v_tee: complex, z0: float, g: complex, length_m: float,
+    def standing_wave(self, v_tee: complex, z0: complex, g: complex, length_m: float,
                       d: np.ndarray) -> tuple[np.ndarray, np.ndarray, float, float]:
         """Shunt kinds: voltage and current phasors at distances ``d`` from the end, for
         ``v_tee`` at the tee, and the end's ``(|V|, |I|)``."""
