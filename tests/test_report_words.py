@@ -30,6 +30,9 @@ HEADINGS = {
     "requirements": ("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
     "cuts": ("Part", "Cable", "Kind", "First cut", "Final (mm)", "Final (in)", "Trim to (MHz)",
              "Trim (mm/MHz)", "Tee"),
+    "power": ("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
+              "Hottest (W/m)", "Rating (V pk)", "V margin"),
+    "power points": ("Where", "Part", "V (pk)", "Times matched", "Rating (V pk)", "V margin"),
 }
 STATE_WORDS = ("meets", "DOES NOT MEET")
 # Words the outputs used to disagree on: none of them may come back.
@@ -99,7 +102,8 @@ def _rows_after(text: str, heading_start: str) -> list[str]:
 def test_every_output_has_the_same_headings(outputs):
     term = outputs["terminal"]
     where = {"threats": term["survey"], "matrix": term["survey"], "filters": term["plan"],
-             "requirements": term["design"], "cuts": term["design"]}
+             "requirements": term["design"], "cuts": term["design"], "power": term["design"],
+             "power points": term["design"]}
     for table, heads in HEADINGS.items():
         for out in (where[table], outputs["pdf"], outputs["html"]):
             flat = _flat(out)
@@ -115,11 +119,17 @@ def test_terminal_rows_read_the_same_in_the_pdf_and_the_html(outputs):
         "threats": _rows_after(term["survey"], "#  Source"),
         "requirements": _rows_after(term["design"], "Band  "),
         "cuts": _rows_after(term["design"], "Part  "),
+        "power": _rows_after(term["design"], "Stub  "),
+        "power points": _rows_after(term["design"], "Where  "),
     }
     # ridge-eoc: 5 filters, 4 transmitters, 20 source-victim pairs (sites/ridge-eoc.yaml)
     assert len(rows["filters"]) == 5 and len(rows["matrix"]) == 4 and len(rows["threats"]) >= 10
     assert len(rows["requirements"]) >= 5
     assert len(rows["cuts"]) >= 11  # 11 stubs, and the line sections
+    # ridge-eoc: four transmitters' filters carry a carrier (F2-F5; 10 stubs), each with UHF hardware
+    assert len(rows["power"]) >= 10 and len(rows["power points"]) >= 4 * 4
+    assert any("connector (UHF)" in r for r in rows["power points"])
+    assert any("through line" in r for r in rows["power points"])
     for table, found in rows.items():
         for row in found:
             assert row in outputs["pdf"], (table, row)
@@ -140,6 +150,18 @@ def test_state_words_are_the_same_everywhere(outputs):
     for name, text in everything.items():
         for old in OLD_WORDS:
             assert not old.search(text), (name, old.pattern)
+
+
+def test_the_power_notes_read_the_same_in_every_output(outputs):
+    """The terminal prints the plan's power notes (delivered power, the highest connector, the
+    matched-load note) word for word, and none of its old one-off wording."""
+    design = outputs["terminal"]["design"]
+    notes = [_flat(x) for x in design.splitlines()
+             if x.strip().startswith(("Delivered ", "Connectors (UHF): highest", "Voltages assume"))]
+    assert len(notes) >= 3 * 4
+    for n in notes:
+        assert n in outputs["pdf"] and n in outputs["html"], n
+    assert "power check:" not in design and "W/m peak)" not in design
 
 
 def test_the_pdf_and_the_html_share_their_sections_and_warnings(outputs):

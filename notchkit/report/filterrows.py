@@ -51,6 +51,8 @@ class FilterText:
     cuts: Table
     tolerance: tuple[str, ...]
     power: Table | None
+    power_points: Table | None
+    """The through line's and the connectors' voltages (:func:`power_points_table`)."""
     power_lines: tuple[str, ...]
     trim_steps: tuple[str, ...]
     stub_labels: tuple[str, ...]
@@ -222,6 +224,8 @@ def tolerance_lines(d: Design, units: str = "both") -> tuple[str, ...]:
 
 
 def power_table(d: Design) -> Table | None:
+    """Each stub at the carrier: voltage, end voltage or current, heat (in all and the hottest
+    metre), against the cable's rating."""
     pw = getattr(d, "power", None)
     if pw is None:
         return None
@@ -230,13 +234,37 @@ def power_table(d: Design) -> Table | None:
     for s in pw.stubs:
         vm = DASH if s.voltage_margin is None else f"{s.voltage_margin:.1f}x"
         rows.append((s.stub_id, s.termination, f"{s.max_voltage_peak_v:.0f}", f"{s.end_voltage_peak_v:.0f}",
-                     f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}", rating, vm))
+                     f"{s.end_current_peak_a:.2f}", f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}",
+                     f"{s.peak_heat_w_per_m:.2f}", rating, vm))
     return Table(
-        title=f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz (peak values; matched antenna side)",
-        header=("Stub", "End", "Max V (pk)", "End V (pk)", "Max I (A pk)", "Heat (W)", "Rating (V pk)",
-                "V margin"),
-        rows=tuple(rows), align=("left", "left") + ("right",) * 6,
-        widths=(0.8, 0.55, 0.85, 0.85, 0.9, 0.75, 0.95, 0.75),
+        title=f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz on {pw.cable} (peak values; "
+              "matched antenna side)",
+        header=("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
+                "Hottest (W/m)", "Rating (V pk)", "V margin"),
+        rows=tuple(rows), align=("left", "left") + ("right",) * 8,
+        widths=(0.8, 0.55, 0.8, 0.8, 0.85, 0.85, 0.7, 0.9, 0.9, 0.7),
+    )
+
+
+def power_points_table(d: Design) -> Table | None:
+    """The through line's voltage at each port and tee (against a matched line), then every
+    connector's (tee body, plug, barrel) against the family's working voltage."""
+    pw = getattr(d, "power", None)
+    if pw is None or not (pw.nodes or getattr(pw, "connectors", ())):
+        return None
+    rows = [(n.where, "through line", f"{n.voltage_peak_v:.0f}", f"{n.ratio_to_matched:.2f}x", DASH, DASH)
+            for n in pw.nodes]
+    family = (getattr(pw, "connector_family", None) or "").upper()
+    part = f"connector ({family})" if family else "connector"
+    for c in getattr(pw, "connectors", ()):
+        rows.append((c.where, part, f"{c.voltage_peak_v:.0f}", DASH,
+                     DASH if c.rating_peak_v is None else f"{c.rating_peak_v:.0f}",
+                     DASH if c.margin is None else f"{c.margin:.1f}x"))
+    return Table(
+        title="Voltage along the through line and at the connectors (peak values)",
+        header=("Where", "Part", "V (pk)", "Times matched", "Rating (V pk)", "V margin"),
+        rows=tuple(rows), align=("left", "left", "right", "right", "right", "right"),
+        widths=(1.4, 1.3, 0.7, 0.9, 0.9, 0.7),
     )
 
 
@@ -248,13 +276,12 @@ def power_lines(d: Design) -> tuple[str, ...]:
                 f"({location_text(req)}); stub voltages stay at receive levels.",)
     out = [f"Delivered {pw.delivered_w:.1f} W, to the antenna side {pw.output_w:.1f} W, "
            f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
-    if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel
+    if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel (the table)
         top = max(pw.connectors, key=lambda c: c.voltage_peak_v)
         rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak, margin {top.margin:.1f}x"
                  if top.margin is not None else "no rating known")
         out.append(f"Connectors ({(pw.connector_family or '').upper()}): highest {top.voltage_peak_v:.0f} V "
-                   f"peak at {top.where} ({rated}); "
-                   + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V" for c in pw.connectors) + ".")
+                   f"peak at {top.where} ({rated}).")
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
     out += [n[:1].upper() + n[1:] + ("" if n.endswith(".") else ".") for n in pw.notes]
@@ -359,7 +386,8 @@ def filter_text(d: Design, units: str = "both", plan_json: str = "PLAN.json") ->
         filter_id=design_id(d), title=design_title(d), meets=meets,
         verdict=verdict_text(d),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
-        tolerance=tolerance_lines(d, units), power=power_table(d), power_lines=power_lines(d),
+        tolerance=tolerance_lines(d, units), power=power_table(d), power_points=power_points_table(d),
+        power_lines=power_lines(d),
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
         line_labels=tuple(line_labels), cable_label=cable_label,
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",
