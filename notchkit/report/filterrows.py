@@ -32,6 +32,7 @@ from notchkit.report.rows import (
 )
 
 if TYPE_CHECKING:
+    from notchkit.power import ConnectorVoltage, NodeVoltage
     from notchkit.requirements import FilterRequirement
     from notchkit.synthesis import Design
 
@@ -247,24 +248,41 @@ def power_table(d: Design) -> Table | None:
 
 
 def power_points_table(d: Design) -> Table | None:
-    """The through line's voltage at each port and tee (against a matched line), then every
-    connector's (tee body, plug, barrel) against the family's working voltage."""
+    """Voltage at each place along the filter, radio side first: the through line at each port
+    and tee (against a matched line) and every connector (tee body, plug, barrel) against the
+    family's working voltage; a tee has both on one row."""
     pw = getattr(d, "power", None)
-    if pw is None or not (pw.nodes or getattr(pw, "connectors", ())):
+    connectors = list(getattr(pw, "connectors", ()) or ())
+    if pw is None or not (pw.nodes or connectors):
         return None
-    rows = [(n.where, "through line", f"{n.voltage_peak_v:.0f}", f"{n.ratio_to_matched:.2f}x", DASH, DASH)
-            for n in pw.nodes]
+
+    def row(where: str, node: NodeVoltage | None, c: ConnectorVoltage | None) -> tuple[str, ...]:
+        line = ((DASH, DASH) if node is None
+                else (f"{node.voltage_peak_v:.0f}", f"{node.ratio_to_matched:.2f}x"))
+        if c is None:
+            return (where, *line, DASH, DASH, DASH)
+        return (where, *line, f"{c.voltage_peak_v:.0f}",
+                DASH if c.rating_peak_v is None else f"{c.rating_peak_v:.0f}",
+                DASH if c.margin is None else f"{c.margin:.1f}x")
+
+    rows = []
+    k = 0
+    for n in pw.nodes:  # the connectors up to the tee's own body, then the tee (or a port alone)
+        at = next((j for j in range(k, len(connectors)) if connectors[j].where == n.where), None)
+        if at is None:
+            rows.append(row(n.where, n, None))
+            continue
+        rows += [row(c.where, None, c) for c in connectors[k:at]]
+        rows.append(row(n.where, n, connectors[at]))
+        k = at + 1
+    rows += [row(c.where, None, c) for c in connectors[k:]]
     family = (getattr(pw, "connector_family", None) or "").upper()
-    part = f"connector ({family})" if family else "connector"
-    for c in getattr(pw, "connectors", ()):
-        rows.append((c.where, part, f"{c.voltage_peak_v:.0f}", DASH,
-                     DASH if c.rating_peak_v is None else f"{c.rating_peak_v:.0f}",
-                     DASH if c.margin is None else f"{c.margin:.1f}x"))
     return Table(
-        title="Voltage along the through line and at the connectors (peak values)",
-        header=("Where", "Part", "V (pk)", "Times matched", "Rating (V pk)", "V margin"),
-        rows=tuple(rows), align=("left", "left", "right", "right", "right", "right"),
-        widths=(1.4, 1.3, 0.7, 0.9, 0.9, 0.7),
+        title="Voltage along the filter (peak values): the through line at each port and tee, and "
+              + (f"every {family} connector" if family else "the connectors"),
+        header=("Where", "Line V (pk)", "Times matched", "Connector V (pk)", "Rating (V pk)", "V margin"),
+        rows=tuple(rows), align=("left", "right", "right", "right", "right", "right"),
+        widths=(1.4, 0.9, 0.9, 1.1, 0.9, 0.7),
     )
 
 
