@@ -32,8 +32,6 @@ HEADINGS = {
              "Trim (mm/MHz)", "Tee"),
     "power": ("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
               "Hottest (W/m)", "Rating (V pk)", "V margin"),
-    "power points": ("Where", "Line V (pk)", "Times matched", "Connector V (pk)", "Rating (V pk)",
-                     "V margin"),
 }
 STATE_WORDS = ("meets", "DOES NOT MEET")
 # Words the outputs used to disagree on: none of them may come back.
@@ -103,8 +101,7 @@ def _rows_after(text: str, heading_start: str) -> list[str]:
 def test_every_output_has_the_same_headings(outputs):
     term = outputs["terminal"]
     where = {"threats": term["survey"], "matrix": term["survey"], "filters": term["plan"],
-             "requirements": term["design"], "cuts": term["design"], "power": term["design"],
-             "power points": term["design"]}
+             "requirements": term["design"], "cuts": term["design"], "power": term["design"]}
     for table, heads in HEADINGS.items():
         for out in (where[table], outputs["pdf"], outputs["html"]):
             flat = _flat(out)
@@ -121,17 +118,13 @@ def test_terminal_rows_read_the_same_in_the_pdf_and_the_html(outputs):
         "requirements": _rows_after(term["design"], "Band  "),
         "cuts": _rows_after(term["design"], "Part  "),
         "power": _rows_after(term["design"], "Stub  "),
-        "power points": _rows_after(term["design"], "Where  "),
     }
     # ridge-eoc: 5 filters, 4 transmitters, 20 source-victim pairs (sites/ridge-eoc.yaml)
     assert len(rows["filters"]) == 5 and len(rows["matrix"]) == 4 and len(rows["threats"]) >= 10
     assert len(rows["requirements"]) >= 5
     assert len(rows["cuts"]) >= 11  # 11 stubs, and the line sections
     # ridge-eoc: four transmitters' filters carry a carrier (F2-F5; 10 stubs), each with UHF hardware
-    # each: both ports and every tee on the through line, and every stub's plug
-    assert len(rows["power"]) >= 10 and len(rows["power points"]) >= 4 * 4 + 10
-    assert sum(r.startswith(("radio port ", "antenna port ")) for r in rows["power points"]) == 2 * 4
-    assert sum(" plug " in f"{r} " for r in rows["power points"]) == len(rows["power"])
+    assert len(rows["power"]) == 10
     for table, found in rows.items():
         for row in found:
             assert row in outputs["pdf"], (table, row)
@@ -154,15 +147,24 @@ def test_state_words_are_the_same_everywhere(outputs):
             assert not old.search(text), (name, old.pattern)
 
 
-def test_the_power_notes_read_the_same_in_every_output(outputs):
-    """The terminal prints the plan's power notes (delivered power, the highest connector, the
-    matched-load note) word for word, and none of its old one-off wording."""
+def test_the_power_titles_and_notes_read_the_same_in_every_output(outputs):
+    """The terminal prints the plan's power-check titles (carrier, delivered power, heat) and
+    notes word for word: the through line's voltage at each port and tee, every connector's
+    voltage and margin, the connectors' rating and the matched-load note; and none of its old
+    one-off wording."""
     design = outputs["terminal"]["design"]
+    titles = [_flat(x).removesuffix(":") for x in design.splitlines()
+              if x.strip().startswith("Power check at ")]
     notes = [_flat(x) for x in design.splitlines()
-             if x.strip().startswith(("Delivered ", "Connectors (UHF): highest", "Voltages assume"))]
-    assert len(notes) >= 3 * 4
-    for n in notes:
-        assert n in outputs["pdf"] and n in outputs["html"], n
+             if x.strip().startswith(("Through line (peak", "Connectors (UHF, rated",
+                                      "Connectors (UHF) checked at every", "Voltages assume"))]
+    assert len(titles) == 4 and all(" W delivered, " in t for t in titles)  # F2-F5 carry a carrier
+    assert len(notes) == 4 * 4
+    # both ports of every filter with a carrier, and every stub's plug (F2-F5: 10 stubs)
+    assert sum(n.count(" port ") for n in notes if n.startswith("Through line")) == 2 * 4
+    assert sum(n.count(" plug ") for n in notes if n.startswith("Connectors (UHF, rated")) == 10
+    for line in (*titles, *notes):
+        assert line in outputs["pdf"] and line in outputs["html"], line
     assert "power check:" not in design and "W/m peak)" not in design
 
 

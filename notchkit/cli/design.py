@@ -258,7 +258,6 @@ def format_design(d: Design) -> str:
     from notchkit.report.filterrows import (
         cut_table,
         power_lines,
-        power_points_table,
         power_table,
         requirement_table,
         verdict_text,
@@ -288,9 +287,8 @@ def format_design(d: Design) -> str:
     if d.tolerance is not None:  # the plan's section of that name (the verdict points to it)
         lines.append(f"  {TOLERANCE}:")
         lines += ["    " + x for x in format_tolerance(d.tolerance).splitlines()]
-    if d.power is not None:  # the plan's power check: the stubs, the through line and connectors, notes
-        for table in (power_table(d), power_points_table(d)):
-            lines += table_lines(table, "  ") if table is not None else []
+    if d.power is not None and (table := power_table(d)) is not None:  # the plan's power check
+        lines += table_lines(table, "  ")
         lines += ["  " + x for x in power_lines(d)]
     if s.alternatives:
         lines.append("  alternatives (stubs, cable, smallest notch margin, build yield):")

@@ -32,7 +32,6 @@ from notchkit.report.rows import (
 )
 
 if TYPE_CHECKING:
-    from notchkit.power import ConnectorVoltage, NodeVoltage
     from notchkit.requirements import FilterRequirement
     from notchkit.synthesis import Design
 
@@ -52,8 +51,6 @@ class FilterText:
     cuts: Table
     tolerance: tuple[str, ...]
     power: Table | None
-    power_points: Table | None
-    """The through line's and the connectors' voltages (:func:`power_points_table`)."""
     power_lines: tuple[str, ...]
     trim_steps: tuple[str, ...]
     stub_labels: tuple[str, ...]
@@ -238,51 +235,13 @@ def power_table(d: Design) -> Table | None:
                      f"{s.end_current_peak_a:.2f}", f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}",
                      f"{s.peak_heat_w_per_m:.2f}", rating, vm))
     return Table(
-        title=f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz on {pw.cable} (peak values; "
-              "matched antenna side)",
+        title=(f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz on {pw.cable}: "
+               f"{pw.delivered_w:.1f} W delivered, {pw.output_w:.1f} W to the antenna side, "
+               f"{pw.total_dissipated_w:.2f} W heat in the filter (peak values; matched antenna side)"),
         header=("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
                 "Hottest (W/m)", "Rating (V pk)", "V margin"),
         rows=tuple(rows), align=("left", "left") + ("right",) * 8,
         widths=(0.8, 0.55, 0.8, 0.8, 0.85, 0.85, 0.7, 0.9, 0.9, 0.7),
-    )
-
-
-def power_points_table(d: Design) -> Table | None:
-    """Voltage at each place along the filter, radio side first: the through line at each port
-    and tee (against a matched line) and every connector (tee body, plug, barrel) against the
-    family's working voltage; a tee has both on one row."""
-    pw = getattr(d, "power", None)
-    connectors = list(getattr(pw, "connectors", ()) or ())
-    if pw is None or not (pw.nodes or connectors):
-        return None
-
-    def row(where: str, node: NodeVoltage | None, c: ConnectorVoltage | None) -> tuple[str, ...]:
-        line = ((DASH, DASH) if node is None
-                else (f"{node.voltage_peak_v:.0f}", f"{node.ratio_to_matched:.2f}x"))
-        if c is None:
-            return (where, *line, DASH, DASH, DASH)
-        return (where, *line, f"{c.voltage_peak_v:.0f}",
-                DASH if c.rating_peak_v is None else f"{c.rating_peak_v:.0f}",
-                DASH if c.margin is None else f"{c.margin:.1f}x")
-
-    rows = []
-    k = 0
-    for n in pw.nodes:  # the connectors up to the tee's own body, then the tee (or a port alone)
-        at = next((j for j in range(k, len(connectors)) if connectors[j].where == n.where), None)
-        if at is None:
-            rows.append(row(n.where, n, None))
-            continue
-        rows += [row(c.where, None, c) for c in connectors[k:at]]
-        rows.append(row(n.where, n, connectors[at]))
-        k = at + 1
-    rows += [row(c.where, None, c) for c in connectors[k:]]
-    family = (getattr(pw, "connector_family", None) or "").upper()
-    return Table(
-        title="Voltage along the filter (peak values): the through line at each port and tee, and "
-              + (f"every {family} connector" if family else "the connectors"),
-        header=("Where", "Line V (pk)", "Times matched", "Connector V (pk)", "Rating (V pk)", "V margin"),
-        rows=tuple(rows), align=("left", "right", "right", "right", "right", "right"),
-        widths=(1.4, 0.9, 0.9, 1.1, 0.9, 0.7),
     )
 
 
@@ -292,14 +251,17 @@ def power_lines(d: Design) -> tuple[str, ...]:
         req = d.requirement
         return (f"Power check: no transmitter's carrier flows through this filter "
                 f"({location_text(req)}); stub voltages stay at receive levels.",)
-    out = [f"Delivered {pw.delivered_w:.1f} W, to the antenna side {pw.output_w:.1f} W, "
-           f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
-    if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel (the table)
-        top = max(pw.connectors, key=lambda c: c.voltage_peak_v)
-        rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak, margin {top.margin:.1f}x"
-                 if top.margin is not None else "no rating known")
-        out.append(f"Connectors ({(pw.connector_family or '').upper()}): highest {top.voltage_peak_v:.0f} V "
-                   f"peak at {top.where} ({rated}).")
+    out = []  # the delivered power is in the stub table's title
+    if pw.nodes:  # the through line at each port and tee, against a matched line
+        out.append("Through line (peak; times a matched line): " + ", ".join(
+            f"{n.where} {n.voltage_peak_v:.0f} V ({n.ratio_to_matched:.2f}x)" for n in pw.nodes) + ".")
+    if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel
+        rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak" if pw.connector_rating_peak_v
+                 else "no rating known")
+        out.append(f"Connectors ({(pw.connector_family or '').upper()}, {rated}; margin): "
+                   + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V"
+                               + (f" ({c.margin:.1f}x)" if c.margin is not None else "")
+                               for c in pw.connectors) + ".")
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
     out += [n[:1].upper() + n[1:] + ("" if n.endswith(".") else ".") for n in pw.notes]
@@ -404,8 +366,7 @@ def filter_text(d: Design, units: str = "both", plan_json: str = "PLAN.json") ->
         filter_id=design_id(d), title=design_title(d), meets=meets,
         verdict=verdict_text(d),
         facts=tuple(facts), requirements=requirement_table(d), cuts=cut_table(d, units),
-        tolerance=tolerance_lines(d, units), power=power_table(d), power_points=power_points_table(d),
-        power_lines=power_lines(d),
+        tolerance=tolerance_lines(d, units), power=power_table(d), power_lines=power_lines(d),
         trim_steps=trim_steps(d, units, plan_json), stub_labels=tuple(stub_labels),
         line_labels=tuple(line_labels), cable_label=cable_label,
         radio_label=(f"TX {req.radio}" if is_tx else f"RX {req.radio}") if req.radio else "RADIO",

@@ -167,8 +167,6 @@ def render_html(pt: PlanText, images: Sequence[FilterImages], *, footer: str = "
             o.append(table_html(ft.power))
         else:
             o.append(f"<h3>{_e(POWER_CHECK)}</h3>")
-        if ft.power_points is not None:
-            o.append(table_html(ft.power_points))
         o.append("".join(
             f"<p>{'<b>' if s.startswith(('WARNING', 'CAUTION')) else ''}{_e(s)}"
             f"{'</b>' if s.startswith(('WARNING', 'CAUTION')) else ''}</p>" for s in ft.power_lines))

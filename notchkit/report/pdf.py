@@ -184,8 +184,6 @@ def _filter_rest(page: Page, ft: FilterText, body: float) -> None:
         page.table(ft.power, body - 0.5)
     else:
         page.para(POWER_CHECK, body + 0.5, bold=True, gap=0.0)
-    if ft.power_points is not None:
-        page.table(ft.power_points, body - 0.5)
     for s in ft.power_lines:
         page.para(s, body - 0.5, gap=0.0, bold=s.startswith(("WARNING", "CAUTION")))
     page.y += 0.06
