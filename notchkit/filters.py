@@ -37,7 +37,7 @@ from notchkit.filterdef import Medium as Medium
 from notchkit.filterdef import Stub as Stub
 from notchkit.filterdef import Termination as Termination
 from notchkit.filterdef import check_freq
-from notchkit.lines import C0, gamma
+from notchkit.lines import C0, distinct_rows, gamma
 from notchkit.sparams import evaluate as evaluate
 from notchkit.sparams import to_network as to_network
 from notchkit.sparams import touchstone_text as touchstone_text
@@ -430,21 +430,11 @@ def _per_length(length, out, w: _Work, compute):
     lengths only and copied to every row that has it. Same arithmetic on the same
     numbers, so the same result. Small chunks skip the search (:data:`_DISTINCT_POINTS`).
     """
-    rows = length.shape[0]
-    if rows >= 4 and rows * out.shape[1] >= _DISTINCT_POINTS:
-        col = length[:, 0]
-        order = np.argsort(col, kind="stable")
-        ranked = col[order]
-        new = np.empty(rows, dtype=bool)
-        new[0] = True
-        np.not_equal(ranked[1:], ranked[:-1], out=new[1:])
-        n_distinct = int(np.count_nonzero(new))
-        if 2 * n_distinct <= rows:
-            where = np.empty(rows, dtype=np.intp)
-            where[order] = np.cumsum(new) - 1  # each row's index among the distinct values
-            part = w.rows(n_distinct)
-            distinct = compute(ranked[new][:, None], part.t5, part)
-            return np.take(distinct, where, axis=0, out=out)
+    found = distinct_rows(length[:, 0], out.shape[1], _DISTINCT_POINTS)
+    if found is not None:
+        values, where = found
+        part = w.rows(values.shape[0])
+        return np.take(compute(values, part.t5, part), where, axis=0, out=out)
     return compute(length, out, w)
 
 

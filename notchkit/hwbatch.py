@@ -38,7 +38,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from notchkit.errors import DesignError
-from notchkit.lines import C0
+from notchkit.lines import C0, distinct_rows
 
 _CHUNK_POINTS = 1 << 14
 """Candidate-chunk size in points (as :mod:`notchkit.filters`): scratch stays in cache."""
@@ -417,22 +417,13 @@ def _stub_y(line: _Line, x: NDArray, coef: Abcd, w: _Work) -> NDArray[np.complex
     those and copied to every row that has it (one row broadcast where all are
     equal); the same arithmetic on the same numbers, so the same result.
     """
-    rows = x.shape[0]
-    if rows >= 4 and rows * w.c3.shape[1] >= _DISTINCT_POINTS:
-        col = x[:, 0]
-        order = np.argsort(col, kind="stable")
-        ranked = col[order]
-        new = np.empty(rows, dtype=bool)
-        new[0] = True
-        np.not_equal(ranked[1:], ranked[:-1], out=new[1:])
-        n_distinct = int(np.count_nonzero(new))
-        if 2 * n_distinct <= rows:
-            y = _stub_y_rows(line, ranked[new][:, None], coef, w.rows(n_distinct))
-            if n_distinct == 1:
-                return y  # one row, broadcast
-            where = np.empty(rows, dtype=np.intp)
-            where[order] = np.cumsum(new) - 1  # each row's index among the distinct lengths
-            return np.take(y, where, axis=0, out=w.c5)
+    found = distinct_rows(x[:, 0], w.c3.shape[1], _DISTINCT_POINTS)
+    if found is not None:
+        values, where = found
+        y = _stub_y_rows(line, values, coef, w.rows(values.shape[0]))
+        if values.shape[0] == 1:
+            return y  # one row, broadcast
+        return np.take(y, where, axis=0, out=w.c5)
     return _stub_y_rows(line, x, coef, w)
 
 

@@ -181,3 +181,30 @@ def db20(x: ArrayLike) -> NDArray[np.float64]:
     """``20 log10 |x|`` with zero mapped to -400 dB instead of -inf."""
     mag = np.abs(np.asarray(x))
     return 20.0 * np.log10(np.maximum(mag, 1e-20))
+
+
+def distinct_rows(col: np.ndarray, points: int, min_points: int) -> tuple[np.ndarray, np.ndarray] | None:
+    """``(values, where)`` when at most half of ``col``'s rows are distinct, else ``None``.
+
+    ``values`` are the distinct values as a column (ascending), ``where`` each
+    row's index among them, so ``values[where]`` is ``col``. The batched cores use
+    it to compute an element once per distinct length (a solver's candidates share
+    most of their lengths) and copy it to every row that has it: the same
+    arithmetic on the same numbers, so the same result. A chunk of fewer than
+    ``min_points`` (rows x ``points`` frequencies) is not searched: there the
+    sorting costs more than it saves.
+    """
+    rows = col.shape[0]
+    if rows < 4 or rows * points < min_points:
+        return None
+    order = np.argsort(col, kind="stable")
+    ranked = col[order]
+    new = np.empty(rows, dtype=bool)
+    new[0] = True
+    np.not_equal(ranked[1:], ranked[:-1], out=new[1:])
+    if 2 * int(np.count_nonzero(new)) > rows:
+        return None
+    where = np.empty(rows, dtype=np.intp)
+    where[order] = np.cumsum(new) - 1
+    return ranked[new][:, None], where
+

@@ -10,6 +10,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from notchkit import lines
 from notchkit.cables import Cable, get_cable
@@ -235,3 +237,24 @@ def test_consecutive_stubs_share_one_tee():
     np.testing.assert_allclose(evaluate(filt, f)[:, 1, 0], expected, rtol=1e-9)
     s21, _ = evaluate_batch(("open", "short"), [[0.61, 0.93]], cable, f)
     np.testing.assert_allclose(s21[0], expected, rtol=1e-9)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.sampled_from([0.25, 0.5, 1.0, 1.5, 2.0]), min_size=1, max_size=40))
+def test_distinct_rows_gives_back_every_row(lengths):
+    # The batched cores compute an element once per distinct length and copy it
+    # (notchkit.lines.distinct_rows): values[where] must be the column itself, the
+    # values strictly ascending, and a column with more than half its rows distinct
+    # (or a chunk too small to search) is left alone.
+    from notchkit.lines import distinct_rows
+
+    col = np.array(lengths)
+    found = distinct_rows(col, points=100, min_points=400)
+    if len(col) < 4 or len(set(lengths)) * 2 > len(col):
+        assert found is None
+        return
+    values, where = found
+    assert values.shape == (len(set(lengths)), 1)
+    assert np.all(np.diff(values[:, 0]) > 0)
+    assert np.array_equal(values[where, 0], col)
+    assert distinct_rows(col, points=1, min_points=10**6) is None
