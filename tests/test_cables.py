@@ -946,9 +946,19 @@ def test_cli_json_has_frequencies_sources_and_ratings(capsys):
 def test_cli_table_shows_sources_and_extrapolation(capsys):
     assert main(["cables"]) == 0
     out = capsys.readouterr().out
-    assert "RG-213" in out and "446 MHz" in out and "dB/100m" in out
+    assert "RG-213" in out and "446 MHz, dB/100 m (/100 ft)" in out
     assert "Sources:" in out and "[1] Codan Radio" in out
     assert "1.8 MHz" in out and "*" in out and "extrapolated" in out
+    # the shared terminal layout (notchkit.report.terminal): units in the headings, a rule of
+    # dashes under them, "-" for no value, "mem" after a recalled figure
+    lines = out.splitlines()
+    assert lines[0].startswith("Type ")
+    assert all(h in lines[0] for h in ("Z0 (ohm)", "OD (mm)", "Max V (rms)", "Table (MHz)", "Fit (%)"))
+    assert set(lines[1]) == {"-", " "}
+    rg214 = next(x for x in lines if x.startswith("RG-214 "))
+    assert " - " in rg214  # RG-214: no outer diameter in the library
+    assert any(" mem " in x for x in lines[2:])
+    assert "mem = a recalled figure" in out and "* = outside the published table" in out
 
 
 def test_cli_one_type_in_detail(capsys):

@@ -90,3 +90,71 @@ def test_pdf_drawing_writes_every_label_of_the_sketch():
             assert line in text, line
     dots = [it for it in sketch.items if isinstance(it, Dot)]
     assert len(dots) == len(filt.tees()) + sum(s.termination == "open" for s in filt.stubs)
+
+
+LONG = "TX county-fire-dispatch-primary-repeater-output-146.52-simplex"
+
+
+def test_a_long_radio_name_stays_inside_its_box_in_the_png():
+    # matplotlib's own renderer measures the drawn text: every line of the radio's label must
+    # lie inside the radio's box, the name shortened with "..." once the size is at its floor.
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.patches import Rectangle
+    from matplotlib.text import Text
+
+    from notchkit.report.sketch import ELLIPSIS, MIN_FIT_SCALE
+
+    filt = _filter()
+    fig = arrangement_figure(filt, radio_label=LONG, fontsize=8.0)
+    renderer = FigureCanvasAgg(fig).get_renderer()
+    box = min((a for a in fig.get_children() if isinstance(a, Rectangle) and a is not fig.patch),
+              key=lambda a: a.get_window_extent(renderer).x0).get_window_extent(renderer)
+    (label,) = [t for t in fig.artists if isinstance(t, Text) and t.get_text().startswith("TX\n")]
+    ext = label.get_window_extent(renderer)
+    assert box.x0 < ext.x0 and ext.x1 < box.x1, (box, ext)
+    first, second = label.get_text().split("\n")
+    assert first == "TX" and second.endswith(ELLIPSIS) and "county-fire" in second
+    assert label.get_fontsize() == 8.0 * MIN_FIT_SCALE
+    short = arrangement_figure(filt, radio_label="TX net-2m", fontsize=8.0)
+    (t,) = [t for t in short.artists if isinstance(t, Text) and t.get_text().startswith("TX\n")]
+    assert t.get_text() == "TX\nnet-2m" and t.get_fontsize() == 8.0  # a name that fits is untouched
+
+
+def test_a_long_radio_name_stays_inside_its_box_in_the_pdf():
+    # pypdf (an independent reader) gives each drawn string with its position and size; its
+    # width from the font's own metrics must keep it inside the radio's box.
+    import io
+
+    from pypdf import PdfReader
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+    from reportlab.pdfgen.canvas import Canvas
+
+    from notchkit.report.drawing import arrangement_sketch
+    from notchkit.report.pdf import CORE_FONT
+    from notchkit.report.pdfdraw import draw_sketch
+    from notchkit.report.sketch import ELLIPSIS, Box
+
+    filt = _filter()
+    sketch = arrangement_sketch(filt, radio_label=LONG, fontsize=8.0)
+    rect = (20, 20, 560, 260)
+    buf = io.BytesIO()
+    c = Canvas(buf, pagesize=(600, 300))
+    draw_sketch(c, CORE_FONT.face, sketch, rect)
+    c.showPage()
+    c.save()
+    radio = min((it for it in sketch.items if isinstance(it, Box)), key=lambda b: b.x)
+    sx = rect[2] / (sketch.xlim[1] - sketch.xlim[0])
+    left = rect[0] + (radio.x - sketch.xlim[0]) * sx
+    right = left + radio.w * sx
+    drawn = []
+
+    def visit(text, cm, tm, font, size):
+        if text.strip():
+            drawn.append((text.strip(), tm[4] * cm[0] + cm[4], size * tm[0] * cm[0]))
+
+    PdfReader(io.BytesIO(buf.getvalue())).pages[0].extract_text(visitor_text=visit)
+    name = [d for d in drawn if "county-fire" in d[0]]
+    assert len(name) == 1 and name[0][0].endswith(ELLIPSIS), drawn
+    text, x, size = name[0]
+    width = stringWidth(text, CORE_FONT.face.bold, size)
+    assert left < x and x + width < right, (left, x, width, right)

@@ -30,6 +30,8 @@ HEADINGS = {
     "requirements": ("Band", "Range", "Required", "Design gives", "Result", "Builds", "Why"),
     "cuts": ("Part", "Cable", "Kind", "First cut", "Final (mm)", "Final (in)", "Trim to (MHz)",
              "Trim (mm/MHz)", "Tee"),
+    "power": ("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
+              "Hottest (W/m)", "Rating (V pk)", "V margin"),
 }
 STATE_WORDS = ("meets", "DOES NOT MEET")
 # Words the outputs used to disagree on: none of them may come back.
@@ -99,7 +101,7 @@ def _rows_after(text: str, heading_start: str) -> list[str]:
 def test_every_output_has_the_same_headings(outputs):
     term = outputs["terminal"]
     where = {"threats": term["survey"], "matrix": term["survey"], "filters": term["plan"],
-             "requirements": term["design"], "cuts": term["design"]}
+             "requirements": term["design"], "cuts": term["design"], "power": term["design"]}
     for table, heads in HEADINGS.items():
         for out in (where[table], outputs["pdf"], outputs["html"]):
             flat = _flat(out)
@@ -115,11 +117,14 @@ def test_terminal_rows_read_the_same_in_the_pdf_and_the_html(outputs):
         "threats": _rows_after(term["survey"], "#  Source"),
         "requirements": _rows_after(term["design"], "Band  "),
         "cuts": _rows_after(term["design"], "Part  "),
+        "power": _rows_after(term["design"], "Stub  "),
     }
     # ridge-eoc: 5 filters, 4 transmitters, 20 source-victim pairs (sites/ridge-eoc.yaml)
     assert len(rows["filters"]) == 5 and len(rows["matrix"]) == 4 and len(rows["threats"]) >= 10
     assert len(rows["requirements"]) >= 5
     assert len(rows["cuts"]) >= 11  # 11 stubs, and the line sections
+    # ridge-eoc: four transmitters' filters carry a carrier (F2-F5; 10 stubs), each with UHF hardware
+    assert len(rows["power"]) == 10
     for table, found in rows.items():
         for row in found:
             assert row in outputs["pdf"], (table, row)
@@ -140,6 +145,27 @@ def test_state_words_are_the_same_everywhere(outputs):
     for name, text in everything.items():
         for old in OLD_WORDS:
             assert not old.search(text), (name, old.pattern)
+
+
+def test_the_power_titles_and_notes_read_the_same_in_every_output(outputs):
+    """The terminal prints the plan's power-check titles (carrier, delivered power, heat) and
+    notes word for word: the through line's voltage at each port and tee, every connector's
+    voltage and margin, the connectors' rating and the matched-load note; and none of its old
+    one-off wording."""
+    design = outputs["terminal"]["design"]
+    titles = [_flat(x).removesuffix(":") for x in design.splitlines()
+              if x.strip().startswith("Power check at ")]
+    notes = [_flat(x) for x in design.splitlines()
+             if x.strip().startswith(("Through line (peak", "Connectors (UHF, rated",
+                                      "Connectors (UHF) checked at every", "Voltages assume"))]
+    assert len(titles) == 4 and all(" W delivered, " in t for t in titles)  # F2-F5 carry a carrier
+    assert len(notes) == 4 * 4
+    # both ports of every filter with a carrier, and every stub's plug (F2-F5: 10 stubs)
+    assert sum(n.count(" port ") for n in notes if n.startswith("Through line")) == 2 * 4
+    assert sum(n.count(" plug ") for n in notes if n.startswith("Connectors (UHF, rated")) == 10
+    for line in (*titles, *notes):
+        assert line in outputs["pdf"] and line in outputs["html"], line
+    assert "power check:" not in design and "W/m peak)" not in design
 
 
 def test_the_pdf_and_the_html_share_their_sections_and_warnings(outputs):

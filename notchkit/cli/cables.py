@@ -8,6 +8,8 @@ from typing import TYPE_CHECKING
 from notchkit.cables import DEFAULT_AT_MHZ, VALID_FREQ_MHZ, cable_table, get_cable
 from notchkit.errors import EXIT_OK, UsageError
 from notchkit.jsonvalues import dumps
+from notchkit.report.rows import DASH, Table
+from notchkit.report.terminal import table_lines
 
 if TYPE_CHECKING:
     from argparse import Namespace, _SubParsersAction
@@ -57,7 +59,7 @@ def parse_at(text: str) -> tuple[float, ...]:
 
 
 def _opt(value: float | None, fmt: str) -> str:
-    return "-" if value is None else format(value, fmt)
+    return DASH if value is None else format(value, fmt)
 
 
 def _range(c) -> str:
@@ -65,13 +67,14 @@ def _range(c) -> str:
     return "none" if rng is None else f"{rng[0]:g}-{rng[1]:g}"
 
 
-def format_table(rows) -> str:
-    """The human table for ``rows`` (CableRow objects), sources numbered below it."""
+def cable_rows(rows) -> tuple[Table, dict[str, int]]:
+    """The cable library as a :class:`notchkit.report.rows.Table` (units in the headings, ``-``
+    for no value, ``mem`` after a recalled figure, ``*`` after an extrapolated loss) and its
+    sources numbered in the order the rows cite them."""
     at = rows[0].at_mhz if rows else ()
-    head = ["type", "kind", "Z0", "VF", "dielectric", "OD mm", "max V rms"]
-    for f in at:
-        head.append(f"{f:g} MHz dB/100m (/100ft)")
-    head += ["table MHz", "fit %", "sources"]
+    head = ["Type", "Kind", "Z0 (ohm)", "VF", "Dielectric", "OD (mm)", "Max V (rms)"]
+    head += [f"{f:g} MHz, dB/100 m (/100 ft)" for f in at]
+    head += ["Table (MHz)", "Fit (%)", "Sources"]
     cites: dict[str, int] = {}
     body = []
     for r in rows:
@@ -79,37 +82,48 @@ def format_table(rows) -> str:
         mem = set(c.from_memory)
 
         def m(key: str, text: str, mem=mem) -> str:
-            return f"{text} mem" if key in mem and text != "-" else text
+            return f"{text} mem" if key in mem and text != DASH else text
 
         line = [
             c.name,
             c.kind,
             m("z0_ohm", f"{c.z0_ohm:.0f}"),
             m("velocity_factor", f"{c.velocity_factor:.3g}"),
-            c.dielectric or "-",
+            c.dielectric or DASH,
             m("outer_diameter_mm", _opt(c.outer_diameter_mm, ".1f")),
             m("max_voltage_v", _opt(c.max_voltage_v, ".0f")),
         ]
-        for m, ft, out in zip(r.loss_db_per_100m, r.loss_db_per_100ft,
-                              r.extrapolated or (False,) * len(at), strict=True):
-            line.append(f"{m:.2f} ({ft:.2f}){'*' if out else ''}")
+        for loss_m, loss_ft, out in zip(r.loss_db_per_100m, r.loss_db_per_100ft,
+                                        r.extrapolated or (False,) * len(at), strict=True):
+            line.append(f"{loss_m:.2f} ({loss_ft:.2f}){'*' if out else ''}")
         refs = [cites.setdefault(s, len(cites) + 1) for s in c.sources]
         line += [_range(c), "lossless" if c.lossless else f"{c.fit_residual_pct:.1f}",
-                 ",".join(str(i) for i in refs) or "-"]
-        body.append(line)
-    widths = [max(len(x[i]) for x in [head, *body]) for i in range(len(head))]
-    lines = ["  ".join(x.ljust(w) for x, w in zip(row, widths, strict=True)).rstrip()
-             for row in [head, *body]]
-    lines.insert(1, "  ".join("-" * w for w in widths))
+                 ",".join(str(i) for i in refs) or DASH]
+        body.append(tuple(line))
+    n_at = len(at)
+    table = Table(
+        title="", header=tuple(head), rows=tuple(body),
+        # left: a figure may carry a mark after it (``mem``, ``*``), its digits stay in line
+        align=("left",) * (7 + n_at) + ("left", "right", "left"),
+        widths=(1.2, 0.7, 0.6, 0.5, 1.2, 0.6, 0.7) + (1.0,) * n_at + (0.7, 0.5, 1.0),
+        note="Loss: matched line; coax fitted as a*sqrt(f)*g(f) + b*f to the published tables "
+             "(g > 1 below a few MHz for a copper-clad-steel centre), balanced lines from their "
+             "geometry. Fit = largest error over the tables' points.",
+    )
+    return table, cites
+
+
+def format_table(rows) -> str:
+    """The human table for ``rows`` (CableRow objects) in the shared terminal layout
+    (:func:`notchkit.report.terminal.table_lines`), the marks explained and the sources below it."""
+    table, cites = cable_rows(rows)
+    lines = table_lines(table)
     lines.append("")
-    lines.append("Loss: matched line; coax fitted as a*sqrt(f)*g(f) + b*f to the published tables "
-                 "(g > 1 below a few MHz for a copper-clad-steel centre), balanced lines from "
-                 "their geometry. fit % = largest error over the tables' points.")
-    lines.append("* = outside the published table (table MHz): extrapolated, measure the cable "
+    lines.append("* = outside the published table (Table MHz): extrapolated, measure the cable "
                  "if the notch depth matters. `notchkit cables TYPE` shows each table and its fit.")
     lines.append("mem = a recalled figure (from memory), not taken from a document; a loss table "
-                 "from memory does not widen 'table MHz'.")
-    lines.append("max V rms: the cable's working voltage as published. Open stub ends carry high "
+                 "from memory does not widen 'Table MHz'.")
+    lines.append("Max V (rms): the cable's working voltage as published. Open stub ends carry high "
                  "RF voltage at high power; follow local codes and licensed practice.")
     lines.append("")
     lines.append("Sources:")

@@ -255,8 +255,13 @@ def format_design(d: Design) -> str:
     from notchkit.buildyield import format_tolerance
     from notchkit.calibration import calibration_lines
     from notchkit.cutlist import format_cut_list
-    from notchkit.power import format_power
-    from notchkit.report.filterrows import cut_table, requirement_table, verdict_text
+    from notchkit.report.filterrows import (
+        cut_table,
+        power_lines,
+        power_table,
+        requirement_table,
+        verdict_text,
+    )
     from notchkit.report.terminal import table_lines
     from notchkit.report.text import TOLERANCE
     from notchkit.solver import describe
@@ -282,8 +287,9 @@ def format_design(d: Design) -> str:
     if d.tolerance is not None:  # the plan's section of that name (the verdict points to it)
         lines.append(f"  {TOLERANCE}:")
         lines += ["    " + x for x in format_tolerance(d.tolerance).splitlines()]
-    if d.power is not None:
-        lines += ["  " + x for x in format_power(d.power).splitlines()]
+    if d.power is not None and (table := power_table(d)) is not None:  # the plan's power check
+        lines += table_lines(table, "  ")
+        lines += ["  " + x for x in power_lines(d)]
     if s.alternatives:
         lines.append("  alternatives (stubs, cable, smallest notch margin, build yield):")
         for a in s.alternatives:

@@ -33,6 +33,7 @@ _LEAD = 1.2  # run from the radio box to the first tee, and from the last tee on
 _STUB_DROP = 1.5  # drawn stub height below the through line
 _Y_LINE = 0.0
 _LINE_LABEL_Y = 0.4  # a line section's label above the tees' labels (it is wider than its run)
+_BOX_PAD = 0.08  # room kept clear each side of a name inside an end block
 
 
 def default_stub_labels(filt: Filter, units: str = "both", ids: Sequence[str] | None = None) -> list[str]:
@@ -140,14 +141,17 @@ class _Pen:
         self.wires.append(tuple(zip(xs, ys, strict=True)))
 
     def text(self, x: float, y: float, s: str, *, ha: HAlign = "center", va: VAlign = "center",
-             bold: bool = False, linespacing: float = 1.2) -> None:
-        self.sk.items.append(Label(x, y, s, self.fontsize, ha=ha, va=va, bold=bold, linespacing=linespacing))
+             bold: bool = False, linespacing: float = 1.2, fit_w: float | None = None) -> None:
+        self.sk.items.append(Label(x, y, s, self.fontsize, ha=ha, va=va, bold=bold, linespacing=linespacing,
+                                   fit_w=fit_w))
 
     def end_block(self, x: float, label: str) -> float:
         """The radio's or the antenna's box at ``x``, its label on two lines (``TX`` over the
-        radio's name: one line ran out of the box); returns its right edge."""
+        radio's name: one line ran out of the box), a long name shrunk or shortened to the box
+        (:attr:`Label.fit_w`); returns its right edge."""
         self.sk.items.append(Box(x, -0.45, _BOX_W, 0.9, width=1.4))
-        self.text(x + _BOX_W / 2, 0.0, label.replace(" ", "\n", 1), bold=True, linespacing=1.1)
+        self.text(x + _BOX_W / 2, 0.0, label.replace(" ", "\n", 1), bold=True, linespacing=1.1,
+                  fit_w=_BOX_W - 2 * _BOX_PAD)
         return x + _BOX_W
 
     def finish(self, cable_label: str | None) -> Sketch:

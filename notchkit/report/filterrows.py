@@ -222,6 +222,8 @@ def tolerance_lines(d: Design, units: str = "both") -> tuple[str, ...]:
 
 
 def power_table(d: Design) -> Table | None:
+    """Each stub at the carrier: voltage, end voltage or current, heat (in all and the hottest
+    metre), against the cable's rating."""
     pw = getattr(d, "power", None)
     if pw is None:
         return None
@@ -230,13 +232,16 @@ def power_table(d: Design) -> Table | None:
     for s in pw.stubs:
         vm = DASH if s.voltage_margin is None else f"{s.voltage_margin:.1f}x"
         rows.append((s.stub_id, s.termination, f"{s.max_voltage_peak_v:.0f}", f"{s.end_voltage_peak_v:.0f}",
-                     f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}", rating, vm))
+                     f"{s.end_current_peak_a:.2f}", f"{s.max_current_peak_a:.2f}", f"{s.dissipated_w:.2f}",
+                     f"{s.peak_heat_w_per_m:.2f}", rating, vm))
     return Table(
-        title=f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz (peak values; matched antenna side)",
-        header=("Stub", "End", "Max V (pk)", "End V (pk)", "Max I (A pk)", "Heat (W)", "Rating (V pk)",
-                "V margin"),
-        rows=tuple(rows), align=("left", "left") + ("right",) * 6,
-        widths=(0.8, 0.55, 0.85, 0.85, 0.9, 0.75, 0.95, 0.75),
+        title=(f"Power check at {pw.power_w:g} W, {mhz(pw.freq_mhz)} MHz on {pw.cable}: "
+               f"{pw.delivered_w:.1f} W delivered, {pw.output_w:.1f} W to the antenna side, "
+               f"{pw.total_dissipated_w:.2f} W heat in the filter (peak values; matched antenna side)"),
+        header=("Stub", "End", "Max V (pk)", "End V (pk)", "End I (A pk)", "Max I (A pk)", "Heat (W)",
+                "Hottest (W/m)", "Rating (V pk)", "V margin"),
+        rows=tuple(rows), align=("left", "left") + ("right",) * 8,
+        widths=(0.8, 0.55, 0.8, 0.8, 0.85, 0.85, 0.7, 0.9, 0.9, 0.7),
     )
 
 
@@ -246,15 +251,17 @@ def power_lines(d: Design) -> tuple[str, ...]:
         req = d.requirement
         return (f"Power check: no transmitter's carrier flows through this filter "
                 f"({location_text(req)}); stub voltages stay at receive levels.",)
-    out = [f"Delivered {pw.delivered_w:.1f} W, to the antenna side {pw.output_w:.1f} W, "
-           f"dissipated in the filter {pw.total_dissipated_w:.2f} W."]
+    out = []  # the delivered power is in the stub table's title
+    if pw.nodes:  # the through line at each port and tee, against a matched line
+        out.append("Through line (peak; times a matched line): " + ", ".join(
+            f"{n.where} {n.voltage_peak_v:.0f} V ({n.ratio_to_matched:.2f}x)" for n in pw.nodes) + ".")
     if getattr(pw, "connectors", ()):  # connection hardware: every tee body, plug and barrel
-        top = max(pw.connectors, key=lambda c: c.voltage_peak_v)
-        rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak, margin {top.margin:.1f}x"
-                 if top.margin is not None else "no rating known")
-        out.append(f"Connectors ({(pw.connector_family or '').upper()}): highest {top.voltage_peak_v:.0f} V "
-                   f"peak at {top.where} ({rated}); "
-                   + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V" for c in pw.connectors) + ".")
+        rated = (f"rated {pw.connector_rating_peak_v:.0f} V peak" if pw.connector_rating_peak_v
+                 else "no rating known")
+        out.append(f"Connectors ({(pw.connector_family or '').upper()}, {rated}; margin): "
+                   + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V"
+                               + (f" ({c.margin:.1f}x)" if c.margin is not None else "")
+                               for c in pw.connectors) + ".")
     out += [f"WARNING: {w}" for w in pw.warnings]
     out += list(pw.cautions)
     out += [n[:1].upper() + n[1:] + ("" if n.endswith(".") else ".") for n in pw.notes]

@@ -31,7 +31,7 @@ from notchkit.report.curves import (
     Span,
     plot_layout,
 )
-from notchkit.report.sketch import Box, Dot, Label, Lines, Sketch
+from notchkit.report.sketch import Box, Dot, Label, Lines, Sketch, fit_lines
 
 if TYPE_CHECKING:
     from reportlab.pdfgen.canvas import Canvas
@@ -65,6 +65,12 @@ def text_lines(c: Canvas, face: Face, x: float, top: float, lines: Sequence[str]
     for k, line in enumerate(lines):
         if line:
             draw(x, base - k * pitch, line)
+
+
+def _width(text: str, font_name: str, size: float) -> float:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return float(stringWidth(text, font_name, size))
 
 
 def draw_sketch(c: Canvas, face: Face, sketch: Sketch, rect: Sequence[float]) -> None:
@@ -106,18 +112,21 @@ def draw_sketch(c: Canvas, face: Face, sketch: Sketch, rect: Sequence[float]) ->
             c.setFillGray(it.fill)
             c.circle(px(it.x), py(it.y), it.r * sx, stroke=1, fill=1)
         elif isinstance(it, Label):
-            _label(c, face, px(it.x), py(it.y), it)
+            _label(c, face, px(it.x), py(it.y), it, None if it.fit_w is None else it.fit_w * sx)
     c.restoreState()
 
 
-def _label(c: Canvas, face: Face, x: float, y: float, it: Label) -> None:
-    lines = it.text.split("\n")
-    box = (face.ascent_em + face.descent_em) * it.size
+def _label(c: Canvas, face: Face, x: float, y: float, it: Label, fit_pt: float | None = None) -> None:
+    lines, size = it.text.split("\n"), it.size
+    if fit_pt is not None:  # a name inside a box: shrunk, then shortened, to its width
+        name = face.name(it.bold)
+        lines, size = fit_lines(lines, size, fit_pt, lambda s, z: _width(s, name, z))
+    box = (face.ascent_em + face.descent_em) * size
     pitch = it.linespacing * box
     height = (len(lines) - 1) * pitch + box
     top = {"top": y, "center": y + height / 2, "bottom": y + height}[it.va]
     c.setFillGray(0.0)
-    text_lines(c, face, x, top, lines, it.size, pitch, ha=it.ha, bold=it.bold)
+    text_lines(c, face, x, top, lines, size, pitch, ha=it.ha, bold=it.bold)
 
 
 # ----------------------------------------------------------------- the curve

@@ -12,7 +12,7 @@ matplotlib is imported inside :func:`to_matplotlib` only.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Literal
 
@@ -69,6 +69,42 @@ class Label:
     va: VAlign = "center"
     bold: bool = False
     linespacing: float = 1.2
+    fit_w: float | None = None
+    """The widest any of its lines may be, drawing units (a name inside a box): the renderer
+    shrinks the text to fit (:func:`fit_lines`), down to :data:`MIN_FIT_SCALE` of ``size``,
+    then shortens a line that is still too wide with :data:`ELLIPSIS`."""
+
+
+MIN_FIT_SCALE = 0.7
+"""The smallest a fitted label is drawn, as a share of its size (smaller is hard to read)."""
+ELLIPSIS = "..."
+"""The mark at the end of a shortened line."""
+
+
+def fit_lines(lines: Sequence[str], size: float, max_w: float,
+              measure: Callable[[str, float], float]) -> tuple[list[str], float]:
+    """``lines`` and a font size at which each is at most ``max_w`` wide (points), as ``measure``
+    (text, size) -> width in points says: the size first (not below ``MIN_FIT_SCALE * size``),
+    then each line still too wide cut short and ended with :data:`ELLIPSIS`."""
+    lines = list(lines)
+    widest = max((measure(x, size) for x in lines), default=0.0)
+    if widest <= max_w:
+        return lines, size
+    new = max(size * MIN_FIT_SCALE, size * max_w / widest * 0.999)
+    out = []
+    for line in lines:
+        if measure(line, new) <= max_w:
+            out.append(line)
+            continue
+        lo, hi = 0, len(line)  # the longest start of the line that fits with the mark after it
+        while lo < hi:
+            mid = (lo + hi + 1) // 2
+            if measure(line[:mid].rstrip() + ELLIPSIS, new) <= max_w:
+                lo = mid
+            else:
+                hi = mid - 1
+        out.append(line[:lo].rstrip() + ELLIPSIS)
+    return out, new
 
 
 @dataclass(slots=True)
@@ -110,7 +146,29 @@ def to_matplotlib(sketch: Sketch, fig: Figure, rect: Sequence[float]) -> None:
             dot.set_height(2 * it.r / x_per_y)
             fig.add_artist(dot)
         else:
-            fig.add_artist(Text(it.x, it.y, it.text, transform=tr, fontsize=it.size, ha=it.ha, va=it.va,
+            text, size = it.text, it.size
+            if it.fit_w is not None:  # points per drawing unit across: the rectangle's width
+                per_unit = rect[2] * fig.get_figwidth() * 72.0 / (x1 - x0)
+                lines, size = fit_lines(text.split("\n"), size, it.fit_w * per_unit,
+                                        _mpl_measure(it.bold))
+                text = "\n".join(lines)
+            fig.add_artist(Text(it.x, it.y, text, transform=tr, fontsize=size, ha=it.ha, va=it.va,
                                 multialignment=it.ha, color="black", linespacing=it.linespacing,
                                 fontweight="bold" if it.bold else "normal",
                                 usetex=False, parse_math=False))  # names as written, '$' too
+
+
+def _mpl_measure(bold: bool) -> Callable[[str, float], float]:
+    """Text width in points as matplotlib lays it out (the current font; no renderer needed)."""
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import TextToPath
+
+    t2p = TextToPath()
+
+    def measure(text: str, size: float) -> float:
+        if not text:
+            return 0.0
+        prop = FontProperties(weight="bold" if bold else "normal", size=size)
+        return float(t2p.get_text_width_height_descent(text, prop, ismath=False)[0])
+
+    return measure
