@@ -650,27 +650,3 @@ def _margin_warnings(out: list[str], margin: float | None, vmax: float, rating_r
         f"({math.sqrt(2.0) * rating_rms:.0f} V peak; margin {margin:.2f}x)"
     )
 
-
-def format_power(pc: PowerCheck) -> str:
-    """Plain-text lines: per stub voltage/current/heat, then warnings and cautions."""
-    lines = [f"power check: {pc.power_w:g} W at {pc.freq_mhz:g} MHz on {pc.cable} "
-             f"({pc.delivered_w:.1f} W into the filter, {pc.total_dissipated_w:.2f} W heat)"]
-    for s in pc.stubs:
-        extra = (f"end {s.end_voltage_peak_v:.0f} V" if s.termination == "open"
-                 else f"end current {s.end_current_peak_a:.2f} A")
-        margin = f", margin {s.voltage_margin:.1f}x" if s.voltage_margin is not None else ""
-        lines.append(f"  {s.stub_id} {s.termination}: max {s.max_voltage_peak_v:.0f} V peak{margin}, "
-                     f"{extra}, {s.dissipated_w:.2f} W ({s.peak_heat_w_per_m:.2f} W/m peak)")
-    for n in pc.nodes:
-        lines.append(f"  {n.where}: {n.voltage_peak_v:.0f} V peak ({n.ratio_to_matched:.2f}x matched)")
-    if pc.connectors:
-        rated = (f"rated {pc.connector_rating_peak_v:.0f} V peak" if pc.connector_rating_peak_v
-                 else "no rating known")
-        lines.append(f"  connectors ({(pc.connector_family or '').upper()}, {rated}): "
-                     + ", ".join(f"{c.where} {c.voltage_peak_v:.0f} V"
-                                 + (f" ({c.margin:.1f}x)" if c.margin is not None else "")
-                                 for c in pc.connectors))
-    lines += [f"  warning: {w}" for w in pc.warnings]
-    lines += [f"  {c}" for c in pc.cautions]
-    lines += [f"  note: {n}" for n in pc.notes]
-    return "\n".join(lines)
