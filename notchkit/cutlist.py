@@ -341,11 +341,13 @@ def line_cuts(filt: Filter, *, freq_mhz: Sequence[float] = (), filter_id: str = 
 def hardware_notes(filt: Filter) -> tuple[str, ...]:
     """What joins the parts: one line per tee that carries more than one stub."""
     out = []
+    modelled = getattr(filt.cable, "hardware", None) is not None  # connection hardware in the model
+    each = ("each on its own side arm, as modelled" if modelled else "each with the same tee allowance")
     for t, idx in enumerate(filt.tees(), start=1):
         if len(idx) == 2:
             out.append(f"tee {t} carries 2 stubs at one point: a cross (4-way adapter), or a second tee "
                        f"screwed straight onto the first tee's branch; no cable between them (the "
-                       f"design assumes both stubs at one point, each with the same tee allowance)")
+                       f"design assumes both stubs at one point, {each})")
         elif len(idx) > 2:
             out.append(f"tee {t} carries {len(idx)} stubs at one point: tees screwed straight onto each "
                        f"other's branches, no cable between them (the design assumes one point)")
