@@ -156,6 +156,43 @@ def read_measurement_bytes(path: str | os.PathLike[str]) -> bytes:
     return data
 
 
+class TouchstoneRefused(Exception):
+    """Touchstone text scikit-rf cannot read; ``detail`` is its first line (at most 120 characters)."""
+
+    def __init__(self, detail: str):
+        super().__init__(detail)
+        self.detail = detail
+
+
+def parse_touchstone(data: bytes, name: str) -> Any:
+    """A :class:`skrf.Network` from the bytes of a Touchstone file named ``name``.
+
+    The one reader behind every measured file (trim and verify sweeps, antenna
+    loads, installed filters): UTF-8, else Latin-1 (which reads any byte);
+    scikit-rf takes the port count from ``name``'s extension; its own warnings
+    are silenced because each caller refuses bad sweeps with its own one-line
+    error. Whatever scikit-rf raises becomes :class:`TouchstoneRefused`.
+    """
+    import io
+    import warnings
+
+    import numpy as np
+    import skrf
+
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")
+    buf = io.StringIO(text)
+    buf.name = name
+    try:
+        with warnings.catch_warnings(), np.errstate(all="ignore"):
+            warnings.simplefilter("ignore")
+            return skrf.Network(buf)
+    except Exception as exc:  # noqa: BLE001 - scikit-rf raises many kinds on a bad file
+        raise TouchstoneRefused(str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__) from None
+
+
 # ---------------------------------------------------------------- JSON
 
 

@@ -92,25 +92,13 @@ def read_load(path: str | os.PathLike) -> Load:
         raise InputError(f"{shown}:1:1: load: {exc.reason} (allowed: a .s1p file or an R+jX table)") from None
     if b"\0" in data:
         raise InputError(f"{shown}:1:1: load: a binary file (allowed: a .s1p file or an R+jX table)")
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError:
-        text = data.decode("latin-1")
     if p.suffix.lower() == ".s1p":
-        import io
-        import warnings
+        from notchkit.bounded import TouchstoneRefused, parse_touchstone
 
-        import skrf
-
-        buf = io.StringIO(text)
-        buf.name = p.name  # scikit-rf takes the port count from the extension
         try:
-            with warnings.catch_warnings(), np.errstate(all="ignore"):
-                warnings.simplefilter("ignore")
-                net = skrf.Network(buf)
-        except Exception as exc:  # scikit-rf raises many kinds on a bad file
-            detail = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
-            raise InputError(f"{shown}:1:1: load: not a readable Touchstone file ({detail})") from None
+            net = parse_touchstone(data, p.name)
+        except TouchstoneRefused as exc:
+            raise InputError(f"{shown}:1:1: load: not a readable Touchstone file ({exc.detail})") from None
         if net.nports != 1:
             raise InputError(f"{shown}:1:1: load: {net.nports}-port file (allowed: a one-port .s1p)")
         f = np.asarray(net.f, dtype=float)
@@ -122,6 +110,10 @@ def read_load(path: str | os.PathLike) -> Load:
             raise InputError(f"{shown}:1:1: load: an impedance is not finite or has R < 0 "
                              "(allowed: a passive load, |S11| < 1)")
         return Load(freq_hz=f, z=z, source=p.name)
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")
     rows: list[list[float]] = []
     for n, raw in enumerate(text.splitlines(), start=1):
         line = raw.split("#", 1)[0].split("!", 1)[0].strip()

@@ -44,10 +44,8 @@ D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, section 6.3
 
 from __future__ import annotations
 
-import io
 import math
 import os
-import warnings
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any, Literal
@@ -249,7 +247,6 @@ def read_measurement(path: str | os.PathLike[str]):
         Missing, unreadable, empty, not Touchstone, not 1 or 2 ports, too few
         or non-increasing frequencies, non-finite values.
     """
-    import skrf
 
     p = Path(path)
     suffix = p.suffix.lower()
@@ -258,7 +255,7 @@ def read_measurement(path: str | os.PathLike[str]):
             f"{p}: extension {p.suffix or '(none)'!r} is not a one- or two-port Touchstone "
             f"file (use .s1p for the stub alone, .s2p through the tee)"
         )
-    from notchkit.bounded import MAX_SWEEP_POINTS, read_measurement_bytes
+    from notchkit.bounded import MAX_SWEEP_POINTS, TouchstoneRefused, parse_touchstone, read_measurement_bytes
 
     data = read_measurement_bytes(p)  # a regular file within the byte and point caps
     if not data.strip():
@@ -266,20 +263,9 @@ def read_measurement(path: str | os.PathLike[str]):
     if b"\0" in data:
         raise MeasurementError(f"{p}: is a binary file, not a Touchstone text file")
     try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError:
-        text = data.decode("latin-1")
-    buf = io.StringIO(text)
-    buf.name = p.name  # scikit-rf takes the port count from the extension
-    try:
-        # scikit-rf warns about sweeps and values that the checks below refuse with our
-        # own one-line errors; its warnings would only add library paths to stderr.
-        with warnings.catch_warnings(), np.errstate(all="ignore"):
-            warnings.simplefilter("ignore")
-            ntwk = skrf.Network(buf)
-    except Exception as exc:  # scikit-rf raises many types for bad files
-        detail = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
-        raise MeasurementError(f"{p}: not a readable Touchstone file ({detail})") from None
+        ntwk = parse_touchstone(data, p.name)
+    except TouchstoneRefused as exc:
+        raise MeasurementError(f"{p}: not a readable Touchstone file ({exc.detail})") from None
     if ntwk.nports not in (1, 2):
         raise MeasurementError(f"{p}: has {ntwk.nports} ports; notchkit reads 1 (.s1p) or 2 (.s2p)")
     f = np.asarray(ntwk.f, dtype=float)

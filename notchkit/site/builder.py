@@ -358,12 +358,10 @@ class Builder(CrossRefs):
         """A measured two-port's rejection -20 log10 |S21| as (freq_mhz, dB) rows.
 
         Read like every measurement (:func:`notchkit.bounded.read_measurement_bytes`: a
-        regular file within the byte and point caps), then parsed by scikit-rf.
+        regular file within the byte and point caps), then parsed by scikit-rf
+        (:func:`notchkit.bounded.parse_touchstone`).
         """
-        import io
-        import warnings
-
-        from notchkit.bounded import read_measurement_bytes
+        from notchkit.bounded import TouchstoneRefused, parse_touchstone, read_measurement_bytes
         from notchkit.errors import MeasurementError
 
         full = os.path.join(os.path.dirname(self.r.path), name)
@@ -379,22 +377,14 @@ class Builder(CrossRefs):
         except MeasurementError as exc:
             self.r.add(node, path, f"{str(exc).split(': ', 1)[-1]} (allowed: a measured two-port .s2p)")
             return None
-        text = data.decode("utf-8", errors="replace")
-        buf = io.StringIO(text)
-        buf.name = os.path.basename(full)  # scikit-rf takes the port count from the extension
-        with warnings.catch_warnings(), np.errstate(all="ignore"):
-            warnings.simplefilter("ignore")  # the reader's own warnings: our one line says it
-            try:
-                import skrf
-
-                ntw = skrf.Network(buf)
-                f_mhz = ntw.f / 1e6
-                mag = np.abs(ntw.s[:, 1, 0])
-            except Exception as exc:  # noqa: BLE001 - any reader failure is the file's problem
-                first = str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__
-                self.r.add(node, path, f"{name!r} could not be read as Touchstone ({first}) "
-                           "(allowed: a two-port .s2p file)")  # fmt: skip
-                return None
+        try:
+            ntw = parse_touchstone(data, os.path.basename(full))
+        except TouchstoneRefused as exc:
+            self.r.add(node, path, f"{name!r} could not be read as Touchstone ({exc.detail}) "
+                       "(allowed: a two-port .s2p file)")  # fmt: skip
+            return None
+        f_mhz = ntw.f / 1e6
+        mag = np.abs(ntw.s[:, 1, 0])
         ok = (f_mhz > 0) & np.isfinite(mag) & (mag > 0)
         if ok.sum() < 2 or np.any(np.diff(f_mhz[ok]) <= 0):
             self.r.add(node, path, f"{name!r} has fewer than two usable rising frequency points "
