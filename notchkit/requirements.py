@@ -56,11 +56,17 @@ class FilterRequirement:
     stub whose notch a band does not need may be switched out on that band."""
 
     @property
+    def switched_band(self) -> str | None:
+        """The band a band-switched filter is in line on (one filter per band), else ``None``."""
+        return self.band_use[0][0] if len(self.band_use) == 1 else None
+
+    @property
     def label(self) -> str:
         """Where the filter goes and, at a radio port, for whom: ``rx filter at wx-alert``,
         ``tx filter at fire-paging``, ``filter at net-70cm, for its receiver`` (a
         transceiver's filter that guards only its own reception)."""
-        return filter_label(self.radio, self.side, self.protects)
+        label = filter_label(self.radio, self.side, self.protects)
+        return label if self.switched_band is None else f"{label}, on {self.switched_band}"
 
 
 def guarded(radio: str | None, victims: Iterable[str]) -> str | None:

@@ -550,6 +550,17 @@ def test_plan_text_says_which_notch_each_band_needs():
     switched = [f for f in contest.filters if f.radio == "run"]
     assert len(switched) == 4  # one per band that needs a stub (15 m needs none)
     assert band_use_text(switched[0]).startswith("Band-switched: this filter is in line only while run works")
+    # each of the set names its band wherever it is listed (filters table, titles), so four
+    # filters at one radio are told apart; a filter that passes every band names none
+    from notchkit.report.rows import location_text, short_location
+
+    bands = [f.switched_band for f in switched]
+    assert len(set(bands)) == 4 and all(bands)
+    for f, b in zip(switched, bands, strict=True):
+        assert location_text(f) == f"run on {b} (transmitter output)"
+        assert short_location(f) == f"run on {b} (transmitter output)"
+        assert f.label.endswith(f", on {b}")
+    assert req.switched_band is None and " on " not in location_text(req)
 
 
 def test_sites_built_in_python_are_checked_too():

@@ -161,13 +161,21 @@ def location_text(req: FilterRequirement) -> str:
         if side == "radio port":
             side += ", " + ("in its receive path" if req.protects == "receiver"
                             else "in its receive and transmit paths")
-        return f"{req.radio} ({side})"
+        return f"{req.radio}{_on_band(req)} ({side})"
     return "ad-hoc design"
 
 
 def short_location(req: FilterRequirement) -> str:
     """:func:`location_text` without the detail: ``net-2m (radio port)``."""
-    return f"{req.radio} ({_side_text(req)})" if getattr(req, "radio", None) else "ad-hoc design"
+    if not getattr(req, "radio", None):
+        return "ad-hoc design"
+    return f"{req.radio}{_on_band(req)} ({_side_text(req)})"
+
+
+def _on_band(req: FilterRequirement) -> str:
+    """`` on 40m`` for a band-switched filter (in line on that band only), else nothing."""
+    band = getattr(req, "switched_band", None)
+    return f" on {band}" if band else ""
 
 
 def design_title(d: Design) -> str:
