@@ -128,6 +128,13 @@ class StubCut:
     def dc_path_to_ground(self) -> bool:
         return self.termination == "short"
 
+    @property
+    def trimmed_alone(self) -> bool:
+        """With connection hardware the trim resonance is the stub's alone, swept at its
+        plug's mating face (the model's figure: plug and short included, the tee's side arm
+        not); on the ideal-tee model it is also where the notch sits through the tee."""
+        return self.tee_allowance_m == 0 and "plug" in self.reference_plane
+
     def to_json(self) -> dict[str, Any]:
         return {
             "id": self.stub_id,

@@ -74,8 +74,10 @@ def format_length(m: float, units: str = "both") -> str:
 
 
 def resonance_text(c: StubCut) -> str:
-    """``438.0000 MHz (1 x quarter wave, a notch through the tee)``: the trim target."""
-    return f"{c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave, a notch through the tee)"
+    """``438.0000 MHz (1 x quarter wave, a notch through the tee)``: the trim target (with
+    connection hardware: ``(..., the stub alone at its plug)``, see ``StubCut.trimmed_alone``)."""
+    where = "the stub alone at its plug" if c.trimmed_alone else "a notch through the tee"
+    return f"{c.resonance_mhz:.4f} MHz ({c.quarter_waves} x quarter wave, {where})"
 
 
 def format_cut_list(cuts: Sequence[StubCut], units: str = "both",

@@ -135,3 +135,37 @@ def test_a_bad_hardware_option_is_refused(tmp_path):
     with pytest.raises(UsageError, match="^hardware: "):
         trim(s1p, cable="RG-213", termination="open", target_mhz=105.0, length_m=0.5,
              hardware={"family": "uhf"})
+
+
+def test_trim_to_with_hardware_is_the_stub_alone_and_the_notch_sits_lower():
+    # With connection hardware (the default UHF family) the cut list's "Trim to" is the stub's
+    # series resonance alone at its plug's mating face; through the tee the side arm adds
+    # length, so the notch sits lower, where the design needs it. Both are checked on
+    # scikit-rf builds of the stub (hw_bench.stub_network: plug, cable, the short's
+    # inductance, the tee's side arm; Pozar sec. 2.7 lines).
+    import numpy as np
+    import skrf
+
+    import notchkit
+    from notchkit.cuttext import resonance_text
+
+    d = notchkit.design_request([(144.0, 148.0)], [(432.0, 438.0, 35.0)]).designs[0]
+    hw = d.to_json()["model"]["hardware"]
+    cable = get_cable("RG-213")
+    assert d.cuts and all(c.trimmed_alone for c in d.cuts)
+    for c in d.cuts:
+        assert "the stub alone at its plug" in resonance_text(c)
+        freq = skrf.Frequency(300, 600, 30001, unit="mhz")
+        alone = stub_network(freq, termination=c.termination, length_m=c.length_m,
+                             vf=c.velocity_factor, cable=cable, hw=hw, ports=1)
+        z = alone.z[:, 0, 0]
+        near = np.abs(freq.f / 1e6 - c.resonance_mhz) < 0.05 * c.resonance_mhz
+        f_alone = freq.f[near][np.argmin(np.abs(z[near]))] / 1e6
+        assert f_alone == pytest.approx(c.resonance_mhz, rel=1e-3)
+        tee = stub_network(freq, termination=c.termination, length_m=c.length_m,
+                           vf=c.velocity_factor, cable=cable, hw=hw, ports=2)
+        s21 = np.abs(tee.s[:, 1, 0])
+        window = (freq.f / 1e6 > 0.8 * c.resonance_mhz) & (freq.f / 1e6 < 1.05 * c.resonance_mhz)
+        f_notch = freq.f[window][np.argmin(s21[window])] / 1e6
+        assert f_notch < c.resonance_mhz
+        assert 420.0 < f_notch < 450.0  # near the 432-438 MHz band it exists for

@@ -175,9 +175,14 @@ def cut_table(d: Design, units: str = "both") -> Table:
             rows.append((x.line_id, cable, "line section", format_length(x.length_m, units),
                          *finals(x.length_m), "cut, no trim", DASH, f"{a or 'radio'}-{b or 'antenna'}"))
     hardware = list(getattr(d, "hardware", ()) or ())
+    alone = any(getattr(c, "trimmed_alone", False) for c in d.cuts)
+    trim_to = ("Trim to: the stub alone, swept at its plug's mating face, at the quarter-wave order that "
+               "makes its notch; through the tee the notch sits lower, where the design puts it, since the "
+               "tee's side arm adds length" if alone else
+               "Trim to: the quarter-wave order that makes its notch, as a notch through the tee; the "
+               "trimming steps give it for the stub alone")
     note = ("First cut: cut this long, fit the connector, then trim on an analyser to the resonance the "
-            "stub exists for (Trim to: the quarter-wave order that makes its notch, as a notch through the "
-            "tee; the trimming steps give it for the stub alone); final: about what is left. Line sections "
+            f"stub exists for ({trim_to}); final: about what is left. Line sections "
             "are cut to length: cable with a plug at each end.")
     if hardware:
         note += " Hardware: " + " ".join(h[:1].upper() + h[1:] + "." for h in hardware)
