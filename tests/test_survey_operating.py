@@ -662,3 +662,22 @@ def test_contest_example_every_stub_filter_is_met():
     assert rep.designs and all(d.solution.meets for d in rep.designs), [
         d.id for d in rep.designs if not d.solution.meets
     ]
+
+
+def test_plan_says_how_many_threats_are_beyond_a_stub(tmp_path, capsys):
+    # A carrier inside the victim's own band cannot be notched without notching the wanted
+    # signal (common practice): the contest example's run and mult positions share bands, so
+    # the plan's verdict must not read as if the filters settled the site, and must count them.
+    contest = survey(load_site(ROOT / "sites" / "contest-two-position.yaml"))
+    beyond = contest.beyond_stubs()
+    assert beyond and all(t.excess_db > 0 for t in beyond)
+    assert any("no filter can separate them" in t.remedy for t in beyond)
+    assert main(["plan", str(ROOT / "sites" / "contest-two-position.yaml"), "-q",
+                 "-o", str(tmp_path / "c.pdf")]) == 0
+    assert f"{len(beyond)} threat(s) over the limit are beyond a stub alone" in capsys.readouterr().out
+    # field day: every threat over the limit has a stub remedy, and the verdict says nothing more
+    field = survey(load_site(ROOT / "sites" / "field-day-hf.yaml"))
+    assert field.beyond_stubs() == ()
+    assert main(["plan", str(ROOT / "sites" / "field-day-hf.yaml"), "-q",
+                 "-o", str(tmp_path / "f.pdf")]) == 0
+    assert "beyond a stub alone" not in capsys.readouterr().out

@@ -115,10 +115,9 @@ def format_result(result: SurveyResult) -> str:
                 f"    notch: {band_text(n.lo_mhz, n.hi_mhz)}, >= {n.required_db:.1f} dB  ({reason})"
             )
     remedies: dict[str, None] = {}
-    for t in need:
-        if not t.filters or t.remedy.startswith("no stub"):
-            who = on_band(", ".join(t.sources), t).replace(", ", " + ")
-            remedies.setdefault(f"{who} -> {on_band(t.victim, t)} ({t.mechanism}): {t.remedy}")
+    for t in result.beyond_stubs():
+        who = on_band(", ".join(t.sources), t).replace(", ", " + ")
+        remedies.setdefault(f"{who} -> {on_band(t.victim, t)} ({t.mechanism}): {t.remedy}")
     if remedies:
         lines += ["", "Remedies where no stub (or not only a stub) helps:"]
         lines += [f"  - {r}" for r in remedies]

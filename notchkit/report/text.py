@@ -213,6 +213,7 @@ def plan_text(*, site: Site, sv: SurveyResult, designs: Sequence[Design], date: 
     threats = list(sv.threats)
     over = [t for t in threats if t.excess_db > 0]
     worst = max((t.excess_db for t in threats), default=None)
+    beyond = len(sv.beyond_stubs())
     n_stubs = sum(len(d.cuts) for d in designs)
     facts = (
         ("Site", site.name),
@@ -221,7 +222,8 @@ def plan_text(*, site: Site, sv: SurveyResult, designs: Sequence[Design], date: 
         ("Tool", f"notchkit {version}"),
         ("Radios", f"{len(site.radios)} ({n_tx} transmit, {n_rx} receive)"),
         ("Threats found", f"{len(threats)} ({len(over)} over the limit"
-                          + (f", worst {worst:+.1f} dB)" if worst is not None else ")")),
+                          + (f", worst {worst:+.1f} dB)" if worst is not None else ")")
+                          + (f"; {beyond} beyond a stub alone (see their remedies)" if beyond else "")),
         ("Filters designed", f"{len(designs)} with {n_stubs} stubs; "
                              f"{sum(f.meets for f in ftexts)} meet every requirement, "
                              f"{len(unmet)} do not"),
@@ -241,6 +243,9 @@ def plan_text(*, site: Site, sv: SurveyResult, designs: Sequence[Design], date: 
     verdict_line = ("every filter meets its requirements on the lossy cable model, in at least its target "
                     "share of simulated builds (build yield)." if designs
                     else "no filter is needed: no threat over the limit calls for a stub.")
+    if beyond:
+        verdict_line += (f" {beyond} threat(s) over the limit are beyond a stub alone (same band, or deeper "
+                         "than stubs can notch): the threats table gives each one's remedy.")
     summary = (
         f"{site.name}: {len(site.radios)} radios, {len(threats)} threats, {len(designs)} filters, "
         f"{n_stubs} stubs; "

@@ -172,6 +172,12 @@ class SurveyResult:
     """(transmitter, receiver, worst excess dB) over everything evaluated, so the matrix
     stays complete when threats were left out."""
 
+    def beyond_stubs(self) -> tuple[Threat, ...]:
+        """Threats over the limit that no stub filter (or no stub alone) removes: same band,
+        or deeper than stubs can notch; each one's ``remedy`` says what does."""
+        return tuple(t for t in self.threats
+                     if t.excess_db > 0 and (not t.filters or t.remedy.startswith("no stub")))
+
     def matrix(self) -> SurveyMatrix:
         """Transmitter x receiver worst excess; an intermod threat counts for each source."""
         worst: dict[tuple[str, str], float] = {}
