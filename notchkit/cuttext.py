@@ -98,7 +98,7 @@ def format_cut_list(cuts: Sequence[StubCut], units: str = "both",
             out.append(f"    no resonance inside the analyser's range: cut to "
                        f"{format_length(c.cut_length_m, units)}"
                        f" and do not trim (nearest resonance {c.resonance_mhz:.4f} MHz)")
-        if c.tee_allowance_m == 0 and "plug" in c.reference_plane:  # hardware model: no allowance
+        if c.trimmed_alone:  # hardware model: no allowance, lengths from the plug
             out.append(f"    assembled length {format_length(c.length_m, units)} (plug included), "
                        f"VF {c.velocity_factor:g}")
         else:

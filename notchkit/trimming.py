@@ -604,7 +604,7 @@ def _hardware_stub(hardware: Any, filt: Any, cable_obj: Any,
         raise named(UsageError(f"hardware: {hardware!r} is not a connection hardware model ({exc}; "
                                "allowed: a notchkit.hardware.Hardware or a plan's model.hardware)"),
                     "hardware") from None
-    if hw is not None and allowance_m:
+    if allowance_m:
         raise named(UsageError(f"allowance_m: {allowance_m!r} is not used with connection hardware (the "
                                "tee's side arm is modelled); leave it out"), "allowance_m")
     return hw

@@ -187,10 +187,9 @@ def cut_table(d: Design, units: str = "both") -> Table:
     if hardware:
         note += " Hardware: " + " ".join(h[:1].upper() + h[1:] + "." for h in hardware)
     note = lengths_in_units(note, units)
-    plug = any("plug" in getattr(c, "reference_plane", "") and c.length_m == c.cut_length_m for c in d.cuts)
     return Table(
         title=("Cut list (stub lengths from the plug's mating face to the end, the plug included)"
-               if plug else "Cut list (lengths from the connector's reference plane to the end; tee "
+               if alone else "Cut list (lengths from the connector's reference plane to the end; tee "
                "allowance already taken off)"),
         header=tuple(header), rows=tuple(rows), align=tuple(align), widths=tuple(widths), note=note,
     )
